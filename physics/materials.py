@@ -1,0 +1,202 @@
+"""Adsorbates, solids and adsorbate–solid interaction parameters.
+
+Internal units: Å for length, K for energy (E/k_B), Å^-3 for number density, u for mass.
+Every stored value carries its source; values computed here from other values are marked *derived*.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+import numpy as np
+from scipy import constants
+
+__all__ = [
+    "Adsorbate", "Solid", "PairParameters", "ADSORBATES", "SOLIDS",
+    "get_adsorbate", "get_solid", "lorentz_berthelot", "pair_parameters",
+    "number_density_from_mass_density",
+]
+
+
+@dataclass(frozen=True)
+class Adsorbate:
+    """A gas that adsorbs, treated as one Lennard-Jones site.
+
+    Parameters
+    ----------
+    name : catalog key, e.g. ``"helium-4"``
+    label : text for plots
+    mass_u : molar mass in g/mol (= atomic mass units per particle)
+    epsilon_k : LJ well depth ε/k_B in K
+    sigma_angstrom : LJ diameter σ in Å
+    source : where ε and σ come from
+    """
+
+    name: str
+    label: str
+    mass_u: float
+    epsilon_k: float
+    sigma_angstrom: float
+    source: str
+    mass_source: str = "IUPAC standard atomic weights (value from memory)"
+    coolprop_name: str | None = None
+
+    def __post_init__(self) -> None:
+        for attr in ("mass_u", "epsilon_k", "sigma_angstrom"):
+            value = getattr(self, attr)
+            if not (np.isfinite(value) and value > 0):
+                raise ValueError(f"Adsorbate {attr} must be a positive number, got {value!r}")
+
+    @property
+    def mass_kg(self) -> float:
+        return self.mass_u * constants.atomic_mass
+
+    @property
+    def hbar2_over_mk(self) -> float:
+        """ħ²/(m k_B) in K·Å² (sets the quantum kinetic scale)."""
+        return constants.hbar**2 / (self.mass_kg * constants.k) * 1e20
+
+
+@dataclass(frozen=True)
+class Solid:
+    """A continuum solid: number density of its force centres and their LJ parameters."""
+
+    name: str
+    label: str
+    density_per_a3: float
+    density_source: str
+    atom: str
+    epsilon_k: float
+    sigma_angstrom: float
+    source: str
+
+    def __post_init__(self) -> None:
+        for attr in ("density_per_a3", "epsilon_k", "sigma_angstrom"):
+            value = getattr(self, attr)
+            if not (np.isfinite(value) and value > 0):
+                raise ValueError(f"Solid {attr} must be a positive number, got {value!r}")
+
+
+@dataclass(frozen=True)
+class PairParameters:
+    """Adsorbate–solid interaction: ε (K), σ (Å) and the solid's force-centre density ρ (Å^-3).
+
+    ``origin`` says where the numbers come from (published pair, mixing rule, user override).
+    """
+
+    epsilon_k: float
+    sigma_angstrom: float
+    density_per_a3: float
+    origin: str = "user"
+
+    def __post_init__(self) -> None:
+        for attr in ("epsilon_k", "sigma_angstrom", "density_per_a3"):
+            value = getattr(self, attr)
+            if not (isinstance(value, (int, float, np.floating)) and np.isfinite(value) and value > 0):
+                raise ValueError(f"pair {attr} must be a positive finite number, got {value!r}")
+
+    def to_dict(self) -> dict:
+        return {"epsilon_k": self.epsilon_k, "sigma_angstrom": self.sigma_angstrom,
+                "density_per_a3": self.density_per_a3, "origin": self.origin}
+
+
+def number_density_from_mass_density(mass_density_g_cm3: float, molar_mass_g_mol: float,
+                                     atoms_per_formula: int) -> float:
+    """Number density in Å^-3 of one kind of atom in a compound of given mass density."""
+    per_cm3 = mass_density_g_cm3 / molar_mass_g_mol * constants.Avogadro * atoms_per_formula
+    return per_cm3 * 1e-24
+
+
+def lorentz_berthelot(eps1: float, sig1: float, eps2: float, sig2: float) -> tuple[float, float]:
+    """Lorentz–Berthelot mixing: ε = √(ε1 ε2), σ = (σ1 + σ2)/2."""
+    return float(np.sqrt(eps1 * eps2)), 0.5 * (sig1 + sig2)
+
+
+# --- adsorbates -------------------------------------------------------------------------------
+ADSORBATES: dict[str, Adsorbate] = {
+    a.name: a
+    for a in (
+        Adsorbate("helium-4", "⁴He", 4.002602, 10.22, 2.556,
+                  "de Boer & Michels, Physica 5, 945 (1938)",
+                  mass_source="He-4 atomic mass 4.002602 u (value from memory)", coolprop_name="Helium"),
+        Adsorbate("hydrogen", "H₂", 2.01588, 34.2, 2.96,
+                  "Buch, J. Chem. Phys. 100, 7610 (1994) (value from memory)", coolprop_name="Hydrogen"),
+        Adsorbate("neon", "Ne", 20.1797, 35.6, 2.75,
+                  "second-virial fit, Hirschfelder, Curtiss & Bird (1954) (value from memory)",
+                  coolprop_name="Neon"),
+        Adsorbate("argon", "Ar", 39.948, 119.8, 3.405,
+                  "classic fit, Michels; Rahman, Phys. Rev. 136, A405 (1964) (value from memory)",
+                  coolprop_name="Argon"),
+        Adsorbate("nitrogen", "N₂", 28.0134, 95.77, 3.572,
+                  "one-site model, Lastoskie, Gubbins & Quirke, J. Phys. Chem. 97, 4786 (1993) "
+                  "(value from memory)", coolprop_name="Nitrogen"),
+    )
+}
+
+# --- solids -----------------------------------------------------------------------------------
+# Published Ar–O pair in silica (Talu & Myers, Colloids Surf. A 187-188, 83 (2001)); oxygen's own
+# parameters are backed out of it with Lorentz–Berthelot, which makes them *derived*.
+_AR_O_EPSILON_K = 93.0
+_AR_O_SIGMA = 3.335
+_ARGON = ADSORBATES["argon"]
+_O_EPSILON_K = _AR_O_EPSILON_K**2 / _ARGON.epsilon_k          # derived: ε_O = ε_ArO² / ε_Ar
+_O_SIGMA = 2.0 * _AR_O_SIGMA - _ARGON.sigma_angstrom           # derived: σ_O = 2σ_ArO − σ_Ar
+
+SOLIDS: dict[str, Solid] = {
+    "silica": Solid(
+        "silica", "amorphous silica (oxygen centres)",
+        density_per_a3=number_density_from_mass_density(2.20, 60.08, 2),
+        density_source="derived from 2.20 g/cm³ (vitreous silica, handbook value) and 60.08 g/mol, "
+                       "two O per SiO₂; silicon left out of the dispersion sum (common practice)",
+        atom="O", epsilon_k=_O_EPSILON_K, sigma_angstrom=_O_SIGMA,
+        source="derived: backed out of the Ar–O pair of Talu & Myers (2001) with Lorentz–Berthelot",
+    ),
+}
+
+# Published adsorbate–solid pairs: (adsorbate, solid) -> (ε K, σ Å, source)
+PUBLISHED_PAIRS: dict[tuple[str, str], tuple[float, float, str]] = {
+    ("argon", "silica"): (_AR_O_EPSILON_K, _AR_O_SIGMA,
+                          "published: Talu & Myers, Colloids Surf. A 187-188, 83 (2001)"),
+}
+
+
+def _lookup(table: dict, name: str, what: str):
+    try:
+        return table[name]
+    except KeyError:
+        known = ", ".join(sorted(table))
+        raise ValueError(f"unknown {what} {name!r}; known: {known}") from None
+
+
+def get_adsorbate(name: str) -> Adsorbate:
+    """Catalog adsorbate by name (raises ValueError naming the known ones)."""
+    return _lookup(ADSORBATES, name, "adsorbate")
+
+
+def get_solid(name: str) -> Solid:
+    """Catalog solid by name (raises ValueError naming the known ones)."""
+    return _lookup(SOLIDS, name, "solid")
+
+
+def pair_parameters(adsorbate: str | Adsorbate, solid: str | Solid = "silica", *,
+                    epsilon_k: float | None = None, sigma_angstrom: float | None = None,
+                    density_per_a3: float | None = None) -> PairParameters:
+    """Adsorbate–solid LJ parameters: a published pair if one is known, else Lorentz–Berthelot.
+
+    Any of ε, σ and the solid density can be overridden; ``origin`` then says so.
+    """
+    ads = get_adsorbate(adsorbate) if isinstance(adsorbate, str) else adsorbate
+    sol = get_solid(solid) if isinstance(solid, str) else solid
+    published = PUBLISHED_PAIRS.get((ads.name, sol.name))
+    if published is not None:
+        eps, sig, origin = published
+    else:
+        eps, sig = lorentz_berthelot(ads.epsilon_k, ads.sigma_angstrom, sol.epsilon_k, sol.sigma_angstrom)
+        origin = (f"derived: Lorentz–Berthelot of {ads.name} ({ads.source}) with {sol.name} "
+                  f"{sol.atom} ({sol.source})")
+    pair = PairParameters(eps, sig, sol.density_per_a3, origin)
+    overrides = {k: v for k, v in (("epsilon_k", epsilon_k), ("sigma_angstrom", sigma_angstrom),
+                                   ("density_per_a3", density_per_a3)) if v is not None}
+    if overrides:
+        note = ", ".join(f"{k}={v:g}" for k, v in overrides.items())
+        pair = replace(pair, **overrides, origin=f"user override ({note}); otherwise {pair.origin}")
+    return pair
