@@ -18,6 +18,11 @@ __all__ = ["RegularPolygonPore", "HexagonPore", "CylinderPore", "SlitPore", "Por
            "PORE_SHAPES"]
 
 
+# Points within this fraction of the pore size from the boundary count as on it (rounding of the
+# mirrored grid coordinates must not decide between the pore and the solid).
+BOUNDARY_TOLERANCE = 1e-12
+
+
 def _check_length(name: str, value, *, allow_none: bool = False, allow_zero: bool = False) -> None:
     if value is None and allow_none:
         return
@@ -72,7 +77,7 @@ class RegularPolygonPore:
 
     def contains(self, x, y) -> np.ndarray:
         """True strictly inside the pore (the boundary belongs to the solid)."""
-        return self.depth_inside(x, y) > 0
+        return self.depth_inside(x, y) > BOUNDARY_TOLERANCE * self.circumradius_angstrom
 
 
 @dataclass(frozen=True)
@@ -151,7 +156,7 @@ class CylinderPore:
         return self.radius_angstrom - np.hypot(np.asarray(x, float), np.asarray(y, float))
 
     def contains(self, x, y) -> np.ndarray:
-        return self.depth_inside(x, y) > 0
+        return self.depth_inside(x, y) > BOUNDARY_TOLERANCE * self.radius_angstrom
 
     def isolated(self) -> "CylinderPore":
         return self
@@ -190,7 +195,7 @@ class SlitPore:
         return 0.5 * self.width_angstrom - np.abs(y) + 0.0 * np.asarray(x, float)
 
     def contains(self, x, y) -> np.ndarray:
-        return self.depth_inside(x, y) > 0
+        return self.depth_inside(x, y) > BOUNDARY_TOLERANCE * self.width_angstrom
 
     def isolated(self) -> "SlitPore":
         return SlitPore(self.width_angstrom, None)

@@ -1,0 +1,34 @@
+"""Text of the dashboard's About page, including the safety cautions."""
+
+SAFETY = """\
+### Safety
+
+porefill is a planning and analysis aid. Its numbers are **model predictions, not safety figures**:
+never size a vessel, a relief valve, a fill or a vent from them.
+
+Work with cryogens and compressed gases carries real hazards:
+- **Asphyxiation.** Helium, nitrogen, neon and argon displace oxygen without warning; evaporating cryogen
+  expands several hundred-fold. Work in ventilated spaces and use oxygen monitors where required.
+- **Cold burns.** Cryogenic liquids, cold gas and cold surfaces freeze skin and eyes. Wear face protection
+  and suitable gloves; never touch cold lines.
+- **Pressure build-up.** Boil-off in a closed volume (a sample cell, a trapped line, a dewar with a blocked
+  neck) raises the pressure until something fails. Every cold volume needs a relief path.
+- Hydrogen is also flammable.
+
+Follow your institution's safety rules, your local regulations and the advice of qualified staff; they take
+precedence over anything porefill shows.
+"""
+
+ABOUT = """\
+## About porefill
+
+porefill computes the potential an adsorbed atom feels inside the pores of an ordered nanoporous solid
+(straight hexagonal, cylindrical or slit pores in a continuum Lennard-Jones solid) and, in later versions,
+the adsorption it causes. Conventions: lengths in Å, energies and temperatures in K, the pore centre at
+the origin, one corner of the hexagon on the +x axis.
+
+The adsorbate–solid pair parameters come from a published pair where one is known; otherwise they are
+**derived** with the Lorentz–Berthelot rules, and the page says so. Fits to measured isotherms are where such
+parameters get pinned.
+
+""" + SAFETY

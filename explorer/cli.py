@@ -1,0 +1,175 @@
+"""The `porefill` command line: a thin layer over the physics functions the dashboard also calls.
+
+Errors in the user's input exit with status 2 and one line naming the problem; no traceback.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import sys
+
+__all__ = ["main"]
+
+
+class UsageError(Exception):
+    """Bad user input; printed as one line, exit status 2."""
+
+
+def _point(text: str) -> tuple[float, float]:
+    parts = text.split(",")
+    try:
+        if len(parts) != 2:
+            raise ValueError
+        x, y = (float(p) for p in parts)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"point {text!r} is not 'x,y' in Å (e.g. 3.5,1)") from None
+    if not (math.isfinite(x) and math.isfinite(y)):
+        raise argparse.ArgumentTypeError(f"point {text!r} must have finite coordinates")
+    return x, y
+
+
+def _add_pore_options(p: argparse.ArgumentParser) -> None:
+    from physics.geometry import PORE_SHAPES
+    from physics.materials import ADSORBATES, SOLIDS
+
+    p.add_argument("--pore", choices=PORE_SHAPES, default="hexagon", help="pore shape (default hexagon)")
+    p.add_argument("--size", type=float, default=15.0,
+                   help="hexagon side length (centre to corner), cylinder radius or slit width, Å")
+    p.add_argument("--wall", type=float, default=8.0,
+                   help="wall thickness between neighbouring pores of the array, Å (hexagon, slit)")
+    p.add_argument("--isolated", action="store_true", help="one pore in an unbounded solid (ignores --wall)")
+    p.add_argument("--adsorbate", default="helium-4", help=f"one of {', '.join(ADSORBATES)}")
+    p.add_argument("--solid", default="silica", help=f"one of {', '.join(SOLIDS)}")
+    p.add_argument("--pair-epsilon", type=float, metavar="K", help="override adsorbate–solid ε/k_B, K")
+    p.add_argument("--pair-sigma", type=float, metavar="Å", help="override adsorbate–solid σ, Å")
+    p.add_argument("--solid-density", type=float, metavar="Å^-3",
+                   help="override the solid's force-centre number density, Å^-3")
+
+
+def _scenario_from_args(args, **extra):
+    from physics.scenario import Scenario
+
+    try:
+        return Scenario(shape=args.pore, size_angstrom=args.size,
+                        wall_angstrom=None if args.isolated else args.wall,
+                        adsorbate=args.adsorbate, solid=args.solid,
+                        pair_epsilon_k=args.pair_epsilon, pair_sigma_angstrom=args.pair_sigma,
+                        solid_density_per_a3=args.solid_density, **extra)
+    except ValueError as exc:
+        raise UsageError(str(exc)) from None
+
+
+def _json_number(v: float):
+    return float(v) if math.isfinite(v) else None
+
+
+def _cmd_potential(args) -> int:
+    import numpy as np
+    from physics.wall_potential import potential_map, wall_potential
+
+    scenario = _scenario_from_args(args)
+    pore, pair = scenario.pore(), scenario.pair()
+    if args.grid is not None:
+        if args.grid < 2 or args.grid > 2000:
+            raise UsageError(f"--grid must be between 2 and 2000, got {args.grid}")
+        m = potential_map(pore=pore, pair=pair, n=args.grid)
+        result = {"unit": "K", "x": [float(v) for v in m.x], "y": [float(v) for v in m.y],
+                  "potential": [[_json_number(v) for v in row] for row in m.values]}
+    else:
+        pts = np.array(args.at, float)
+        values = wall_potential(pts[:, 0], pts[:, 1], pore=pore, pair=pair)
+        result = {"unit": "K", "points": [{"x": float(x), "y": float(y), "potential": _json_number(v)}
+                                          for (x, y), v in zip(args.at, values)]}
+    if args.json:
+        json.dump(result, sys.stdout)
+        sys.stdout.write("\n")
+    elif "points" in result:
+        for p in result["points"]:
+            v = "inside the solid" if p["potential"] is None else f"{p['potential']:.6f} K"
+            print(f"x = {p['x']:g} Å, y = {p['y']:g} Å: {v}")
+    else:
+        finite = m.values[np.isfinite(m.values)]
+        depth, x, y = m.minimum()
+        print(f"{args.grid} x {args.grid} map; deepest {depth:.4f} K at ({x:.3f}, {y:.3f}) Å; "
+              f"{finite.size} points inside the pore (use --json for the values)")
+    return 0
+
+
+def _cmd_serve(args) -> int:
+    from .scenario_file import ScenarioFileError, load_scenario
+    from .server import serve
+
+    scenario = None
+    if args.scenario:
+        try:
+            scenario = load_scenario(args.scenario)
+        except ScenarioFileError as exc:
+            raise UsageError(str(exc)) from None
+    if not (0 < args.port < 65536):
+        raise UsageError(f"--port must be between 1 and 65535, got {args.port}")
+    serve(scenario, address=args.address, port=args.port, show=args.show)
+    return 0
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(prog="porefill", description=(
+        "Wall potentials and adsorption in ordered nanoporous solids. Lengths in Å, energies in K."))
+    sub = parser.add_subparsers(dest="command", required=True)
+
+    p = sub.add_parser("serve", help="serve the dashboard in the browser")
+    p.add_argument("--scenario", help="scenario TOML file to open (default: built-in defaults)")
+    p.add_argument("--address", default="127.0.0.1", help="address to listen on (default 127.0.0.1)")
+    p.add_argument("--port", type=int, default=5006, help="port (default 5006)")
+    p.add_argument("--show", action="store_true", help="open a browser window")
+    p.set_defaults(func=_cmd_serve)
+
+    p = sub.add_parser("potential", help="wall potential at points or on a grid, K")
+    _add_pore_options(p)
+    where = p.add_mutually_exclusive_group(required=True)
+    where.add_argument("--at", type=_point, action="append", metavar="X,Y",
+                       help="a point x,y in Å (origin at the pore centre, a corner on +x); repeatable")
+    where.add_argument("--grid", type=int, metavar="N", help="N x N map over the pore's bounding box")
+    p.add_argument("--json", action="store_true", help="print JSON")
+    p.set_defaults(func=_cmd_potential)
+    return parser
+
+
+
+def _glue_negative_points(argv: list[str]) -> list[str]:
+    """Let `--at -7,-5` through: argparse would take '-7,-5' for an option."""
+    out: list[str] = []
+    i = 0
+    while i < len(argv):
+        nxt = argv[i + 1] if i + 1 < len(argv) else ""
+        if argv[i] == "--at" and len(nxt) > 1 and nxt[0] == "-" and (nxt[1].isdigit() or nxt[1] == "."):
+            out.append(f"--at={nxt}")
+            i += 2
+            continue
+        out.append(argv[i])
+        i += 1
+    return out
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    argv = _glue_negative_points(list(sys.argv[1:] if argv is None else argv))
+
+    def one_line_error(message: str):
+        sys.stderr.write(f"porefill: error: {message}\n")
+        sys.exit(2)
+
+    parser.error = one_line_error  # type: ignore[method-assign]
+    for action in parser._subparsers._group_actions:  # noqa: SLF001 - give subcommands the same style
+        for sub in action.choices.values():
+            sub.error = one_line_error  # type: ignore[method-assign]
+    args = parser.parse_args(argv)
+    try:
+        return args.func(args)
+    except UsageError as exc:
+        sys.stderr.write(f"porefill: error: {exc}\n")
+        return 2
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,1 @@
+"""Dashboard views: each one a `pn.viewable.Viewer` over the shared ExplorerState."""

@@ -1,0 +1,84 @@
+"""Shared fixtures: catalog pairs and a served dashboard for the browser tests."""
+from __future__ import annotations
+
+import os
+import socket
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+CHROMIUM = "/usr/bin/chromium"
+CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking",
+                 "--disable-component-update", "--disable-sync", "--no-first-run"]
+
+
+@pytest.fixture(scope="session")
+def helium_pair():
+    from physics.materials import pair_parameters
+    return pair_parameters("helium-4")
+
+
+def _free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+@pytest.fixture(scope="session")
+def served_app():
+    """Serve the dashboard on the demo scenario in a subprocess; yield its URL."""
+    port = _free_port()
+    exe = Path(sys.executable).with_name("porefill")
+    cmd = [str(exe), "serve", "--scenario", str(ROOT / "scenarios" / "demo-hexagon-helium.toml"),
+           "--port", str(port)]
+    proc = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True,
+                            env={**os.environ, "PYTHONUNBUFFERED": "1"})
+    url = f"http://127.0.0.1:{port}/"
+    deadline = time.time() + 60
+    while time.time() < deadline:
+        try:
+            with socket.create_connection(("127.0.0.1", port), timeout=0.5):
+                break
+        except OSError:
+            if proc.poll() is not None:
+                raise RuntimeError(f"server exited: {proc.stdout.read()}")
+            time.sleep(0.2)
+    else:
+        proc.kill()
+        raise RuntimeError("server did not start within 60 s")
+    yield url
+    proc.terminate()
+    try:
+        proc.wait(timeout=10)
+    except subprocess.TimeoutExpired:
+        proc.kill()
+
+
+@pytest.fixture(scope="session")
+def browser():
+    from playwright.sync_api import sync_playwright
+
+    if not os.path.exists(CHROMIUM):
+        pytest.fail(f"{CHROMIUM} is missing: the test command installs Debian's chromium (make test)")
+    with sync_playwright() as p:
+        b = p.chromium.launch(executable_path=CHROMIUM, headless=True, args=CHROMIUM_ARGS)
+        yield b
+        b.close()
+
+
+@pytest.fixture()
+def page(browser, served_app):
+    """A fresh page on the served app, with console errors collected in page.console_errors."""
+    context = browser.new_context(viewport={"width": 1500, "height": 1100})
+    pg = context.new_page()
+    errors: list[str] = []
+    pg.on("console", lambda msg: errors.append(msg.text) if msg.type == "error" else None)
+    pg.on("pageerror", lambda exc: errors.append(str(exc)))
+    pg.console_errors = errors
+    pg.goto(served_app)
+    yield pg
+    context.close()

@@ -1,0 +1,122 @@
+"""The `porefill` command line: output format, errors, and agreement with an independent implementation."""
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+EXE = str(Path(sys.executable).with_name("porefill"))
+
+
+def run(*args):
+    return subprocess.run([EXE, *args], capture_output=True, text=True, timeout=120)
+
+
+def naive_polygon_potential(px, py, vertices, eps, sig, rho, sign=1.0):
+    """The per-edge closed form exactly as published in REFERENCES.md §1, written independently:
+    4ερ[(7π/256)σ^12 d^-9 (S9(φ2) − S9(φ1)) − (π/8)σ^6 d^-3 (S3(φ2) − S3(φ1))] summed over edges,
+    each signed by the side of its line the point is on. Fine away from the edges' lines."""
+    def s3(s):
+        return s - s**3 / 3
+
+    def s9(s):
+        return s - 4 / 3 * s**3 + 6 / 5 * s**5 - 4 / 7 * s**7 + s**9 / 9
+
+    total = 0.0
+    n = len(vertices)
+    for k in range(n):
+        a, b = np.asarray(vertices[k], float), np.asarray(vertices[(k + 1) % n], float)
+        t = (b - a) / np.linalg.norm(b - a)
+        normal = np.array([t[1], -t[0]])
+        rel = a - np.array([px, py])
+        dist = rel @ normal
+        u1, u2 = rel @ t, rel @ t + np.linalg.norm(b - a)
+        d = abs(dist)
+        sn1, sn2 = u1 / np.hypot(d, u1), u2 / np.hypot(d, u2)
+        term = 4 * eps * rho * (7 * np.pi / 256 * sig**12 / d**9 * (s9(sn2) - s9(sn1))
+                                - np.pi / 8 * sig**6 / d**3 * (s3(sn2) - s3(sn1)))
+        total += np.sign(dist) * term
+    return sign * total
+
+
+def hexagon(t, centre=(0.0, 0.0)):
+    ang = np.arange(6) * np.pi / 3
+    return np.column_stack([centre[0] + t * np.cos(ang), centre[1] + t * np.sin(ang)])
+
+
+POINTS = [(0.0, 0.0), (3.5, 1.0), (-7.0, -5.0), (11.0, 2.0)]
+
+
+def test_isolated_agrees_with_independent_implementation(helium_pair):
+    # issue 2: relative 1e-9 against an independent implementation of the same physics
+    args = ["potential", "--pore", "hexagon", "--size", "15", "--isolated", "--adsorbate", "helium-4", "--json"]
+    for x, y in POINTS:
+        args += ["--at", f"{x},{y}"]
+    out = run(*args)
+    assert out.returncode == 0, out.stderr
+    data = json.loads(out.stdout)
+    assert data["unit"] == "K"
+    p = helium_pair
+    for entry, (x, y) in zip(data["points"], POINTS):
+        want = naive_polygon_potential(x, y, hexagon(15.0), p.epsilon_k, p.sigma_angstrom, p.density_per_a3)
+        assert (entry["x"], entry["y"]) == (x, y)
+        assert entry["potential"] == pytest.approx(want, rel=1e-9)
+
+
+def test_array_agrees_with_independent_lattice_sum(helium_pair):
+    # issue 2: 1e-3 K for the array; reference = pore minus every removed prism within 30 spacings,
+    # each by the naive closed form (no point here is collinear with a removed edge), no tail
+    t, w = 15.0, 8.0
+    a = np.sqrt(3) * t + w
+    args = ["potential", "--size", str(t), "--wall", str(w), "--json"]
+    for x, y in POINTS:
+        args += ["--at", f"{x},{y}"]
+    data = json.loads(run(*args).stdout)
+    p = helium_pair
+    a1, a2 = a * np.array([np.cos(np.pi / 6), 0.5]), np.array([0.0, a])
+    centres = [i * a1 + j * a2 for i in range(-36, 37) for j in range(-36, 37)]
+    centres = [c for c in centres if 0 < np.hypot(*c) <= 30 * a]
+    for entry, (x, y) in zip(data["points"], POINTS):
+        want = naive_polygon_potential(x, y, hexagon(t), p.epsilon_k, p.sigma_angstrom, p.density_per_a3)
+        for c in centres:
+            want -= naive_polygon_potential(x, y, hexagon(t, c), p.epsilon_k, p.sigma_angstrom, p.density_per_a3,
+                                            sign=-1.0)
+        assert entry["potential"] == pytest.approx(want, abs=1e-3)
+
+
+def test_grid_output_shape_and_nulls():
+    out = run("potential", "--pore", "cylinder", "--size", "10", "--grid", "9", "--json")
+    data = json.loads(out.stdout)
+    assert len(data["x"]) == 9 and len(data["potential"]) == 9 and len(data["potential"][0]) == 9
+    assert data["potential"][0][0] is None            # box corner lies in the solid
+    assert isinstance(data["potential"][4][4], float)  # centre
+
+
+def test_point_in_solid_is_null():
+    data = json.loads(run("potential", "--size", "10", "--at", "20,0", "--json").stdout)
+    assert data["points"][0]["potential"] is None
+
+
+@pytest.mark.parametrize("args, word", [
+    (["--size", "-15", "--at", "0,0"], "side length"),
+    (["--adsorbate", "xenon", "--at", "0,0"], "xenon"),
+    (["--at", "0;0"], "0;0"),
+    (["--at", "1,2,3"], "1,2,3"),
+    (["--pair-epsilon", "-3", "--at", "0,0"], "epsilon"),
+    (["--grid", "1"], "--grid"),
+    (["--pore", "prism", "--at", "0,0"], "prism"),
+])
+def test_bad_input_exits_2_with_one_line(args, word):
+    out = run("potential", *args)
+    assert out.returncode == 2
+    lines = out.stderr.strip().splitlines()
+    assert len(lines) == 1 and word in lines[0] and "Traceback" not in out.stderr
+
+
+def test_serve_rejects_missing_scenario_file(tmp_path):
+    out = run("serve", "--scenario", str(tmp_path / "none.toml"))
+    assert out.returncode == 2 and "none.toml" in out.stderr
