@@ -1,13 +1,19 @@
-"""Potential map, line cuts and the minimum readout."""
+"""Potential map, line cuts and the minimum readout.
+
+These two plots redraw on every slider release, so they are plain Bokeh figures whose data sources are
+updated in place (one websocket patch per change) rather than rebuilt.
+"""
 from __future__ import annotations
 
 from functools import lru_cache
 
-import holoviews as hv
+import contourpy
 import numpy as np
 import panel as pn
 import param
-from scipy.optimize import minimize
+from bokeh.models import ColorBar, ColumnDataSource, HoverTool, LinearColorMapper, Range1d
+from bokeh.palettes import Category10_10, Viridis256
+from bokeh.plotting import figure
 
 from physics.geometry import CylinderPore, SlitPore
 from physics.scenario import Scenario
@@ -17,17 +23,18 @@ from ..state import ExplorerState
 
 MAP_POINTS = 200
 CUT_POINTS = 300
-_GEOMETRY_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate"]
+MAP_WIDTH = 430
+GEOMETRY_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate"]
+
+
+def geometry_only(scenario: Scenario) -> Scenario:
+    """The wall potential does not depend on temperature: cache without it."""
+    return scenario.replace(temperature_k=1.0, title="", notes="")
 
 
 @lru_cache(maxsize=32)
 def cached_map(scenario: Scenario) -> PotentialMap:
     return potential_map(pore=scenario.pore(), pair=scenario.pair(), n=MAP_POINTS)
-
-
-def _geometry_only(scenario: Scenario) -> Scenario:
-    """The map does not depend on temperature: cache it without."""
-    return scenario.replace(temperature_k=1.0, title="", notes="")
 
 
 def cut_directions(scenario: Scenario) -> list[tuple[str, float, float]]:
@@ -42,6 +49,7 @@ def cut_directions(scenario: Scenario) -> list[tuple[str, float, float]]:
 
 
 def outline(scenario: Scenario) -> list[np.ndarray]:
+    """Pore boundary as polylines, (N, 2) each."""
     pore = scenario.pore()
     if isinstance(pore, CylinderPore):
         t = np.linspace(0, 2 * np.pi, 181)
@@ -55,26 +63,38 @@ def outline(scenario: Scenario) -> list[np.ndarray]:
 
 @lru_cache(maxsize=32)
 def deepest_minimum(scenario: Scenario) -> tuple[float, float, float]:
-    """(depth K, x Å, y Å): the map's deepest grid point polished with Nelder–Mead."""
-    m = cached_map(_geometry_only(scenario))
-    depth, x0, y0 = m.minimum()
+    """(depth K, x Å, y Å): the map's deepest grid point, refined on three nested 11 x 11 grids."""
+    m = cached_map(scenario)
+    depth, x, y = m.minimum()
     pore, pair = scenario.pore(), scenario.pair()
-
-    def f(p):
-        v = wall_potential(p[0], p[1], pore=pore, pair=pair)
-        return float(v) if np.isfinite(v) else 1e300
-
-    res = minimize(f, [x0, y0], method="Nelder-Mead", options={"xatol": 1e-6, "fatol": 1e-9})
-    if res.fun < depth:
-        return float(res.fun), float(res.x[0]), float(res.x[1])
-    return depth, x0, y0
+    half = max(m.x[1] - m.x[0], m.y[1] - m.y[0])
+    for _ in range(3):
+        gx, gy = np.meshgrid(np.linspace(x - half, x + half, 11), np.linspace(y - half, y + half, 11))
+        v = wall_potential(gx, gy, pore=pore, pair=pair)
+        k = np.argmin(v)
+        if v.flat[k] < depth:
+            depth, x, y = float(v.flat[k]), float(gx.flat[k]), float(gy.flat[k])
+        half /= 5.0
+    return depth, x, y
 
 
 def colour_range(values: np.ndarray) -> tuple[float, float]:
+    """Colour scale from the deepest value to 0 K (repulsive values shown in the 'above' colour)."""
     finite = values[np.isfinite(values)]
     lo = float(finite.min())
-    hi = 0.0 if lo < 0 else float(np.percentile(finite, 50))
+    hi = 0.0 if lo < 0 else float(np.median(finite))
     return lo, hi if hi > lo else lo + 1.0
+
+
+def contour_lines(m: PotentialMap, levels) -> tuple[list, list]:
+    z = np.ma.masked_invalid(m.values)
+    gen = contourpy.contour_generator(m.x, m.y, z, line_type="Separate")
+    xs, ys = [], []
+    for level in levels:
+        for line in gen.lines(level):
+            xs.append(line[:, 0])
+            ys.append(line[:, 1])
+    return xs, ys
 
 
 class PotentialView(pn.viewable.Viewer):
@@ -84,73 +104,113 @@ class PotentialView(pn.viewable.Viewer):
 
     def __init__(self, **params):
         super().__init__(**params)
-        stream = hv.streams.Params(self.state, _GEOMETRY_KEYS)
-        self._map = hv.DynamicMap(self._map_plot, streams=[stream])
-        self._cuts = hv.DynamicMap(self._cut_plot, streams=[stream])
-        self._readout = pn.pane.Markdown(self._readout_text(), name="minimum-readout",
-                                         css_classes=["porefill-readout"], sizing_mode="stretch_width")
-        self.state.param.watch(self._update_readout, _GEOMETRY_KEYS + ["temperature_k"])
+        self._image = ColumnDataSource({"image": [], "x": [], "y": [], "dw": [], "dh": []})
+        self._contours = ColumnDataSource({"xs": [], "ys": []})
+        self._outline = ColumnDataSource({"xs": [], "ys": []})
+        self._mapper = LinearColorMapper(palette=Viridis256, nan_color="#dddddd", high_color="#fdf6d8")
+        self._cuts = [ColumnDataSource({"r": [], "v": []}) for _ in range(2)]
+        self._map_fig = self._make_map_figure()
+        self._cut_fig = self._make_cut_figure()
+        self._readout = pn.pane.Markdown("", css_classes=["porefill-readout"], sizing_mode="stretch_width")
+        self._redraw()
+        self.state.param.watch(self._redraw, GEOMETRY_KEYS)
+        self.state.param.watch(self._update_readout, ["temperature_k"])
 
+    # figures --------------------------------------------------------------------------------------
+    def _make_map_figure(self):
+        fig = figure(title="Wall potential V(x, y)   (pale: V > 0 K, grey: solid)", x_axis_label="x (Å)",
+                     y_axis_label="y (Å)", frame_width=MAP_WIDTH, frame_height=MAP_WIDTH,
+                     x_range=Range1d(-1, 1), y_range=Range1d(-1, 1), tools="pan,wheel_zoom,box_zoom,reset,save",
+                     match_aspect=True)
+        img = fig.image(image="image", x="x", y="y", dw="dw", dh="dh", source=self._image,
+                        color_mapper=self._mapper)
+        fig.multi_line(xs="xs", ys="ys", source=self._contours, line_color="white", line_alpha=0.75,
+                       line_width=0.9)
+        fig.multi_line(xs="xs", ys="ys", source=self._outline, line_color="black", line_width=2)
+        fig.add_layout(ColorBar(color_mapper=self._mapper, title="V (K)", width=14), "right")
+        fig.add_tools(HoverTool(renderers=[img], tooltips=[("x, y (Å)", "$x{0.00}, $y{0.00}"),
+                                                           ("V (K)", "@image{0.000}")]))
+        return fig
+
+    def _make_cut_figure(self):
+        fig = figure(title="Line cuts", x_axis_label="distance from the pore centre (Å)", y_axis_label="V (K)",
+                     frame_width=420, frame_height=300, x_range=Range1d(0, 1), y_range=Range1d(-1, 1),
+                     tools="pan,wheel_zoom,box_zoom,reset,save,hover",
+                     tooltips=[("r (Å)", "@r{0.00}"), ("V (K)", "@v{0.000}")])
+        self._cut_renderers = [fig.line("r", "v", source=src, line_width=2, color=Category10_10[k],
+                                        legend_label=f"cut {k + 1}")
+                               for k, src in enumerate(self._cuts)]
+        fig.legend.location = "bottom_left"
+        return fig
+
+    # updates --------------------------------------------------------------------------------------
     def _scenario(self) -> Scenario:
         return self.state.scenario()
 
-    def _map_plot(self, **_):
+    def _redraw(self, *_):
         sc = self._scenario()
-        m = cached_map(_geometry_only(sc))
-        values = np.where(np.isfinite(m.values), m.values, np.nan)
+        geo = geometry_only(sc)
+        m = cached_map(geo)
+        pore, pair = sc.pore(), sc.pair()
         lo, hi = colour_range(m.values)
         dx, dy = m.x[1] - m.x[0], m.y[1] - m.y[0]
-        bounds = (m.x[0] - dx / 2, m.y[0] - dy / 2, m.x[-1] + dx / 2, m.y[-1] + dy / 2)
-        vdim = hv.Dimension("V", label="V", unit="K")
-        img = hv.Image(values, bounds=bounds, kdims=[hv.Dimension("x", unit="Å"), hv.Dimension("y", unit="Å")],
-                       vdims=[vdim]).opts(
-            cmap="viridis", clim=(lo, hi), colorbar=True, clipping_colors={"NaN": "#dddddd", "max": "#fdf6d8"},
-            colorbar_opts={"title": "V (K)"}, tools=["hover"], xlabel="x (Å)", ylabel="y (Å)",
-            frame_width=420, frame_height=int(420 * (m.y[-1] - m.y[0]) / (m.x[-1] - m.x[0])),
-            title="Wall potential V(x, y); pale: V > 0 K, grey: solid")
-        levels = list(np.linspace(lo, hi, 11)[1:-1])
-        contours = hv.operation.contours(img, levels=levels, filled=False).opts(
-            color="white", line_width=0.8, alpha=0.7, colorbar=False, cmap=["white"], show_legend=False)
-        paths = hv.Path(outline(sc), kdims=["x", "y"]).opts(color="black", line_width=2)
-        return (img * contours * paths).opts(framewise=True)
-
-    def _cut_plot(self, **_):
-        sc = self._scenario()
-        pore, pair = sc.pore(), sc.pair()
-        curves = []
-        lows = []
+        x0, y0 = m.x[0] - dx / 2, m.y[0] - dy / 2
+        width, height = m.x[-1] - m.x[0] + dx, m.y[-1] - m.y[0] + dy
+        xs, ys = contour_lines(m, np.linspace(lo, hi, 11)[1:-1])
+        lines = outline(sc)
+        cut_data, lows = [], []
         for label, angle, length in cut_directions(sc):
             r = np.linspace(0.0, length, CUT_POINTS)[:-1]
             v = wall_potential(r * np.cos(angle), r * np.sin(angle), pore=pore, pair=pair)
-            lows.append(np.nanmin(v[np.isfinite(v)]))
-            curves.append(hv.Curve((r, v), "r", "V", label=label))
-        lo = min(lows)
-        top = abs(lo) * 0.4 if lo < 0 else lo + 1.0
-        return hv.Overlay(curves).opts(
-            hv.opts.Curve(xlabel="distance from the pore centre (Å)", ylabel="V (K)", line_width=2,
-                          frame_width=420, frame_height=260, ylim=(lo * 1.08, top), show_grid=True,
-                          tools=["hover"]),
-            hv.opts.Overlay(title="Line cuts", legend_position="bottom_left", framewise=True))
+            lows.append(np.min(v[np.isfinite(v)]))
+            cut_data.append((label, r, np.where(np.isfinite(v), v, np.nan), length))
+        low = min(lows)
+        with pn.io.hold():
+            self._image.data = {"image": [np.where(np.isfinite(m.values), m.values, np.nan)], "x": [x0], "y": [y0],
+                                "dw": [width], "dh": [height]}
+            self._mapper.update(low=lo, high=hi)
+            self._contours.data = {"xs": xs, "ys": ys}
+            self._outline.data = {"xs": [p[:, 0] for p in lines], "ys": [p[:, 1] for p in lines]}
+            span = max(width, height)
+            self._map_fig.x_range.update(start=-span / 2 * (width / span), end=span / 2 * (width / span))
+            self._map_fig.y_range.update(start=y0, end=y0 + height)
+            self._map_fig.frame_height = int(round(MAP_WIDTH * height / width))
+            for k, src in enumerate(self._cuts):
+                if k < len(cut_data):
+                    label, r, v, _ = cut_data[k]
+                    src.data = {"r": r, "v": v}
+                    self._cut_renderers[k].visible = True
+                    self._cut_fig.legend.items[k].label = {"value": label}
+                else:
+                    src.data = {"r": [], "v": []}
+                    self._cut_renderers[k].visible = False
+            self._cut_fig.x_range.update(start=0.0, end=max(c[3] for c in cut_data))
+            top = abs(low) * 0.4 if low < 0 else low + 1.0
+            self._cut_fig.y_range.update(start=low * 1.08 if low < 0 else low - 1.0, end=top)
+            self._readout.object = self._readout_text(sc)
 
-    def _readout_text(self) -> str:
-        sc = self._scenario()
-        depth, x, y = deepest_minimum(_geometry_only(sc))
+    def _readout_text(self, sc: Scenario) -> str:
+        geo = geometry_only(sc)
+        depth, x, y = deepest_minimum(geo)
         pore, pair = sc.pore(), sc.pair()
         centre = float(wall_potential(0.0, 0.0, pore=pore, pair=pair))
         wall_gap = float(pore.depth_inside(x, y))
         kt = sc.temperature_k
+        layout = "isolated pore in an unbounded solid" if sc.wall_angstrom is None or sc.shape == "cylinder" \
+            else f"array, walls {sc.wall_angstrom:g} Å thick"
         return (
             f"**Deepest minimum:** {depth:.2f} K at x = {x:.2f} Å, y = {y:.2f} Å "
             f"({np.hypot(x, y):.2f} Å from the centre, {wall_gap:.2f} Å from the nearest wall)  \n"
-            f"**At the centre:** {centre:.3f} K &nbsp; **Depth / kT:** {abs(depth) / kt:.1f} at T = {kt:g} K  \n"
+            f"**At the centre:** {centre:.3f} K &nbsp; **Depth / kT:** {abs(depth) / kt:.1f} at T = {kt:g} K "
+            f"&nbsp; **Pore:** {sc.shape}, {layout}  \n"
             f"**Pair:** ε = {pair.epsilon_k:.2f} K, σ = {pair.sigma_angstrom:.3f} Å, "
             f"ρ = {pair.density_per_a3:.4f} Å⁻³ — {pair.origin}"
         )
 
     def _update_readout(self, *_):
-        self._readout.object = self._readout_text()
+        self._readout.object = self._readout_text(self._scenario())
 
     def __panel__(self):
-        plots = pn.Row(pn.pane.HoloViews(self._map, linked_axes=False, name="potential-map"),
-                       pn.pane.HoloViews(self._cuts, linked_axes=False, name="line-cuts"))
+        plots = pn.Row(pn.Column(pn.pane.Bokeh(self._map_fig), css_classes=["porefill-map"]),
+                       pn.Column(pn.pane.Bokeh(self._cut_fig), css_classes=["porefill-cuts"]))
         return pn.Column(self._readout, plots, sizing_mode="stretch_width")

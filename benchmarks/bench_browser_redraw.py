@@ -1,0 +1,106 @@
+"""Browser time from a slider release to the redrawn potential map (prints JSON lines).
+
+Serves the dashboard on the demo scenario, drives Debian's Chromium with Playwright, drags the
+side-length slider back and forth and, for each release, records when the readout text changed and
+when the map canvas's pixels changed. Run: .venv/bin/python benchmarks/bench_browser_redraw.py
+"""
+from __future__ import annotations
+
+import json
+import socket
+import statistics
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+from playwright.sync_api import sync_playwright
+
+from explorer.testing import drag_handle, readout_text, slider_handle
+
+ROOT = Path(__file__).resolve().parents[1]
+ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update",
+        "--disable-sync", "--no-first-run"]
+CANVAS_SIGNATURE = """(host) => {
+  const stack = [host];
+  let h = 0;
+  while (stack.length) {
+    const el = stack.pop();
+    if (el.tagName === 'CANVAS' && el.width > 200) {
+      const ctx = el.getContext('2d');
+      if (ctx) {
+        const d = ctx.getImageData(0, 0, el.width, el.height).data;
+        for (let i = 0; i < d.length; i += 97) h = (h * 31 + d[i]) | 0;
+      }
+    }
+    if (el.shadowRoot) stack.push(...el.shadowRoot.children);
+    stack.push(...el.children);
+  }
+  return h;
+}"""
+
+
+def map_signature(page) -> int:
+    return page.locator(".porefill-map").first.evaluate(CANVAS_SIGNATURE)
+
+
+def free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+def serve(port: int) -> subprocess.Popen:
+    exe = Path(sys.executable).with_name("porefill")
+    proc = subprocess.Popen([str(exe), "serve", "--scenario", str(ROOT / "scenarios/demo-hexagon-helium.toml"),
+                             "--port", str(port)], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    for _ in range(300):
+        try:
+            socket.create_connection(("127.0.0.1", port), timeout=0.2).close()
+            return proc
+        except OSError:
+            time.sleep(0.1)
+    proc.kill()
+    raise RuntimeError("server did not start")
+
+
+def main(reps: int = 12) -> None:
+    port = free_port()
+    proc = serve(port)
+    try:
+        with sync_playwright() as p:
+            browser = p.chromium.launch(executable_path="/usr/bin/chromium", headless=True, args=ARGS)
+            page = browser.new_page(viewport={"width": 1500, "height": 1100})
+            page.goto(f"http://127.0.0.1:{port}/")
+            page.locator(".porefill-map canvas").first.wait_for(timeout=30_000)
+            page.wait_for_timeout(1500)
+            text_ms, map_ms = [], []
+            for i in range(reps):
+                handle = slider_handle(page, "Side length")
+                before_text, before_sig = readout_text(page), map_signature(page)
+                released = drag_handle(page, handle, 25 if i % 2 == 0 else -25)
+                got_text = got_map = None
+                deadline = released + 15
+                while time.perf_counter() < deadline and (got_text is None or got_map is None):
+                    now = time.perf_counter()
+                    if got_text is None and readout_text(page) != before_text:
+                        got_text = now
+                    if got_map is None and map_signature(page) != before_sig:
+                        got_map = now
+                if got_text is not None:
+                    text_ms.append(1e3 * (got_text - released))
+                if got_map is not None:
+                    map_ms.append(1e3 * (got_map - released))
+                page.wait_for_timeout(400)
+            browser.close()
+    finally:
+        proc.terminate()
+        proc.wait(timeout=10)
+    print(json.dumps({"benchmark": "browser_slider_release_to_redrawn_map", "median_ms": round(statistics.median(map_ms), 1),
+                      "max_ms": round(max(map_ms), 1), "n": len(map_ms)}))
+    print(json.dumps({"benchmark": "browser_slider_release_to_updated_readout",
+                      "median_ms": round(statistics.median(text_ms), 1), "n": len(text_ms)}))
+
+
+if __name__ == "__main__":
+    main()
