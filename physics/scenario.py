@@ -20,8 +20,10 @@ class Scenario:
     """Inputs of one calculation. Lengths in Å, temperature in K, density in Å^-3.
 
     ``wall_angstrom`` None (the default, and what a file without it means) is an isolated pore in an
-    unbounded solid. The three pair overrides,
-    when set, replace the catalog's adsorbate–solid ε, σ and the solid's density.
+    unbounded solid. The three pair overrides, when set, replace the catalog's adsorbate–solid ε, σ and
+    the solid's density. The lattice-gas model takes its site spacing (default: the bulk liquid's density),
+    its bond energy ε_b (default: by ``bond_calibration``, see `physics.bond`) and, for amounts per gram,
+    the sample's specific pore volume.
     """
 
     shape: str = "hexagon"
@@ -33,6 +35,10 @@ class Scenario:
     pair_epsilon_k: float | None = None
     pair_sigma_angstrom: float | None = None
     solid_density_per_a3: float | None = None
+    lattice_spacing_angstrom: float | None = None
+    bond_energy_k: float | None = None
+    bond_calibration: str | None = None
+    pore_volume_cm3_g: float | None = None
     title: str = ""
     notes: str = ""
 
@@ -48,6 +54,17 @@ class Scenario:
             raise ValueError(f"temperature_k must be a positive temperature in K; got {t!r}")
         self.pore()   # validates size and wall
         self.pair()   # validates overrides
+        for name in ("lattice_spacing_angstrom", "pore_volume_cm3_g"):
+            value = getattr(self, name)
+            if value is not None and not (isinstance(value, (int, float)) and np.isfinite(value) and value > 0):
+                raise ValueError(f"{name} must be a positive number; got {value!r}")
+        eb = self.bond_energy_k
+        if eb is not None and not (isinstance(eb, (int, float)) and np.isfinite(eb) and eb >= 0):
+            raise ValueError(f"bond_energy_k must be a non-negative energy in K; got {eb!r}")
+        from .bond import BOND_RULES
+        if self.bond_calibration is not None and self.bond_calibration not in BOND_RULES:
+            raise ValueError(f"bond_calibration must be one of {', '.join(BOND_RULES)}; "
+                             f"got {self.bond_calibration!r}")
 
     def pore(self) -> Pore:
         wall = self.wall_angstrom if self.shape != "cylinder" else None
