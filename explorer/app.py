@@ -7,6 +7,7 @@ from physics.scenario import Scenario
 
 from .about import ABOUT
 from .state import ExplorerState
+from .views.isotherm import IsothermView
 from .views.potential import PotentialView
 
 __all__ = ["create_app"]
@@ -28,7 +29,9 @@ def create_app(scenario: Scenario | None = None) -> pn.viewable.Viewable:
     state = ExplorerState.from_scenario(scenario)
     title = scenario.title or "porefill"
     header = pn.pane.Markdown(f"# porefill\n{title}", sizing_mode="stretch_width")
-    pore_page = pn.Row(pn.Column("### Pore and gas", controls(state)), PotentialView(state=state),
-                       sizing_mode="stretch_width", name="Pore")
+    views = pn.Column(PotentialView(state=state), "### Adsorption", IsothermView(state=state),
+                      sizing_mode="stretch_width")
+    pore_page = pn.Row(pn.Column("### Pore and gas", controls(state)), views, sizing_mode="stretch_width",
+                       name="Pore")
     about = pn.pane.Markdown(ABOUT, name="About & safety", width=760)
     return pn.Column(header, pn.Tabs(pore_page, about, dynamic=False), sizing_mode="stretch_width")

@@ -96,6 +96,68 @@ def _cmd_potential(args) -> int:
     return 0
 
 
+def _model_scenario(args):
+    return _scenario_from_args(args, temperature_k=args.temperature, lattice_spacing_angstrom=args.spacing,
+                               bond_energy_k=args.bond, bond_calibration=args.bond_rule,
+                               pore_volume_cm3_g=args.pore_volume)
+
+
+def _cmd_isotherm(args) -> int:
+    from physics.adsorption import compute_isotherm
+    from physics.vapour_pressure import VapourPressureRangeError
+
+    from .isotherm_export import isotherm_csv, isotherm_json, isotherm_summary
+
+    scenario = _model_scenario(args)
+    if not (3 <= args.points <= 5000):
+        raise UsageError(f"--points must be between 3 and 5000, got {args.points}")
+    prange = None
+    if args.pressure_range is not None:
+        prange = tuple(args.pressure_range)
+    try:
+        if args.relative_pressure_range is not None:
+            from physics.vapour_pressure import saturated_vapour_pressure
+            p0 = saturated_vapour_pressure(scenario.adsorbate, scenario.temperature_k)
+            prange = (args.relative_pressure_range[0] * p0, args.relative_pressure_range[1] * p0)
+        iso = compute_isotherm(scenario, n_points=args.points, pressure_range_pa=prange)
+    except VapourPressureRangeError as exc:
+        raise UsageError(str(exc)) from None
+    except ValueError as exc:
+        raise UsageError(str(exc)) from None
+    if args.csv:
+        try:
+            with open(args.csv, "w", encoding="utf-8", newline="") as fh:
+                fh.write(isotherm_csv(iso))
+        except OSError as exc:
+            raise UsageError(f"cannot write {args.csv}: {exc.strerror}") from None
+    if args.json:
+        json.dump(isotherm_json(iso), sys.stdout)
+        sys.stdout.write("\n")
+    else:
+        print(isotherm_summary(iso))
+    return 0
+
+
+def _cmd_vapour_pressure(args) -> int:
+    from physics.materials import ADSORBATES
+    from physics.vapour_pressure import VapourPressureRangeError, saturated_vapour_pressure, temperature_range
+
+    if args.adsorbate not in ADSORBATES:
+        raise UsageError(f"adsorbate must be one of {', '.join(ADSORBATES)}; got {args.adsorbate!r}")
+    try:
+        p0 = saturated_vapour_pressure(args.adsorbate, args.temperature)
+    except VapourPressureRangeError as exc:
+        raise UsageError(str(exc)) from None
+    source = temperature_range(args.adsorbate)[2]
+    if args.json:
+        json.dump({"adsorbate": args.adsorbate, "temperature_k": args.temperature, "pressure_pa": p0,
+                   "source": source}, sys.stdout)
+        sys.stdout.write("\n")
+    else:
+        print(f"{args.adsorbate} at {args.temperature:g} K: p0 = {p0:.6g} Pa ({source})")
+    return 0
+
+
 def _cmd_serve(args) -> int:
     from .scenario_file import ScenarioFileError, load_scenario
     from .server import serve
@@ -132,6 +194,32 @@ def build_parser() -> argparse.ArgumentParser:
     where.add_argument("--grid", type=int, metavar="N", help="N x N map over the pore's bounding box")
     p.add_argument("--json", action="store_true", help="print JSON")
     p.set_defaults(func=_cmd_potential)
+
+    from physics.bond import BOND_RULES
+
+    p = sub.add_parser("isotherm", help="mean-field isotherm with both branches and the layer steps")
+    _add_pore_options(p)
+    p.add_argument("--temperature", type=float, required=True, help="temperature, K")
+    p.add_argument("--points", type=int, default=300, help="number of chemical potentials (default 300)")
+    rng = p.add_mutually_exclusive_group()
+    rng.add_argument("--pressure-range", type=float, nargs=2, metavar=("LOW", "HIGH"),
+                     help="pressure range, Pa (default: from an empty pore to p0)")
+    rng.add_argument("--relative-pressure-range", type=float, nargs=2, metavar=("LOW", "HIGH"),
+                     help="range of p/p0 (dimensionless)")
+    p.add_argument("--bond", type=float, metavar="K", help="fluid–fluid bond energy ε_b, K (overrides the rule)")
+    p.add_argument("--bond-rule", choices=BOND_RULES, help="calibration of ε_b (default vapour-pressure)")
+    p.add_argument("--spacing", type=float, metavar="Å", help="lattice site spacing, Å (default: bulk liquid density)")
+    p.add_argument("--pore-volume", type=float, metavar="cm³/g",
+                   help="specific pore volume of the sample, cm³/g (adds mmol/g and cm³(STP)/g)")
+    p.add_argument("--json", action="store_true", help="print JSON")
+    p.add_argument("--csv", metavar="FILE", help="also write the branches as CSV")
+    p.set_defaults(func=_cmd_isotherm)
+
+    p = sub.add_parser("vapour-pressure", help="saturated vapour pressure p0(T), Pa")
+    p.add_argument("--adsorbate", required=True, help="adsorbate name")
+    p.add_argument("--temperature", type=float, required=True, help="temperature, K")
+    p.add_argument("--json", action="store_true", help="print JSON")
+    p.set_defaults(func=_cmd_vapour_pressure)
     return parser
 
 
@@ -169,6 +257,9 @@ def main(argv: list[str] | None = None) -> int:
     except UsageError as exc:
         sys.stderr.write(f"porefill: error: {exc}\n")
         return 2
+    except BrokenPipeError:          # output piped into `head` and the like
+        sys.stderr.close()
+        return 0
 
 
 if __name__ == "__main__":

@@ -82,10 +82,9 @@ def _factor(p: MeanFieldProblem, a_dense, d: np.ndarray, damping: float):
     """Solver for (kT(1+λ) I − ε_b A D) δ = r."""
     diag = p.temperature_k * (1.0 + damping)
     if a_dense is not None:
-        j = -p.bond_k * a_dense * d[None, :]
-        j[np.diag_indices_from(j)] += diag
-        lu = _dense_lu(j)
-        return lu
+        j = a_dense * (-p.bond_k * d)[None, :]
+        j.flat[:: d.size + 1] += diag
+        return np.linalg.inv(j).__matmul__       # small and well conditioned: the inverse is cheapest
     j = (-p.bond_k) * (p.neighbours @ sparse.diags(d)) + sparse.identity(d.size, format="csc") * diag
     return splu(j.tocsc()).solve
 
@@ -95,13 +94,6 @@ def _dense_neighbours(problem: MeanFieldProblem):
     if isinstance(a, np.ndarray):
         return a
     return a.toarray() if problem.site_free_energy.size <= _DENSE_MAX_SITES else None
-
-
-def _dense_lu(j):
-    from scipy.linalg import lu_factor, lu_solve
-
-    fac = lu_factor(j, check_finite=False)
-    return lambda r: lu_solve(fac, r, check_finite=False)
 
 
 def solve_state(x0: np.ndarray, mu: float, problem: MeanFieldProblem, *, max_iter: int = 400,
