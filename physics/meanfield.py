@@ -72,6 +72,15 @@ def grand_potential(x: np.ndarray, mu: float, problem: MeanFieldProblem) -> floa
     return float(w @ per_site)
 
 
+def _rounding_scale(x, mu, problem: MeanFieldProblem) -> float:
+    """Σ of the magnitudes of Ω's terms: the size of its rounding error, over the unit roundoff."""
+    n = expit(x)
+    w = problem.weights
+    terms = (problem.temperature_k * np.abs(_entropy(x)) + np.abs(problem.site_free_energy - mu) * n
+             + 0.5 * problem.bond_k * (problem.neighbours @ n) * n)
+    return float(w @ terms) + 1.0
+
+
 def _residual(x, mu, p: MeanFieldProblem, a_dense):
     n = expit(x)
     an = a_dense @ n if a_dense is not None else p.neighbours @ n
@@ -120,28 +129,33 @@ def solve_state(x0: np.ndarray, mu: float, problem: MeanFieldProblem, *, max_ite
             return x, True, solve
         d = n * (1.0 - n)
         accepted = False
+        flat = 1e-13 * _rounding_scale(x, mu, problem)      # Ω changes below this are rounding
         while not accepted:
-            solve = _factor(problem, a_dense, d, damping)
-            step = -solve(g)
-            slope = float((problem.weights * g * d) @ step)      # dΩ along the step, to first order
-            if damping == 0.0 and abs(slope) < 1e-11 * (abs(omega) + 1.0):
-                # Ω can no longer resolve the decrease: we are in Newton's quadratic basin; accept
-                # the step if it shrinks the residual
-                trial = x + step
-                if np.max(np.abs(_residual(trial, mu, problem, a_dense)[0])) < gmax:
-                    x, accepted = trial, True
-                    break
-            if slope < 0:
+            try:
+                solve = _factor(problem, a_dense, d, damping)
+                step = -solve(g)
+            except (np.linalg.LinAlgError, RuntimeError):   # singular at this damping
+                step = None
+            if step is not None and np.all(np.isfinite(step)):
+                slope = float((problem.weights * g * d) @ step)      # dΩ along the step, to first order
                 t = 1.0
-                for _ in range(30):
+                # a short line search: if Newton needs heavy backtracking the Hessian is not positive
+                # definite here, and more damping (towards the plain iteration) serves better
+                for _ in range(3 if damping < 1e6 else 40):
                     trial = x + t * step
                     om = grand_potential(trial, mu, problem)
-                    if om <= omega + 1e-4 * t * slope:
-                        x, omega, accepted = trial, om, True
+                    if slope < 0 and om <= omega + 1e-4 * t * slope:
+                        accepted = True
+                    elif om <= omega + flat:
+                        # Ω cannot resolve the change (saturated sites, or Newton's quadratic basin):
+                        # accept when the residual shrinks, never when Ω rises
+                        accepted = np.max(np.abs(_residual(trial, mu, problem, a_dense)[0])) < gmax
+                    if accepted:
+                        x, omega = trial, om
                         break
                     t *= 0.5
             if not accepted:
-                damping = max(1.0, 10.0 * damping)
+                damping = max(1.0, 10.0 * damping) * (1.0 + 1e-3)   # off round values: no exact singularity
                 if damping > 1e12:
                     return x, False, solve
         damping = 0.0 if damping < 1e-6 else damping * 0.1

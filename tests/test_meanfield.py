@@ -1,0 +1,111 @@
+"""Mean-field lattice-gas solver: exact limits, bulk Bragg–Williams facts, the sum rule dΩ/dμ = −N."""
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy import sparse
+from scipy.optimize import brentq
+from scipy.special import expit
+
+from physics.meanfield import MeanFieldProblem, grand_potential, solve_branch, solve_state
+
+Z = 8
+
+
+def periodic_triangular(nx: int, ny: int) -> sparse.csr_matrix:
+    """Torus of nx × ny sites, 6 in-plane neighbours, axial pair on the diagonal (z = 8)."""
+    idx = lambda i, j: (i % nx) * ny + (j % ny)
+    rows, cols = [], []
+    for i in range(nx):
+        for j in range(ny):
+            for di, dj in ((1, 0), (-1, 0), (0, 1), (0, -1), (1, -1), (-1, 1)):
+                rows.append(idx(i, j))
+                cols.append(idx(i + di, j + dj))
+    n = nx * ny
+    a = sparse.csr_matrix((np.ones(len(rows)), (rows, cols)), shape=(n, n))
+    return (a + 2.0 * sparse.identity(n)).tocsr()
+
+
+class TestLimits:
+    def test_no_interaction_is_langmuir(self):
+        # ε_b = 0: every site follows Langmuir's isotherm n = 1/(1 + exp[(f − μ)/kT]) (Langmuir 1918)
+        rng = np.random.default_rng(0)
+        f = rng.uniform(-50, 0, 40)
+        p = MeanFieldProblem(f, periodic_triangular(5, 8), 0.0, 2.0)
+        mu = np.linspace(-60, 5, 50)
+        b = solve_branch(mu, p, np.zeros(40))
+        np.testing.assert_allclose(b.occupancy, expit((mu[:, None] - f) / 2.0), rtol=1e-12, atol=1e-14)
+        assert b.converged.all()
+
+    @pytest.mark.parametrize("t_over_tc", [0.5, 0.8])
+    def test_bulk_coexistence_at_minus_z_eb_over_2(self, t_over_tc):
+        # Bragg–Williams (Hill 1960): μ_coex = −z ε_b / 2, and ρ_gas + ρ_liquid = 1 (particle–hole symmetry)
+        eb = 3.0
+        t = t_over_tc * Z * eb / 4
+        a = periodic_triangular(4, 4)
+        p = MeanFieldProblem(np.zeros(16), a, eb, t)
+        gas = lambda m: solve_state(np.full(16, -20.0), m, p)[0]
+        liquid = lambda m: solve_state(np.full(16, 20.0), m, p)[0]
+        d_omega = lambda m: grand_potential(gas(m), m, p) - grand_potential(liquid(m), m, p)
+        mu_coex = brentq(d_omega, -Z * eb / 2 - 0.05 * eb, -Z * eb / 2 + 0.05 * eb, xtol=1e-12)
+        assert mu_coex == pytest.approx(-Z * eb / 2, abs=1e-8)
+        rho_g, rho_l = expit(gas(mu_coex)).mean(), expit(liquid(mu_coex)).mean()
+        assert rho_l - rho_g > 0.2
+        assert rho_g + rho_l == pytest.approx(1.0, abs=1e-8)
+
+    def test_critical_temperature(self):
+        # kT_c = z ε_b / 4 (Bragg–Williams; Hill 1960): a loop just below, none just above
+        eb = 2.0
+        tc = Z * eb / 4
+        a = periodic_triangular(3, 3)
+        mu = np.linspace(-Z * eb / 2 - 2, -Z * eb / 2 + 2, 201)
+        widths = []
+        for t in (0.97 * tc, 1.03 * tc):
+            p = MeanFieldProblem(np.zeros(9), a, eb, t)
+            up = solve_branch(mu, p, np.full(9, -10.0)).total
+            down = solve_branch(mu[::-1], p, np.full(9, 10.0)).total[::-1]
+            widths.append(np.max(down - up))
+        assert widths[0] > 1.0 and widths[1] < 1e-6
+
+
+class TestSumRule:
+    def test_d_omega_d_mu_is_minus_n(self):
+        # dΩ/dμ = −N at a stationary state (∂Ω/∂n = 0); central difference with δ = 1e-4 K, rtol 1e-6
+        rng = np.random.default_rng(2)
+        f = rng.uniform(-30, -5, 25)
+        p = MeanFieldProblem(f, periodic_triangular(5, 5), 1.5, 1.0)
+        mu = np.linspace(-35, -8, 60)
+        b = solve_branch(mu, p, np.full(25, -30.0))
+        for k in range(2, 58, 5):
+            x = b.logits[k]
+            h = 1e-4
+            om_p = grand_potential(solve_state(x, mu[k] + h, p)[0], mu[k] + h, p)
+            om_m = grand_potential(solve_state(x, mu[k] - h, p)[0], mu[k] - h, p)
+            assert (om_p - om_m) / (2 * h) == pytest.approx(-b.total[k], rel=1e-6, abs=1e-8)
+
+
+class TestRobustness:
+    def test_low_temperature_converges_tightly(self):
+        # stiff regime: T = 0.05 ε_b; every state converged to |∂Ω/∂n| < 1e-10 K
+        rng = np.random.default_rng(5)
+        f = rng.uniform(-20, 0, 36)
+        p = MeanFieldProblem(f, periodic_triangular(6, 6), 4.0, 0.2)
+        mu = np.linspace(-60, 0, 300)
+        b = solve_branch(mu, p, np.full(36, -100.0))
+        assert b.converged.all()
+        assert np.all(np.diff(b.total) >= -1e-9)        # adsorption branch never loses atoms
+
+    def test_weighted_orbits_match_full_problem(self):
+        # a problem reduced to orbits (weights, W·B symmetric) gives the full problem's state
+        a = periodic_triangular(4, 4)
+        full = MeanFieldProblem(np.full(16, -5.0), a, 1.0, 1.0)
+        reduced = MeanFieldProblem(np.array([-5.0]), np.array([[8.0]]), 1.0, 1.0, np.array([16.0]))
+        for m in (-12.0, -9.0, -4.0):
+            xf = solve_state(np.zeros(16), m, full)[0]
+            xr = solve_state(np.zeros(1), m, reduced)[0]
+            np.testing.assert_allclose(xf, xr[0], atol=1e-9)
+            assert grand_potential(xf, m, full) == pytest.approx(grand_potential(xr, m, reduced), rel=1e-12)
+
+    def test_rejects_infinite_free_energies(self):
+        with pytest.raises(ValueError, match="finite"):
+            MeanFieldProblem(np.array([0.0, np.inf]), sparse.identity(2, format="csr"), 1.0, 1.0)
