@@ -23,10 +23,28 @@ class ExplorerState(param.Parameterized):
     isolated = param.Boolean(default=False, label="Isolated pore (unbounded solid)",
                              doc="Ignore neighbouring pores: one pore in an unbounded solid")
     adsorbate = param.Selector(default="helium-4", objects=list(ADSORBATES), doc="Adsorbed gas")
-    temperature_k = param.Number(default=1.5, bounds=(0.05, 400.0), softbounds=(0.5, 100.0), step=0.05,
-                                 label="Temperature (K)", doc="Temperature, K")
+    temperature_k = param.Number(default=1.5, bounds=(0.2, 400.0), step=0.01, label="Temperature (K)",
+                                 doc="Temperature, K; the range is that of the adsorbate's vapour-pressure equation")
     solid = param.String(default="silica", constant=True, doc="Solid (catalog name)")
     title = param.String(default="", doc="Scenario title")
+
+    def __init__(self, **params):
+        super().__init__(**params)
+        self._fit_temperature_range()
+
+    @param.depends("adsorbate", watch=True)
+    def _fit_temperature_range(self):
+        """Temperature slider spans the adsorbate's vapour-pressure range (needed for real pressures)."""
+        from physics.vapour_pressure import temperature_range, typical_temperature
+
+        lo, hi, _ = temperature_range(self.adsorbate)
+        lo, hi = round(lo + 0.005, 2), round(hi - 0.005, 2)
+        current = self.temperature_k
+        value = current if lo <= current <= hi else round(typical_temperature(self.adsorbate), 2)
+        self.param.temperature_k.step = 0.01 if hi - lo < 20 else 0.05
+        self.param.temperature_k.bounds = (min(lo, current), max(hi, current))
+        self.temperature_k = value
+        self.param.temperature_k.bounds = (lo, hi)
 
     @classmethod
     def from_scenario(cls, scenario: Scenario) -> "ExplorerState":

@@ -42,3 +42,17 @@ def wait_for_readout_change(page, before: str, timeout_s: float = 20.0) -> float
             return time.perf_counter()
         page.wait_for_timeout(5)
     raise TimeoutError("the readout did not change")
+
+
+def text_of(page, selector: str) -> str:
+    return page.locator(selector).first.inner_text()
+
+
+def wait_for_text_change(page, selector: str, before: str, timeout_s: float = 20.0) -> float:
+    """Poll until the text under ``selector`` differs from ``before``; return the time it did."""
+    deadline = time.perf_counter() + timeout_s
+    while time.perf_counter() < deadline:
+        if text_of(page, selector) != before:
+            return time.perf_counter()
+        page.wait_for_timeout(5)
+    raise TimeoutError(f"the text of {selector} did not change")

@@ -15,7 +15,7 @@ import numpy as np
 from scipy import constants
 from scipy.optimize import brentq
 
-__all__ = ["saturated_vapour_pressure", "temperature_range", "its90_helium4_temperature",
+__all__ = ["saturated_vapour_pressure", "temperature_range", "typical_temperature", "its90_helium4_temperature",
            "liquid_number_density", "critical_temperature", "VapourPressureRangeError",
            "HELIUM4_EXTRAPOLATION_MIN_K"]
 
@@ -130,3 +130,12 @@ def critical_temperature(adsorbate: str) -> float:
     """Bulk critical temperature (K): CoolProp (helium: 5.1953 K, the same source)."""
     from .materials import get_adsorbate
     return float(_coolprop().PropsSI("Tcrit", get_adsorbate(adsorbate).coolprop_name))
+
+
+def typical_temperature(adsorbate: str) -> float:
+    """A sensible starting temperature (K): 1.5 K for helium-4 (superfluid film work), else the normal
+    boiling point (CoolProp)."""
+    if adsorbate == "helium-4":
+        return 1.5
+    from .materials import get_adsorbate
+    return float(_coolprop().PropsSI("T", "P", constants.atm, "Q", 0, get_adsorbate(adsorbate).coolprop_name))

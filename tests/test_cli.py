@@ -120,3 +120,51 @@ def test_bad_input_exits_2_with_one_line(args, word):
 def test_serve_rejects_missing_scenario_file(tmp_path):
     out = run("serve", "--scenario", str(tmp_path / "none.toml"))
     assert out.returncode == 2 and "none.toml" in out.stderr
+
+
+def test_vapour_pressure_command():
+    # ITS-90: p(2.0 K) = 3129.7 Pa (REFERENCES.md §3, recomputed)
+    out = run("vapour-pressure", "--adsorbate", "helium-4", "--temperature", "2.0", "--json")
+    assert out.returncode == 0
+    assert json.loads(out.stdout)["pressure_pa"] == pytest.approx(3129.7, rel=1e-4)
+
+
+@pytest.mark.parametrize("args, word", [
+    (["--adsorbate", "helium-4", "--temperature", "6"], "outside"),
+    (["--adsorbate", "nitrogen", "--temperature", "20"], "outside"),
+    (["--adsorbate", "xenon", "--temperature", "20"], "xenon"),
+])
+def test_vapour_pressure_refuses_clearly(args, word):
+    out = run("vapour-pressure", *args)
+    assert out.returncode == 2 and word in out.stderr and len(out.stderr.strip().splitlines()) == 1
+
+
+def test_isotherm_json_and_csv(tmp_path):
+    csv_path = tmp_path / "iso.csv"
+    out = run("isotherm", "--pore", "hexagon", "--size", "15", "--wall", "8", "--adsorbate", "helium-4",
+              "--temperature", "1.5", "--points", "120", "--json", "--csv", str(csv_path), "--pore-volume", "0.7")
+    assert out.returncode == 0, out.stderr
+    data = json.loads(out.stdout)
+    for branch in ("adsorption", "desorption"):
+        b = data[branch]
+        assert len(b["mu_k"]) == len(b["pressure_pa"]) == len(b["coverage_atoms_per_nm"]) == 120
+        assert len(b["grand_potential_k_per_nm"]) == 120 and "amount_mmol_per_g" in b
+    assert data["model"]["saturation_pressure_pa"] == pytest.approx(471.5, rel=1e-3)   # ITS-90 at 1.5 K
+    steps = data["steps"]
+    assert steps and steps[0]["filling"][0]["where"] == "corner"
+    assert all(s["pressure_pa"] > 0 and 0 < s["relative_pressure"] <= 1 for s in steps)
+    lines = csv_path.read_text().splitlines()
+    assert lines[0].startswith("mu_K,pressure_Pa") and len(lines) == 121
+
+
+@pytest.mark.parametrize("args, word", [
+    (["--temperature", "-1"], "temperature"),
+    (["--temperature", "1.5", "--points", "2"], "--points"),
+    (["--temperature", "1.5", "--pressure-range", "10", "1"], "pressure range"),
+    (["--temperature", "1.5", "--bond", "-2"], "bond_energy_k"),
+    (["--temperature", "1.5", "--spacing", "0"], "lattice_spacing"),
+    (["--temperature", "9"], "outside"),
+])
+def test_isotherm_bad_values(args, word):
+    out = run("isotherm", *args)
+    assert out.returncode == 2 and word in out.stderr and "Traceback" not in out.stderr

@@ -48,3 +48,42 @@ def test_about_page_carries_safety_cautions(page):
                   "institution's safety rules"):
         page.get_by_text(words).first.wait_for(state="visible", timeout=10_000)
     assert page.console_errors == []
+
+
+STEPS = ".porefill-steps table"
+OCCUPANCY = ".porefill-occupancy p"
+
+
+def test_temperature_slider_changes_isotherm_and_steps(page):
+    from explorer.testing import text_of, wait_for_text_change
+
+    page.locator(STEPS).first.wait_for(timeout=30_000)
+    page.wait_for_timeout(800)
+    before = text_of(page, STEPS)
+    assert "corner" in before and "face" in before          # steps labelled by where the sites sit
+    iso_png = page.locator(".porefill-isotherm").first.screenshot()
+    drag_handle(page, slider_handle(page, "Temperature"), 12)
+    wait_for_text_change(page, STEPS, before)
+    page.wait_for_timeout(800)
+    after = text_of(page, STEPS)
+    assert after != before
+    assert page.locator(".porefill-isotherm").first.screenshot() != iso_png
+    assert page.console_errors == []
+
+
+def test_picking_a_pressure_changes_the_occupancy_map(page):
+    from explorer.testing import text_of, wait_for_text_change
+
+    page.locator(OCCUPANCY).first.wait_for(timeout=30_000)
+    page.wait_for_timeout(800)
+    before = text_of(page, OCCUPANCY)
+    map_png = page.locator(".porefill-occupancy-map").first.screenshot()
+    drag_handle(page, slider_handle(page, "Occupancy map"), -150)
+    wait_for_text_change(page, OCCUPANCY, before)
+    page.wait_for_timeout(800)
+    after = text_of(page, OCCUPANCY)
+    n_before = float(re.search(r"([\d.]+) atoms per nm;", before).group(1))
+    n_after = float(re.search(r"([\d.]+) atoms per nm;", after).group(1))
+    assert n_after < n_before                                # lower pressure, fewer atoms
+    assert page.locator(".porefill-occupancy-map").first.screenshot() != map_png
+    assert page.console_errors == []
