@@ -2,7 +2,8 @@
 
 Serves the dashboard on the demo scenario, drives Debian's Chromium with Playwright, drags the
 side-length slider back and forth and, for each release, records when the readout text changed and
-when the map canvas's pixels changed. Run: .venv/bin/python benchmarks/bench_browser_redraw.py
+when the map canvas's pixels changed; then drags the temperature slider and records when both the isotherm
+plot's pixels and the steps table had changed. Run: .venv/bin/python benchmarks/bench_browser_redraw.py
 """
 from __future__ import annotations
 
@@ -16,7 +17,7 @@ from pathlib import Path
 
 from playwright.sync_api import sync_playwright
 
-from explorer.testing import drag_handle, readout_text, slider_handle
+from explorer.testing import drag_handle, readout_text, slider_handle, text_of
 
 ROOT = Path(__file__).resolve().parents[1]
 ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update",
@@ -40,8 +41,8 @@ CANVAS_SIGNATURE = """(host) => {
 }"""
 
 
-def map_signature(page) -> int:
-    return page.locator(".porefill-map").first.evaluate(CANVAS_SIGNATURE)
+def map_signature(page, selector: str = ".porefill-map") -> int:
+    return page.locator(selector).first.evaluate(CANVAS_SIGNATURE)
 
 
 def free_port() -> int:
@@ -92,6 +93,19 @@ def main(reps: int = 12) -> None:
                 if got_map is not None:
                     map_ms.append(1e3 * (got_map - released))
                 page.wait_for_timeout(400)
+            iso_ms = []
+            for i in range(reps):
+                handle = slider_handle(page, "Temperature")
+                before_text = text_of(page, ".porefill-steps table")
+                before_sig = map_signature(page, ".porefill-isotherm")
+                released = drag_handle(page, handle, 8 if i % 2 == 0 else -8)
+                deadline = released + 15
+                while time.perf_counter() < deadline:
+                    if (map_signature(page, ".porefill-isotherm") != before_sig
+                            and text_of(page, ".porefill-steps table") != before_text):
+                        iso_ms.append(1e3 * (time.perf_counter() - released))
+                        break
+                page.wait_for_timeout(500)
             browser.close()
     finally:
         proc.terminate()
@@ -100,6 +114,9 @@ def main(reps: int = 12) -> None:
                       "max_ms": round(max(map_ms), 1), "n": len(map_ms)}))
     print(json.dumps({"benchmark": "browser_slider_release_to_updated_readout",
                       "median_ms": round(statistics.median(text_ms), 1), "n": len(text_ms)}))
+    print(json.dumps({"benchmark": "browser_temperature_release_to_redrawn_isotherm_and_steps",
+                      "median_ms": round(statistics.median(iso_ms), 1), "max_ms": round(max(iso_ms), 1),
+                      "n": len(iso_ms), "of": reps}))
 
 
 if __name__ == "__main__":

@@ -31,4 +31,18 @@ The adsorbate–solid pair parameters come from a published pair where one is kn
 **derived** with the Lorentz–Berthelot rules, and the page says so. Fits to measured isotherms are where such
 parameters get pinned.
 
+### The adsorption model
+
+A lattice gas fills the pore cross-section (a triangular lattice aligned with the hexagon's faces, repeated
+along the axis, 8 neighbours per site) and is solved in mean field (lattice density functional theory).
+Each site's free energy is the wall potential Boltzmann-averaged over its cell, so sites against the wall
+behave smoothly; sites that can never fill are left out. The adsorption branch is followed up from an empty
+pore, the desorption branch down from a full one; first-order steps sit where their grand potentials cross.
+
+Pressures: p = p₀(T)·exp[(μ − μ_coex)/kT], with p₀ from ITS-90 for helium-4 (extrapolated below 1.25 K) and
+from CoolProp for the other gases. By default the bond energy ε_b is calibrated so that the lattice's bulk
+condensation falls at p₀ *and* the low-pressure (Henry) limit is exact; the steps table says which
+calibration is in force. Mean-field hysteresis loops are wider than measured ones. Helium's first layers
+form at pressures far below what gauges read: compare amounts, not pressures, there.
+
 """ + SAFETY
