@@ -25,6 +25,8 @@ def controls(state: ExplorerState) -> pn.viewable.Viewable:
 def create_app(scenario: Scenario | None = None) -> pn.viewable.Viewable:
     """Build one session's page (called by the server for every browser tab)."""
     pn.extension(notifications=True)
+    # the first classical gas loads CoolProp (a few seconds, once per server): show that work is going on
+    pn.config.loading_indicator = True
     scenario = scenario or Scenario(wall_angstrom=8.0)
     state = ExplorerState.from_scenario(scenario)
     title = scenario.title or "porefill"

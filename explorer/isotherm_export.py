@@ -44,6 +44,8 @@ def _branch(iso: Isotherm, branch) -> dict:
         "fraction_of_full_pore": _finite(iso.fraction(branch)),
         "grand_potential_k_per_nm": _finite(iso.grand_potential_per_nm(branch)),
         "converged": [bool(c) for c in branch.converged],
+        "central_channel_occupancy": _finite(iso.central_channel_occupancy(
+            "adsorption" if branch is iso.adsorption else "desorption")),
     }
     vp = iso.setup.scenario.pore_volume_cm3_g
     area = _cross_section(iso)
@@ -67,8 +69,25 @@ def isotherm_json(iso: Isotherm) -> dict:
         "model": model_description(iso),
         "adsorption": _branch(iso, iso.adsorption),
         "desorption": _branch(iso, iso.desorption),
-        "steps": [s.to_dict() for s in iso.steps],
+        "sites": _sites(iso),
+        "steps": [_step(iso, s) for s in iso.steps],
     }
+
+
+def _sites(iso: Isotherm) -> dict:
+    lat = iso.setup.lattice
+    return {"x_angstrom": _finite(lat.x), "y_angstrom": _finite(lat.y),
+            "where": [lat.label(i) for i in range(lat.size)],
+            "free_energy_k": _finite(iso.setup.site_free_energy)}
+
+
+def _step(iso: Isotherm, step) -> dict:
+    """A step, with the linear density along every site's channel just after it (equilibrium)."""
+    d = step.to_dict()
+    k = int(min(np.searchsorted(iso.mu, step.mu_k) + 1, iso.mu.size - 1))
+    d["channel_atoms_per_nm_after"] = _finite(iso.channel_density_per_nm(k))
+    d["central_channel_occupancy_after"] = float(iso.central_channel_occupancy()[k])
+    return d
 
 
 def isotherm_csv(iso: Isotherm) -> str:

@@ -26,7 +26,7 @@ __all__ = ["SiteLattice", "build_lattice", "default_spacing", "cell_free_energie
            "SITE_KINDS"]
 
 COORDINATION = 8
-SITE_KINDS = ("corner", "face", "ring", "centre")
+SITE_KINDS = ("corner", "face", "wall", "ring", "centre")   # face: polygon sides; wall: cylinder, slit
 
 
 def default_spacing(liquid_density_per_a3: float) -> float:
@@ -45,7 +45,7 @@ class SiteLattice:
         of site i (axial pair included on the diagonal)
     spacing_angstrom : in-plane and axial spacing ℓ
     cell_area_angstrom2 : cross-section area one site stands for (for the slit: per Å of x)
-    kind : (N,) 'corner', 'face', 'ring' or 'centre'
+    kind : (N,) 'corner', 'face' (polygon) or 'wall' (cylinder, slit), 'ring' or 'centre'
     ring : (N,) row index counted from the wall (0 = against the wall)
     weight : (N,) how many sites a site stands for in totals (1, or the row length for the slit)
     """
@@ -120,7 +120,7 @@ def _classify(pore: Pore, pts: np.ndarray, spacing: float) -> tuple[np.ndarray, 
     outer = depth.min() if depth.size else 0.0
     ring = np.floor((depth - outer) / row + 0.5).astype(int)
     kind = np.full(len(pts), "ring", dtype=object)
-    kind[ring == 0] = "face"
+    kind[ring == 0] = "face" if ordered is not None else "wall"
     if ordered is not None:
         kind[(ring == 0) & (ordered[:, 1] - ordered[:, 0] < 0.5 * row)] = "corner"   # two faces equally near
     kind[ring == ring.max()] = "centre"

@@ -152,6 +152,14 @@ def test_isotherm_json_and_csv(tmp_path):
     assert data["model"]["saturation_pressure_pa"] == pytest.approx(471.5, rel=1e-3)   # ITS-90 at 1.5 K
     steps = data["steps"]
     assert steps and steps[0]["filling"][0]["where"] == "corner"
+    # after the corner step the corner channels hold about 1/ℓ atoms per Å, the centre is empty
+    sites = data["sites"]
+    corner = [i for i, w in enumerate(sites["where"]) if w == "corner"]
+    ell = data["model"]["lattice_spacing_angstrom"]
+    after = steps[0]["channel_atoms_per_nm_after"]
+    assert all(after[i] > 0.5 * 10 / ell for i in corner)
+    assert steps[0]["central_channel_occupancy_after"] < 1e-3
+    assert data["adsorption"]["central_channel_occupancy"][-1] > 0.9
     assert all(s["pressure_pa"] > 0 and 0 < s["relative_pressure"] <= 1 for s in steps)
     lines = csv_path.read_text().splitlines()
     assert lines[0].startswith("mu_K,pressure_Pa") and len(lines) == 121

@@ -68,10 +68,12 @@ class IsothermView(pn.viewable.Viewer):
     def _isotherm_figure(self, axis: str):
         log = axis == "log"
         x = "p" if log else "mu"
+        # the μ figure starts hidden, so it gets explicit ranges (Bokeh cannot size a hidden plot's own)
+        extra = {} if log else {"x_range": Range1d(0, 1), "y_range": Range1d(0, 1)}
         fig = figure(title="Isotherm (mean-field lattice gas)", x_axis_type="log" if log else "linear",
                      x_axis_label="pressure p (Pa)" if log else "chemical potential μ (K)",
-                     y_axis_label="coverage (atoms per nm of pore)", frame_width=430, frame_height=280,
-                     tools="pan,wheel_zoom,box_zoom,reset,save,tap", visible=log)
+                     y_axis_label="coverage (atoms per nm of pore; slit: per nm²)", frame_width=430, frame_height=280,
+                     tools="pan,wheel_zoom,box_zoom,reset,save,tap", visible=log, **extra)
         fig.line(x, "ads", source=self._curves, color=ADS_COLOUR, line_width=2, legend_label="adsorption")
         fig.line(x, "des", source=self._curves, color=DES_COLOUR, line_width=2, line_dash="dashed",
                  legend_label="desorption")
@@ -129,6 +131,9 @@ class IsothermView(pn.viewable.Viewer):
             self._steps.data = {"mu": [s.mu_k for s in steps], "p": [s.pressure_pa for s in steps],
                                 "n": [float(np.interp(s.mu_k, iso.mu, 0.5 * (ads + des))) for s in steps],
                                 "label": [str(i) for i in range(1, len(steps) + 1)]}
+            top = float(max(ads.max(), des.max())) * 1.05 or 1.0
+            self._fig_mu.x_range.update(start=float(iso.mu[0]), end=float(iso.mu[-1]))
+            self._fig_mu.y_range.update(start=-0.02 * top, end=top)
             self._p0_span[0].location = iso.setup.saturation_pressure_pa
             self._p0_span[1].location = iso.setup.mu_coexistence_k
             self._table.object = self._steps_table(iso)
@@ -181,9 +186,21 @@ class IsothermView(pn.viewable.Viewer):
         branch = {"adsorption": iso.adsorption, "desorption": iso.desorption}.get(self.branch.value)
         total = float(iso.per_nm(branch)[k]) if branch is not None else float(
             iso.equilibrium_occupancy()[k] @ iso.setup.problem.weights * iso.per_nm_per_site())
+        x, y, where = lat.x, lat.y, [lat.label(i) for i in range(lat.size)]
+        if lat.shape == "slit":       # one site stands for its row: draw the row across the plot
+            half = 0.5 * iso.setup.scenario.size_angstrom
+            ell = lat.spacing_angstrom
+            rows = np.rint(lat.y / (ell * np.sqrt(3.0) / 2.0)).astype(int)
+            ks = np.arange(-int(half / ell) - 1, int(half / ell) + 2)
+            x = np.concatenate([ell * (ks + 0.5 * (r % 2)) for r in rows])
+            keep = np.abs(x) <= half
+            reps = len(ks)
+            x = x[keep]
+            y = np.repeat(lat.y, reps)[keep]
+            occ = np.repeat(occ, reps)[keep]
+            where = list(np.repeat(np.array(where, dtype=object), reps)[keep])
         with pn.io.hold():
-            self._sites.data = {"x": lat.x, "y": lat.y, "occ": occ,
-                                "where": [lat.label(i) for i in range(lat.size)]}
+            self._sites.data = {"x": x, "y": y, "occ": occ, "where": where}
             self._pick_span[0].location = float(iso.pressure_pa[k])
             self._pick_span[1].location = float(iso.mu[k])
             self._occ_text.object = (

@@ -180,10 +180,11 @@ class PotentialView(pn.viewable.Viewer):
                     label, r, v, _ = cut_data[k]
                     src.data = {"r": r, "v": v}
                     self._cut_renderers[k].visible = True
-                    self._cut_fig.legend.items[k].label = {"value": label}
+                    self._cut_fig.legend.items[k].update(label={"value": label}, visible=True)
                 else:
                     src.data = {"r": [], "v": []}
                     self._cut_renderers[k].visible = False
+                    self._cut_fig.legend.items[k].visible = False
             self._cut_fig.x_range.update(start=0.0, end=max(c[3] for c in cut_data))
             top = abs(low) * 0.4 if low < 0 else low + 1.0
             self._cut_fig.y_range.update(start=low * 1.08 if low < 0 else low - 1.0, end=top)
@@ -193,6 +194,8 @@ class PotentialView(pn.viewable.Viewer):
         geo = geometry_only(sc)
         depth, x, y = deepest_minimum(geo)
         pore, pair = sc.pore(), sc.pair()
+        if sc.shape == "slit":
+            x = 0.0          # uniform along x
         centre = float(wall_potential(0.0, 0.0, pore=pore, pair=pair))
         wall_gap = float(pore.depth_inside(x, y))
         kt = sc.temperature_k
