@@ -80,7 +80,6 @@ def find_steps(iso) -> list[Step]:
     n_a, n_d = iso.sites_filled(iso.adsorption), iso.sites_filled(iso.desorption)
     om_a, om_d = iso.adsorption.grand_potential, iso.desorption.grand_potential
     steps: list[Step] = []
-    jump_intervals: set[int] = set()
     in_loop = np.zeros(mu.size - 1, bool)      # grid intervals touched by a hysteresis loop
 
     def midpoint(i: int) -> float:
@@ -101,7 +100,6 @@ def find_steps(iso) -> list[Step]:
         t = float(np.clip(-a / (b - a), 0.0, 1.0)) if b != a else 0.5
         mu_eq = mu[k_eq] + t * (mu[k_eq + 1] - mu[k_eq])
         added = float(np.interp(mu_eq, mu, n_d - n_a))
-        jump_intervals.add(k_eq)
         up = midpoint(i1) if i1 < mu.size - 1 else None
         down = midpoint(i0 - 1) if i0 > 0 else None
         delta = iso.desorption.occupancy[k_eq + 1] - iso.adsorption.occupancy[k_eq]

@@ -4,16 +4,12 @@ from __future__ import annotations
 import numpy as np
 from scipy import constants
 
-__all__ = ["per_angstrom_to_per_nm", "STP_CM3_PER_MMOL", "amount_mmol_per_g", "amount_cm3_stp_per_g"]
+__all__ = ["STP_CM3_PER_MMOL", "amount_mmol_per_g", "amount_cm3_stp_per_g"]
 
 # IUPAC physisorption STP: 273.15 K and 101.325 kPa (Sing et al., Pure Appl. Chem. 57, 603 (1985))
 STP_TEMPERATURE_K = 273.15
 STP_PRESSURE_PA = constants.atm
 STP_CM3_PER_MMOL = constants.R * STP_TEMPERATURE_K / STP_PRESSURE_PA * 1e6 / 1e3   # ideal gas: 22.414
-
-
-def per_angstrom_to_per_nm(value):
-    return np.asarray(value, float) * 10.0
 
 
 def amount_mmol_per_g(atoms_per_angstrom, *, cross_section_angstrom2: float, pore_volume_cm3_g: float):

@@ -31,10 +31,6 @@ __all__ = ["wall_potential", "potential_map", "PotentialMap", "radial_tail", "li
            "steele_93", "polygon_potential", "prism_potential", "cylinder_potential",
            "slit_potential", "array_correction"]
 
-# Switch between the two forms of the edge integral (see _edge_integrals).
-_DIRECT_FORM_MAX_SINE = 0.7
-
-
 # --- kernels ------------------------------------------------------------------------------------
 def _tail_coefficients(pair: PairParameters) -> tuple[float, float]:
     """(C9, C3) with G(s) = C9 s^-9 − C3 s^-3, in K·Å^9 and K·Å^3."""
@@ -253,11 +249,6 @@ def _removed_pore_edges(pore: HexagonPore, centres: np.ndarray) -> _Edges:
     return _Edges.of_polygons([v + c for c in centres])
 
 
-def _cylinder_tail(x, y, radius: float, fraction: float, pair: PairParameters):
-    """Solid removed beyond a circle of radius R, spread uniformly with area fraction φ: φ·V_cyl."""
-    return fraction * cylinder_potential(x, y, radius, pair=pair)
-
-
 def array_correction(x, y, pore: HexagonPore, *, pair: PairParameters, cutoff_spacings: float = 8.0,
                      exact_radius_spacings: float | None = None, tail: bool = True) -> np.ndarray:
     """Potential change at points of the central pore from the solid the other pores remove (K, <= 0).
@@ -283,7 +274,8 @@ def _tail_correction(x, y, pore: HexagonPore, pair: PairParameters, cutoff_spaci
     # area as the kept cells plus the central one, so the uniform tail holds the right amount of solid.
     n_cells = len(_lattice_points(a, cutoff_spacings * a)) + 1
     r_start = np.sqrt(n_cells * 0.5 * np.sqrt(3.0) * a * a / np.pi)
-    return -_cylinder_tail(x, y, r_start, fraction, pair)
+    # the removed solid beyond r_start, spread uniformly with area fraction φ, is φ·V_cyl(r_start)
+    return -fraction * cylinder_potential(x, y, r_start, pair=pair)
 
 
 def _hexagon_moments(side: float) -> tuple[float, float, float]:

@@ -67,6 +67,13 @@ class TestKernels:
         pair = PairParameters(27.0, 2.9, 1.0)
         assert wp.line_kernel(s * 2.9, pair=pair) == pytest.approx(lj_z_integral(s * 2.9, 27.0, 2.9), rel=1e-10)
 
+    @pytest.mark.parametrize("s", [2.0, 3.0, 5.0, 9.0])
+    def test_radial_tail_is_integral_of_line_kernel(self, s):
+        # G(s) = ∫_s^∞ f(s') s' ds' (REFERENCES.md §1, verified), by quadrature; rtol 1e-10
+        pair = PairParameters(27.0, 2.9, 0.044)
+        ref = integrate.quad(lambda r: wp.line_kernel(r, pair=pair) * r, s, np.inf, epsabs=0, epsrel=1e-13)[0]
+        assert wp.radial_tail(s, pair=pair) == pytest.approx(ref, rel=1e-10)
+
     def test_steele_93_minimum(self):
         # Steele, Surf. Sci. 36, 317 (1973): minimum at h = (2/5)^(1/6) σ, depth (√10/3)·(2π/3)ερσ³
         pair = PairParameters(27.0, 2.9, 0.044)

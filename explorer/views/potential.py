@@ -171,8 +171,7 @@ class PotentialView(pn.viewable.Viewer):
             self._mapper.update(low=lo, high=hi)
             self._contours.data = {"xs": xs, "ys": ys}
             self._outline.data = {"xs": [p[:, 0] for p in lines], "ys": [p[:, 1] for p in lines]}
-            span = max(width, height)
-            self._map_fig.x_range.update(start=-span / 2 * (width / span), end=span / 2 * (width / span))
+            self._map_fig.x_range.update(start=x0, end=x0 + width)
             self._map_fig.y_range.update(start=y0, end=y0 + height)
             self._map_fig.frame_height = int(round(MAP_WIDTH * height / width))
             for k, src in enumerate(self._cuts):
