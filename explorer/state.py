@@ -14,7 +14,7 @@ class ExplorerState(param.Parameterized):
     """What the sliders and menus hold. Lengths in Å, temperature in K."""
 
     shape = param.Selector(default="hexagon", objects=list(PORE_SHAPES), doc="Pore cross-section")
-    size_angstrom = param.Number(default=15.0, bounds=(2.0, 200.0), softbounds=(5.0, 60.0), step=0.5,
+    size_angstrom = param.Number(default=15.0, bounds=(2.0, 100.0), softbounds=(5.0, 60.0), step=0.5,
                                  label="Side length / radius / width (Å)",
                                  doc="Hexagon side (centre to corner), cylinder radius or slit width, Å")
     wall_angstrom = param.Number(default=8.0, bounds=(0.0, 100.0), softbounds=(0.0, 30.0), step=0.5,

@@ -206,7 +206,7 @@ class Isotherm:
 def default_mu_range(setup: ModelSetup) -> tuple[float, float]:
     """From a nearly empty pore (deepest site at occupancy ~1e-5 with full neighbours) to p = p0."""
     p = setup.problem
-    max_bonds = p.neighbours.sum(axis=1)
+    max_bonds = np.asarray(p.neighbours.sum(axis=1)).ravel()
     lo = float(np.min(p.site_free_energy - p.bond_k * max_bonds)) - 11.5 * p.temperature_k
     return lo, setup.mu_coexistence_k
 
@@ -233,7 +233,7 @@ def compute_isotherm(scenario: Scenario, *, n_points: int = 300, mu_range: tuple
     lo, hi = mu_range if mu_range is not None else default_mu_range(setup)
     mu = np.linspace(lo, hi, n_points)
     p = setup.problem
-    max_bonds = p.neighbours.sum(axis=1)
+    max_bonds = np.asarray(p.neighbours.sum(axis=1)).ravel()
     ads = solve_branch(mu, p, (mu[0] - p.site_free_energy) / p.temperature_k)
     start_full = (mu[-1] - p.site_free_energy + p.bond_k * max_bonds) / p.temperature_k
     des_rev = solve_branch(mu[::-1], p, np.maximum(start_full, 30.0))

@@ -239,5 +239,5 @@ def orbit_problem_matrices(lattice: SiteLattice, orbit: np.ndarray):
     weights = np.bincount(orbit, minlength=n_orbits).astype(float)
     member = sparse.csr_matrix((np.ones(lattice.size), (np.arange(lattice.size), orbit)),
                                shape=(lattice.size, n_orbits))
-    coupling = (lattice.neighbours[rep] @ member).toarray()
+    coupling = (lattice.neighbours[rep] @ member).tocsr()
     return rep, weights, coupling

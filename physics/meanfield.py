@@ -94,8 +94,28 @@ def _factor(p: MeanFieldProblem, a_dense, d: np.ndarray, damping: float):
         j = a_dense * (-p.bond_k * d)[None, :]
         j.flat[:: d.size + 1] += diag
         return np.linalg.inv(j).__matmul__       # small and well conditioned: the inverse is cheapest
-    j = (-p.bond_k) * (p.neighbours @ sparse.diags(d)) + sparse.identity(d.size, format="csc") * diag
-    return splu(j.tocsc()).solve
+    pattern, columns, diagonal = _jacobian_pattern(p)
+    j = pattern.copy()
+    j.data = (-p.bond_k) * pattern.data * d[columns]      # A·D: column j scaled by d_j
+    j.data[diagonal] += diag
+    return splu(j).solve
+
+
+def _jacobian_pattern(p: MeanFieldProblem):
+    """A in CSC with the diagonal in its pattern, each entry's column, and the diagonal entries' positions.
+
+    Built once per problem, so each Newton step only rescales the stored values.
+    """
+    cached = getattr(p, "_pattern", None)
+    if cached is None:
+        a = sparse.csc_matrix(p.neighbours, dtype=float)
+        a = (a + sparse.identity(a.shape[0], format="csc") * 0.0).tocsc()   # diagonal kept even if 0
+        a.sort_indices()
+        columns = np.repeat(np.arange(a.shape[1]), np.diff(a.indptr))
+        diagonal = np.flatnonzero(a.indices == columns)
+        cached = (a, columns, diagonal)
+        object.__setattr__(p, "_pattern", cached)
+    return cached
 
 
 def _dense_neighbours(problem: MeanFieldProblem):
@@ -105,7 +125,7 @@ def _dense_neighbours(problem: MeanFieldProblem):
     return a.toarray() if problem.site_free_energy.size <= _DENSE_MAX_SITES else None
 
 
-def solve_state(x0: np.ndarray, mu: float, problem: MeanFieldProblem, *, max_iter: int = 400,
+def solve_state(x0: np.ndarray, mu: float, problem: MeanFieldProblem, *, max_iter: int = 5000,
                 tol: float = _TOLERANCE_K):
     """Descend from logits x0 to a stable state at μ.
 
