@@ -391,7 +391,9 @@ def wall_potential(x, y, *, pore: Pore, pair: PairParameters) -> np.ndarray:
     if isinstance(pore, CylinderPore):
         out[inside] = cylinder_potential(x[inside], y[inside], pore.radius_angstrom, pair=pair)
     elif isinstance(pore, SlitPore):
-        out[inside] = slit_potential(y[inside], pore.width_angstrom, pair=pair, wall=pore.wall_angstrom)
+        # uniform along x: evaluate once per distinct y (a map has only n of them)
+        ys, back = np.unique(y[inside], return_inverse=True)
+        out[inside] = slit_potential(ys, pore.width_angstrom, pair=pair, wall=pore.wall_angstrom)[back]
     elif isinstance(pore, HexagonPore) and pore.wall_angstrom is not None:
         out[inside] = _hexagon_array_potential(x[inside], y[inside], pore, pair)
     elif isinstance(pore, RegularPolygonPore):
