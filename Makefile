@@ -3,6 +3,7 @@ PYTHON ?= python3
 VENV := .venv
 BIN := $(VENV)/bin
 PORT ?= 5006
+SCENARIO ?= scenarios/demo-hexagon-helium.toml
 STAMP := $(VENV)/.installed
 
 .PHONY: serve test benchmark chromium clean
@@ -14,7 +15,7 @@ $(STAMP): pyproject.toml
 	touch $(STAMP)
 
 serve: $(STAMP)
-	$(BIN)/porefill serve --scenario scenarios/demo-hexagon-helium.toml --address 127.0.0.1 --port $(PORT)
+	$(BIN)/porefill serve --scenario $(SCENARIO) --address 127.0.0.1 --port $(PORT)
 
 # Debian's Chromium for the browser tests; installed only when missing and we are root.
 chromium:

@@ -37,3 +37,14 @@ def test_bad_files_name_the_file_and_problem(tmp_path, body, word):
     with pytest.raises(ScenarioFileError) as info:
         load_scenario(f)
     assert "bad.toml" in str(info.value) and word in str(info.value)
+
+
+@pytest.mark.parametrize("path", sorted((ROOT / "scenarios").glob("*.toml")), ids=lambda p: p.name)
+def test_every_shipped_scenario_loads_and_computes(path):
+    from physics.adsorption import compute_isotherm
+
+    s = load_scenario(path)
+    assert "invented" in s.title.lower()            # demo data is labelled as invented
+    iso = compute_isotherm(s, n_points=60)
+    assert iso.adsorption.converged.all() and iso.desorption.converged.all()
+    assert iso.steps
