@@ -58,33 +58,23 @@ class MeanFieldProblem:
             raise ValueError(f"bond energy must be >= 0 K, got {self.bond_k!r}")
 
 
-def _entropy(x: np.ndarray) -> np.ndarray:
-    """n ln n + (1−n) ln(1−n) at n = σ(x), without forming n near 0 or 1."""
-    return expit(x) * x - np.logaddexp(0.0, x)
-
-
 def grand_potential(x: np.ndarray, mu: float, problem: MeanFieldProblem) -> float:
     """Ω (K) of the state with logits x at chemical potential μ (K)."""
+    return _evaluate(x, mu, problem)[0]
+
+
+def _evaluate(x, mu, p: MeanFieldProblem):
+    """Ω, the size of its rounding error, the residual G = ∂Ω/∂n (per site) and n, in one pass."""
     n = expit(x)
-    w = problem.weights
-    per_site = problem.temperature_k * _entropy(x) + (problem.site_free_energy - mu - 0.5 * problem.bond_k
-                                                      * (problem.neighbours @ n)) * n
-    return float(w @ per_site)
-
-
-def _rounding_scale(x, mu, problem: MeanFieldProblem) -> float:
-    """Σ of the magnitudes of Ω's terms: the size of its rounding error, over the unit roundoff."""
-    n = expit(x)
-    w = problem.weights
-    terms = (problem.temperature_k * np.abs(_entropy(x)) + np.abs(problem.site_free_energy - mu) * n
-             + 0.5 * problem.bond_k * (problem.neighbours @ n) * n)
-    return float(w @ terms) + 1.0
-
-
-def _residual(x, mu, p: MeanFieldProblem, a_dense):
-    n = expit(x)
-    an = a_dense @ n if a_dense is not None else p.neighbours @ n
-    return p.temperature_k * x + p.site_free_energy - mu - p.bond_k * an, n
+    a = _dense_neighbours(p)
+    an = (a if a is not None else p.neighbours) @ n
+    entropy = n * x - np.logaddexp(0.0, x)          # n ln n + (1−n) ln(1−n), never forming 1 − n
+    bonds = 0.5 * p.bond_k * an * n
+    shifted = (p.site_free_energy - mu) * n
+    omega = float(p.weights @ (p.temperature_k * entropy + shifted - bonds))
+    scale = float(p.weights @ (p.temperature_k * np.abs(entropy) + np.abs(shifted) + bonds)) + 1.0
+    residual = p.temperature_k * x + p.site_free_energy - mu - p.bond_k * an
+    return omega, 1e-13 * scale, residual, n
 
 
 def _factor(p: MeanFieldProblem, a_dense, d: np.ndarray, damping: float):
@@ -119,10 +109,17 @@ def _jacobian_pattern(p: MeanFieldProblem):
 
 
 def _dense_neighbours(problem: MeanFieldProblem):
+    """A as a dense array for small problems (cached on the problem), None for large ones."""
     a = problem.neighbours
     if isinstance(a, np.ndarray):
         return a
-    return a.toarray() if problem.site_free_energy.size <= _DENSE_MAX_SITES else None
+    if problem.site_free_energy.size > _DENSE_MAX_SITES:
+        return None
+    dense = getattr(problem, "_dense", None)
+    if dense is None:
+        dense = a.toarray()
+        object.__setattr__(problem, "_dense", dense)
+    return dense
 
 
 def solve_state(x0: np.ndarray, mu: float, problem: MeanFieldProblem, *, max_iter: int = 5000,
@@ -134,22 +131,21 @@ def solve_state(x0: np.ndarray, mu: float, problem: MeanFieldProblem, *, max_ite
     x : ndarray, logits of the state
     converged : bool, max |∂Ω/∂n| < tol
     solve : callable applying J⁻¹ at the solution (for the continuation tangent)
+    omega : float, Ω at the state (K)
     """
     a_dense = _dense_neighbours(problem)
     x = np.array(x0, float)
     damping = 0.0
-    omega = grand_potential(x, mu, problem)
+    omega, flat, g, n = _evaluate(x, mu, problem)   # flat: Ω changes below this are rounding
     solve = None
     for _ in range(max_iter):
-        g, n = _residual(x, mu, problem, a_dense)
         gmax = np.max(np.abs(g)) if g.size else 0.0
         if gmax < tol:
             if solve is None or damping > 0:
                 solve = _factor(problem, a_dense, n * (1.0 - n), 0.0)
-            return x, True, solve
+            return x, True, solve, omega
         d = n * (1.0 - n)
         accepted = False
-        flat = 1e-13 * _rounding_scale(x, mu, problem)      # Ω changes below this are rounding
         while not accepted:
             try:
                 solve = _factor(problem, a_dense, d, damping)
@@ -163,25 +159,23 @@ def solve_state(x0: np.ndarray, mu: float, problem: MeanFieldProblem, *, max_ite
                 # definite here, and more damping (towards the plain iteration) serves better
                 for _ in range(3 if damping < 1e6 else 40):
                     trial = x + t * step
-                    om = grand_potential(trial, mu, problem)
-                    if slope < 0 and om <= omega + 1e-4 * t * slope:
-                        accepted = True
-                    elif om <= omega + flat:
-                        # Ω cannot resolve the change (saturated sites, or Newton's quadratic basin):
-                        # accept when the residual shrinks, never when Ω rises
-                        accepted = np.max(np.abs(_residual(trial, mu, problem, a_dense)[0])) < gmax
+                    evaluated = _evaluate(trial, mu, problem)
+                    om, res = evaluated[0], evaluated[2]
+                    # accept on sufficient decrease of Ω; where Ω cannot resolve the change (saturated
+                    # sites, or Newton's quadratic basin) accept when the residual shrinks and Ω does not rise
+                    accepted = (slope < 0 and om <= omega + 1e-4 * t * slope) or (
+                        om <= omega + flat and np.max(np.abs(res)) < gmax)
                     if accepted:
-                        x, omega = trial, om
+                        x = trial
+                        omega, flat, g, n = evaluated
                         break
                     t *= 0.5
             if not accepted:
                 damping = max(1.0, 10.0 * damping) * (1.0 + 1e-3)   # off round values: no exact singularity
                 if damping > 1e12:
-                    return x, False, solve
+                    return x, False, solve, omega
         damping = 0.0 if damping < 1e-6 else damping * 0.1
-        omega = grand_potential(x, mu, problem)
-    g, _ = _residual(x, mu, problem, a_dense)
-    return x, bool(np.max(np.abs(g)) < tol), solve
+    return x, bool(np.max(np.abs(g)) < tol), solve, omega
 
 
 @dataclass(frozen=True, eq=False)
@@ -215,7 +209,6 @@ def solve_branch(mu: np.ndarray, problem: MeanFieldProblem, x_start: np.ndarray)
     for k, m in enumerate(mu):
         if solve is not None and k > 0:
             x = x + solve(np.full(n_sites, m - mu[k - 1]))   # tangent predictor: J dx = dμ·1
-        x, ok[k], solve = solve_state(x, m, problem)
+        x, ok[k], solve, omega[k] = solve_state(x, m, problem)
         logits[k] = x
-        omega[k] = grand_potential(x, m, problem)
     return Branch(mu, logits, omega, ok)

@@ -89,7 +89,7 @@ class TestHelium:
         pts = np.column_stack([s.lattice.x, s.lattice.y])
         for k in (60, 150, 240, 290):
             x0 = s.full_occupancy(iso.adsorption.logits[k - 1])
-            x, ok, _ = solve_state(x0, iso.mu[k], full)
+            x, ok, *_ = solve_state(x0, iso.mu[k], full)
             assert ok
             np.testing.assert_allclose(x, s.full_occupancy(iso.adsorption.logits[k]), atol=1e-6)
             for op in _symmetry_operations("hexagon"):
@@ -118,7 +118,7 @@ class TestHelium:
         sc = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=4.0)
         setup = setup_model(sc)
         mu = float(setup.problem.site_free_energy.min()) - 25 * 4.0
-        x, ok, _ = solve_state(np.full(setup.problem.weights.size, -40.0), mu, setup.problem)
+        x, ok, *_ = solve_state(np.full(setup.problem.weights.size, -40.0), mu, setup.problem)
         n_per_a = float(setup.problem.weights @ (1 / (1 + np.exp(-x)))) / setup.spacing_angstrom
         cell = setup.lattice.cell_area_angstrom2
         boltz = np.exp(-setup.site_free_energy / 4.0).sum() * cell            # Σ A⟨e^{−V/kT}⟩, Å²
