@@ -57,7 +57,7 @@ class IsothermView(pn.viewable.Viewer):
         self._occ_text = pn.pane.Markdown("", css_classes=["porefill-occupancy"], sizing_mode="stretch_width")
         self._iso: Isotherm | None = None
         self._redraw()
-        self.state.param.watch(self._redraw, MODEL_KEYS)
+        self.state.param.watch(self._schedule_redraw, MODEL_KEYS)
         self.pick.param.watch(self._update_occupancy, "value_throttled")
         self.branch.param.watch(self._update_occupancy, "value")
         self.x_axis.param.watch(self._swap_axis, "value")
@@ -109,6 +109,15 @@ class IsothermView(pn.viewable.Viewer):
         return fig
 
     # updates --------------------------------------------------------------------------------------
+    def _schedule_redraw(self, *_):
+        """In a served page, recompute on the next tick: the cheaper views' updates reach the browser
+        first instead of waiting for the isotherm."""
+        doc = pn.state.curdoc
+        if doc is not None and doc.session_context is not None:
+            doc.add_next_tick_callback(self._redraw)
+        else:
+            self._redraw()
+
     def _redraw(self, *_):
         sc = self.state.scenario()
         try:

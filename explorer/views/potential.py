@@ -5,6 +5,7 @@ updated in place (one websocket patch per change) rather than rebuilt.
 """
 from __future__ import annotations
 
+import html
 from functools import lru_cache
 
 import contourpy
@@ -111,7 +112,7 @@ class PotentialView(pn.viewable.Viewer):
         self._cuts = [ColumnDataSource({"r": [], "v": []}) for _ in range(2)]
         self._map_fig = self._make_map_figure()
         self._cut_fig = self._make_cut_figure()
-        self._readout = pn.pane.Markdown("", css_classes=["porefill-readout"], sizing_mode="stretch_width")
+        self._readout = pn.pane.HTML("", css_classes=["porefill-readout"], sizing_mode="stretch_width")
         self._redraw()
         self.state.param.watch(self._redraw, GEOMETRY_KEYS)
         self.state.param.watch(self._update_readout, ["temperature_k"])
@@ -187,7 +188,7 @@ class PotentialView(pn.viewable.Viewer):
             self._cut_fig.x_range.update(start=0.0, end=max(c[3] for c in cut_data))
             top = abs(low) * 0.4 if low < 0 else low + 1.0
             self._cut_fig.y_range.update(start=low * 1.08 if low < 0 else low - 1.0, end=top)
-            self._readout.object = self._readout_text(sc)
+        self._readout.object = self._readout_text(sc)
 
     def _readout_text(self, sc: Scenario) -> str:
         geo = geometry_only(sc)
@@ -201,12 +202,12 @@ class PotentialView(pn.viewable.Viewer):
         layout = "isolated pore in an unbounded solid" if sc.wall_angstrom is None or sc.shape == "cylinder" \
             else f"array, walls {sc.wall_angstrom:g} Å thick"
         return (
-            f"**Deepest minimum:** {depth:.2f} K at x = {x:.2f} Å, y = {y:.2f} Å "
-            f"({np.hypot(x, y):.2f} Å from the centre, {wall_gap:.2f} Å from the nearest wall)  \n"
-            f"**At the centre:** {centre:.3f} K &nbsp; **Depth / kT:** {abs(depth) / kt:.1f} at T = {kt:g} K "
-            f"&nbsp; **Pore:** {sc.shape}, {layout}  \n"
-            f"**Pair:** ε = {pair.epsilon_k:.2f} K, σ = {pair.sigma_angstrom:.3f} Å, "
-            f"ρ = {pair.density_per_a3:.4f} Å⁻³ — {pair.origin}"
+            f"<p><b>Deepest minimum:</b> {depth:.2f} K at x = {x:.2f} Å, y = {y:.2f} Å "
+            f"({np.hypot(x, y):.2f} Å from the centre, {wall_gap:.2f} Å from the nearest wall)<br>"
+            f"<b>At the centre:</b> {centre:.3f} K &nbsp; <b>Depth / kT:</b> {abs(depth) / kt:.1f} at T = {kt:g} K "
+            f"&nbsp; <b>Pore:</b> {sc.shape}, {layout}<br>"
+            f"<b>Pair:</b> ε = {pair.epsilon_k:.2f} K, σ = {pair.sigma_angstrom:.3f} Å, "
+            f"ρ = {pair.density_per_a3:.4f} Å⁻³ — {html.escape(pair.origin)}</p>"
         )
 
     def _update_readout(self, *_):
