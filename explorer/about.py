@@ -23,8 +23,8 @@ ABOUT = """\
 ## About porefill
 
 porefill computes the potential an adsorbed atom feels inside the pores of an ordered nanoporous solid
-(straight hexagonal, cylindrical or slit pores in a continuum Lennard-Jones solid) and, in later versions,
-the adsorption it causes. Conventions: lengths in Å, energies and temperatures in K, the pore centre at
+(straight hexagonal, cylindrical or slit pores in a continuum Lennard-Jones solid) and the adsorption it
+causes, from a mean-field lattice-gas model. Conventions: lengths in Å, energies and temperatures in K, the pore centre at
 the origin, one corner of the hexagon on the +x axis.
 
 The adsorbate–solid pair parameters come from a published pair where one is known; otherwise they are
@@ -40,7 +40,7 @@ behave smoothly; sites that can never fill are left out. The adsorption branch i
 pore, the desorption branch down from a full one; first-order steps sit where their grand potentials cross.
 
 Pressures: p = p₀(T)·exp[(μ − μ_coex)/kT], with p₀ from ITS-90 for helium-4 (extrapolated below 1.25 K) and
-from CoolProp for the other gases. By default the bond energy ε_b is calibrated so that the lattice's bulk
+from CoolProp for the other gases. By default the bond energy ε<sub>b</sub> is calibrated so that the lattice's bulk
 condensation falls at p₀ *and* the low-pressure (Henry) limit is exact; the steps table says which
 calibration is in force. Mean-field hysteresis loops are wider than measured ones. Helium's first layers
 form at pressures far below what gauges read: compare amounts, not pressures, there.
