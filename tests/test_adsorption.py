@@ -163,3 +163,16 @@ def test_nitrogen_condensation_near_kelvin_based_values():
     model = [m for _, m, _, _ in rows]
     assert all(b > a for a, b in zip(model, model[1:])), table
     assert all(abs(m - k) < 0.12 for _, m, k, _ in rows), table
+
+
+def test_without_fluid_interaction_every_step_is_continuous():
+    # ε_b = 0: each site is an independent Langmuir site (Langmuir 1918), so the branches coincide and no
+    # step is first order; the corners still fill first
+    iso = compute_isotherm(Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5, bond_energy_k=0.0),
+                           n_points=200)
+    np.testing.assert_allclose(iso.adsorption.occupancy, iso.desorption.occupancy, atol=1e-9)
+    assert iso.steps and all(s.kind == "continuous" for s in iso.steps)
+    assert iso.steps[0].filling[0][0] == "corner"
+    occ = iso.adsorption.occupancy
+    f = iso.setup.problem.site_free_energy
+    np.testing.assert_allclose(occ, 1 / (1 + np.exp((f - iso.mu[:, None]) / 1.5)), rtol=1e-10, atol=1e-14)
