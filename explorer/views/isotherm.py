@@ -1,6 +1,7 @@
 """Isotherm, compressibility and the occupancy map of the cross-section at a chosen pressure."""
 from __future__ import annotations
 
+import io
 from functools import lru_cache
 
 import numpy as np
@@ -15,6 +16,7 @@ from physics.adsorption import Isotherm, compute_isotherm
 from physics.scenario import Scenario
 from physics.vapour_pressure import VapourPressureRangeError
 
+from ..isotherm_export import isotherm_csv
 from ..state import ExplorerState
 from .potential import outline
 
@@ -40,11 +42,11 @@ class IsothermView(pn.viewable.Viewer):
         self._sites = ColumnDataSource({k: [] for k in ("x", "y", "occ", "where")})
         self._outline = ColumnDataSource({"xs": [], "ys": []})
         self._pick_src = ColumnDataSource({"mu": [], "p": []})
-        self.x_axis = pn.widgets.RadioButtonGroup(name="x axis", options=["pressure (log)", "chemical potential"],
+        self.x_axis = pn.widgets.RadioButtonGroup(label="x axis", options=["pressure (log)", "chemical potential"],
                                                   value="pressure (log)")
-        self.branch = pn.widgets.RadioButtonGroup(name="branch", options=["adsorption", "desorption", "equilibrium"],
+        self.branch = pn.widgets.RadioButtonGroup(label="branch", options=["adsorption", "desorption", "equilibrium"],
                                                   value="equilibrium")
-        self.pick = pn.widgets.FloatSlider(name="Occupancy map at log₁₀(p / Pa)", start=-10, end=0, step=0.01,
+        self.pick = pn.widgets.FloatSlider(label="Occupancy map at log₁₀(p / Pa)", start=-10, end=0, step=0.01,
                                            value=-1, width=420)
         self._p0_span = [Span(dimension="height", line_dash="dashed", line_color="#888888") for _ in range(2)]
         self._pick_span = [Span(dimension="height", line_color="#f4a259", line_width=2) for _ in range(2)]
@@ -55,6 +57,9 @@ class IsothermView(pn.viewable.Viewer):
         self._message = pn.pane.Alert("", alert_type="warning", visible=False)
         self._table = pn.pane.HTML("", css_classes=["porefill-steps"], sizing_mode="stretch_width")
         self._occ_text = pn.pane.Markdown("", css_classes=["porefill-occupancy"], sizing_mode="stretch_width")
+        self.download = pn.widgets.FileDownload(callback=self.csv_file, filename="isotherm.csv",
+                                                label="Download the isotherm (CSV)",
+                                                width=260)
         self._iso: Isotherm | None = None
         self._redraw()
         self.state.param.watch(self._schedule_redraw, MODEL_KEYS)
@@ -179,6 +184,12 @@ class IsothermView(pn.viewable.Viewer):
                 f"First-order steps are placed where the branches' grand potentials cross.</p>")
         return f"<table class='porefill-step-table'>{head}{body}</table>{note}"
 
+    def csv_file(self) -> io.BytesIO:
+        """Both branches of the current isotherm as CSV (what `porefill isotherm --csv` writes)."""
+        if self._iso is None:
+            return io.BytesIO(b"no isotherm for these settings\n")
+        return io.BytesIO(isotherm_csv(self._iso).encode("utf-8"))
+
     def _pick_index(self) -> int:
         iso = self._iso
         target = 10.0 ** self.pick.value_throttled
@@ -237,4 +248,4 @@ class IsothermView(pn.viewable.Viewer):
                          pn.pane.Bokeh(self._fig_k), css_classes=["porefill-isotherm"])
         right = pn.Column(self.pick, pn.pane.Bokeh(self._fig_occ), self._occ_text,
                           css_classes=["porefill-occupancy-map"])
-        return pn.Column(pn.Row(left, right), self._table, sizing_mode="stretch_width")
+        return pn.Column(pn.Row(left, right), self._table, self.download, sizing_mode="stretch_width")

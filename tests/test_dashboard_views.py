@@ -1,0 +1,28 @@
+"""Dashboard views driven from Python (no browser): state changes reach the views' data."""
+from __future__ import annotations
+
+import numpy as np
+
+from explorer.state import ExplorerState
+from explorer.views.isotherm import IsothermView
+from physics.scenario import Scenario
+
+
+def test_csv_download_matches_the_current_isotherm():
+    state = ExplorerState.from_scenario(Scenario(size_angstrom=12.0, wall_angstrom=5.0, temperature_k=1.5))
+    view = IsothermView(state=state)
+    lines = view.csv_file().getvalue().decode().splitlines()
+    assert lines[0].startswith("mu_K,pressure_Pa")
+    assert len(lines) == 1 + view._iso.mu.size
+    state.temperature_k = 2.0
+    first = [float(v) for v in view.csv_file().getvalue().decode().splitlines()[1].split(",")]
+    assert np.isclose(first[0], view._iso.mu[0]) and view._iso.setup.temperature_k == 2.0
+
+
+def test_out_of_range_settings_show_a_message_and_keep_the_view_alive():
+    state = ExplorerState.from_scenario(Scenario(size_angstrom=2.0, temperature_k=1.5))
+    view = IsothermView(state=state)                    # a pore too small for any site
+    assert view._message.visible and "too small" in view._message.object
+    assert view.csv_file().getvalue().startswith(b"no isotherm")
+    state.size_angstrom = 15.0                          # recovers
+    assert not view._message.visible and view._iso.steps
