@@ -104,7 +104,6 @@ def _model_scenario(args):
 
 def _cmd_isotherm(args) -> int:
     from physics.adsorption import compute_isotherm
-    from physics.vapour_pressure import VapourPressureRangeError
 
     from .isotherm_export import isotherm_csv, isotherm_json, isotherm_summary
 
@@ -120,9 +119,7 @@ def _cmd_isotherm(args) -> int:
             p0 = saturated_vapour_pressure(scenario.adsorbate, scenario.temperature_k)
             prange = (args.relative_pressure_range[0] * p0, args.relative_pressure_range[1] * p0)
         iso = compute_isotherm(scenario, n_points=args.points, pressure_range_pa=prange)
-    except VapourPressureRangeError as exc:
-        raise UsageError(str(exc)) from None
-    except ValueError as exc:
+    except ValueError as exc:          # includes VapourPressureRangeError
         raise UsageError(str(exc)) from None
     if args.csv:
         try:

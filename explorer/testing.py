@@ -30,20 +30,6 @@ def drag_handle(page, handle, dx: float) -> float:
     return released
 
 
-def readout_text(page) -> str:
-    return page.locator(READOUT).first.inner_text()
-
-
-def wait_for_readout_change(page, before: str, timeout_s: float = 20.0) -> float:
-    """Poll until the readout differs from ``before``; return the perf_counter time it did."""
-    deadline = time.perf_counter() + timeout_s
-    while time.perf_counter() < deadline:
-        if readout_text(page) != before:
-            return time.perf_counter()
-        page.wait_for_timeout(5)
-    raise TimeoutError("the readout did not change")
-
-
 def text_of(page, selector: str) -> str:
     return page.locator(selector).first.inner_text()
 
@@ -56,3 +42,12 @@ def wait_for_text_change(page, selector: str, before: str, timeout_s: float = 20
             return time.perf_counter()
         page.wait_for_timeout(5)
     raise TimeoutError(f"the text of {selector} did not change")
+
+
+def readout_text(page) -> str:
+    """The potential readout under the map."""
+    return text_of(page, READOUT)
+
+
+def wait_for_readout_change(page, before: str, timeout_s: float = 20.0) -> float:
+    return wait_for_text_change(page, READOUT, before, timeout_s)

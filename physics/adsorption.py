@@ -108,7 +108,7 @@ def setup_model(scenario: Scenario, *, site_free_energy=None, mu_max: float | No
                          "(the pore is too small for the adsorbate)")
     lattice = candidates.subset(keep, pore)
     f = f[keep]
-    orbit = symmetry_orbits(lattice)
+    _, orbit = np.unique(orbit_all[keep], return_inverse=True)   # whole orbits were kept
     rep, weights, coupling = orbit_problem_matrices(lattice, orbit)
     f_red = np.zeros(weights.size)
     np.add.at(f_red, orbit, f)

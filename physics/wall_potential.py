@@ -28,7 +28,7 @@ from .geometry import CylinderPore, HexagonPore, Pore, RegularPolygonPore, SlitP
 from .materials import PairParameters
 
 __all__ = ["wall_potential", "potential_map", "PotentialMap", "radial_tail", "line_kernel",
-           "steele_93", "polygon_potential", "prism_potential", "cylinder_potential",
+           "steele_93", "prism_potential", "cylinder_potential",
            "slit_potential", "array_correction"]
 
 # --- kernels ------------------------------------------------------------------------------------
@@ -133,6 +133,14 @@ class _Edges:
         normal = np.column_stack([tangent[:, 1], -tangent[:, 0]])
         return cls(start, tangent, normal, length)
 
+    def select(self, mask: np.ndarray) -> "_Edges":
+        return _Edges(self.start[mask], self.tangent[mask], self.normal[mask], self.length[mask])
+
+    def join(self, other: "_Edges") -> "_Edges":
+        return _Edges(*(np.concatenate([a, b]) for a, b in zip(
+            (self.start, self.tangent, self.normal, self.length),
+            (other.start, other.tangent, other.normal, other.length))))
+
 
 def _sum_over_edges(x, y, edges: _Edges, pair: PairParameters, chunk: int = 2_000_000) -> np.ndarray:
     """Σ_e sgn(D_e) ∫_e G dθ for points (x, y) (1-D arrays) and counter-clockwise pore boundaries.
@@ -155,22 +163,6 @@ def _sum_over_edges(x, y, edges: _Edges, pair: PairParameters, chunk: int = 2_00
         u2 = u1 + edges.length
         integral = _edge_integrals(np.abs(signed_d), u1, u2, c9, c3)
         out[lo:lo + step] = np.sum(np.where(signed_d >= 0, integral, -integral), axis=1)
-    return out
-
-
-def polygon_potential(x, y, vertices, *, pair: PairParameters) -> np.ndarray:
-    """Potential inside a convex polygonal pore (counter-clockwise vertices, Å) in an unbounded solid.
-
-    Points on or outside the boundary return +inf.
-    """
-    x, y = np.broadcast_arrays(np.asarray(x, float), np.asarray(y, float))
-    vertices = np.asarray(vertices, float)
-    edges = _Edges.of_polygons([vertices])
-    depth = np.min((edges.start[:, 0] - x[..., None]) * edges.normal[:, 0]
-                   + (edges.start[:, 1] - y[..., None]) * edges.normal[:, 1], axis=-1)
-    out = np.full(x.shape, np.inf)
-    inside = depth > 0
-    out[inside] = _sum_over_edges(x[inside], y[inside], edges, pair)
     return out
 
 
@@ -250,8 +242,8 @@ def _removed_pore_edges(pore: HexagonPore, centres: np.ndarray) -> _Edges:
 
 
 def array_correction(x, y, pore: HexagonPore, *, pair: PairParameters, cutoff_spacings: float = 8.0,
-                     exact_radius_spacings: float | None = None, tail: bool = True) -> np.ndarray:
-    """Potential change at points of the central pore from the solid the other pores remove (K, <= 0).
+                     tail: bool = True) -> np.ndarray:
+    """Potential change at points of the central pore from the solid the other pores remove (K, >= 0).
 
     Sum over removed hexagonal prisms within ``cutoff_spacings`` lattice spacings, each exact (closed
     form per edge), plus the uniform continuum beyond (area fraction of pore in a cell) as a cylindrical
@@ -263,16 +255,17 @@ def array_correction(x, y, pore: HexagonPore, *, pair: PairParameters, cutoff_sp
     y = np.asarray(y, float).ravel()
     corr = _sum_over_edges(x, y, _removed_pore_edges(pore, centres), pair)
     if tail:
-        corr += _tail_correction(x, y, pore, pair, cutoff_spacings)
+        corr += _tail_correction(x, y, pore, pair, len(centres))
     return corr
 
 
-def _tail_correction(x, y, pore: HexagonPore, pair: PairParameters, cutoff_spacings: float):
+def _tail_correction(x, y, pore: HexagonPore, pair: PairParameters, n_removed: int):
+    """The removed pores beyond the ``n_removed`` summed ones, as a uniform continuum."""
     a = pore.lattice_spacing_angstrom
     fraction = pore.area_angstrom2 / (0.5 * np.sqrt(3.0) * a * a)
-    # Lattice points are kept out to R_c; the continuum starts at the radius whose disk has the same
-    # area as the kept cells plus the central one, so the uniform tail holds the right amount of solid.
-    n_cells = len(_lattice_points(a, cutoff_spacings * a)) + 1
+    # the continuum starts at the radius whose disk has the area of the summed cells plus the central
+    # one, so the uniform tail holds the right amount of solid
+    n_cells = n_removed + 1
     r_start = np.sqrt(n_cells * 0.5 * np.sqrt(3.0) * a * a / np.pi)
     # the removed solid beyond r_start, spread uniformly with area fraction φ, is φ·V_cyl(r_start)
     return -fraction * cylinder_potential(x, y, r_start, pair=pair)
@@ -326,11 +319,9 @@ def _split_array_edges(pore: HexagonPore, cutoff_spacings: float):
     # (an endpoint within a of the centre); all other edges are at least t + √3·w from the pore.
     ends = exact.start + exact.tangent * exact.length[:, None]
     near = (np.hypot(exact.start[:, 0], exact.start[:, 1]) < a) | (np.hypot(ends[:, 0], ends[:, 1]) < a)
-    own = _Edges.of_polygons([pore.vertices])
-    near_edges = _Edges(*(np.concatenate([getattr(own, f), getattr(exact, f)[near]])
-                          for f in ("start", "tangent", "normal", "length")))
-    far_edges = _Edges(*(getattr(exact, f)[~near] for f in ("start", "tangent", "normal", "length")))
-    return near_edges, far_edges, centres[dist > _EXACT_FAR_RADIUS * a]
+    near_edges = _Edges.of_polygons([pore.vertices]).join(exact.select(near))
+    far_edges = exact.select(~near)
+    return near_edges, far_edges, centres[dist > _EXACT_FAR_RADIUS * a], len(centres)
 
 
 @lru_cache(maxsize=64)
@@ -342,7 +333,7 @@ def _array_fields(pore: HexagonPore, pair: PairParameters, cutoff_spacings: floa
     the bounding box and a degree-16 fit reproduces it far below 1e-3 K. It has the pore's mirror
     symmetries, so only even polynomials appear and the fit needs nodes in one quadrant only.
     """
-    near_edges, far_edges, multipole_centres = _split_array_edges(pore, cutoff_spacings)
+    near_edges, far_edges, multipole_centres, n_removed = _split_array_edges(pore, cutoff_spacings)
     m = _CHEB_HALF_NODES
     nodes = np.cos(np.pi * (np.arange(2 * m - 1) + 0.5) / (2 * m - 1))[:m]   # >= 0, last is 0
     _, x1, _, y1 = pore.bounding_box()
@@ -350,7 +341,7 @@ def _array_fields(pore: HexagonPore, pair: PairParameters, cutoff_spacings: floa
     px, py = gx.ravel(), gy.ravel()
     values = _sum_over_edges(px, py, far_edges, pair)
     values -= _multipole_prisms(px, py, multipole_centres, pore.side_angstrom, pair)
-    values += _tail_correction(px, py, pore, pair, cutoff_spacings)
+    values += _tail_correction(px, py, pore, pair, n_removed)
     # even Chebyshev basis T_2j(x) = T_j(2x² − 1) on the non-negative nodes
     vander = chebyshev.chebvander(2.0 * nodes**2 - 1.0, m - 1)
     inv = np.linalg.inv(vander)

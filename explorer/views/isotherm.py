@@ -14,7 +14,6 @@ from bokeh.plotting import figure
 
 from physics.adsorption import Isotherm, compute_isotherm
 from physics.scenario import Scenario
-from physics.vapour_pressure import VapourPressureRangeError
 
 from ..isotherm_export import isotherm_csv
 from ..state import ExplorerState
@@ -127,7 +126,7 @@ class IsothermView(pn.viewable.Viewer):
         sc = self.state.scenario()
         try:
             iso = cached_isotherm(sc)
-        except (VapourPressureRangeError, ValueError) as exc:
+        except ValueError as exc:          # includes VapourPressureRangeError
             self._iso = None
             self._message.object = f"No isotherm: {exc}"
             self._message.visible = True
