@@ -1,6 +1,8 @@
 """The dashboard: controls on the left, views on the right, an About page with the safety notes."""
 from __future__ import annotations
 
+import html
+
 import panel as pn
 
 from physics.scenario import Scenario
@@ -29,8 +31,11 @@ def create_app(scenario: Scenario | None = None) -> pn.viewable.Viewable:
     pn.config.loading_indicator = True
     scenario = scenario or Scenario(wall_angstrom=8.0)
     state = ExplorerState.from_scenario(scenario)
-    title = scenario.title or "porefill"
-    header = pn.pane.Markdown(f"# porefill\n{title}", sizing_mode="stretch_width")
+    # titles and notes come from files others wrote: shown as escaped text, never as markup
+    header = pn.pane.HTML(f"<h1 class='porefill-title'>porefill</h1>"
+                          + (f"<p class='porefill-scenario-title'>{html.escape(scenario.title)}</p>"
+                             if scenario.title else ""),
+                          sizing_mode="stretch_width")
     views = pn.Column(PotentialView(state=state), "### Adsorption", IsothermView(state=state),
                       sizing_mode="stretch_width")
     pore_page = pn.Row(pn.Column("### Pore and gas", controls(state)), views, sizing_mode="stretch_width",
