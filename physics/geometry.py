@@ -69,15 +69,58 @@ class RegularPolygonPore:
 
     def depth_inside(self, x, y) -> np.ndarray:
         """Distance from (x, y) to the nearest face line, positive inside, negative outside."""
-        x, y = np.asarray(x, float), np.asarray(y, float)
-        n = self.n_sides
-        normal_angles = 2.0 * np.pi * (np.arange(n) + 0.5) / n
-        proj = x[..., None] * np.cos(normal_angles) + y[..., None] * np.sin(normal_angles)
-        return self.apothem_angstrom - proj.max(axis=-1)
+        return self.face_distances(x, y).min(axis=-1)
 
     def contains(self, x, y) -> np.ndarray:
         """True strictly inside the pore (the boundary belongs to the solid)."""
         return self.depth_inside(x, y) > BOUNDARY_TOLERANCE * self.circumradius_angstrom
+
+    # what every pore answers for itself ---------------------------------------------------------
+    has_corners = True
+    wall_label = "face"
+    lattice_kind = "triangular"
+
+    @property
+    def size_angstrom(self) -> float:
+        return self.circumradius_angstrom
+
+    @property
+    def perimeter_angstrom(self) -> float:
+        return 2.0 * self.n_sides * self.circumradius_angstrom * np.sin(np.pi / self.n_sides)
+
+    def face_distances(self, x, y) -> np.ndarray:
+        """(..., n_sides) distance from (x, y) to each face line, positive inside."""
+        x, y = np.asarray(x, float), np.asarray(y, float)
+        normals = 2.0 * np.pi * (np.arange(self.n_sides) + 0.5) / self.n_sides
+        return self.apothem_angstrom - (x[..., None] * np.cos(normals) + y[..., None] * np.sin(normals))
+
+    def outline(self) -> list[np.ndarray]:
+        """Boundary as closed polylines, (K, 2) each, Å."""
+        v = self.vertices
+        return [np.vstack([v, v[:1]])]
+
+    def line_cuts(self) -> tuple[tuple[str, float, float], ...]:
+        """(label, angle rad, length Å) of the cuts from the centre that show the potential best."""
+        return (("centre → corner", 0.0, self.circumradius_angstrom),
+                ("centre → middle of a face", np.pi / self.n_sides, self.apothem_angstrom))
+
+    def symmetry_operations(self) -> list[np.ndarray]:
+        """The pore's point group C_nv as 2x2 matrices (rotations, then rotations times the x-mirror)."""
+        return _dihedral(self.n_sides)
+
+    def _potential_inside(self, x, y, pair):
+        from .wall_potential import polygon_potential
+        return polygon_potential(x, y, self.vertices, pair=pair)
+
+
+def _dihedral(n: int) -> list[np.ndarray]:
+    mirror = np.array([[1.0, 0.0], [0.0, -1.0]])
+    ops = []
+    for k in range(n):
+        c, s = np.cos(2 * np.pi * k / n), np.sin(2 * np.pi * k / n)
+        rot = np.array([[c, -s], [s, c]])
+        ops += [rot, rot @ mirror]
+    return ops
 
 
 @dataclass(frozen=True)
@@ -109,10 +152,6 @@ class HexagonPore(RegularPolygonPore):
         return self.circumradius_angstrom
 
     @property
-    def size_angstrom(self) -> float:
-        return self.circumradius_angstrom
-
-    @property
     def lattice_spacing_angstrom(self) -> float:
         """Centre-to-centre spacing of the array, √3·t + w."""
         if self.wall_angstrom is None:
@@ -121,6 +160,12 @@ class HexagonPore(RegularPolygonPore):
 
     def isolated(self) -> "HexagonPore":
         return HexagonPore(self.side_angstrom, None)
+
+    def _potential_inside(self, x, y, pair):
+        if self.wall_angstrom is None:
+            return super()._potential_inside(x, y, pair)
+        from .wall_potential import hexagon_array_potential
+        return hexagon_array_potential(x, y, self, pair)
 
     def to_dict(self) -> dict:
         return {"shape": "hexagon", "size_angstrom": self.side_angstrom, "wall_angstrom": self.wall_angstrom}
@@ -161,6 +206,32 @@ class CylinderPore:
     def isolated(self) -> "CylinderPore":
         return self
 
+    has_corners = False
+    wall_label = "wall"
+    lattice_kind = "triangular"
+
+    @property
+    def perimeter_angstrom(self) -> float:
+        return 2.0 * np.pi * self.radius_angstrom
+
+    def face_distances(self, x, y) -> np.ndarray:
+        return self.depth_inside(x, y)[..., None]
+
+    def outline(self) -> list[np.ndarray]:
+        t = np.linspace(0, 2 * np.pi, 181)
+        return [self.radius_angstrom * np.column_stack([np.cos(t), np.sin(t)])]
+
+    def line_cuts(self) -> tuple[tuple[str, float, float], ...]:
+        return (("centre → wall", 0.0, self.radius_angstrom),)
+
+    def symmetry_operations(self) -> list[np.ndarray]:
+        """Continuous in truth; the operations it shares with a triangular lattice (C6v) are what count."""
+        return _dihedral(6)
+
+    def _potential_inside(self, x, y, pair):
+        from .wall_potential import cylinder_potential
+        return cylinder_potential(x, y, self.radius_angstrom, pair=pair)
+
     def to_dict(self) -> dict:
         return {"shape": "cylinder", "size_angstrom": self.radius_angstrom, "wall_angstrom": None}
 
@@ -199,6 +270,42 @@ class SlitPore:
 
     def isolated(self) -> "SlitPore":
         return SlitPore(self.width_angstrom, None)
+
+    has_corners = False
+    wall_label = "wall"
+    lattice_kind = "rows"
+
+    @property
+    def area_angstrom2(self) -> float:
+        """Cross-section per Å along x (the slit is unbounded in x): the width, Å²/Å."""
+        return self.width_angstrom
+
+    @property
+    def perimeter_angstrom(self) -> float:
+        """Wall per Å along x: two walls, Å/Å."""
+        return 2.0
+
+    def face_distances(self, x, y) -> np.ndarray:
+        y = np.asarray(y, float) + 0.0 * np.asarray(x, float)
+        h = 0.5 * self.width_angstrom
+        return np.stack([h - y, h + y], axis=-1)
+
+    def outline(self) -> list[np.ndarray]:
+        h = 0.5 * self.width_angstrom
+        return [np.array([[-h, h], [h, h]]), np.array([[-h, -h], [h, -h]])]
+
+    def line_cuts(self) -> tuple[tuple[str, float, float], ...]:
+        return (("centre → wall (across the slit)", 0.5 * np.pi, 0.5 * self.width_angstrom),)
+
+    def symmetry_operations(self) -> list[np.ndarray]:
+        """Of the slit's symmetries, those a row of sites keeps: identity and the mirror y → −y."""
+        return [np.eye(2), np.array([[1.0, 0.0], [0.0, -1.0]])]
+
+    def _potential_inside(self, x, y, pair):
+        from .wall_potential import slit_potential
+        # uniform along x: evaluate once per distinct y (a map has only n of them)
+        ys, back = np.unique(np.asarray(y, float), return_inverse=True)
+        return slit_potential(ys, self.width_angstrom, pair=pair, wall=self.wall_angstrom)[back]
 
     def to_dict(self) -> dict:
         return {"shape": "slit", "size_angstrom": self.width_angstrom, "wall_angstrom": self.wall_angstrom}

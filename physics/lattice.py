@@ -18,11 +18,13 @@ import numpy as np
 from scipy import sparse
 from scipy.special import logsumexp
 
-from .geometry import CylinderPore, HexagonPore, Pore, RegularPolygonPore, SlitPore
+from .geometry import Pore
 from .materials import PairParameters
 from .wall_potential import wall_potential
 
-__all__ = ["SiteLattice", "build_lattice", "default_spacing", "cell_free_energies", "COORDINATION",
+__all__ = ["SiteLattice", "build_lattice", "default_spacing", "cell_free_energies", "cell_samples",
+           "boltzmann_cell_average", "shared_operations", "symmetry_orbits", "orbit_problem_matrices",
+           "slit_row_sites", "COORDINATION",
            "SITE_KINDS"]
 
 COORDINATION = 8
@@ -103,26 +105,16 @@ def _neighbour_matrix(pts: np.ndarray, spacing: float) -> sparse.csr_matrix:
 
 
 def _classify(pore: Pore, pts: np.ndarray, spacing: float) -> tuple[np.ndarray, np.ndarray]:
-    """Kind and ring (rows from the wall) of each site."""
+    """Kind and ring (rows from the wall) of each site, from the pore's own face distances."""
     row = spacing * np.sqrt(3.0) / 2.0
-    if isinstance(pore, RegularPolygonPore):
-        n = pore.n_sides
-        normals = 2 * np.pi * (np.arange(n) + 0.5) / n
-        face_dist = pore.apothem_angstrom - (pts[:, 0:1] * np.cos(normals) + pts[:, 1:2] * np.sin(normals))
-        ordered = np.sort(face_dist, axis=1)
-        depth = ordered[:, 0]
-    elif isinstance(pore, CylinderPore):
-        depth = pore.radius_angstrom - np.hypot(pts[:, 0], pts[:, 1])
-        ordered = None
-    else:
-        depth = 0.5 * pore.width_angstrom - np.abs(pts[:, 1])
-        ordered = None
+    faces = np.sort(pore.face_distances(pts[:, 0], pts[:, 1]), axis=1)
+    depth = faces[:, 0]
     outer = depth.min() if depth.size else 0.0
     ring = np.floor((depth - outer) / row + 0.5).astype(int)
     kind = np.full(len(pts), "ring", dtype=object)
-    kind[ring == 0] = "face" if ordered is not None else "wall"
-    if ordered is not None:
-        kind[(ring == 0) & (ordered[:, 1] - ordered[:, 0] < 0.5 * row)] = "corner"   # two faces equally near
+    kind[ring == 0] = pore.wall_label
+    if pore.has_corners:
+        kind[(ring == 0) & (faces[:, 1] - faces[:, 0] < 0.5 * row)] = "corner"   # two faces equally near
     kind[ring == ring.max()] = "centre"
     if ring.max() == 0:
         kind[np.hypot(pts[:, 0], pts[:, 1]) < 0.5 * spacing] = "centre"
@@ -135,7 +127,7 @@ def build_lattice(pore: Pore, spacing_angstrom: float) -> SiteLattice:
     ell = float(spacing_angstrom)
     if not (np.isfinite(ell) and ell > 0):
         raise ValueError(f"lattice spacing must be a positive length in Å, got {spacing_angstrom!r}")
-    if isinstance(pore, SlitPore):
+    if pore.lattice_kind == "rows":
         row = ell * np.sqrt(3.0) / 2.0
         k = np.arange(-int(np.ceil(pore.width_angstrom / row)) - 1, int(np.ceil(pore.width_angstrom / row)) + 2)
         y = k * row
@@ -180,6 +172,21 @@ def _cell_offsets(spacing: float, subdivisions: int, slit: bool) -> tuple[np.nda
     return fine[keep], w[keep] / w[keep].sum()
 
 
+def cell_samples(lattice: SiteLattice, subdivisions: int = 4) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Sample points of every site's cell: x (N, S), y (N, S) in Å and weights (S,) summing to 1."""
+    offsets, weights = _cell_offsets(lattice.spacing_angstrom, subdivisions, lattice.shape == "slit")
+    return (lattice.x[:, None] + offsets[None, :, 0], lattice.y[:, None] + offsets[None, :, 1], weights)
+
+
+def boltzmann_cell_average(potential_k: np.ndarray, weights: np.ndarray, temperature_k: float) -> np.ndarray:
+    """f_i = −kT ln Σ_s w_s exp(−V_is/kT) (K) from the potential at the cells' sample points; +inf where the
+    whole cell is solid."""
+    kt = float(temperature_k)
+    with np.errstate(invalid="ignore"):
+        log_mean = logsumexp(-potential_k / kt, axis=1, b=np.broadcast_to(weights, potential_k.shape))
+    return np.where(np.isfinite(log_mean), -kt * log_mean, np.inf)
+
+
 def cell_free_energies(lattice: SiteLattice, *, pore: Pore, pair: PairParameters, temperature_k: float,
                        subdivisions: int = 4) -> np.ndarray:
     """Classical site free energy f_i = −kT ln⟨exp(−V/kT)⟩_cell (K); +inf where the cell is all solid.
@@ -187,31 +194,25 @@ def cell_free_energies(lattice: SiteLattice, *, pore: Pore, pair: PairParameters
     The average runs over a symmetric set of points of the site's cell, so sites against the wall
     (partly in the solid, where V = +inf) get a finite, smooth value.
     """
-    kt = float(temperature_k)
-    offsets, weights = _cell_offsets(lattice.spacing_angstrom, subdivisions, lattice.shape == "slit")
-    px = lattice.x[:, None] + offsets[None, :, 0]
-    py = lattice.y[:, None] + offsets[None, :, 1]
+    px, py, weights = cell_samples(lattice, subdivisions)
     v = wall_potential(px.ravel(), py.ravel(), pore=pore, pair=pair).reshape(px.shape)
-    with np.errstate(invalid="ignore"):
-        log_mean = logsumexp(-v / kt, axis=1, b=np.broadcast_to(weights, v.shape))
-    return np.where(np.isfinite(log_mean), -kt * log_mean, np.inf)
+    return boltzmann_cell_average(v, weights, temperature_k)
 
 
-def _symmetry_operations(shape: str) -> list[np.ndarray]:
-    """Point-group operations (2x2) shared by the pore and its lattice."""
-    mirror = np.array([[1.0, 0.0], [0.0, -1.0]])
-    if shape == "slit":
-        return [np.eye(2), mirror]
-    ops = []
-    for k in range(6):
-        c, s = np.cos(k * np.pi / 3), np.sin(k * np.pi / 3)
-        rot = np.array([[c, -s], [s, c]])
-        ops += [rot, rot @ mirror]
-    return ops
+def _lattice_operations(lattice_kind: str) -> list[np.ndarray]:
+    """Point group of the site lattice: C6v for the triangular lattice, the y-mirror for rows."""
+    from .geometry import _dihedral
+    return _dihedral(6) if lattice_kind == "triangular" else [np.eye(2), np.array([[1.0, 0.0], [0.0, -1.0]])]
 
 
-def symmetry_orbits(lattice: SiteLattice) -> np.ndarray:
-    """Orbit index (0..M−1) of every site under the pore's point group (D6; the slit's mirror).
+def shared_operations(pore: Pore) -> list[np.ndarray]:
+    """Operations shared by the pore and its lattice (the group the orbits are taken under)."""
+    lattice_ops = _lattice_operations(pore.lattice_kind)
+    return [op for op in pore.symmetry_operations() if any(np.allclose(op, q, atol=1e-12) for q in lattice_ops)]
+
+
+def symmetry_orbits(lattice: SiteLattice, pore: Pore) -> np.ndarray:
+    """Orbit index (0..M−1) of every site under the group shared by the pore and its lattice.
 
     Raises ValueError if the site set is not symmetric (a site's image is not a site).
     """
@@ -220,7 +221,7 @@ def symmetry_orbits(lattice: SiteLattice) -> np.ndarray:
     pts = np.column_stack([lattice.x, lattice.y])
     tree = cKDTree(pts)
     least = np.arange(lattice.size)
-    for op in _symmetry_operations(lattice.shape):
+    for op in shared_operations(pore):
         dist, idx = tree.query(pts @ op.T)
         if np.any(dist > 1e-6 * lattice.spacing_angstrom):
             raise ValueError("site set is not symmetric under the pore's point group")
@@ -241,3 +242,16 @@ def orbit_problem_matrices(lattice: SiteLattice, orbit: np.ndarray):
                                shape=(lattice.size, n_orbits))
     coupling = (lattice.neighbours[rep] @ member).tocsr()
     return rep, weights, coupling
+
+
+def slit_row_sites(lattice: SiteLattice, width_angstrom: float):
+    """Sites drawn across a slit: each row's one site repeated along x at the lattice spacing (staggered
+    by half a spacing on odd rows), within |x| <= width/2. Returns x, y (Å) and the index of the row's site."""
+    half = 0.5 * width_angstrom
+    ell = lattice.spacing_angstrom
+    rows = np.rint(lattice.y / (ell * np.sqrt(3.0) / 2.0)).astype(int)
+    ks = np.arange(-int(half / ell) - 1, int(half / ell) + 2)
+    x = np.concatenate([ell * (ks + 0.5 * (r % 2)) for r in rows])
+    site = np.repeat(np.arange(lattice.size), len(ks))
+    keep = np.abs(x) <= half
+    return x[keep], lattice.y[site[keep]], site[keep]

@@ -39,6 +39,7 @@ class Adsorbate:
     source: str
     mass_source: str = "IUPAC standard atomic weights (value from memory)"
     coolprop_name: str | None = None
+    molecular: bool = False            # amounts count molecules rather than atoms
 
     def __post_init__(self) -> None:
         for attr in ("mass_u", "epsilon_k", "sigma_angstrom"):
@@ -119,7 +120,8 @@ ADSORBATES: dict[str, Adsorbate] = {
                   "de Boer & Michels, Physica 5, 945 (1938)",
                   mass_source="He-4 atomic mass 4.002602 u (value from memory)", coolprop_name="Helium"),
         Adsorbate("hydrogen", "H₂", 2.01588, 34.2, 2.96,
-                  "Buch, J. Chem. Phys. 100, 7610 (1994) (value from memory)", coolprop_name="Hydrogen"),
+                  "Buch, J. Chem. Phys. 100, 7610 (1994) (value from memory)", coolprop_name="Hydrogen",
+                  molecular=True),
         Adsorbate("neon", "Ne", 20.1797, 35.6, 2.75,
                   "second-virial fit, Hirschfelder, Curtiss & Bird (1954) (value from memory)",
                   coolprop_name="Neon"),
@@ -128,7 +130,7 @@ ADSORBATES: dict[str, Adsorbate] = {
                   coolprop_name="Argon"),
         Adsorbate("nitrogen", "N₂", 28.0134, 95.77, 3.572,
                   "one-site model, Lastoskie, Gubbins & Quirke, J. Phys. Chem. 97, 4786 (1993) "
-                  "(value from memory)", coolprop_name="Nitrogen"),
+                  "(value from memory)", coolprop_name="Nitrogen", molecular=True),
     )
 }
 

@@ -1,18 +1,24 @@
 """A scenario: the frozen, explicit, serialisable inputs of one porefill calculation.
 
 Everything the physics needs is here; the dashboard, the command line and saved files build one of
-these and hand it down. `to_dict` / `from_dict` round-trip through plain types (TOML, JSON, URLs).
+these and hand it down, and caches and sweep workers take it as their only key. `to_dict` / `from_dict`
+round-trip through plain types (TOML, JSON, URLs). Limits are checked once, in `physics.limits`.
 """
 from __future__ import annotations
 
 from dataclasses import asdict, dataclass, fields
 
-import numpy as np
-
 from .geometry import PORE_SHAPES, Pore, make_pore
+from .limits import check_geometry, check_number
 from .materials import ADSORBATES, SOLIDS, PairParameters, pair_parameters
+from .site_models import SITE_MODEL_NAMES
 
-__all__ = ["Scenario"]
+__all__ = ["Scenario", "SITE_MODELS"]
+
+SITE_MODELS = SITE_MODEL_NAMES      # how a site's free energy is computed (`physics.site_models`)
+
+_GEOMETRY_FIELDS = ("shape", "size_angstrom", "wall_angstrom", "adsorbate", "solid", "pair_epsilon_k",
+                    "pair_sigma_angstrom", "solid_density_per_a3", "lattice_spacing_angstrom")
 
 
 @dataclass(frozen=True)
@@ -20,10 +26,11 @@ class Scenario:
     """Inputs of one calculation. Lengths in Å, temperature in K, density in Å^-3.
 
     ``wall_angstrom`` None (the default, and what a file without it means) is an isolated pore in an
-    unbounded solid. The three pair overrides, when set, replace the catalog's adsorbate–solid ε, σ and
-    the solid's density. The lattice-gas model takes its site spacing (default: the bulk liquid's density),
-    its bond energy ε_b (default: by ``bond_calibration``, see `physics.bond`) and, for amounts per gram,
-    the sample's specific pore volume.
+    unbounded solid; the cylinder is always isolated. The three pair overrides, when set, replace the
+    catalog's adsorbate–solid ε, σ and the solid's density. The lattice-gas model takes its site spacing
+    (default: the bulk liquid's density), its bond energy ε_b (default: by ``bond_calibration``, see
+    `physics.bond`), the site model (how site free energies are computed) and, for amounts per gram, the
+    sample's specific pore volume.
     """
 
     shape: str = "hexagon"
@@ -38,42 +45,57 @@ class Scenario:
     lattice_spacing_angstrom: float | None = None
     bond_energy_k: float | None = None
     bond_calibration: str | None = None
+    site_model: str = "classical"
     pore_volume_cm3_g: float | None = None
     title: str = ""
     notes: str = ""
 
     def __post_init__(self) -> None:
-        if self.shape not in PORE_SHAPES:
-            raise ValueError(f"shape must be one of {', '.join(PORE_SHAPES)}; got {self.shape!r}")
-        if self.adsorbate not in ADSORBATES:
-            raise ValueError(f"adsorbate must be one of {', '.join(ADSORBATES)}; got {self.adsorbate!r}")
-        if self.solid not in SOLIDS:
-            raise ValueError(f"solid must be one of {', '.join(SOLIDS)}; got {self.solid!r}")
-        t = self.temperature_k
-        if not (isinstance(t, (int, float, np.floating)) and np.isfinite(t) and t > 0):
-            raise ValueError(f"temperature_k must be a positive temperature in K; got {t!r}")
-        self.pore()   # validates size and wall
-        self.pair()   # validates overrides
-        for name in ("lattice_spacing_angstrom", "pore_volume_cm3_g"):
+        for name, known in (("shape", PORE_SHAPES), ("adsorbate", ADSORBATES), ("solid", SOLIDS),
+                            ("site_model", SITE_MODELS)):
             value = getattr(self, name)
-            if value is not None and not (isinstance(value, (int, float)) and np.isfinite(value) and value > 0):
-                raise ValueError(f"{name} must be a positive number; got {value!r}")
-        eb = self.bond_energy_k
-        if eb is not None and not (isinstance(eb, (int, float)) and np.isfinite(eb) and eb >= 0):
-            raise ValueError(f"bond_energy_k must be a non-negative energy in K; got {eb!r}")
+            if not isinstance(value, str) or value not in known:
+                raise ValueError(f"{name} must be one of {', '.join(known)}; got {value!r}")
+        for name in ("title", "notes"):
+            if not isinstance(getattr(self, name), str):
+                raise ValueError(f"{name} must be text; got {getattr(self, name)!r}")
+        check_number("temperature_k", self.temperature_k, low=0.0, low_open=True, unit="K")
+        for name in ("pair_epsilon_k", "pair_sigma_angstrom", "solid_density_per_a3", "pore_volume_cm3_g"):
+            if getattr(self, name) is not None:
+                check_number(name, getattr(self, name), low=0.0, low_open=True)
+        if self.bond_energy_k is not None:
+            check_number("bond_energy_k", self.bond_energy_k, low=0.0, unit="K")
         from .bond import BOND_RULES
         if self.bond_calibration is not None and self.bond_calibration not in BOND_RULES:
             raise ValueError(f"bond_calibration must be one of {', '.join(BOND_RULES)}; "
                              f"got {self.bond_calibration!r}")
+        pair = self.pair()
+        check_geometry(self.shape, self.size_angstrom, self.effective_wall_angstrom,
+                       solid_density_per_a3=pair.density_per_a3, spacing_angstrom=self.lattice_spacing_angstrom)
+        self.pore()
+
+    @property
+    def effective_wall_angstrom(self) -> float | None:
+        """The wall thickness the physics uses: None for the cylinder, which is always isolated."""
+        return None if self.shape == "cylinder" else self.wall_angstrom
 
     def pore(self) -> Pore:
-        wall = self.wall_angstrom if self.shape != "cylinder" else None
-        return make_pore(self.shape, self.size_angstrom, wall)
+        return make_pore(self.shape, self.size_angstrom, self.effective_wall_angstrom)
 
     def pair(self) -> PairParameters:
         return pair_parameters(self.adsorbate, self.solid, epsilon_k=self.pair_epsilon_k,
                                sigma_angstrom=self.pair_sigma_angstrom,
                                density_per_a3=self.solid_density_per_a3)
+
+    def geometry_key(self) -> tuple:
+        """The inputs the temperature-independent stage depends on (hashable): pore, pair, lattice."""
+        values = {name: getattr(self, name) for name in _GEOMETRY_FIELDS}
+        values["wall_angstrom"] = self.effective_wall_angstrom
+        return tuple(values.items())
+
+    def model_key(self) -> "Scenario":
+        """The scenario less its words (title, notes): what a computed result depends on."""
+        return self.replace(title="", notes="")
 
     def to_dict(self) -> dict:
         """Plain-type dict; None values are left out (TOML has no null)."""

@@ -17,7 +17,7 @@ from scipy.optimize import brentq
 
 __all__ = ["saturated_vapour_pressure", "temperature_range", "typical_temperature", "its90_helium4_temperature",
            "liquid_number_density", "critical_temperature", "VapourPressureRangeError",
-           "HELIUM4_EXTRAPOLATION_MIN_K"]
+           "HELIUM4_EXTRAPOLATION_MIN_K", "p0_is_extrapolated"]
 
 # ITS-90 helium-4 vapour-pressure equation: T90 = A0 + Σ_{i=1..9} A_i [(ln(p/Pa) − B)/C]^i
 _ITS90_LOW = dict(t_range=(1.25, 2.1768), B=5.6, C=2.9, lnp_bracket=(np.log(80.0), np.log(6.0e3)),
@@ -84,6 +84,11 @@ def temperature_range(adsorbate: str) -> tuple[float, float, str]:
     cp = _coolprop()
     return (float(cp.PropsSI("Ttriple", ads.coolprop_name)), float(cp.PropsSI("Tcrit", ads.coolprop_name)),
             f"CoolProp reference equation of state for {ads.coolprop_name}, triple to critical point")
+
+
+def p0_is_extrapolated(adsorbate: str, temperature_k: float) -> bool:
+    """True where p0 comes from an extrapolation beyond its equation's own range (helium-4 below 1.25 K)."""
+    return adsorbate == "helium-4" and float(temperature_k) < _ITS90_LOW["t_range"][0]
 
 
 def saturated_vapour_pressure(adsorbate: str, temperature_k: float) -> float:

@@ -24,12 +24,13 @@ import numpy as np
 from numpy.polynomial import chebyshev
 from scipy.special import hyp2f1
 
-from .geometry import CylinderPore, HexagonPore, Pore, RegularPolygonPore, SlitPore
+from .geometry import HexagonPore, Pore, RegularPolygonPore
 from .materials import PairParameters
 
 __all__ = ["wall_potential", "potential_map", "PotentialMap", "radial_tail", "line_kernel",
            "steele_93", "prism_potential", "cylinder_potential",
-           "slit_potential", "array_correction"]
+           "slit_potential", "array_correction", "polygon_potential", "hexagon_array_potential",
+           "deepest_minimum", "Minimum"]
 
 # --- kernels ------------------------------------------------------------------------------------
 def _tail_coefficients(pair: PairParameters) -> tuple[float, float]:
@@ -349,9 +350,10 @@ def _array_fields(pore: HexagonPore, pair: PairParameters, cutoff_spacings: floa
     return near_edges, coef
 
 
-def _hexagon_array_potential(x, y, pore: HexagonPore, pair: PairParameters,
+def hexagon_array_potential(x, y, pore: HexagonPore, pair: PairParameters,
                              cutoff_spacings: float = 8.0) -> np.ndarray:
-    """Central pore and the near faces of its neighbours edge by edge, plus the fitted far field."""
+    """One pore of a hexagonal array: its faces and the near faces of its neighbours edge by edge, plus
+    the fitted far field (see `_array_fields`). Points must lie inside the pore."""
     near_edges, coef = _array_fields(pore, pair, cutoff_spacings)
     _, x1, _, y1 = pore.bounding_box()
     far = chebyshev.chebval2d(2.0 * (x / x1) ** 2 - 1.0, 2.0 * (y / y1) ** 2 - 1.0, coef)
@@ -379,20 +381,15 @@ def wall_potential(x, y, *, pore: Pore, pair: PairParameters) -> np.ndarray:
     x, y = np.broadcast_arrays(np.asarray(x, float), np.asarray(y, float))
     out = np.full(x.shape, np.inf)
     inside = np.asarray(pore.contains(x, y), bool)
-    if isinstance(pore, CylinderPore):
-        out[inside] = cylinder_potential(x[inside], y[inside], pore.radius_angstrom, pair=pair)
-    elif isinstance(pore, SlitPore):
-        # uniform along x: evaluate once per distinct y (a map has only n of them)
-        ys, back = np.unique(y[inside], return_inverse=True)
-        out[inside] = slit_potential(ys, pore.width_angstrom, pair=pair, wall=pore.wall_angstrom)[back]
-    elif isinstance(pore, HexagonPore) and pore.wall_angstrom is not None:
-        out[inside] = _hexagon_array_potential(x[inside], y[inside], pore, pair)
-    elif isinstance(pore, RegularPolygonPore):
-        edges = _Edges.of_polygons([pore.vertices])
-        out[inside] = _sum_over_edges(x[inside], y[inside], edges, pair)
-    else:
-        raise TypeError(f"no wall potential for pore of type {type(pore).__name__}")
+    out[inside] = pore._potential_inside(x[inside], y[inside], pair)    # each shape knows its kernel
     return out
+
+
+def polygon_potential(x, y, vertices, *, pair: PairParameters) -> np.ndarray:
+    """Potential inside a convex polygonal pore (counter-clockwise vertices) in an unbounded solid."""
+    x, y = np.asarray(x, float), np.asarray(y, float)
+    return _sum_over_edges(x.ravel(), y.ravel(), _Edges.of_polygons([np.asarray(vertices, float)]),
+                           pair).reshape(x.shape)
 
 
 @dataclass(frozen=True)
@@ -440,3 +437,48 @@ def potential_map(*, pore: Pore, pair: PairParameters, n: int = 200) -> Potentia
     values[h:, :h] = quad[:, odd:][:, ::-1]
     values[:h, :] = values[h + odd:, :][::-1]
     return PotentialMap(x, y, values)
+
+
+@dataclass(frozen=True)
+class Minimum:
+    """The deepest point of a pore's wall potential: depth (K) at (x, y) (Å), its distance to the wall."""
+
+    depth_k: float
+    x_angstrom: float
+    y_angstrom: float
+    wall_distance_angstrom: float
+
+    @property
+    def radius_angstrom(self) -> float:
+        return float(np.hypot(self.x_angstrom, self.y_angstrom))
+
+
+def deepest_minimum(*, pore: Pore, pair: PairParameters, n: int = 200, tol_angstrom: float = 1e-6) -> Minimum:
+    """The global minimum of the wall potential: the deepest node of an n x n map, then refined.
+
+    The map's deepest node brackets the minimum to one grid step; a bounded Nelder–Mead search from it
+    (scipy.optimize.minimize) refines the position to ``tol_angstrom``. Every caller (dashboard, command
+    line) goes through here, so they agree digit for digit. The slit is uniform along x: x is reported 0.
+    """
+    from scipy.optimize import minimize
+
+    m = potential_map(pore=pore, pair=pair, n=n)
+    depth, x0, y0 = m.minimum()
+    if not np.isfinite(depth):
+        raise ValueError(f"the {n} x {n} map has no point inside the pore; use a finer grid")
+    if pore.lattice_kind == "rows":
+        x0 = 0.0
+
+    def v(p):
+        value = float(wall_potential(p[0], p[1], pore=pore, pair=pair))
+        return value if np.isfinite(value) else 1e300
+
+    step = max(m.x[1] - m.x[0], m.y[1] - m.y[0])
+    simplex = np.array([[x0, y0], [x0 + 0.5 * step, y0], [x0, y0 + 0.5 * step]])
+    res = minimize(v, [x0, y0], method="Nelder-Mead",
+                   options={"initial_simplex": simplex, "xatol": tol_angstrom, "fatol": 1e-12, "maxiter": 2000})
+    x, y = (float(res.x[0]), float(res.x[1])) if res.fun < depth else (x0, y0)
+    if pore.lattice_kind == "rows":
+        x = 0.0
+    best = min(float(res.fun), depth)
+    return Minimum(best, x, y, float(pore.depth_inside(x, y)))

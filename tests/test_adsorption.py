@@ -6,10 +6,10 @@ import pytest
 from scipy import constants
 from scipy.optimize import brentq
 
-from physics.adsorption import compute_isotherm, setup_model
+from physics.adsorption import compute_isotherm
+from physics.stages import thermal_stage
 from physics.geometry import HexagonPore
-from physics.lattice import (_cell_offsets, _symmetry_operations, build_lattice, cell_free_energies,
-                             default_spacing)
+from physics.lattice import _cell_offsets, build_lattice, cell_free_energies, default_spacing
 from physics.meanfield import MeanFieldProblem, solve_state
 from physics.scenario import Scenario
 from physics.wall_potential import wall_potential
@@ -47,7 +47,7 @@ class TestLattice:
             v = wall_potential(lat.x[k] + offsets[:, 0], lat.y[k] + offsets[:, 1], pore=pore, pair=helium_pair)
             assert v.min() - 1e-9 <= f[k] <= weights @ v + 1e-9
         pts = np.column_stack([lat.x, lat.y])
-        for op in _symmetry_operations("hexagon"):
+        for op in HexagonPore(15.0, 8.0).symmetry_operations():
             img = pts @ op.T
             j = [int(np.argmin(np.hypot(*(pts - q).T))) for q in img]
             np.testing.assert_allclose(f[j], f, rtol=1e-9)
@@ -92,7 +92,7 @@ class TestHelium:
             x, ok, *_ = solve_state(x0, iso.mu[k], full)
             assert ok
             np.testing.assert_allclose(x, s.full_occupancy(iso.adsorption.logits[k]), atol=1e-6)
-            for op in _symmetry_operations("hexagon"):
+            for op in HexagonPore(15.0, 8.0).symmetry_operations():
                 j = [int(np.argmin(np.hypot(*(pts - q).T))) for q in pts @ op.T]
                 np.testing.assert_allclose(x[j], x, atol=1e-6)
 
@@ -116,7 +116,7 @@ class TestHelium:
     def test_henry_limit_is_exact_with_vapour_pressure_calibration(self, helium_pair):
         # REFERENCES.md §5 (derived): with ε_b = −(2kT/z) ln(p0 v/kT), N/L -> (p/kT) Σ_cells A⟨e^{−V/kT}⟩
         sc = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=4.0)
-        setup = setup_model(sc)
+        setup = thermal_stage(sc)
         mu = float(setup.problem.site_free_energy.min()) - 25 * 4.0
         x, ok, *_ = solve_state(np.full(setup.problem.weights.size, -40.0), mu, setup.problem)
         n_per_a = float(setup.problem.weights @ (1 / (1 + np.exp(-x)))) / setup.spacing_angstrom

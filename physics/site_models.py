@@ -1,0 +1,39 @@
+"""Site models: how a lattice site's free energy f_i comes from the geometry stage at a temperature.
+
+Energy frame (every model states its values in it): f_i = −kT ln[Z_i / (v/λ³)], with Z_i the one-atom
+partition function of site i's cell (one lattice slice of thickness ℓ along the axis), v = A_cell·ℓ the cell
+volume and λ the thermal wavelength — the free energy of an atom held in the cell *relative to a free ideal-gas
+atom in the same volume*. The pressure scale of `physics.bond` is written in the same frame, so
+N/L → (p/kT) Σ_i A_cell e^{−f_i/kT} at low pressure whatever the model.
+
+- ``classical``: Z_i = (v/λ³)⟨e^{−V/kT}⟩_cell, so f_i = −kT ln⟨e^{−V/kT}⟩_cell over the cell's sample points.
+
+A model is a function ``model(geometry, *, temperature_k) -> (N,) K`` over the geometry stage's candidate
+sites (+inf for a site that cannot hold an atom); it gets the adsorbate (mass, ħ²/mk) from
+``geometry.adsorbate``.
+"""
+from __future__ import annotations
+
+from typing import Callable
+
+import numpy as np
+
+from .lattice import boltzmann_cell_average
+
+__all__ = ["SITE_MODEL_NAMES", "site_model", "classical_site_free_energy"]
+
+
+def classical_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
+    """f_i = −kT ln⟨exp(−V/kT)⟩_cell (K), Boltzmann-averaged over the cell's sample points."""
+    return boltzmann_cell_average(geometry.sample_potential_k, geometry.sample_weights, temperature_k)
+
+
+_MODELS: dict[str, Callable] = {"classical": classical_site_free_energy}
+SITE_MODEL_NAMES = tuple(_MODELS)
+
+
+def site_model(name: str) -> Callable:
+    try:
+        return _MODELS[name]
+    except KeyError:
+        raise ValueError(f"unknown site model {name!r}; known: {', '.join(_MODELS)}") from None
