@@ -1,4 +1,7 @@
-"""Isotherm results as JSON, CSV and a text summary (used by the command line and the dashboard)."""
+"""Isotherm results as JSON, CSV and a text summary (used by the command line and the dashboard).
+
+The JSON and the CSV carry the same columns: one table of branch columns, built once here.
+"""
 from __future__ import annotations
 
 import csv
@@ -8,114 +11,134 @@ import math
 import numpy as np
 
 from physics.adsorption import Isotherm
-from physics.units import amount_cm3_stp_per_g, amount_mmol_per_g
+from physics.units import particle_word
 
-__all__ = ["isotherm_json", "isotherm_csv", "isotherm_summary", "model_description"]
+__all__ = ["isotherm_json", "isotherm_csv", "isotherm_summary", "model_description", "amount_labels",
+           "branch_columns"]
 
 
 def _finite(values) -> list:
     return [float(v) if math.isfinite(v) else None for v in np.asarray(values, float)]
 
 
+def amount_labels(iso: Isotherm) -> dict:
+    """Words for the amounts of this isotherm: atoms or molecules; per nm of pore, or per nm² for the slit."""
+    word = particle_word(iso.stage.scenario.adsorbate)
+    line = "per nm²" if iso.basis.per_area else "per nm of pore length"
+    return {"particles": word, "coverage": f"{word} {line}", "wall": f"{word} per nm² of wall",
+            "grand_potential": "K " + ("per nm²" if iso.basis.per_area else "per nm of pore length"),
+            "short": f"{word}/nm²" if iso.basis.per_area else f"{word}/nm"}
+
+
 def model_description(iso: Isotherm) -> dict:
-    s = iso.setup
+    s = iso.stage
     sc = s.scenario
     return {
         "scenario": sc.to_dict(),
+        "site_model": sc.site_model,
         "saturation_pressure_pa": s.saturation_pressure_pa,
+        "saturation_pressure_extrapolated": s.scale.p0_extrapolated,
         "mu_coexistence_k": s.mu_coexistence_k,
         "bond_energy_k": s.bond_k,
         "bond_calibration": s.bond_note,
         "lattice_spacing_angstrom": s.spacing_angstrom,
         "lattice_spacing_rule": s.spacing_note,
         "sites_per_slice": float(s.problem.weights.sum()),
-        "pair": sc.pair().to_dict(),
+        "pair": s.geometry.pair.to_dict(),
         "pressure_mapping": "p = p0(T) exp[(mu - mu_coex)/kT], mu_coex = -z eps_b / 2, z = 8",
     }
 
 
-def _branch(iso: Isotherm, branch) -> dict:
-    d = {
-        "mu_k": _finite(iso.mu),
-        "pressure_pa": _finite(iso.pressure_pa),
-        "relative_pressure": _finite(iso.relative_pressure),
-        "coverage_atoms_per_nm": _finite(iso.per_nm(branch)),
-        "coverage_atoms_per_nm2_wall": _finite(iso.per_nm2_wall(branch)),
-        "fraction_of_full_pore": _finite(iso.fraction(branch)),
-        "grand_potential_k_per_nm": _finite(iso.grand_potential_per_nm(branch)),
-        "converged": [bool(c) for c in branch.converged],
-        "central_channel_occupancy": _finite(iso.central_channel_occupancy(
-            "adsorption" if branch is iso.adsorption else "desorption")),
+def branch_columns(iso: Isotherm, branch: str) -> dict[str, np.ndarray]:
+    """Every per-point quantity of one branch ('adsorption', 'desorption' or 'equilibrium'), by JSON key."""
+    cols = {
+        "coverage_per_nm": iso.amount(branch, "per nm"),
+        "coverage_per_nm2_wall": iso.amount(branch, "per nm2 wall"),
+        "fraction_of_full_pore": iso.fraction(branch),
+        "central_channel_occupancy": iso.central_channel_occupancy(branch),
     }
-    vp = iso.setup.scenario.pore_volume_cm3_g
-    area = _cross_section(iso)
-    if vp is not None and area is not None:
-        per_a = iso.per_nm(branch) / 10.0
-        d["amount_mmol_per_g"] = _finite(amount_mmol_per_g(per_a, cross_section_angstrom2=area, pore_volume_cm3_g=vp))
-        d["amount_cm3_stp_per_g"] = _finite(amount_cm3_stp_per_g(per_a, cross_section_angstrom2=area,
-                                                                 pore_volume_cm3_g=vp))
+    if branch != "equilibrium":
+        b = getattr(iso, branch)
+        cols["grand_potential_k_per_nm"] = iso.grand_potential_per_nm(b)
+        cols["converged"] = b.converged.astype(float)
+    if iso.stage.scenario.pore_volume_cm3_g is not None:
+        cols["amount_mmol_per_g"] = iso.amount(branch, "mmol/g")
+        cols["amount_cm3_stp_per_g"] = iso.amount(branch, "cm3(STP)/g")
+    return cols
+
+
+def _branch(iso: Isotherm, branch: str) -> dict:
+    d = {"mu_k": _finite(iso.mu), "pressure_pa": _finite(iso.pressure_pa),
+         "relative_pressure": _finite(iso.relative_pressure)}
+    for key, values in branch_columns(iso, branch).items():
+        d[key] = [bool(v) for v in values] if key == "converged" else _finite(values)
     return d
 
 
-def _cross_section(iso: Isotherm):
-    pore = iso.setup.scenario.pore()
-    return getattr(pore, "area_angstrom2", None)
-
-
 def isotherm_json(iso: Isotherm) -> dict:
+    labels = amount_labels(iso)
     return {
-        "units": {"mu": "K", "pressure": "Pa", "coverage": "atoms per nm of pore length",
-                  "grand_potential": "K per nm of pore length"},
+        "units": {"mu": "K", "pressure": "Pa", "coverage": labels["coverage"], "wall_coverage": labels["wall"],
+                  "grand_potential": labels["grand_potential"],
+                  "amount_per_gram": "mmol/g and cm3(STP)/g, STP = 273.15 K and 101.325 kPa"},
         "model": model_description(iso),
-        "adsorption": _branch(iso, iso.adsorption),
-        "desorption": _branch(iso, iso.desorption),
+        "adsorption": _branch(iso, "adsorption"),
+        "desorption": _branch(iso, "desorption"),
+        "equilibrium": _branch(iso, "equilibrium"),
         "sites": _sites(iso),
         "steps": [_step(iso, s) for s in iso.steps],
     }
 
 
 def _sites(iso: Isotherm) -> dict:
-    lat = iso.setup.lattice
+    lat = iso.stage.lattice
     return {"x_angstrom": _finite(lat.x), "y_angstrom": _finite(lat.y),
             "where": [lat.label(i) for i in range(lat.size)],
-            "free_energy_k": _finite(iso.setup.site_free_energy)}
+            "free_energy_k": _finite(iso.stage.site_free_energy)}
 
 
 def _step(iso: Isotherm, step) -> dict:
     """A step, with the linear density along every site's channel just after it (equilibrium)."""
     d = step.to_dict()
     k = int(min(np.searchsorted(iso.mu, step.mu_k) + 1, iso.mu.size - 1))
-    d["channel_atoms_per_nm_after"] = _finite(iso.channel_density_per_nm(k))
+    d["channel_per_nm_after"] = _finite(iso.channel_density_per_nm(k))
     d["central_channel_occupancy_after"] = float(iso.central_channel_occupancy()[k])
     return d
 
 
 def isotherm_csv(iso: Isotherm) -> str:
+    """Every column of the JSON's branches, one row per chemical potential; units in the column names
+    (coverage per nm of pore, or per nm² for the slit)."""
     out = io.StringIO()
-    w = csv.writer(out)
-    cols = ["mu_K", "pressure_Pa", "relative_pressure", "adsorption_atoms_per_nm", "desorption_atoms_per_nm",
-            "adsorption_grand_potential_K_per_nm", "desorption_grand_potential_K_per_nm"]
-    w.writerow(cols)
-    rows = zip(iso.mu, iso.pressure_pa, iso.relative_pressure, iso.per_nm(iso.adsorption),
-               iso.per_nm(iso.desorption), iso.grand_potential_per_nm(iso.adsorption),
-               iso.grand_potential_per_nm(iso.desorption))
-    for row in rows:
+    columns = {"mu_K": iso.mu, "pressure_Pa": iso.pressure_pa, "relative_pressure": iso.relative_pressure}
+    for branch in ("adsorption", "desorption", "equilibrium"):
+        for key, values in branch_columns(iso, branch).items():
+            columns[f"{branch}_{key}"] = values
+    w = csv.writer(out, lineterminator="\n")
+    w.writerow(columns)
+    for row in zip(*columns.values()):
         w.writerow([f"{v:.10g}" for v in row])
     return out.getvalue()
 
 
 def isotherm_summary(iso: Isotherm) -> str:
-    s = iso.setup
+    s = iso.stage
     sc = s.scenario
+    labels = amount_labels(iso)
+    p0_note = " (extrapolated below the equation's range)" if s.scale.p0_extrapolated else ""
     lines = [f"{sc.adsorbate} at {sc.temperature_k:g} K in a {sc.shape} pore of size {sc.size_angstrom:g} Å"
-             + ("" if sc.wall_angstrom is None or sc.shape == "cylinder" else f", walls {sc.wall_angstrom:g} Å"),
-             f"p0 = {s.saturation_pressure_pa:.6g} Pa; {s.bond_note}; lattice spacing {s.spacing_angstrom:.4g} Å "
-             f"({s.problem.weights.sum():g} sites per slice)",
-             "", f"{'step':>4}  {'kind':<11} {'mu (K)':>9} {'p (Pa)':>11} {'p/p0':>10} {'adds (1/nm)':>11}  where"]
+             + ("" if sc.effective_wall_angstrom is None else f", walls {sc.wall_angstrom:g} Å"),
+             f"p0 = {s.saturation_pressure_pa:.6g} Pa{p0_note}; {s.bond_note}; lattice spacing "
+             f"{s.spacing_angstrom:.4g} Å ({s.problem.weights.sum():g} sites per slice); site model {sc.site_model}",
+             "", f"{'step':>4}  {'kind':<11} {'mu (K)':>9} {'p (Pa)':>11} {'p/p0':>10} "
+                 f"{'adds (' + labels['short'] + ')':>16}  {'hysteresis (Pa)':<21}  where"]
     for i, st in enumerate(iso.steps, 1):
         where = ", ".join(f"{n} ({c:g})" for n, c in st.filling) or "spread"
+        loop = ""
+        if st.kind == "first-order":
+            loop = f"{st.desorption_jump_pressure_pa:.3g} – {st.adsorption_jump_pressure_pa:.3g}"
         lines.append(f"{i:>4}  {st.kind:<11} {st.mu_k:9.3f} {st.pressure_pa:11.4g} {st.relative_pressure:10.4g} "
-                     f"{st.added_per_nm:11.3f}  {where}")
+                     f"{st.added_per_nm:16.3f}  {loop:<21}  {where}")
     if not iso.steps:
         lines.append("      no steps in this range")
     return "\n".join(lines)

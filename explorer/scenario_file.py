@@ -4,8 +4,6 @@ from __future__ import annotations
 import tomllib
 from pathlib import Path
 
-from physics.scenario import Scenario
-
 __all__ = ["load_scenario", "dump_scenario", "ScenarioFileError"]
 
 
@@ -13,7 +11,11 @@ class ScenarioFileError(ValueError):
     """A scenario file that cannot be read; the message names the file and the problem."""
 
 
-def load_scenario(path: str | Path) -> Scenario:
+def load_scenario(path: str | Path):
+    """The `physics.scenario.Scenario` in a TOML file; ScenarioFileError names the file and the problem.
+
+    The physics (numpy, scipy) is imported only once the file has been read, so a missing file is
+    reported at once."""
     path = Path(path)
     try:
         data = tomllib.loads(path.read_text(encoding="utf-8"))
@@ -25,6 +27,8 @@ def load_scenario(path: str | Path) -> Scenario:
     extra = sorted(set(data) - {"scenario"})
     if extra:
         raise ScenarioFileError(f"{path}: unknown table(s) {', '.join(extra)}; expected [scenario]")
+    from physics.scenario import Scenario
+
     try:
         return Scenario.from_dict(body)
     except (TypeError, ValueError) as exc:
@@ -40,7 +44,7 @@ def _toml_value(value) -> str:
     return f'"{text}"'
 
 
-def dump_scenario(scenario: Scenario) -> str:
+def dump_scenario(scenario) -> str:
     """TOML text of a scenario (one [scenario] table)."""
     lines = ["[scenario]"]
     lines += [f"{key} = {_toml_value(value)}" for key, value in scenario.to_dict().items()]

@@ -147,7 +147,7 @@ def test_isotherm_json_and_csv(tmp_path):
     data = json.loads(out.stdout)
     for branch in ("adsorption", "desorption"):
         b = data[branch]
-        assert len(b["mu_k"]) == len(b["pressure_pa"]) == len(b["coverage_atoms_per_nm"]) == 120
+        assert len(b["mu_k"]) == len(b["pressure_pa"]) == len(b["coverage_per_nm"]) == 120
         assert len(b["grand_potential_k_per_nm"]) == 120 and "amount_mmol_per_g" in b
     assert data["model"]["saturation_pressure_pa"] == pytest.approx(471.5, rel=1e-3)   # ITS-90 at 1.5 K
     steps = data["steps"]
@@ -156,13 +156,20 @@ def test_isotherm_json_and_csv(tmp_path):
     sites = data["sites"]
     corner = [i for i, w in enumerate(sites["where"]) if w == "corner"]
     ell = data["model"]["lattice_spacing_angstrom"]
-    after = steps[0]["channel_atoms_per_nm_after"]
+    after = steps[0]["channel_per_nm_after"]
     assert all(after[i] > 0.5 * 10 / ell for i in corner)
     assert steps[0]["central_channel_occupancy_after"] < 1e-3
     assert data["adsorption"]["central_channel_occupancy"][-1] > 0.9
     assert all(s["pressure_pa"] > 0 and 0 < s["relative_pressure"] <= 1 for s in steps)
     lines = csv_path.read_text().splitlines()
     assert lines[0].startswith("mu_K,pressure_Pa") and len(lines) == 121
+    # the CSV carries every column of the JSON's branches (issue: --csv had only seven)
+    header = lines[0].split(",")
+    for branch in ("adsorption", "desorption"):
+        for key in data[branch]:
+            if key not in ("mu_k", "pressure_pa", "relative_pressure"):
+                assert f"{branch}_{key}" in header, key
+    assert "adsorption_amount_cm3_stp_per_g" in header
 
 
 @pytest.mark.parametrize("args, word", [
