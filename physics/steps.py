@@ -17,7 +17,7 @@ across pore sizes and temperatures.
 from __future__ import annotations
 
 from collections import Counter
-from dataclasses import asdict, dataclass
+from dataclasses import asdict, dataclass, replace
 
 import numpy as np
 from scipy.signal import find_peaks
@@ -45,11 +45,7 @@ class Step:
     desorption_jump_mu_k: float | None = None
     adsorption_jump_pressure_pa: float | None = None
     desorption_jump_pressure_pa: float | None = None
-
-    @property
-    def identity(self) -> str:
-        """Kind and the sites it fills, without counts: the same step across sizes and temperatures."""
-        return f"{self.kind}: " + (" + ".join(name for name, _ in self.filling) or "spread")
+    identity: str = ""                 # kind and the sites it fills (no counts), numbered when repeated
 
     @property
     def label(self) -> str:
@@ -60,7 +56,6 @@ class Step:
         d = asdict(self)
         d["filling"] = [{"where": name, "sites": count} for name, count in self.filling]
         d["label"] = self.label
-        d["identity"] = self.identity
         return d
 
 
@@ -170,4 +165,13 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
             fields["kind"], fields["mu_k"], p(fields["mu_k"]), p(fields["mu_k"]) / saturation_pressure_pa,
             fields["added"] * per_site, fields["added"], filling, up, down,
             None if up is None else p(up), None if down is None else p(down)))
-    return tuple(sorted(steps, key=lambda s: s.mu_k))
+    steps.sort(key=lambda s: s.mu_k)
+    # identity: what fills, without counts, so a step can be followed across sizes and temperatures; a
+    # second step filling sites of the same names (another orbit of ring 1, say) is numbered
+    seen: Counter = Counter()
+    named = []
+    for s in steps:
+        base = f"{s.kind}: " + (" + ".join(name for name, _ in s.filling) or "spread")
+        seen[base] += 1
+        named.append(replace(s, identity=base if seen[base] == 1 else f"{base} #{seen[base]}"))
+    return tuple(named)
