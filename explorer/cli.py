@@ -156,18 +156,42 @@ def _cmd_vapour_pressure(args) -> int:
 
 
 def _cmd_serve(args) -> int:
-    from .scenario_file import ScenarioFileError, load_scenario
-    from .server import serve
+    # every check runs before Panel is imported, so a mistake is reported at once
+    from pathlib import Path
+
+    from .security import AccessPolicy, ServeError, check_address, check_can_listen, is_loopback, read_password
 
     scenario = None
     if args.scenario:
+        path = Path(args.scenario)
+        if path.is_dir():
+            raise UsageError(f"--scenario {args.scenario}: is a directory, not a scenario file")
+        from .scenario_file import ScenarioFileError, load_scenario
         try:
-            scenario = load_scenario(args.scenario)
+            scenario = load_scenario(path)
         except ScenarioFileError as exc:
             raise UsageError(str(exc)) from None
+        except OSError as exc:
+            raise UsageError(f"--scenario {args.scenario}: cannot read it ({exc.strerror or exc})") from None
     if not (0 < args.port < 65536):
         raise UsageError(f"--port must be between 1 and 65535, got {args.port}")
-    serve(scenario, address=args.address, port=args.port, show=args.show)
+    try:
+        password = read_password(args.password_file)
+        check_address(args.address)
+        if not is_loopback(args.address):
+            if not args.allow_origin:
+                raise UsageError(f"--address {args.address} is reachable from other machines: name the "
+                                 "addresses people will type with --allow-origin HOST[:PORT]")
+            if password is None:
+                raise UsageError(f"--address {args.address} is reachable from other machines: set a "
+                                 "password with --password-file FILE or POREFILL_PASSWORD")
+        policy = AccessPolicy.for_server(address=args.address, port=args.port,
+                                         allowed_origins=tuple(args.allow_origin or ()), password=password)
+        check_can_listen(args.address, args.port)
+        from .server import serve
+        serve(scenario, address=args.address, port=args.port, policy=policy, show=args.show)
+    except ServeError as exc:
+        raise UsageError(str(exc)) from None
     return 0
 
 
@@ -181,6 +205,12 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--address", default="127.0.0.1", help="address to listen on (default 127.0.0.1)")
     p.add_argument("--port", type=int, default=5006, help="port (default 5006)")
     p.add_argument("--show", action="store_true", help="open a browser window")
+    p.add_argument("--allow-origin", action="append", metavar="HOST[:PORT]",
+                   help="a host name people type to reach the page (repeatable; required with an "
+                        "--address other than loopback)")
+    p.add_argument("--password-file", metavar="FILE",
+                   help="file whose first line is the password (else $POREFILL_PASSWORD); required "
+                        "with an --address other than loopback")
     p.set_defaults(func=_cmd_serve)
 
     p = sub.add_parser("potential", help="wall potential at points or on a grid, K")
