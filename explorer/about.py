@@ -39,7 +39,7 @@ Each site's free energy is the wall potential Boltzmann-averaged over its cell, 
 behave smoothly; sites that can never fill are left out. The adsorption branch is followed up from an empty
 pore, the desorption branch down from a full one; first-order steps sit where their grand potentials cross.
 
-Pressures: p = p₀(T)·exp[(μ − μ_coex)/kT], with p₀ from ITS-90 for helium-4 (extrapolated below 1.25 K) and
+Pressures: p = p₀(T)·exp[(μ − μ<sub>coex</sub>)/kT], where μ<sub>coex</sub> is the chemical potential of bulk liquid–vapour coexistence; p₀ comes from ITS-90 for helium-4 (extrapolated below 1.25 K) and
 from CoolProp for the other gases. By default the bond energy ε<sub>b</sub> is calibrated so that the lattice's bulk
 condensation falls at p₀ *and* the low-pressure (Henry) limit is exact; the steps table says which
 calibration is in force. Mean-field hysteresis loops are wider than measured ones. Helium's first layers

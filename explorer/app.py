@@ -1,4 +1,5 @@
-"""The dashboard: controls on the left, views on the right, an About page with the safety notes."""
+"""The dashboard: a narrow column of controls, the views beside it in wrapping rows, an About page with the
+safety notes."""
 from __future__ import annotations
 
 import html
@@ -8,37 +9,73 @@ import panel as pn
 from physics.scenario import Scenario
 
 from .about import ABOUT
+from .compute import start_temperature_windows
 from .state import ExplorerState
 from .views.isotherm import IsothermView
 from .views.potential import PotentialView
 
 __all__ = ["create_app"]
 
-_SLIDERS = ("size_angstrom", "wall_angstrom", "temperature_k")
+CONTROLS_WIDTH = 230
+_WALL_UNUSED = {
+    "cylinder": "Wall thickness is not used: the cylinder is computed as one pore in an unbounded solid.",
+    "isolated": "Wall thickness is not used: an isolated pore has no neighbours.",
+}
+# page-wide CSS: headings and tables that stay readable on a 1024 px projector
+_CSS = """
+h1 { font-size: 1.5em; margin: 0.2em 0 0.1em 0; }
+.porefill-scenario-title { font-weight: normal; color: #444; }
+"""
 
 
 def controls(state: ExplorerState) -> pn.viewable.Viewable:
-    widgets = {name: {"type": pn.widgets.FloatSlider, "throttled": True} for name in _SLIDERS}
-    widgets["shape"] = {"type": pn.widgets.RadioButtonGroup}
-    return pn.Param(state, parameters=["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate",
-                                       "temperature_k"], widgets=widgets, show_name=False, width=300)
+    """Shape, size, wall, isolated, adsorbate and temperature widgets, built from the state's parameters."""
+    width = CONTROLS_WIDTH - 10
+
+    def slider(name):
+        return pn.widgets.FloatSlider.from_param(state.param[name], throttled=True, width=width)
+
+    shape = pn.widgets.RadioButtonGroup.from_param(state.param.shape, width=width)
+    size, wall, temperature = slider("size_angstrom"), slider("wall_angstrom"), slider("temperature_k")
+    isolated = pn.widgets.Checkbox.from_param(state.param.isolated, width=width)
+    adsorbate = pn.widgets.Select.from_param(state.param.adsorbate, width=width)
+    wall_note = pn.pane.HTML("", css_classes=["porefill-wall-note"], width=width, visible=False,
+                             styles={"font-size": "12px", "color": "#555"})
+
+    def fit_wall(*_):
+        # the wall slider does nothing for the cylinder or an isolated pore: say so instead of ignoring it
+        reason = "cylinder" if state.shape == "cylinder" else "isolated" if state.isolated else None
+        wall.disabled = reason is not None
+        isolated.disabled = state.shape == "cylinder"
+        wall_note.object = f"<p>{_WALL_UNUSED[reason]}</p>" if reason else ""
+        wall_note.visible = reason is not None
+
+    fit_wall()
+    state.param.watch(fit_wall, ["shape", "isolated"])
+    return pn.Column(shape, size, wall, wall_note, isolated, adsorbate, temperature, width=CONTROLS_WIDTH,
+                     css_classes=["porefill-controls"])
+
+
+def header(title: str) -> pn.pane.HTML:
+    """One header line: the app's name and the scenario's title (escaped: it comes from a file)."""
+    text = "porefill"
+    if title:
+        text += f" <span class='porefill-scenario-title'>— {html.escape(title)}</span>"
+    return pn.pane.HTML(f"<h1>{text}</h1>", css_classes=["porefill-header"], sizing_mode="stretch_width",
+                        stylesheets=[_CSS])
 
 
 def create_app(scenario: Scenario | None = None) -> pn.viewable.Viewable:
     """Build one session's page (called by the server for every browser tab)."""
     pn.extension(notifications=True)
-    # the first classical gas loads CoolProp (a few seconds, once per server): show that work is going on
-    pn.config.loading_indicator = True
+    start_temperature_windows()        # CoolProp loads in a worker, not when someone picks nitrogen
     scenario = scenario or Scenario(wall_angstrom=8.0)
     state = ExplorerState.from_scenario(scenario)
-    # titles and notes come from files others wrote: shown as escaped text, never as markup
-    header = pn.pane.HTML(f"<h1 class='porefill-title'>porefill</h1>"
-                          + (f"<p class='porefill-scenario-title'>{html.escape(scenario.title)}</p>"
-                             if scenario.title else ""),
-                          sizing_mode="stretch_width")
-    views = pn.Column(PotentialView(state=state), "### Adsorption", IsothermView(state=state),
-                      sizing_mode="stretch_width")
-    pore_page = pn.Row(pn.Column("### Pore and gas", controls(state)), views, sizing_mode="stretch_width",
-                       name="Pore")
-    about = pn.pane.Markdown(ABOUT, name="About & safety", width=760)
-    return pn.Column(header, pn.Tabs(pore_page, about, dynamic=False), sizing_mode="stretch_width")
+    views = pn.Column(PotentialView(state=state), pn.pane.HTML("<h3>Adsorption</h3>"), IsothermView(state=state),
+                      sizing_mode="stretch_width", styles={"min-width": "0"})
+    side = pn.Column(pn.pane.HTML("<h3>Pore and gas</h3>"), controls(state), width=CONTROLS_WIDTH)
+    pore_page = pn.Row(side, views, sizing_mode="stretch_width", name="Pore")
+    about = pn.pane.Markdown(ABOUT, name="About & safety", sizing_mode="stretch_width",
+                             styles={"max-width": "760px"})
+    return pn.Column(header(scenario.title), pn.Tabs(pore_page, about, dynamic=False),
+                     sizing_mode="stretch_width")

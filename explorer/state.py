@@ -7,40 +7,72 @@ from physics.geometry import PORE_SHAPES
 from physics.materials import ADSORBATES
 from physics.scenario import Scenario
 
-__all__ = ["ExplorerState"]
+__all__ = ["ExplorerState", "describe", "wall_is_used"]
+
+
+def wall_is_used(shape: str, isolated: bool) -> bool:
+    """The wall thickness matters only for an array of hexagonal or slit pores (the cylinder is always
+    computed as one pore in an unbounded solid)."""
+    return shape != "cylinder" and not isolated
+
+
+def describe(scenario: Scenario, *, temperature: bool = True) -> str:
+    """The inputs a result belongs to, in a few words (plain text; escape it before putting it in HTML)."""
+    size = {"hexagon": "side", "cylinder": "radius", "slit": "width"}.get(scenario.shape, "size")
+    parts = [f"{scenario.shape}, {size} {scenario.size_angstrom:g} Å"]
+    if scenario.shape != "cylinder":
+        parts.append("isolated" if scenario.wall_angstrom is None else f"walls {scenario.wall_angstrom:g} Å")
+    parts.append(scenario.adsorbate)
+    if temperature:
+        parts.append(f"{scenario.temperature_k:.2f} K")
+    return ", ".join(parts)
 
 
 class ExplorerState(param.Parameterized):
     """What the sliders and menus hold. Lengths in Å, temperature in K."""
 
-    shape = param.Selector(default="hexagon", objects=list(PORE_SHAPES), doc="Pore cross-section")
-    size_angstrom = param.Number(default=15.0, bounds=(2.0, 100.0), softbounds=(5.0, 60.0), step=0.5,
+    shape = param.Selector(default="hexagon", objects=list(PORE_SHAPES),
+                           doc="Hexagon: a pore of a hexagonal array; cylinder: one round pore; slit: two flat "
+                               "walls (or a stack of slabs). Changes the map, the lattice and every result.")
+    size_angstrom = param.Number(default=15.0, bounds=(2.0, 100.0), softbounds=(5.0, 100.0), step=0.5,
                                  label="Side length / radius / width (Å)",
-                                 doc="Hexagon side (centre to corner), cylinder radius or slit width, Å")
+                                 doc="Hexagon: centre to corner; cylinder: radius; slit: wall-to-wall width. "
+                                     "5–100 Å; isotherms of pores above ~60 Å take seconds.")
     wall_angstrom = param.Number(default=8.0, bounds=(0.0, 100.0), softbounds=(0.0, 30.0), step=0.5,
                                  label="Wall thickness (Å)",
-                                 doc="Solid between neighbouring pores of the array, Å")
+                                 doc="Solid between neighbouring pores of a hexagonal or slit array, 0–30 Å; "
+                                     "thinner walls let the neighbours' missing solid weaken the potential. "
+                                     "Not used for the cylinder (always one pore in an unbounded solid) or "
+                                     "for an isolated pore.")
     isolated = param.Boolean(default=False, label="Isolated pore (unbounded solid)",
-                             doc="Ignore neighbouring pores: one pore in an unbounded solid")
-    adsorbate = param.Selector(default="helium-4", objects=list(ADSORBATES), doc="Adsorbed gas")
+                             doc="One pore in solid that extends without end: no neighbouring pores, so the "
+                                 "wall thickness is not used. The cylinder is always computed this way.")
+    adsorbate = param.Selector(default="helium-4", objects=list(ADSORBATES),
+                               doc="Sets the atom–wall pair (published where known, otherwise Lorentz–Berthelot), "
+                                   "the vapour pressure p₀(T) and the temperature slider's range.")
     temperature_k = param.Number(default=1.5, bounds=(0.2, 400.0), step=0.01, label="Temperature (K)",
-                                 doc="Temperature, K; the range is that of the adsorbate's vapour-pressure equation")
+                                 doc="K, within the range of the adsorbate's vapour-pressure equation; changes "
+                                     "the isotherm and the depth / kT readout, not the wall potential.")
     solid = param.String(default="silica", constant=True, doc="Solid (catalog name)")
-    title = param.String(default="", doc="Scenario title")
+    title = param.String(default="", doc="Scenario title (from the scenario file; shown as plain text)")
 
     def __init__(self, **params):
         super().__init__(**params)
         self._fit_temperature_range()
 
+    @property
+    def wall_used(self) -> bool:
+        return wall_is_used(self.shape, self.isolated)
+
     @param.depends("adsorbate", watch=True)
     def _fit_temperature_range(self):
         """Temperature slider spans the adsorbate's vapour-pressure range (needed for real pressures)."""
-        from physics.vapour_pressure import temperature_range, typical_temperature
+        from .compute import temperature_window
 
-        lo, hi, _ = temperature_range(self.adsorbate)
+        lo, hi, typical = temperature_window(self.adsorbate)
         lo, hi = round(lo + 0.005, 2), round(hi - 0.005, 2)
         current = self.temperature_k
-        value = current if lo <= current <= hi else round(typical_temperature(self.adsorbate), 2)
+        value = current if lo <= current <= hi else round(typical, 2)
         self.param.temperature_k.step = 0.01 if hi - lo < 20 else 0.05
         self.param.temperature_k.bounds = (min(lo, current), max(hi, current))
         self.temperature_k = value

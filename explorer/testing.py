@@ -51,3 +51,104 @@ def readout_text(page) -> str:
 
 def wait_for_readout_change(page, before: str, timeout_s: float = 20.0) -> float:
     return wait_for_text_change(page, READOUT, before, timeout_s)
+
+
+LOADING = "pn-loading"      # the class Panel 1.9 puts on a component while its `loading` is True
+
+
+def slider_track(page, label_start: str):
+    """The noUiSlider track (``.noUi-target``) of the slider whose title starts with ``label_start``."""
+    titles = page.locator(".bk-slider-title")
+    titles.first.wait_for(timeout=30_000)
+    for i, text in enumerate(titles.all_inner_texts()):
+        if text.startswith(label_start):
+            return page.locator(".noUi-target").nth(i)
+    raise LookupError(f"no slider titled {label_start!r}")
+
+
+def slider_title(page, label_start: str) -> str:
+    """The title of a slider, with its value (e.g. ``Temperature (K): 1.50``)."""
+    for text in page.locator(".bk-slider-title").all_inner_texts():
+        if text.startswith(label_start):
+            return text
+    raise LookupError(f"no slider titled {label_start!r}")
+
+
+def handle_fraction(page, label_start: str) -> float:
+    """Where the slider's handle sits along its track, 0 (left end) to 1 (right end)."""
+    track = slider_track(page, label_start).bounding_box()
+    handle = slider_handle(page, label_start).bounding_box()
+    return (handle["x"] + handle["width"] / 2 - track["x"]) / track["width"]
+
+
+def is_loading(page, selector: str) -> bool:
+    """Whether the first component under ``selector`` shows Panel's loading state."""
+    return page.locator(selector).first.evaluate(f"e => e.classList.contains('{LOADING}')")
+
+
+def wait_for_loading(page, selector: str, loading: bool, timeout_s: float = 60.0) -> None:
+    """Wait until the component's loading state is ``loading``."""
+    deadline = time.perf_counter() + timeout_s
+    while time.perf_counter() < deadline:
+        if is_loading(page, selector) == loading:
+            return
+        page.wait_for_timeout(10)
+    raise TimeoutError(f"{selector} did not {'start' if loading else 'stop'} loading")
+
+
+def serve_scenario(scenario_file, port: int):
+    """Start ``porefill serve`` on ``scenario_file`` at 127.0.0.1:``port`` in a subprocess; return it once
+    the port accepts connections (the caller terminates it)."""
+    import os
+    import socket
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    exe = Path(sys.executable).with_name("porefill")
+    proc = subprocess.Popen([str(exe), "serve", "--scenario", str(scenario_file), "--port", str(port)],
+                            stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True,
+                            env={**os.environ, "PYTHONUNBUFFERED": "1"})
+    deadline = time.time() + 60
+    while time.time() < deadline:
+        try:
+            socket.create_connection(("127.0.0.1", port), timeout=0.5).close()
+            return proc
+        except OSError:
+            if proc.poll() is not None:
+                raise RuntimeError(f"server exited: {proc.stdout.read()}")
+            time.sleep(0.2)
+    proc.kill()
+    raise RuntimeError("server did not start within 60 s")
+
+
+_RECORDER = """([host, key]) => {
+  window.__porefill = window.__porefill || {};
+  if (window.__porefillFrame === undefined) {        // counts painted frames
+    window.__porefillFrame = 0;
+    const tick = () => { window.__porefillFrame += 1; requestAnimationFrame(tick); };
+    requestAnimationFrame(tick);
+  }
+  const log = window.__porefill[key] = [];
+  const note = () => log.push({t: Date.now(), frame: window.__porefillFrame,
+                               loading: host.classList.contains('pn-loading'),
+                               text: host.shadowRoot ? host.shadowRoot.textContent : host.textContent});
+  const observer = new MutationObserver(note);
+  observer.observe(host, {attributes: true, attributeFilter: ['class']});
+  if (host.shadowRoot) observer.observe(host.shadowRoot, {childList: true, subtree: true, characterData: true});
+  note();
+}"""
+
+
+def record_changes(page, selector: str, key: str) -> None:
+    """From now on, record in the page every change of the component under ``selector``: its loading
+    state and its text, with the browser's clock (read back with `recorded`). Records are made by the
+    page itself as the DOM changes, so none are missed while the test is busy elsewhere."""
+    host = page.locator(selector).first.element_handle()
+    page.evaluate(_RECORDER, [host, key])
+
+
+def recorded(page, key: str) -> list[dict]:
+    """The records of `record_changes`: dicts with ``t`` (ms, browser clock), ``frame`` (frames painted
+    so far: changes with the same number reached the screen together), ``loading`` and ``text``."""
+    return page.evaluate("key => window.__porefill[key]", key)

@@ -87,3 +87,223 @@ def test_picking_a_pressure_changes_the_occupancy_map(page):
     assert n_after < n_before                                # lower pressure, fewer atoms
     assert page.locator(".porefill-occupancy-map").first.screenshot() != map_png
     assert page.console_errors == []
+
+
+# ---- faults a new user hit ------------------------------------------------------------------------
+ISOTHERM = ".porefill-isotherm"
+STEPS_BOX = ".porefill-steps-box"
+OCC_BOX = ".porefill-occupancy-map"
+CAPTION = ".porefill-isotherm-caption p"
+
+
+def _side(text: str) -> str:
+    """The side length a caption or readout names ('side 15 Å' → '15')."""
+    return re.search(r"side(?: / radius / width)? ([\d.]+) Å", text).group(1)
+
+
+def test_clicking_the_isotherm_picks_a_pressure(page):
+    from explorer.testing import slider_title, text_of, wait_for_text_change
+
+    page.locator(OCCUPANCY).first.wait_for(timeout=30_000)
+    page.wait_for_timeout(800)
+    before, title_before = text_of(page, OCCUPANCY), slider_title(page, "Occupancy map")
+    canvas = page.locator(f"{ISOTHERM} canvas").first
+    canvas.scroll_into_view_if_needed()
+    box = canvas.bounding_box()
+    # left of the middle of the frame: a much lower pressure than the map starts at
+    page.mouse.click(box["x"] + 0.35 * box["width"], box["y"] + 0.5 * box["height"])
+    wait_for_text_change(page, OCCUPANCY, before)
+    assert slider_title(page, "Occupancy map") != title_before      # the slider follows the click
+    p_before = float(re.search(r"at p = ([-\d.e+]+) Pa", before).group(1))
+    p_after = float(re.search(r"at p = ([-\d.e+]+) Pa", text_of(page, OCCUPANCY)).group(1))
+    assert p_after < p_before
+    assert page.console_errors == []
+
+
+def _first(records, test, after: float = float("-inf"), clock: str = "t") -> float | None:
+    """Browser time (``t``, ms) or painted-frame number (``frame``) of the first record from ``after``
+    on that passes ``test``."""
+    return next((r[clock] for r in records if r[clock] >= after and test(r)), None)
+
+
+def test_stale_isotherm_is_marked_loading_until_its_result_arrives(page):
+    from explorer.testing import (is_loading, readout_text, record_changes, recorded, text_of, wait_for_loading,
+                                  wait_for_text_change)
+
+    page.locator(STEPS).first.wait_for(timeout=30_000)
+    page.wait_for_timeout(800)
+    steps_before = text_of(page, STEPS)
+    assert not is_loading(page, ISOTHERM)
+    for selector, key in ((ISOTHERM, "iso"), (STEPS_BOX, "steps_box"), (OCC_BOX, "occ"), (".porefill-steps", "steps")):
+        record_changes(page, selector, key)
+    drag_handle(page, slider_handle(page, "Side length"), 110)       # a large pore: seconds of work
+    wait_for_text_change(page, STEPS, steps_before, timeout_s=90)
+    wait_for_loading(page, ISOTHERM, False, timeout_s=10)
+    old_text = recorded(page, "steps")[0]["text"]
+    # compared by painted frame: what reached the screen together
+    new_steps = _first(recorded(page, "steps"), lambda r: r["text"] != old_text, clock="frame")
+    for key in ("iso", "steps_box", "occ"):
+        log = recorded(page, key)
+        stale = _first(log, lambda r: r["loading"], clock="frame")
+        assert stale is not None and stale <= new_steps, key          # marked while the old steps showed
+        fresh = _first(log, lambda r: not r["loading"], after=stale, clock="frame")
+        assert fresh is not None and fresh >= new_steps, key          # cleared when the new ones came
+    assert not is_loading(page, STEPS_BOX) and not is_loading(page, OCC_BOX)
+    # every part names the inputs it belongs to, and they agree with the controls
+    side = _side(readout_text(page))
+    assert float(side) > 30
+    for selector in (CAPTION, STEPS, OCCUPANCY):
+        assert _side(text_of(page, selector)) == side, selector
+    assert page.console_errors == []
+
+
+def test_other_sessions_stay_responsive_and_isolated(browser, served_app):
+    from explorer.testing import readout_text, record_changes, recorded, slider_title, text_of, wait_for_text_change
+
+    pages = []
+    for _ in range(2):
+        context = browser.new_context(viewport={"width": 1400, "height": 900})
+        pg = context.new_page()
+        pg.goto(served_app)
+        pg.locator(STEPS).first.wait_for(timeout=60_000)
+        pages.append(pg)
+    a, b = pages
+    try:
+        a.wait_for_timeout(800)
+        steps_a = text_of(a, STEPS)
+        record_changes(a, ISOTHERM, "iso")
+        record_changes(b, ".porefill-readout", "readout")
+        drag_handle(a, slider_handle(a, "Side length"), 600)          # to the end of the range: 100 Å
+        for _ in range(600):
+            if _first(recorded(a, "iso"), lambda r: r["loading"]) is not None:
+                break
+            a.wait_for_timeout(50)
+        before_b = readout_text(b)
+        drag_handle(b, slider_handle(b, "Side length"), 30)
+        wait_for_readout_change(b, before_b)
+        wait_for_text_change(a, STEPS, steps_a, timeout_s=120)
+        # B's readout was redrawn while A's isotherm was still being computed
+        log_a = recorded(a, "iso")
+        t_a_stale = _first(log_a, lambda r: r["loading"])
+        t_a_done = _first(log_a, lambda r: not r["loading"], after=t_a_stale)
+        first_b = recorded(b, "readout")[0]["text"]
+        t_b = _first(recorded(b, "readout"), lambda r: r["text"] != first_b)
+        assert t_a_stale is not None and t_a_done is not None and t_b is not None
+        assert t_b < t_a_done
+        side_a, side_b = _side(text_of(a, CAPTION)), _side(readout_text(b))
+        assert side_a == "100" and side_b != side_a
+        # nothing of A's state shows up in B
+        b.locator(STEPS).first.wait_for(timeout=30_000)
+        wait_for_text_change(b, CAPTION, "", timeout_s=60)
+        for _ in range(600):
+            if _side(text_of(b, CAPTION)) == side_b:
+                break
+            b.wait_for_timeout(50)
+        assert slider_title(b, "Side length").endswith(side_b)
+        for selector in (".porefill-readout p", STEPS, CAPTION, OCCUPANCY):
+            assert _side(text_of(b, selector)) == side_b, selector
+    finally:
+        for pg in pages:
+            pg.context.close()
+
+
+def test_occupancy_pressure_follows_the_new_gas(page):
+    from explorer.testing import handle_fraction, slider_title, text_of, wait_for_text_change
+
+    page.locator(OCCUPANCY).first.wait_for(timeout=30_000)
+    page.wait_for_timeout(800)
+    before = text_of(page, OCCUPANCY)
+    assert "helium-4" in before
+    page.locator("select").first.select_option("nitrogen")
+    wait_for_text_change(page, OCCUPANCY, before, timeout_s=60)
+    deadline_text = text_of(page, OCCUPANCY)
+    for _ in range(600):
+        if "nitrogen" in deadline_text:
+            break
+        page.wait_for_timeout(100)
+        deadline_text = text_of(page, OCCUPANCY)
+    assert "nitrogen" in deadline_text
+    page.wait_for_timeout(500)
+    # the slider starts afresh in nitrogen's range, near its top (the upper layers), not at helium's value
+    fraction = handle_fraction(page, "Occupancy map")
+    assert 0.7 < fraction < 0.9, fraction
+    relative = float(re.search(r"p/p₀ = ([-\d.e+]+)", deadline_text).group(1))
+    assert 0 < relative < 1
+    assert float(slider_title(page, "Temperature").split(":")[-1]) > 60     # nitrogen's range, K
+    assert page.console_errors == []
+
+
+def _wall_disabled(page) -> bool:
+    from explorer.testing import slider_track
+
+    return slider_track(page, "Wall thickness").get_attribute("disabled") == "true"
+
+
+def test_wall_slider_is_disabled_where_it_does_nothing(page):
+    page.locator(STEPS).first.wait_for(timeout=30_000)
+    assert not _wall_disabled(page)
+    page.get_by_role("button", name="cylinder").click()
+    page.locator(".porefill-wall-note p").first.wait_for(timeout=10_000)
+    assert _wall_disabled(page)
+    assert "cylinder" in page.locator(".porefill-wall-note p").first.inner_text()
+    page.get_by_role("button", name="hexagon").click()
+    page.locator(".porefill-wall-note p").first.wait_for(state="detached", timeout=10_000)
+    assert not _wall_disabled(page)
+    page.get_by_role("checkbox").first.check()
+    page.locator(".porefill-wall-note p").first.wait_for(timeout=10_000)
+    assert _wall_disabled(page)
+    assert page.console_errors == []
+
+
+def test_one_header_helpful_tooltips_and_subscripts(page):
+    page.locator(STEPS).first.wait_for(timeout=30_000)
+    headers = page.locator("h1")
+    assert headers.count() == 1
+    text = headers.first.inner_text()
+    assert text.count("porefill") == 1 and text.count("helium-4 in a hexagonal silica pore array") == 1
+    # each description icon says more than the label beside it
+    icons = page.locator(".bk-description")
+    assert icons.count() >= 1
+    for i in range(icons.count()):
+        icons.nth(i).hover()
+        tip = page.locator(".bk-tooltip-content").last
+        tip.wait_for(timeout=5_000)
+        assert len(tip.inner_text()) > 40 and "p₀" in tip.inner_text()
+    page.get_by_text("About & safety").click()
+    page.get_by_text("The adsorption model").first.wait_for(timeout=10_000)
+    pressures = page.locator("p", has_text="Pressures: p = ").first.inner_text()
+    assert "coex" in pressures and "μ_coex" not in pressures
+    assert page.locator("p", has_text="Pressures: p = ").first.locator("sub", has_text="coex").count() >= 1
+    assert page.console_errors == []
+
+
+HOSTILE = "<img src=x onerror=alert(1)><script>alert(2)</script>"
+
+
+def test_hostile_scenario_title_is_shown_as_text(browser, tmp_path):
+    import socket
+
+    from explorer.testing import serve_scenario
+
+    scenario = tmp_path / "hostile.toml"
+    scenario.write_text(f'[scenario]\ntitle = "{HOSTILE}"\nshape = "hexagon"\nsize_angstrom = 12.0\n'
+                        'wall_angstrom = 6.0\nadsorbate = "helium-4"\ntemperature_k = 1.5\n', encoding="utf-8")
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    proc = serve_scenario(scenario, port)
+    context = browser.new_context(viewport={"width": 1400, "height": 900})
+    try:
+        pg = context.new_page()
+        dialogs = []
+        pg.on("dialog", lambda d: (dialogs.append(d.message), d.dismiss()))
+        pg.goto(f"http://127.0.0.1:{port}/")
+        pg.locator(STEPS).first.wait_for(timeout=60_000)
+        pg.wait_for_timeout(1000)
+        assert HOSTILE in pg.locator("h1").first.inner_text()
+        assert pg.locator("h1 img, h1 script").count() == 0
+        assert dialogs == []
+    finally:
+        context.close()
+        proc.terminate()
+        proc.wait(timeout=10)

@@ -1,8 +1,13 @@
-"""Isotherm, compressibility and the occupancy map of the cross-section at a chosen pressure."""
+"""Isotherm, compressibility and the occupancy map of the cross-section at a chosen pressure.
+
+The isotherm is computed in a worker process (`explorer.compute`); until it arrives every part of this
+view that belongs to the previous inputs is marked as loading, and each part says which inputs it shows.
+"""
 from __future__ import annotations
 
+import html
 import io
-from functools import lru_cache
+from collections import OrderedDict
 
 import numpy as np
 import panel as pn
@@ -12,21 +17,41 @@ from bokeh.models import (ColorBar, ColumnDataSource, LabelSet, LinearColorMappe
 from bokeh.palettes import Cividis256
 from bokeh.plotting import figure
 
-from physics.adsorption import Isotherm, compute_isotherm
+from physics.adsorption import Isotherm
 from physics.scenario import Scenario
 
+from ..compute import LatestRunner, isotherm_job, short_error
 from ..isotherm_export import isotherm_csv
-from ..state import ExplorerState
-from .potential import outline
+from ..state import ExplorerState, describe
+from .potential import FRAME, outline
 
-ISOTHERM_POINTS = 300
 ADS_COLOUR, DES_COLOUR, EQ_COLOUR = "#1b6ca8", "#d1495b", "#333333"
 MODEL_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k"]
+# a change of these moves the pressure range so much that the picked pressure starts afresh
+RANGE_KEYS = ("shape", "adsorbate", "temperature_k")
+PICK_FRACTION = 0.8      # where in the log-pressure range the occupancy map starts: the upper layers
+
+_recent: OrderedDict[Scenario, Isotherm] = OrderedDict()   # isotherms this server has shown lately
 
 
-@lru_cache(maxsize=16)
+def _key(scenario: Scenario) -> Scenario:
+    return scenario.replace(title="", notes="")
+
+
+def _remember(scenario: Scenario, iso: Isotherm) -> None:
+    _recent[_key(scenario)] = iso
+    _recent.move_to_end(_key(scenario))
+    while len(_recent) > 16:
+        _recent.popitem(last=False)
+
+
 def cached_isotherm(scenario: Scenario) -> Isotherm:
-    return compute_isotherm(scenario.replace(title="", notes=""), n_points=ISOTHERM_POINTS)
+    """The isotherm for ``scenario``, from this server's recent ones or computed here (no worker)."""
+    iso = _recent.get(_key(scenario))
+    if iso is None:
+        iso = isotherm_job(_key(scenario))
+        _remember(scenario, iso)
+    return iso
 
 
 class IsothermView(pn.viewable.Viewer):
@@ -40,33 +65,51 @@ class IsothermView(pn.viewable.Viewer):
         self._steps = ColumnDataSource({k: [] for k in ("mu", "p", "n", "label")})
         self._sites = ColumnDataSource({k: [] for k in ("x", "y", "occ", "where")})
         self._outline = ColumnDataSource({"xs": [], "ys": []})
-        self._pick_src = ColumnDataSource({"mu": [], "p": []})
-        self.x_axis = pn.widgets.RadioButtonGroup(label="x axis", options=["pressure (log)", "chemical potential"],
+        self.x_axis = pn.widgets.RadioButtonGroup(options=["pressure (log)", "chemical potential"],
                                                   value="pressure (log)")
-        self.branch = pn.widgets.RadioButtonGroup(label="branch", options=["adsorption", "desorption", "equilibrium"],
+        self.branch = pn.widgets.RadioButtonGroup(options=["adsorption", "desorption", "equilibrium"],
                                                   value="equilibrium")
         self.pick = pn.widgets.FloatSlider(label="Occupancy map at log₁₀(p / Pa)", start=-10, end=0, step=0.01,
-                                           value=-1, width=420)
+                                           value=-1, width=FRAME + 50)
         self._p0_span = [Span(dimension="height", line_dash="dashed", line_color="#888888") for _ in range(2)]
         self._pick_span = [Span(dimension="height", line_color="#f4a259", line_width=2) for _ in range(2)]
         self._fig_p = self._isotherm_figure("log")
         self._fig_mu = self._isotherm_figure("linear")
         self._fig_k = self._compressibility_figure()
         self._fig_occ = self._occupancy_figure()
-        self._message = pn.pane.Alert("", alert_type="warning", visible=False)
+        self._message = pn.pane.HTML("", css_classes=["porefill-isotherm-message"], visible=False,
+                                     sizing_mode="stretch_width",
+                                     styles={"color": "#8a4b00", "font-weight": "bold"})
+        self._iso_caption = pn.pane.HTML("", css_classes=["porefill-caption", "porefill-isotherm-caption"],
+                                         width=FRAME + 60, styles={"font-size": "13px"})
         self._table = pn.pane.HTML("", css_classes=["porefill-steps"], sizing_mode="stretch_width")
-        self._occ_text = pn.pane.Markdown("", css_classes=["porefill-occupancy"], sizing_mode="stretch_width")
+        self._occ_text = pn.pane.HTML("", css_classes=["porefill-occupancy"], width=FRAME + 60,
+                                      styles={"font-size": "13px"})
         self.download = pn.widgets.FileDownload(callback=self.csv_file, filename="isotherm.csv",
-                                                label="Download the isotherm (CSV)",
-                                                width=260)
+                                                label="Download the isotherm (CSV)", width=260)
+        self._iso_box = pn.Column(self._iso_caption, self.x_axis, self.branch, pn.pane.Bokeh(self._fig_p),
+                                  pn.pane.Bokeh(self._fig_mu), css_classes=["porefill-isotherm"])
+        self._occ_box = pn.Column(self.pick, pn.pane.Bokeh(self._fig_occ), self._occ_text,
+                                  css_classes=["porefill-occupancy-map"])
+        self._k_box = pn.Column(pn.pane.Bokeh(self._fig_k), css_classes=["porefill-compressibility"])
+        self._table_box = pn.Column(self._table, self.download, sizing_mode="stretch_width",
+                                    css_classes=["porefill-steps-box"])
         self._iso: Isotherm | None = None
+        self._shown: Scenario | None = None       # inputs of the isotherm on show (None: nothing shown)
+        self._wanted: Scenario | None = None      # inputs of the newest request
+        self._pick_log10 = -1.0
+        self._runner = LatestRunner("isotherm", name="isotherm")
         self._redraw()
-        self.state.param.watch(self._schedule_redraw, MODEL_KEYS)
-        self.pick.param.watch(self._update_occupancy, "value_throttled")
+        self.state.param.watch(self._redraw, MODEL_KEYS)
+        self.pick.param.watch(self._on_pick, "value_throttled")
         self.branch.param.watch(self._update_occupancy, "value")
         self.x_axis.param.watch(self._swap_axis, "value")
         for fig in (self._fig_p, self._fig_mu):
             fig.on_event(Tap, self._on_tap)
+
+    @property
+    def _stale_boxes(self):
+        return (self._iso_box, self._occ_box, self._k_box, self._table_box)
 
     # figures --------------------------------------------------------------------------------------
     def _isotherm_figure(self, axis: str):
@@ -76,8 +119,9 @@ class IsothermView(pn.viewable.Viewer):
         extra = {} if log else {"x_range": Range1d(0, 1), "y_range": Range1d(0, 1)}
         fig = figure(title="Isotherm (mean-field lattice gas)", x_axis_type="log" if log else "linear",
                      x_axis_label="pressure p (Pa)" if log else "chemical potential μ (K)",
-                     y_axis_label="coverage (atoms per nm of pore; slit: per nm²)", frame_width=430, frame_height=280,
-                     tools="pan,wheel_zoom,box_zoom,reset,save,tap", visible=log, **extra)
+                     y_axis_label="coverage (atoms/nm; slit: per nm²)", frame_width=FRAME, frame_height=230,
+                     tools="pan,wheel_zoom,box_zoom,reset,save,tap", toolbar_location="above", visible=log,
+                     **extra)
         fig.line(x, "ads", source=self._curves, color=ADS_COLOUR, line_width=2, legend_label="adsorption")
         fig.line(x, "des", source=self._curves, color=DES_COLOUR, line_width=2, line_dash="dashed",
                  legend_label="desorption")
@@ -88,55 +132,90 @@ class IsothermView(pn.viewable.Viewer):
         fig.add_layout(self._p0_span[k])
         fig.add_layout(self._pick_span[k])
         fig.legend.location = "top_left"
+        fig.legend.label_text_font_size = "12px"
+        fig.legend.background_fill_alpha = 0.8
         return fig
 
     def _compressibility_figure(self):
         fig = figure(title="Compressibility dN/dμ", x_axis_label="chemical potential μ (K)",
-                     y_axis_label="dN/dμ (atoms per nm per K)", frame_width=430, frame_height=200,
-                     tools="pan,wheel_zoom,box_zoom,reset,save", y_axis_type="linear")
+                     y_axis_label="dN/dμ (atoms/nm per K)", frame_width=FRAME, frame_height=200,
+                     tools="pan,wheel_zoom,box_zoom,reset,save", toolbar_location="above", y_axis_type="linear")
         fig.line("mu", "kads", source=self._curves, color=ADS_COLOUR, line_width=1.5, legend_label="adsorption")
         fig.line("mu", "kdes", source=self._curves, color=DES_COLOUR, line_width=1.5, line_dash="dashed",
                  legend_label="desorption")
         fig.legend.location = "top_left"
+        fig.legend.label_text_font_size = "12px"
+        fig.legend.background_fill_alpha = 0.8
         return fig
 
     def _occupancy_figure(self):
         self._occ_mapper = LinearColorMapper(palette=Cividis256, low=0.0, high=1.0)
-        fig = figure(title="Site occupancy", x_axis_label="x (Å)", y_axis_label="y (Å)", frame_width=330,
-                     frame_height=330, match_aspect=True, x_range=Range1d(-1, 1), y_range=Range1d(-1, 1),
-                     tools="pan,wheel_zoom,reset,save,hover",
+        fig = figure(title="Site occupancy", x_axis_label="x (Å)", y_axis_label="y (Å)", frame_width=FRAME,
+                     frame_height=FRAME, match_aspect=True, x_range=Range1d(-1, 1), y_range=Range1d(-1, 1),
+                     tools="pan,wheel_zoom,reset,save,hover", toolbar_location="above",
                      tooltips=[("site", "@where"), ("occupancy", "@occ{0.000}"), ("x, y (Å)", "@x{0.0}, @y{0.0}")])
         self._site_glyph = fig.scatter("x", "y", source=self._sites, size=10, line_color="#444444",
                                        fill_color={"field": "occ", "transform": self._occ_mapper})
         fig.multi_line(xs="xs", ys="ys", source=self._outline, line_color="black", line_width=2)
-        fig.add_layout(ColorBar(color_mapper=self._occ_mapper, title="occupancy", width=12), "right")
+        fig.add_layout(ColorBar(color_mapper=self._occ_mapper, title="occupancy", height=10,
+                                orientation="horizontal", title_standoff=4), "below")
         return fig
 
     # updates --------------------------------------------------------------------------------------
-    def _schedule_redraw(self, *_):
-        """In a served page, recompute on the next tick: the cheaper views' updates reach the browser
-        first instead of waiting for the isotherm."""
-        doc = pn.state.curdoc
-        if doc is not None and doc.session_context is not None:
-            doc.add_next_tick_callback(self._redraw)
-        else:
-            self._redraw()
-
     def _redraw(self, *_):
-        sc = self.state.scenario()
+        """Ask for the isotherm of the current inputs; until it is here, mark what is stale."""
         try:
-            iso = cached_isotherm(sc)
-        except ValueError as exc:          # includes VapourPressureRangeError
-            self._iso = None
-            self._message.object = f"No isotherm: {exc}"
-            self._message.visible = True
+            sc = self.state.scenario()
+        except ValueError as exc:
+            self._fail(exc)
             return
-        self._iso = iso
-        self._message.visible = False
+        if self._wanted is not None and _key(sc) == _key(self._wanted):
+            return                                   # already asked for (e.g. adsorbate, then its temperature)
+        self._wanted = sc
+        if self._shown is not None and _key(sc) == _key(self._shown):
+            self._runner.generation += 1             # whatever is on its way is for other inputs
+            self._set_loading(False)
+            return
+        iso = _recent.get(_key(sc))
+        if iso is not None:
+            self._runner.generation += 1
+            self._apply(sc, iso)
+            return
+        self._set_loading(True)
+        self._runner.submit(isotherm_job, (_key(sc),), lambda result: self._arrived(sc, result),
+                            self._fail)
+
+    def _set_loading(self, on: bool) -> None:
+        with pn.io.hold():                  # all parts go stale (or fresh) in one message
+            for box in self._stale_boxes:
+                box.loading = on
+
+    def _arrived(self, sc: Scenario, iso: Isotherm) -> None:
+        _remember(sc, iso)
+        self._apply(sc, iso)
+
+    def _fail(self, exc: BaseException) -> None:
+        """No isotherm for the current inputs: say why in this view and show nothing of the old one."""
+        self._iso, self._shown = None, None
+        what = describe(self._wanted) if self._wanted is not None else "these settings"
+        with pn.io.hold():
+            self._message.object = f"<p>No isotherm for {html.escape(what)}: {html.escape(short_error(exc))}</p>"
+            self._message.visible = True
+            for src in (self._curves, self._steps, self._sites):
+                src.data = {k: [] for k in src.data}
+            self._iso_caption.object = ""
+            self._occ_text.object = ""
+            self._table.object = ""
+            self._set_loading(False)
+
+    def _apply(self, sc: Scenario, iso: Isotherm) -> None:
+        previous, self._iso, self._shown = self._shown, iso, sc
         ads, des = iso.per_nm(iso.adsorption), iso.per_nm(iso.desorption)
         p = iso.pressure_pa
-        lo, hi = float(np.log10(p[0])), float(np.log10(p[-1]))
+        lo, hi = round(float(np.log10(p[0])), 2), round(float(np.log10(p[-1])), 2)
+        label = html.escape(describe(sc))
         with pn.io.hold():
+            self._message.visible = False
             self._curves.data = {"mu": iso.mu, "p": p, "ads": ads, "des": des,
                                  "kads": iso.compressibility_per_nm(iso.adsorption),
                                  "kdes": iso.compressibility_per_nm(iso.desorption)}
@@ -149,53 +228,68 @@ class IsothermView(pn.viewable.Viewer):
             self._fig_mu.y_range.update(start=-0.02 * top, end=top)
             self._p0_span[0].location = iso.setup.saturation_pressure_pa
             self._p0_span[1].location = iso.setup.mu_coexistence_k
-            self._table.object = self._steps_table(iso)
+            self._iso_caption.object = f"<p>For {label}. Dashed line: p₀.</p>"
+            self._table.object = self._steps_table(iso, label)
             lines = outline(sc)
             self._outline.data = {"xs": [q[:, 0] for q in lines], "ys": [q[:, 1] for q in lines]}
             x0, x1, y0, y1 = sc.pore().bounding_box()
             pad = 0.05 * (x1 - x0)
             self._fig_occ.x_range.update(start=x0 - pad, end=x1 + pad)
             self._fig_occ.y_range.update(start=y0 - pad, end=y1 + pad)
-            self._site_glyph.glyph.size = max(3.0, 330 * iso.setup.spacing_angstrom / (x1 - x0 + 2 * pad) * 0.9)
-            old = self.pick.value
-            self.pick.param.update(start=round(lo, 2), end=round(hi, 2))
-            value = old if lo <= old <= hi else round(lo + 0.8 * (hi - lo), 2)
-            self.pick.param.update(value=value, value_throttled=value)
+            self._site_glyph.glyph.size = max(3.0, FRAME * iso.setup.spacing_angstrom / (x1 - x0 + 2 * pad) * 0.9)
+            moved = previous is None or any(getattr(previous, k) != getattr(sc, k) for k in RANGE_KEYS)
+            value = self._pick_log10
+            if moved or not lo <= value <= hi:
+                value = round(lo + PICK_FRACTION * (hi - lo), 2)
+            self._set_pick(value, start=lo, end=hi)
             self._update_occupancy()
+            self._set_loading(False)
 
-    def _steps_table(self, iso: Isotherm) -> str:
+    def _set_pick(self, value: float, **bounds) -> None:
+        """Move the occupancy slider (and what it stands for) without waiting for the browser."""
+        self._pick_log10 = value
+        with param.edit_constant(self.pick):     # value_throttled is the browser's, read-only here
+            self.pick.param.update(**bounds, value=value, value_throttled=value)
+
+    def _on_pick(self, event) -> None:
+        self._pick_log10 = float(event.new)
+        self._update_occupancy()
+
+    def _steps_table(self, iso: Isotherm, label: str) -> str:
         rows = []
         for i, s in enumerate(iso.steps, 1):
-            where = ", ".join(f"{n} ({c:g})" for n, c in s.filling) or "spread"
+            where = html.escape(", ".join(f"{n} ({c:g})" for n, c in s.filling) or "spread")
             loop = ""
             if s.kind == "first-order":
                 up = "—" if s.adsorption_jump_pressure_pa is None else f"{s.adsorption_jump_pressure_pa:.3g}"
                 down = "—" if s.desorption_jump_pressure_pa is None else f"{s.desorption_jump_pressure_pa:.3g}"
                 loop = f"{down} – {up}"
-            rows.append(f"<tr><td>{i}</td><td>{where}</td><td>{s.kind}</td><td>{s.pressure_pa:.3g}</td>"
+            rows.append(f"<tr><td>{i}</td><td>{where}</td><td>{html.escape(s.kind)}</td><td>{s.pressure_pa:.3g}</td>"
                         f"<td>{s.relative_pressure:.3g}</td><td>{s.added_per_nm:.2f}</td><td>{loop}</td></tr>")
         setup = iso.setup
         head = ("<tr><th>#</th><th>sites that fill</th><th>kind</th><th>p (Pa)</th><th>p/p₀</th>"
                 "<th>adds (atoms/nm)</th><th>hysteresis (Pa)</th></tr>")
         body = "".join(rows) or "<tr><td colspan=7>no steps in this range</td></tr>"
-        note = (f"<p style='font-size:90%'>p₀ = {setup.saturation_pressure_pa:.4g} Pa; {setup.bond_note}; "
-                f"lattice spacing {setup.spacing_angstrom:.3f} Å, {setup.problem.weights.sum():g} sites per slice. "
+        note = (f"<p style='font-size:90%'>p₀ = {setup.saturation_pressure_pa:.4g} Pa; "
+                f"{html.escape(setup.bond_note)}; lattice spacing {setup.spacing_angstrom:.3f} Å, "
+                f"{setup.problem.weights.sum():g} sites per slice. "
                 f"First-order steps are placed where the branches' grand potentials cross.</p>")
-        return f"<table class='porefill-step-table'>{head}{body}</table>{note}"
+        return (f"<table class='porefill-step-table'><caption style='text-align:left'><b>Layer steps</b> for "
+                f"{label}</caption>{head}{body}</table>{note}")
 
     def csv_file(self) -> io.BytesIO:
-        """Both branches of the current isotherm as CSV (what `porefill isotherm --csv` writes)."""
+        """Both branches of the isotherm on show as CSV (what `porefill isotherm --csv` writes)."""
         if self._iso is None:
             return io.BytesIO(b"no isotherm for these settings\n")
         return io.BytesIO(isotherm_csv(self._iso).encode("utf-8"))
 
     def _pick_index(self) -> int:
         iso = self._iso
-        target = 10.0 ** self.pick.value_throttled
+        target = 10.0 ** self._pick_log10
         return int(np.argmin(np.abs(np.log(iso.pressure_pa) - np.log(target))))
 
     def _update_occupancy(self, *_):
-        iso = self._iso
+        iso, sc = self._iso, self._shown
         if iso is None:
             return
         k = self._pick_index()
@@ -223,10 +317,11 @@ class IsothermView(pn.viewable.Viewer):
             self._pick_span[0].location = float(iso.pressure_pa[k])
             self._pick_span[1].location = float(iso.mu[k])
             self._occ_text.object = (
-                f"**Occupancy map** ({self.branch.value}) at p = {iso.pressure_pa[k]:.3g} Pa "
+                f"<p><b>Occupancy map</b> ({html.escape(self.branch.value)}) for {html.escape(describe(sc))}, "
+                f"at p = {iso.pressure_pa[k]:.3g} Pa "
                 f"(p/p₀ = {iso.relative_pressure[k]:.3g}, μ = {iso.mu[k]:.2f} K): "
                 f"{total:.2f} atoms per nm; central channel occupancy {centre:.3f}, "
-                f"i.e. {centre * 10.0 / iso.setup.spacing_angstrom:.2f} atoms per nm along it")
+                f"i.e. {centre * 10.0 / iso.setup.spacing_angstrom:.2f} atoms per nm along it</p>")
 
     def _on_tap(self, event):
         iso = self._iso
@@ -234,17 +329,15 @@ class IsothermView(pn.viewable.Viewer):
             return
         p = event.x if self.x_axis.value.startswith("pressure") else float(iso.setup.pressure_pa(event.x))
         if p > 0:
-            value = float(np.clip(np.log10(p), self.pick.start, self.pick.end))
-            self.pick.param.update(value=value, value_throttled=value)
+            value = round(float(np.clip(np.log10(p), self.pick.start, self.pick.end)), 2)
+            self._set_pick(value)
+            self._update_occupancy()
 
     def _swap_axis(self, event):
         log = event.new.startswith("pressure")
         self._fig_p.visible, self._fig_mu.visible = log, not log
 
     def __panel__(self):
-        controls = pn.Row(self.x_axis, self.branch)
-        left = pn.Column(self._message, controls, pn.pane.Bokeh(self._fig_p), pn.pane.Bokeh(self._fig_mu),
-                         pn.pane.Bokeh(self._fig_k), css_classes=["porefill-isotherm"])
-        right = pn.Column(self.pick, pn.pane.Bokeh(self._fig_occ), self._occ_text,
-                          css_classes=["porefill-occupancy-map"])
-        return pn.Column(pn.Row(left, right), self._table, self.download, sizing_mode="stretch_width")
+        plots = pn.FlexBox(self._iso_box, self._occ_box, self._k_box, flex_wrap="wrap", gap="8px 16px",
+                           sizing_mode="stretch_width")
+        return pn.Column(self._message, plots, self._table_box, sizing_mode="stretch_width")

@@ -1,7 +1,8 @@
 """Potential map, line cuts and the minimum readout.
 
 These two plots redraw on every slider release, so they are plain Bokeh figures whose data sources are
-updated in place (one websocket patch per change) rather than rebuilt.
+updated in place (one websocket patch per change) rather than rebuilt. The map, cuts and readout are
+computed in a worker thread (`explorer.compute`), never on the server's event loop.
 """
 from __future__ import annotations
 
@@ -20,11 +21,12 @@ from physics.geometry import CylinderPore, SlitPore
 from physics.scenario import Scenario
 from physics.wall_potential import PotentialMap, potential_map, wall_potential
 
-from ..state import ExplorerState
+from ..compute import LatestRunner, short_error
+from ..state import ExplorerState, describe
 
 MAP_POINTS = 200
 CUT_POINTS = 300
-MAP_WIDTH = 430
+FRAME = 290            # px: frame width of every plot, so that two plots fit side by side at 1024 px
 GEOMETRY_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate"]
 
 
@@ -98,6 +100,50 @@ def contour_lines(m: PotentialMap, levels) -> tuple[list, list]:
     return xs, ys
 
 
+def potential_result(scenario: Scenario) -> dict:
+    """Everything the map, the cuts and the readout show for ``scenario`` (runs in a worker thread)."""
+    geo = geometry_only(scenario)
+    m = cached_map(geo)
+    pore, pair = scenario.pore(), scenario.pair()
+    lo, hi = colour_range(m.values)
+    dx, dy = m.x[1] - m.x[0], m.y[1] - m.y[0]
+    x0, y0 = m.x[0] - dx / 2, m.y[0] - dy / 2
+    width, height = m.x[-1] - m.x[0] + dx, m.y[-1] - m.y[0] + dy
+    xs, ys = contour_lines(m, np.linspace(lo, hi, 11)[1:-1])
+    cuts = []
+    for label, angle, length in cut_directions(scenario):
+        r = np.linspace(0.0, length, CUT_POINTS)[:-1]
+        v = wall_potential(r * np.cos(angle), r * np.sin(angle), pore=pore, pair=pair)
+        cuts.append((label, r, np.where(np.isfinite(v), v, np.nan), length, float(np.min(v[np.isfinite(v)]))))
+    return {"scenario": scenario, "image": np.where(np.isfinite(m.values), m.values, np.nan),
+            "x0": x0, "y0": y0, "width": width, "height": height, "colour": (lo, hi),
+            "contours": (xs, ys), "outline": outline(scenario), "cuts": cuts,
+            "readout": readout_html(scenario)}
+
+
+def readout_html(sc: Scenario) -> str:
+    """The readout under the map: deepest minimum, centre, depth / kT, pore and pair (HTML, escaped)."""
+    geo = geometry_only(sc)
+    depth, x, y = deepest_minimum(geo)
+    pore, pair = sc.pore(), sc.pair()
+    if sc.shape == "slit":
+        x = 0.0          # uniform along x
+    centre = float(wall_potential(0.0, 0.0, pore=pore, pair=pair))
+    wall_gap = float(pore.depth_inside(x, y))
+    kt = sc.temperature_k
+    layout = "isolated pore in an unbounded solid" if sc.wall_angstrom is None or sc.shape == "cylinder" \
+        else f"array, walls {sc.wall_angstrom:g} Å thick"
+    return (
+        f"<p><b>Deepest minimum:</b> {depth:.2f} K at x = {x:.2f} Å, y = {y:.2f} Å "
+        f"({np.hypot(x, y):.2f} Å from the centre, {wall_gap:.2f} Å from the nearest wall)<br>"
+        f"<b>At the centre:</b> {centre:.3f} K &nbsp; <b>Depth / kT:</b> {abs(depth) / kt:.1f} at T = {kt:g} K "
+        f"&nbsp; <b>Pore:</b> {html.escape(sc.shape)}, {html.escape(layout)}, "
+        f"side / radius / width {sc.size_angstrom:g} Å, {html.escape(sc.adsorbate)}<br>"
+        f"<b>Pair:</b> ε = {pair.epsilon_k:.2f} K, σ = {pair.sigma_angstrom:.3f} Å, "
+        f"ρ = {pair.density_per_a3:.4f} Å⁻³ — {html.escape(pair.origin)}</p>"
+    )
+
+
 class PotentialView(pn.viewable.Viewer):
     """Map of the wall potential with contours and the pore outline; line cuts; readout."""
 
@@ -113,107 +159,101 @@ class PotentialView(pn.viewable.Viewer):
         self._map_fig = self._make_map_figure()
         self._cut_fig = self._make_cut_figure()
         self._readout = pn.pane.HTML("", css_classes=["porefill-readout"], sizing_mode="stretch_width")
+        self._message = pn.pane.HTML("", css_classes=["porefill-potential-message"], visible=False,
+                                     sizing_mode="stretch_width")
+        self._map_caption = pn.pane.HTML("", css_classes=["porefill-caption", "porefill-map-caption"],
+                                         width=FRAME + 60, styles={"font-size": "13px"})
+        self._map_box = pn.Column(self._map_caption, pn.pane.Bokeh(self._map_fig), css_classes=["porefill-map"])
+        self._cut_box = pn.Column(pn.pane.Bokeh(self._cut_fig), css_classes=["porefill-cuts"])
+        self._runner = LatestRunner("map", name="potential map")
+        self._shown: Scenario | None = None       # the inputs the map and cuts now show
         self._redraw()
-        self.state.param.watch(self._redraw, GEOMETRY_KEYS)
-        self.state.param.watch(self._update_readout, ["temperature_k"])
+        self.state.param.watch(self._redraw, GEOMETRY_KEYS + ["temperature_k"])
 
     # figures --------------------------------------------------------------------------------------
     def _make_map_figure(self):
-        fig = figure(title="Wall potential V(x, y)   (pale: V > 0 K, grey: solid)", x_axis_label="x (Å)",
-                     y_axis_label="y (Å)", frame_width=MAP_WIDTH, frame_height=MAP_WIDTH,
+        fig = figure(title="Wall potential V(x, y)", x_axis_label="x (Å)",
+                     y_axis_label="y (Å)", frame_width=FRAME, frame_height=FRAME,
                      x_range=Range1d(-1, 1), y_range=Range1d(-1, 1), tools="pan,wheel_zoom,box_zoom,reset,save",
-                     match_aspect=True)
+                     toolbar_location="above", match_aspect=True)
         img = fig.image(image="image", x="x", y="y", dw="dw", dh="dh", source=self._image,
                         color_mapper=self._mapper)
         fig.multi_line(xs="xs", ys="ys", source=self._contours, line_color="white", line_alpha=0.75,
                        line_width=0.9)
         fig.multi_line(xs="xs", ys="ys", source=self._outline, line_color="black", line_width=2)
-        fig.add_layout(ColorBar(color_mapper=self._mapper, title="V (K)", width=14), "right")
+        fig.add_layout(ColorBar(color_mapper=self._mapper, title="V (K)", height=10, orientation="horizontal",
+                                title_standoff=4), "below")
         fig.add_tools(HoverTool(renderers=[img], tooltips=[("x, y (Å)", "$x{0.00}, $y{0.00}"),
                                                            ("V (K)", "@image{0.000}")]))
         return fig
 
     def _make_cut_figure(self):
         fig = figure(title="Line cuts", x_axis_label="distance from the pore centre (Å)", y_axis_label="V (K)",
-                     frame_width=420, frame_height=300, x_range=Range1d(0, 1), y_range=Range1d(-1, 1),
-                     tools="pan,wheel_zoom,box_zoom,reset,save,hover",
+                     frame_width=FRAME, frame_height=230, x_range=Range1d(0, 1), y_range=Range1d(-1, 1),
+                     tools="pan,wheel_zoom,box_zoom,reset,save,hover", toolbar_location="above",
                      tooltips=[("r (Å)", "@r{0.00}"), ("V (K)", "@v{0.000}")])
         self._cut_renderers = [fig.line("r", "v", source=src, line_width=2, color=Category10_10[k],
                                         legend_label=f"cut {k + 1}")
                                for k, src in enumerate(self._cuts)]
         fig.legend.location = "bottom_left"
+        fig.legend.label_text_font_size = "12px"
+        fig.legend.background_fill_alpha = 0.8
         return fig
 
     # updates --------------------------------------------------------------------------------------
-    def _scenario(self) -> Scenario:
-        return self.state.scenario()
-
-    def _redraw(self, *_):
-        sc = self._scenario()
-        geo = geometry_only(sc)
-        m = cached_map(geo)
-        pore, pair = sc.pore(), sc.pair()
-        lo, hi = colour_range(m.values)
-        dx, dy = m.x[1] - m.x[0], m.y[1] - m.y[0]
-        x0, y0 = m.x[0] - dx / 2, m.y[0] - dy / 2
-        width, height = m.x[-1] - m.x[0] + dx, m.y[-1] - m.y[0] + dy
-        xs, ys = contour_lines(m, np.linspace(lo, hi, 11)[1:-1])
-        lines = outline(sc)
-        cut_data, lows = [], []
-        for label, angle, length in cut_directions(sc):
-            r = np.linspace(0.0, length, CUT_POINTS)[:-1]
-            v = wall_potential(r * np.cos(angle), r * np.sin(angle), pore=pore, pair=pair)
-            lows.append(np.min(v[np.isfinite(v)]))
-            cut_data.append((label, r, np.where(np.isfinite(v), v, np.nan), length))
-        low = min(lows)
+    def _redraw(self, *events):
+        sc = self.state.scenario()
         with pn.io.hold():
-            self._image.data = {"image": [np.where(np.isfinite(m.values), m.values, np.nan)], "x": [x0], "y": [y0],
-                                "dw": [width], "dh": [height]}
-            self._mapper.update(low=lo, high=hi)
-            self._contours.data = {"xs": xs, "ys": ys}
-            self._outline.data = {"xs": [p[:, 0] for p in lines], "ys": [p[:, 1] for p in lines]}
-            self._map_fig.x_range.update(start=x0, end=x0 + width)
-            self._map_fig.y_range.update(start=y0, end=y0 + height)
-            self._map_fig.frame_height = int(round(MAP_WIDTH * height / width))
-            for k, src in enumerate(self._cuts):
-                if k < len(cut_data):
-                    label, r, v, _ = cut_data[k]
-                    src.data = {"r": r, "v": v}
-                    self._cut_renderers[k].visible = True
-                    self._cut_fig.legend.items[k].update(label={"value": label}, visible=True)
-                else:
-                    src.data = {"r": [], "v": []}
-                    self._cut_renderers[k].visible = False
-                    self._cut_fig.legend.items[k].visible = False
-            self._cut_fig.x_range.update(start=0.0, end=max(c[3] for c in cut_data))
-            top = abs(low) * 0.4 if low < 0 else low + 1.0
-            self._cut_fig.y_range.update(start=low * 1.08 if low < 0 else low - 1.0, end=top)
-        self._readout.object = self._readout_text(sc)
+            if self._shown is None or geometry_only(sc) != geometry_only(self._shown):
+                self._map_box.loading = self._cut_box.loading = True
+            self._readout.loading = True
+        self._runner.submit(potential_result, (sc,), self._apply, self._fail)
 
-    def _readout_text(self, sc: Scenario) -> str:
-        geo = geometry_only(sc)
-        depth, x, y = deepest_minimum(geo)
-        pore, pair = sc.pore(), sc.pair()
-        if sc.shape == "slit":
-            x = 0.0          # uniform along x
-        centre = float(wall_potential(0.0, 0.0, pore=pore, pair=pair))
-        wall_gap = float(pore.depth_inside(x, y))
-        kt = sc.temperature_k
-        layout = "isolated pore in an unbounded solid" if sc.wall_angstrom is None or sc.shape == "cylinder" \
-            else f"array, walls {sc.wall_angstrom:g} Å thick"
-        return (
-            f"<p><b>Deepest minimum:</b> {depth:.2f} K at x = {x:.2f} Å, y = {y:.2f} Å "
-            f"({np.hypot(x, y):.2f} Å from the centre, {wall_gap:.2f} Å from the nearest wall)<br>"
-            f"<b>At the centre:</b> {centre:.3f} K &nbsp; <b>Depth / kT:</b> {abs(depth) / kt:.1f} at T = {kt:g} K "
-            f"&nbsp; <b>Pore:</b> {sc.shape}, {layout}<br>"
-            f"<b>Pair:</b> ε = {pair.epsilon_k:.2f} K, σ = {pair.sigma_angstrom:.3f} Å, "
-            f"ρ = {pair.density_per_a3:.4f} Å⁻³ — {html.escape(pair.origin)}</p>"
-        )
+    def _fail(self, exc: BaseException):
+        with pn.io.hold():
+            self._message.object = f"<p>No wall potential: {html.escape(short_error(exc))}</p>"
+            self._message.visible = True
+            self._readout.object = ""
+            self._map_box.loading = self._cut_box.loading = self._readout.loading = False
 
-    def _update_readout(self, *_):
-        self._readout.object = self._readout_text(self._scenario())
+    def _apply(self, res: dict):
+        sc = res["scenario"]
+        cut_data = res["cuts"]
+        x0, y0, width, height = res["x0"], res["y0"], res["width"], res["height"]
+        lo, hi = res["colour"]
+        low = min(c[4] for c in cut_data)
+        with pn.io.hold():
+            if self._shown is None or geometry_only(sc) != geometry_only(self._shown):
+                self._image.data = {"image": [res["image"]], "x": [x0], "y": [y0], "dw": [width], "dh": [height]}
+                self._mapper.update(low=lo, high=hi)
+                xs, ys = res["contours"]
+                self._contours.data = {"xs": xs, "ys": ys}
+                lines = res["outline"]
+                self._outline.data = {"xs": [p[:, 0] for p in lines], "ys": [p[:, 1] for p in lines]}
+                self._map_fig.x_range.update(start=x0, end=x0 + width)
+                self._map_fig.y_range.update(start=y0, end=y0 + height)
+                self._map_fig.frame_height = int(round(FRAME * height / width))
+                for k, src in enumerate(self._cuts):
+                    if k < len(cut_data):
+                        label, r, v, _, _ = cut_data[k]
+                        src.data = {"r": r, "v": v}
+                        self._cut_renderers[k].visible = True
+                        self._cut_fig.legend.items[k].update(label={"value": label}, visible=True)
+                    else:
+                        src.data = {"r": [], "v": []}
+                        self._cut_renderers[k].visible = False
+                        self._cut_fig.legend.items[k].visible = False
+                self._cut_fig.x_range.update(start=0.0, end=max(c[3] for c in cut_data))
+                top = abs(low) * 0.4 if low < 0 else low + 1.0
+                self._cut_fig.y_range.update(start=low * 1.08 if low < 0 else low - 1.0, end=top)
+                self._map_caption.object = (f"<p>For {html.escape(describe(sc, temperature=False))}. "
+                                            "Pale: V &gt; 0 K; grey: solid.</p>")
+            self._shown = sc
+            self._message.visible = False
+            self._readout.object = res["readout"]
+            self._map_box.loading = self._cut_box.loading = self._readout.loading = False
 
     def __panel__(self):
-        plots = pn.Row(pn.Column(pn.pane.Bokeh(self._map_fig), css_classes=["porefill-map"]),
-                       pn.Column(pn.pane.Bokeh(self._cut_fig), css_classes=["porefill-cuts"]))
-        return pn.Column(self._readout, plots, sizing_mode="stretch_width")
+        plots = pn.FlexBox(self._map_box, self._cut_box, flex_wrap="wrap", gap="8px 16px",
+                           sizing_mode="stretch_width")
+        return pn.Column(self._message, self._readout, plots, sizing_mode="stretch_width")
