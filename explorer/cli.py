@@ -37,7 +37,8 @@ def _add_pore_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--size", type=float, default=15.0,
                    help="hexagon side length (centre to corner), cylinder radius or slit width, Å")
     p.add_argument("--wall", type=float, default=8.0,
-                   help="wall thickness between neighbouring pores of the array, Å (hexagon, slit)")
+                   help="wall thickness between neighbouring pores of the array, Å (hexagon, slit; at least "
+                        "one spacing of the solid's force centres, 2.83 Å for silica)")
     p.add_argument("--isolated", action="store_true", help="one pore in an unbounded solid (ignores --wall)")
     p.add_argument("--adsorbate", default="helium-4", help=f"one of {', '.join(ADSORBATES)}")
     p.add_argument("--solid", default="silica", help=f"one of {', '.join(SOLIDS)}")
@@ -66,16 +67,24 @@ def _json_number(v: float):
 
 def _cmd_potential(args) -> int:
     import numpy as np
-    from physics.wall_potential import potential_map, wall_potential
+    from physics.limits import check_grid
+    from physics.wall_potential import deepest_minimum, potential_map, wall_potential
+
+    from .formatting import format_minimum
 
     scenario = _scenario_from_args(args)
     pore, pair = scenario.pore(), scenario.pair()
     if args.grid is not None:
-        if args.grid < 2 or args.grid > 2000:
-            raise UsageError(f"--grid must be between 2 and 2000, got {args.grid}")
-        m = potential_map(pore=pore, pair=pair, n=args.grid)
+        try:
+            n = check_grid(args.grid)
+            m = potential_map(pore=pore, pair=pair, n=n)
+            low = deepest_minimum(pore=pore, pair=pair)
+        except ValueError as exc:
+            raise UsageError(f"--grid: {exc}") from None
         result = {"unit": "K", "x": [float(v) for v in m.x], "y": [float(v) for v in m.y],
-                  "potential": [[_json_number(v) for v in row] for row in m.values]}
+                  "potential": [[_json_number(v) for v in row] for row in m.values],
+                  "deepest_minimum": {"potential": low.depth_k, "x": low.x_angstrom, "y": low.y_angstrom,
+                                      "wall_distance": low.wall_distance_angstrom}}
     else:
         pts = np.array(args.at, float)
         values = wall_potential(pts[:, 0], pts[:, 1], pore=pore, pair=pair)
@@ -90,8 +99,7 @@ def _cmd_potential(args) -> int:
             print(f"x = {p['x']:g} Å, y = {p['y']:g} Å: {v}")
     else:
         finite = m.values[np.isfinite(m.values)]
-        depth, x, y = m.minimum()
-        print(f"{args.grid} x {args.grid} map; deepest {depth:.4f} K at ({x:.3f}, {y:.3f}) Å; "
+        print(f"{args.grid} x {args.grid} map; {format_minimum(low)}; "
               f"{finite.size} points inside the pore (use --json for the values)")
     return 0
 
@@ -99,7 +107,7 @@ def _cmd_potential(args) -> int:
 def _model_scenario(args):
     return _scenario_from_args(args, temperature_k=args.temperature, lattice_spacing_angstrom=args.spacing,
                                bond_energy_k=args.bond, bond_calibration=args.bond_rule,
-                               pore_volume_cm3_g=args.pore_volume)
+                               pore_volume_cm3_g=args.pore_volume, site_model=args.site_model)
 
 
 def _cmd_isotherm(args) -> int:
@@ -108,19 +116,20 @@ def _cmd_isotherm(args) -> int:
     from .isotherm_export import isotherm_csv, isotherm_json, isotherm_summary
 
     scenario = _model_scenario(args)
-    if not (3 <= args.points <= 5000):
-        raise UsageError(f"--points must be between 3 and 5000, got {args.points}")
-    prange = None
-    if args.pressure_range is not None:
-        prange = tuple(args.pressure_range)
+    if args.csv is not None and not args.csv.strip():
+        raise UsageError("--csv needs a file name")
     try:
-        if args.relative_pressure_range is not None:
-            from physics.vapour_pressure import saturated_vapour_pressure
-            p0 = saturated_vapour_pressure(scenario.adsorbate, scenario.temperature_k)
-            prange = (args.relative_pressure_range[0] * p0, args.relative_pressure_range[1] * p0)
-        iso = compute_isotherm(scenario, n_points=args.points, pressure_range_pa=prange)
-    except ValueError as exc:          # includes VapourPressureRangeError
-        raise UsageError(str(exc)) from None
+        iso = compute_isotherm(
+            scenario, n_points=args.points,
+            pressure_range_pa=None if args.pressure_range is None else tuple(args.pressure_range),
+            relative_pressure_range=(None if args.relative_pressure_range is None
+                                     else tuple(args.relative_pressure_range)),
+            allow_above_p0=args.allow_above_p0)
+    except ValueError as exc:          # includes VapourPressureRangeError and the limits
+        message = str(exc)
+        if message.startswith("number of points"):
+            message = f"--points: {message}"
+        raise UsageError(message) from None
     if args.csv:
         try:
             with open(args.csv, "w", encoding="utf-8", newline="") as fh:
@@ -132,6 +141,9 @@ def _cmd_isotherm(args) -> int:
         sys.stdout.write("\n")
     else:
         print(isotherm_summary(iso))
+    if iso.stage.scale.p0_extrapolated:
+        sys.stderr.write(f"porefill: note: p0 at {scenario.temperature_k:g} K is extrapolated below the ITS-90 "
+                         "range (1.25 K); the JSON flags it\n")
     return 0
 
 
@@ -195,7 +207,9 @@ def _cmd_serve(args) -> int:
     return 0
 
 
-def build_parser() -> argparse.ArgumentParser:
+def build_parser(*, serve_only: bool = False) -> argparse.ArgumentParser:
+    """The full parser; ``serve_only`` leaves out the computing commands, whose option lists import the
+    physics (numpy, scipy), so that `porefill serve` checks its arguments at once."""
     parser = argparse.ArgumentParser(prog="porefill", description=(
         "Wall potentials and adsorption in ordered nanoporous solids. Lengths in Å, energies in K."))
     sub = parser.add_subparsers(dest="command", required=True)
@@ -212,6 +226,8 @@ def build_parser() -> argparse.ArgumentParser:
                    help="file whose first line is the password (else $POREFILL_PASSWORD); required "
                         "with an --address other than loopback")
     p.set_defaults(func=_cmd_serve)
+    if serve_only:
+        return parser
 
     p = sub.add_parser("potential", help="wall potential at points or on a grid, K")
     _add_pore_options(p)
@@ -236,6 +252,11 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--bond", type=float, metavar="K", help="fluid–fluid bond energy ε_b, K (overrides the rule)")
     p.add_argument("--bond-rule", choices=BOND_RULES, help="calibration of ε_b (default vapour-pressure)")
     p.add_argument("--spacing", type=float, metavar="Å", help="lattice site spacing, Å (default: bulk liquid density)")
+    p.add_argument("--allow-above-p0", action="store_true",
+                   help="allow a pressure range above the saturated vapour pressure p0 (bulk condensation)")
+    from physics.site_models import SITE_MODEL_NAMES
+    p.add_argument("--site-model", choices=SITE_MODEL_NAMES, default="classical",
+                   help="how site free energies are computed (default classical)")
     p.add_argument("--pore-volume", type=float, metavar="cm³/g",
                    help="specific pore volume of the sample, cm³/g (adds mmol/g and cm³(STP)/g)")
     p.add_argument("--json", action="store_true", help="print JSON")
@@ -267,8 +288,8 @@ def _glue_negative_points(argv: list[str]) -> list[str]:
 
 
 def main(argv: list[str] | None = None) -> int:
-    parser = build_parser()
     argv = _glue_negative_points(list(sys.argv[1:] if argv is None else argv))
+    parser = build_parser(serve_only=bool(argv) and argv[0] == "serve")
 
     def one_line_error(message: str):
         sys.stderr.write(f"porefill: error: {message}\n")
