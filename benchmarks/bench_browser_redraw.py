@@ -4,10 +4,15 @@ Serves the dashboard on the demo scenario, drives Debian's Chromium with Playwri
 side-length slider back and forth and, for each release, records when the readout text changed and
 when the map canvas's pixels changed; then drags the temperature slider and records when both the isotherm
 plot's pixels and the steps table had changed. Run: .venv/bin/python benchmarks/bench_browser_redraw.py
+
+``--contention`` measures instead session B's map redraw while session A keeps asking for isotherms of
+60–100 Å pores, once with the isotherms in worker processes and once in threads
+(``POREFILL_ISOTHERM_WORKERS``), and prints both.
 """
 from __future__ import annotations
 
 import json
+import os
 import socket
 import statistics
 import subprocess
@@ -51,10 +56,11 @@ def free_port() -> int:
         return s.getsockname()[1]
 
 
-def serve(port: int) -> subprocess.Popen:
+def serve(port: int, workers: str = "process") -> subprocess.Popen:
     exe = Path(sys.executable).with_name("porefill")
     proc = subprocess.Popen([str(exe), "serve", "--scenario", str(ROOT / "scenarios/demo-hexagon-helium.toml"),
-                             "--port", str(port)], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+                             "--port", str(port)], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
+                            env={**os.environ, "POREFILL_ISOTHERM_WORKERS": workers})
     for _ in range(300):
         try:
             socket.create_connection(("127.0.0.1", port), timeout=0.2).close()
@@ -119,5 +125,51 @@ def main(reps: int = 12) -> None:
                       "n": len(iso_ms), "of": reps}))
 
 
+def map_redraw_ms(page, dx: float) -> float | None:
+    """Drag the side-length slider by dx and return ms from release to changed map pixels."""
+    before = map_signature(page)
+    released = drag_handle(page, slider_handle(page, "Side length"), dx)
+    deadline = released + 30
+    while time.perf_counter() < deadline:
+        if map_signature(page) != before:
+            return 1e3 * (time.perf_counter() - released)
+    return None
+
+
+def contention(workers: str, reps: int = 10) -> None:
+    port = free_port()
+    proc = serve(port, workers)
+    try:
+        with sync_playwright() as p:
+            browser = p.chromium.launch(executable_path="/usr/bin/chromium", headless=True, args=ARGS)
+            a = browser.new_context(viewport={"width": 1400, "height": 900}).new_page()
+            b = browser.new_context(viewport={"width": 1400, "height": 900}).new_page()
+            for page in (a, b):
+                page.goto(f"http://127.0.0.1:{port}/")
+                page.locator(".porefill-steps table").first.wait_for(timeout=60_000)
+            b.wait_for_timeout(1000)
+            quiet = [map_redraw_ms(b, 25 if i % 2 == 0 else -25) for i in range(reps)]
+            busy = []
+            drag_handle(a, slider_handle(a, "Side length"), 600)        # A: 100 Å
+            for i in range(reps):
+                if i % 3 == 0:         # A keeps asking for new large pores (60–100 Å)
+                    drag_handle(a, slider_handle(a, "Side length"), -40 if i % 2 == 0 else 40)
+                busy.append(map_redraw_ms(b, 25 if i % 2 == 0 else -25))
+                b.wait_for_timeout(300)
+            browser.close()
+    finally:
+        proc.terminate()
+        proc.wait(timeout=30)
+    for name, values in (("idle", quiet), ("while_other_session_computes", busy)):
+        got = [v for v in values if v is not None]
+        print(json.dumps({"benchmark": f"browser_map_redraw_{name}", "isotherm_workers": workers,
+                          "median_ms": round(statistics.median(got), 1), "max_ms": round(max(got), 1),
+                          "n": len(got), "of": len(values)}))
+
+
 if __name__ == "__main__":
-    main()
+    if "--contention" in sys.argv:
+        for kind in ("process", "thread"):
+            contention(kind)
+    else:
+        main()
