@@ -68,7 +68,17 @@ def _warm_worker() -> None:
         os.nice(5)
     except OSError:
         pass
+    threading.Thread(target=_exit_with_parent, args=(os.getppid(),), daemon=True).start()
     import physics.adsorption  # noqa: F401 - a worker's first isotherm should not pay for the imports
+
+
+def _exit_with_parent(parent: int) -> None:
+    """A worker whose server was killed (SIGTERM skips the pool's shutdown) ends itself, even mid-job."""
+    import time
+
+    while os.getppid() == parent:
+        time.sleep(1.0)
+    os._exit(0)
 
 
 # jobs: top-level functions, so that a process pool can pickle them ------------------------------------
