@@ -31,6 +31,7 @@ test: $(STAMP) chromium
 	$(BIN)/python -m pytest
 
 benchmark: $(STAMP) chromium
+	$(BIN)/python -m pip install --quiet -e '.[test,bench]'
 	for f in benchmarks/bench_*.py; do $(BIN)/python $$f || exit 1; done
 
 clean:

@@ -1,11 +1,16 @@
 """Dashboard state: the user's choices as parameters, turned into a frozen Scenario on demand."""
 from __future__ import annotations
 
+import numpy as np
 import param
 
 from physics.geometry import PORE_SHAPES
-from physics.materials import ADSORBATES
+from physics.limits import minimum_wall_angstrom
+from physics.materials import ADSORBATES, SOLIDS
 from physics.scenario import Scenario
+
+# the thinnest wall the scenario accepts (one spacing of silica's force centres), on the slider's 0.5 Å steps
+_WALL_MIN = float(np.ceil(2.0 * minimum_wall_angstrom(SOLIDS["silica"].density_per_a3)) / 2.0)
 
 __all__ = ["ExplorerState", "describe", "wall_is_used"]
 
@@ -38,9 +43,10 @@ class ExplorerState(param.Parameterized):
                                  label="Side length / radius / width (Å)",
                                  doc="Hexagon: centre to corner; cylinder: radius; slit: wall-to-wall width. "
                                      "5–100 Å; isotherms of pores above ~60 Å take seconds.")
-    wall_angstrom = param.Number(default=8.0, bounds=(0.0, 100.0), softbounds=(0.0, 30.0), step=0.5,
+    wall_angstrom = param.Number(default=8.0, bounds=(_WALL_MIN, 100.0), softbounds=(_WALL_MIN, 30.0), step=0.5,
                                  label="Wall thickness (Å)",
-                                 doc="Solid between neighbouring pores of a hexagonal or slit array, 0–30 Å; "
+                                 doc=f"Solid between neighbouring pores of a hexagonal or slit array, {_WALL_MIN:g}–30 Å "
+                                     "(no thinner than one layer of the solid's atoms); "
                                      "thinner walls let the neighbours' missing solid weaken the potential. "
                                      "Not used for the cylinder (always one pore in an unbounded solid) or "
                                      "for an isolated pore.")
@@ -55,6 +61,8 @@ class ExplorerState(param.Parameterized):
                                      "the isotherm and the depth / kT readout, not the wall potential.")
     solid = param.String(default="silica", constant=True, doc="Solid (catalog name)")
     title = param.String(default="", doc="Scenario title (from the scenario file; shown as plain text)")
+    base = param.ClassSelector(class_=Scenario, default=Scenario(), precedence=-1,
+                               doc="The loaded scenario: every field the controls do not set comes from here")
 
     def __init__(self, **params):
         super().__init__(**params)
@@ -80,13 +88,16 @@ class ExplorerState(param.Parameterized):
 
     @classmethod
     def from_scenario(cls, scenario: Scenario) -> "ExplorerState":
+        wall = scenario.wall_angstrom
         return cls(shape=scenario.shape, size_angstrom=scenario.size_angstrom,
-                   wall_angstrom=scenario.wall_angstrom if scenario.wall_angstrom is not None else 8.0,
-                   isolated=scenario.wall_angstrom is None, adsorbate=scenario.adsorbate,
-                   temperature_k=scenario.temperature_k, solid=scenario.solid, title=scenario.title)
+                   wall_angstrom=wall if wall is not None else 8.0,
+                   isolated=wall is None, adsorbate=scenario.adsorbate,
+                   temperature_k=scenario.temperature_k, solid=scenario.solid, title=scenario.title, base=scenario)
 
     def scenario(self) -> Scenario:
-        return Scenario(shape=self.shape, size_angstrom=float(self.size_angstrom),
-                        wall_angstrom=None if self.isolated else float(self.wall_angstrom),
-                        adsorbate=self.adsorbate, solid=self.solid, temperature_k=float(self.temperature_k),
-                        title=self.title)
+        """The loaded scenario with what the controls hold: every other field (pair overrides, lattice,
+        bond, site model, pore volume, notes) is kept as loaded."""
+        return self.base.replace(shape=self.shape, size_angstrom=float(self.size_angstrom),
+                                 wall_angstrom=None if self.isolated else float(self.wall_angstrom),
+                                 adsorbate=self.adsorbate, solid=self.solid, temperature_k=float(self.temperature_k),
+                                 title=self.title)

@@ -18,10 +18,11 @@ from bokeh.palettes import Cividis256
 from bokeh.plotting import figure
 
 from physics.adsorption import Isotherm
+from physics.lattice import slit_row_sites
 from physics.scenario import Scenario
 
 from ..compute import LatestRunner, isotherm_job, short_error
-from ..isotherm_export import isotherm_csv
+from ..isotherm_export import amount_labels, isotherm_csv
 from ..state import ExplorerState, describe
 from .potential import FRAME, outline
 
@@ -268,7 +269,7 @@ class IsothermView(pn.viewable.Viewer):
                         f"<td>{s.relative_pressure:.3g}</td><td>{s.added_per_nm:.2f}</td><td>{loop}</td></tr>")
         setup = iso.setup
         head = ("<tr><th>#</th><th>sites that fill</th><th>kind</th><th>p (Pa)</th><th>p/p₀</th>"
-                "<th>adds (atoms/nm)</th><th>hysteresis (Pa)</th></tr>")
+                f"<th>adds ({html.escape(amount_labels(iso)['short'])})</th><th>hysteresis (Pa)</th></tr>")
         body = "".join(rows) or "<tr><td colspan=7>no steps in this range</td></tr>"
         note = (f"<p style='font-size:90%'>p₀ = {setup.saturation_pressure_pa:.4g} Pa; "
                 f"{html.escape(setup.bond_note)}; lattice spacing {setup.spacing_angstrom:.3f} Å, "
@@ -296,22 +297,12 @@ class IsothermView(pn.viewable.Viewer):
         occ = iso.site_occupancy(k, self.branch.value)
         lat = iso.setup.lattice
         centre = iso.central_channel_occupancy(self.branch.value)[k]
-        branch = {"adsorption": iso.adsorption, "desorption": iso.desorption}.get(self.branch.value)
-        total = float(iso.per_nm(branch)[k]) if branch is not None else float(
-            iso.equilibrium_occupancy()[k] @ iso.setup.problem.weights * iso.per_nm_per_site())
+        total = float(iso.per_nm(self.branch.value)[k])
+        words = amount_labels(iso)
         x, y, where = lat.x, lat.y, [lat.label(i) for i in range(lat.size)]
         if lat.shape == "slit":       # one site stands for its row: draw the row across the plot
-            half = 0.5 * iso.setup.scenario.size_angstrom
-            ell = lat.spacing_angstrom
-            rows = np.rint(lat.y / (ell * np.sqrt(3.0) / 2.0)).astype(int)
-            ks = np.arange(-int(half / ell) - 1, int(half / ell) + 2)
-            x = np.concatenate([ell * (ks + 0.5 * (r % 2)) for r in rows])
-            keep = np.abs(x) <= half
-            reps = len(ks)
-            x = x[keep]
-            y = np.repeat(lat.y, reps)[keep]
-            occ = np.repeat(occ, reps)[keep]
-            where = list(np.repeat(np.array(where, dtype=object), reps)[keep])
+            x, y, site = slit_row_sites(lat, iso.setup.scenario.size_angstrom)
+            occ, where = occ[site], [where[i] for i in site]
         with pn.io.hold():
             self._sites.data = {"x": x, "y": y, "occ": occ, "where": where}
             self._pick_span[0].location = float(iso.pressure_pa[k])
@@ -320,8 +311,9 @@ class IsothermView(pn.viewable.Viewer):
                 f"<p><b>Occupancy map</b> ({html.escape(self.branch.value)}) for {html.escape(describe(sc))}, "
                 f"at p = {iso.pressure_pa[k]:.3g} Pa "
                 f"(p/p₀ = {iso.relative_pressure[k]:.3g}, μ = {iso.mu[k]:.2f} K): "
-                f"{total:.2f} atoms per nm; central channel occupancy {centre:.3f}, "
-                f"i.e. {centre * 10.0 / iso.setup.spacing_angstrom:.2f} atoms per nm along it</p>")
+                f"{total:.2f} {html.escape(words['coverage'].replace(' of pore length', ''))}; central channel "
+                f"occupancy {centre:.3f}, i.e. {centre * 10.0 / iso.setup.spacing_angstrom:.2f} "
+                f"{words['particles']} per nm along it</p>")
 
     def _on_tap(self, event):
         iso = self._iso

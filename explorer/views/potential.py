@@ -17,22 +17,24 @@ from bokeh.models import ColorBar, ColumnDataSource, HoverTool, LinearColorMappe
 from bokeh.palettes import Category10_10, Viridis256
 from bokeh.plotting import figure
 
-from physics.geometry import CylinderPore, SlitPore
 from physics.scenario import Scenario
-from physics.wall_potential import PotentialMap, potential_map, wall_potential
+from physics.wall_potential import Minimum, PotentialMap, deepest_minimum, potential_map, wall_potential
 
 from ..compute import LatestRunner, short_error
+from ..formatting import format_minimum
 from ..state import ExplorerState, describe
 
 MAP_POINTS = 200
+_STALE_AFTER_MS = 250
 CUT_POINTS = 300
 FRAME = 290            # px: frame width of every plot, so that two plots fit side by side at 1024 px
 GEOMETRY_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate"]
 
 
 def geometry_only(scenario: Scenario) -> Scenario:
-    """The wall potential does not depend on temperature: cache without it."""
-    return scenario.replace(temperature_k=1.0, title="", notes="")
+    """The wall potential does not depend on temperature or words: cache without them."""
+    return scenario.replace(temperature_k=1.0, title="", notes="", bond_energy_k=None, bond_calibration=None,
+                            pore_volume_cm3_g=None)
 
 
 @lru_cache(maxsize=32)
@@ -40,45 +42,15 @@ def cached_map(scenario: Scenario) -> PotentialMap:
     return potential_map(pore=scenario.pore(), pair=scenario.pair(), n=MAP_POINTS)
 
 
-def cut_directions(scenario: Scenario) -> list[tuple[str, float, float]]:
-    """(label, angle in rad, length Å) of the line cuts from the centre."""
-    pore = scenario.pore()
-    if isinstance(pore, CylinderPore):
-        return [("centre → wall", 0.0, pore.radius_angstrom)]
-    if isinstance(pore, SlitPore):
-        return [("centre → wall (across the slit)", 0.5 * np.pi, 0.5 * pore.width_angstrom)]
-    return [("centre → corner", 0.0, pore.circumradius_angstrom),
-            ("centre → middle of a face", np.pi / pore.n_sides, pore.apothem_angstrom)]
+@lru_cache(maxsize=32)
+def cached_minimum(scenario: Scenario) -> Minimum:
+    """The one deepest minimum (`physics.wall_potential.deepest_minimum`) the command line prints too."""
+    return deepest_minimum(pore=scenario.pore(), pair=scenario.pair())
 
 
 def outline(scenario: Scenario) -> list[np.ndarray]:
-    """Pore boundary as polylines, (N, 2) each."""
-    pore = scenario.pore()
-    if isinstance(pore, CylinderPore):
-        t = np.linspace(0, 2 * np.pi, 181)
-        return [pore.radius_angstrom * np.column_stack([np.cos(t), np.sin(t)])]
-    if isinstance(pore, SlitPore):
-        h = 0.5 * pore.width_angstrom
-        return [np.array([[-h, h], [h, h]]), np.array([[-h, -h], [h, -h]])]
-    v = pore.vertices
-    return [np.vstack([v, v[:1]])]
-
-
-@lru_cache(maxsize=32)
-def deepest_minimum(scenario: Scenario) -> tuple[float, float, float]:
-    """(depth K, x Å, y Å): the map's deepest grid point, refined on three nested 11 x 11 grids."""
-    m = cached_map(scenario)
-    depth, x, y = m.minimum()
-    pore, pair = scenario.pore(), scenario.pair()
-    half = max(m.x[1] - m.x[0], m.y[1] - m.y[0])
-    for _ in range(3):
-        gx, gy = np.meshgrid(np.linspace(x - half, x + half, 11), np.linspace(y - half, y + half, 11))
-        v = wall_potential(gx, gy, pore=pore, pair=pair)
-        k = np.argmin(v)
-        if v.flat[k] < depth:
-            depth, x, y = float(v.flat[k]), float(gx.flat[k]), float(gy.flat[k])
-        half /= 5.0
-    return depth, x, y
+    """Pore boundary as polylines, (N, 2) each (the pore's own)."""
+    return scenario.pore().outline()
 
 
 def colour_range(values: np.ndarray) -> tuple[float, float]:
@@ -111,7 +83,7 @@ def potential_result(scenario: Scenario) -> dict:
     width, height = m.x[-1] - m.x[0] + dx, m.y[-1] - m.y[0] + dy
     xs, ys = contour_lines(m, np.linspace(lo, hi, 11)[1:-1])
     cuts = []
-    for label, angle, length in cut_directions(scenario):
+    for label, angle, length in pore.line_cuts():
         r = np.linspace(0.0, length, CUT_POINTS)[:-1]
         v = wall_potential(r * np.cos(angle), r * np.sin(angle), pore=pore, pair=pair)
         cuts.append((label, r, np.where(np.isfinite(v), v, np.nan), length, float(np.min(v[np.isfinite(v)]))))
@@ -123,19 +95,15 @@ def potential_result(scenario: Scenario) -> dict:
 
 def readout_html(sc: Scenario) -> str:
     """The readout under the map: deepest minimum, centre, depth / kT, pore and pair (HTML, escaped)."""
-    geo = geometry_only(sc)
-    depth, x, y = deepest_minimum(geo)
+    low = cached_minimum(geometry_only(sc))
     pore, pair = sc.pore(), sc.pair()
-    if sc.shape == "slit":
-        x = 0.0          # uniform along x
+    depth = low.depth_k
     centre = float(wall_potential(0.0, 0.0, pore=pore, pair=pair))
-    wall_gap = float(pore.depth_inside(x, y))
     kt = sc.temperature_k
     layout = "isolated pore in an unbounded solid" if sc.wall_angstrom is None or sc.shape == "cylinder" \
         else f"array, walls {sc.wall_angstrom:g} Å thick"
     return (
-        f"<p><b>Deepest minimum:</b> {depth:.2f} K at x = {x:.2f} Å, y = {y:.2f} Å "
-        f"({np.hypot(x, y):.2f} Å from the centre, {wall_gap:.2f} Å from the nearest wall)<br>"
+        f"<p><b>Deepest minimum:</b> {html.escape(format_minimum(low).removeprefix('deepest minimum '))}<br>"
         f"<b>At the centre:</b> {centre:.3f} K &nbsp; <b>Depth / kT:</b> {abs(depth) / kt:.1f} at T = {kt:g} K "
         f"&nbsp; <b>Pore:</b> {html.escape(sc.shape)}, {html.escape(layout)}, "
         f"side / radius / width {sc.size_angstrom:g} Å, {html.escape(sc.adsorbate)}<br>"
@@ -167,6 +135,7 @@ class PotentialView(pn.viewable.Viewer):
         self._cut_box = pn.Column(pn.pane.Bokeh(self._cut_fig), css_classes=["porefill-cuts"])
         self._runner = LatestRunner("map", name="potential map")
         self._shown: Scenario | None = None       # the inputs the map and cuts now show
+        self._pending: Scenario | None = None     # inputs asked for and not yet shown
         self._redraw()
         self.state.param.watch(self._redraw, GEOMETRY_KEYS + ["temperature_k"])
 
@@ -203,11 +172,23 @@ class PotentialView(pn.viewable.Viewer):
     # updates --------------------------------------------------------------------------------------
     def _redraw(self, *events):
         sc = self.state.scenario()
+        self._pending = sc
+        doc = pn.state.curdoc
+        if doc is not None and doc.session_context is not None and self._shown is not None:
+            # a map arrives in ~0.1 s: mark it stale only if it has not arrived by then (a spinner that
+            # flashes on every release costs the browser more than the redraw itself)
+            doc.add_timeout_callback(lambda: self._mark_stale(sc), _STALE_AFTER_MS)
+        else:
+            self._mark_stale(sc)
+        self._runner.submit(potential_result, (sc,), self._apply, self._fail)
+
+    def _mark_stale(self, sc: Scenario):
+        if self._pending != sc:
+            return                     # its result is already shown
         with pn.io.hold():
             if self._shown is None or geometry_only(sc) != geometry_only(self._shown):
                 self._map_box.loading = self._cut_box.loading = True
             self._readout.loading = True
-        self._runner.submit(potential_result, (sc,), self._apply, self._fail)
 
     def _fail(self, exc: BaseException):
         with pn.io.hold():
@@ -249,6 +230,8 @@ class PotentialView(pn.viewable.Viewer):
                 self._map_caption.object = (f"<p>For {html.escape(describe(sc, temperature=False))}. "
                                             "Pale: V &gt; 0 K; grey: solid.</p>")
             self._shown = sc
+            if self._pending == sc:
+                self._pending = None
             self._message.visible = False
             self._readout.object = res["readout"]
             self._map_box.loading = self._cut_box.loading = self._readout.loading = False
