@@ -96,9 +96,10 @@ def wait_for_loading(page, selector: str, loading: bool, timeout_s: float = 60.0
     raise TimeoutError(f"{selector} did not {'start' if loading else 'stop'} loading")
 
 
-def serve_scenario(scenario_file, port: int):
-    """Start ``porefill serve`` on ``scenario_file`` at 127.0.0.1:``port`` in a subprocess; return it once
-    the port accepts connections (the caller terminates it)."""
+def serve_scenario(scenario_file, port: int, *extra: str, env: dict | None = None):
+    """Start ``porefill serve`` on ``scenario_file`` at 127.0.0.1:``port`` (with ``extra`` arguments and the
+    environment ``env``, default this process's) in a subprocess; return it once the port accepts
+    connections (the caller terminates it)."""
     import os
     import socket
     import subprocess
@@ -106,9 +107,9 @@ def serve_scenario(scenario_file, port: int):
     from pathlib import Path
 
     exe = Path(sys.executable).with_name("porefill")
-    proc = subprocess.Popen([str(exe), "serve", "--scenario", str(scenario_file), "--port", str(port)],
-                            stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True,
-                            env={**os.environ, "PYTHONUNBUFFERED": "1"})
+    environment = {**(os.environ if env is None else env), "PYTHONUNBUFFERED": "1"}
+    proc = subprocess.Popen([str(exe), "serve", "--scenario", str(scenario_file), "--port", str(port), *extra],
+                            stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True, env=environment)
     deadline = time.time() + 60
     while time.time() < deadline:
         try:

@@ -13,9 +13,7 @@ from .limits import check_geometry, check_number
 from .materials import ADSORBATES, SOLIDS, PairParameters, pair_parameters
 from .site_models import SITE_MODEL_NAMES
 
-__all__ = ["Scenario", "SITE_MODELS"]
-
-SITE_MODELS = SITE_MODEL_NAMES      # how a site's free energy is computed (`physics.site_models`)
+__all__ = ["Scenario"]
 
 _GEOMETRY_FIELDS = ("shape", "size_angstrom", "wall_angstrom", "adsorbate", "solid", "pair_epsilon_k",
                     "pair_sigma_angstrom", "solid_density_per_a3", "lattice_spacing_angstrom")
@@ -52,7 +50,7 @@ class Scenario:
 
     def __post_init__(self) -> None:
         for name, known in (("shape", PORE_SHAPES), ("adsorbate", ADSORBATES), ("solid", SOLIDS),
-                            ("site_model", SITE_MODELS)):
+                            ("site_model", SITE_MODEL_NAMES)):
             value = getattr(self, name)
             if not isinstance(value, str) or value not in known:
                 raise ValueError(f"{name} must be one of {', '.join(known)}; got {value!r}")

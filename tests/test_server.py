@@ -12,7 +12,6 @@ import re
 import socket
 import subprocess
 import sys
-import time
 from pathlib import Path
 
 import pytest
@@ -39,24 +38,14 @@ def _free_port() -> int:
 
 
 def _start(*extra: str, env: dict | None = None, pythonpath: Path | None = None):
+    from explorer.testing import serve_scenario
+
     port = _free_port()
     environment = {k: v for k, v in os.environ.items() if k != "POREFILL_PASSWORD"}
-    environment.update({"PYTHONUNBUFFERED": "1", "BOKEH_SECRET_KEY": SECRET_KEY, **(env or {})})
+    environment.update({"BOKEH_SECRET_KEY": SECRET_KEY, **(env or {})})
     if pythonpath is not None:
         environment["PYTHONPATH"] = os.pathsep.join(filter(None, [str(pythonpath), environment.get("PYTHONPATH")]))
-    proc = subprocess.Popen([str(PORE_FILL), "serve", "--scenario", str(SCENARIO), "--port", str(port), *extra],
-                            stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True, env=environment)
-    deadline = time.monotonic() + 60
-    while time.monotonic() < deadline:
-        try:
-            with socket.create_connection(("127.0.0.1", port), timeout=0.5):
-                return proc, port
-        except OSError:
-            if proc.poll() is not None:
-                raise RuntimeError(f"server exited: {proc.stdout.read()}")
-            time.sleep(0.2)
-    proc.kill()
-    raise RuntimeError("server did not start within 60 s")
+    return serve_scenario(SCENARIO, port, *extra, env=environment), port
 
 
 def _stop(proc) -> None:

@@ -32,9 +32,8 @@ GEOMETRY_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorba
 
 
 def geometry_only(scenario: Scenario) -> Scenario:
-    """The wall potential does not depend on temperature or words: cache without them."""
-    return scenario.replace(temperature_k=1.0, title="", notes="", bond_energy_k=None, bond_calibration=None,
-                            pore_volume_cm3_g=None)
+    """The scenario reduced to what the wall potential depends on (`Scenario.geometry_key`): the cache key."""
+    return Scenario(**dict(scenario.geometry_key()))
 
 
 @lru_cache(maxsize=32)
