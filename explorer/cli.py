@@ -147,6 +147,56 @@ def _cmd_isotherm(args) -> int:
     return 0
 
 
+def _cmd_states(args) -> int:
+    from physics.quantum import classical_boltzmann_area, solve_states
+
+    scenario = _scenario_from_args(args, temperature_k=args.temperature)
+    try:
+        from physics.vapour_pressure import saturated_vapour_pressure
+        saturated_vapour_pressure(scenario.adsorbate, scenario.temperature_k)     # the same T range as isotherms
+        from physics.stages import geometry_stage
+        geo = geometry_stage(scenario)
+        t = scenario.temperature_k
+        st = solve_states(geo.pore, geo.pair, geo.adsorbate.hbar2_over_mk, temperature_k=t,
+                          max_states=args.max_states)
+    except ValueError as exc:
+        raise UsageError(str(exc)) from None
+    classical = classical_boltzmann_area(geo.pore, geo.pair, t)
+    from physics.quantum import henry_constant
+    result = {
+        "units": {"energy": "K", "length": "angstrom", "henry": "atoms per nm of pore per Pa"},
+        "scenario": scenario.to_dict(),
+        "energies_k": [float(e) for e in st.energies_k],
+        "ground_state_k": st.ground_state_k,
+        "potential_minimum_k": st.potential_minimum_k,
+        "zero_point_energy_k": st.zero_point_energy_k,
+        "excitation_energies_k": [float(e - st.energies_k[0]) for e in st.energies_k],
+        "henry_quantum": st.henry_per_nm_pa(t),
+        "henry_classical": henry_constant(classical, t),
+        "mean_kinetic_energy_k": st.mean_kinetic_k(t),
+        "mean_potential_energy_k": st.mean_potential_k(t),
+        "grid": {"spacing_angstrom": st.spacing_angstrom, "points": int(st.points.shape[0]),
+                 "energy_error_estimate_k": st.error_k},
+        "states_used": int(st.energies_k.size),
+        "states_capped": st.capped,
+    }
+    if args.json:
+        json.dump(result, sys.stdout)
+        sys.stdout.write("\n")
+    else:
+        print(f"{scenario.adsorbate} at {t:g} K: ground state {st.ground_state_k:.3f} K, potential minimum "
+              f"{st.potential_minimum_k:.3f} K, zero-point energy {st.zero_point_energy_k:.3f} K")
+        print(f"{st.energies_k.size} states{' (capped)' if st.capped else ''} on a {st.spacing_angstrom:g} Å grid "
+              f"({st.points.shape[0]} points, energies good to about {st.error_k:.2g} K)")
+        print(f"Henry constant: quantum {result['henry_quantum']:.4g}, classical {result['henry_classical']:.4g} "
+              "atoms per nm per Pa")
+        print("lowest excitations (K): " + ", ".join(f"{e:.3f}" for e in result["excitation_energies_k"][:12]))
+    if st.capped:
+        sys.stderr.write(f"porefill: note: the state count reached --max-states {args.max_states}; higher states "
+                         "carry more than the set share of the Boltzmann weight\n")
+    return 0
+
+
 def _cmd_vapour_pressure(args) -> int:
     from physics.materials import ADSORBATES
     from physics.vapour_pressure import VapourPressureRangeError, saturated_vapour_pressure, temperature_range
@@ -262,6 +312,13 @@ def build_parser(*, serve_only: bool = False) -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true", help="print JSON")
     p.add_argument("--csv", metavar="FILE", help="also write the branches as CSV")
     p.set_defaults(func=_cmd_isotherm)
+
+    p = sub.add_parser("states", help="exact one-atom quantum states of the pore cross-section, K")
+    _add_pore_options(p)
+    p.add_argument("--temperature", type=float, required=True, help="temperature, K (sets how many states)")
+    p.add_argument("--max-states", type=int, default=240, help="at most this many states (default 240)")
+    p.add_argument("--json", action="store_true", help="print JSON")
+    p.set_defaults(func=_cmd_states)
 
     p = sub.add_parser("vapour-pressure", help="saturated vapour pressure p0(T), Pa")
     p.add_argument("--adsorbate", required=True, help="adsorbate name")

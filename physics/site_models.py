@@ -7,6 +7,8 @@ atom in the same volume*. The pressure scale of `physics.bond` is written in the
 N/L → (p/kT) Σ_i A_cell e^{−f_i/kT} at low pressure whatever the model.
 
 - ``classical``: Z_i = (v/λ³)⟨e^{−V/kT}⟩_cell, so f_i = −kT ln⟨e^{−V/kT}⟩_cell over the cell's sample points.
+- ``quantum``: the exact one-atom states of the cross-section (`physics.quantum`), whole bands of them given
+  to the site orbit that holds them: Z_i = (ℓ/λ) Σ_{n at i} e^{−E_n/kT}, so f_i = −kT ln(λ² Σ e^{−E_n/kT}/A_cell).
 
 A model is a function ``model(geometry, *, temperature_k) -> (N,) K`` over the geometry stage's candidate
 sites (+inf for a site that cannot hold an atom); it gets the adsorbate (mass, ħ²/mk) from
@@ -28,7 +30,12 @@ def classical_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
     return boltzmann_cell_average(geometry.sample_potential_k, geometry.sample_weights, temperature_k)
 
 
-_MODELS: dict[str, Callable] = {"classical": classical_site_free_energy}
+def _quantum(geometry, *, temperature_k: float) -> np.ndarray:
+    from .quantum import quantum_site_free_energy      # sparse eigensolver: imported when asked for
+    return quantum_site_free_energy(geometry, temperature_k=temperature_k)
+
+
+_MODELS: dict[str, Callable] = {"classical": classical_site_free_energy, "quantum": _quantum}
 SITE_MODEL_NAMES = tuple(_MODELS)
 
 
