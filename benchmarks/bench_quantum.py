@@ -1,0 +1,40 @@
+"""Quantum states and the quantum isotherm: helium-4, 15 Å side, 8 Å walls, 1.5 K. Prints JSON lines.
+
+Run: .venv/bin/python benchmarks/bench_quantum.py
+"""
+from __future__ import annotations
+
+import json
+import statistics
+import time
+
+from physics.adsorption import compute_isotherm
+from physics.scenario import Scenario
+
+
+def main() -> None:
+    cold, warm = [], []
+    for i in range(3):
+        sc = Scenario(size_angstrom=15.0 + 0.01 * i, wall_angstrom=8.0, temperature_k=1.5, site_model="quantum")
+        t0 = time.perf_counter()
+        iso = compute_isotherm(sc, n_points=300)
+        cold.append(time.perf_counter() - t0)
+        t0 = time.perf_counter()
+        compute_isotherm(sc.replace(temperature_k=1.45), n_points=300)        # reuses the states
+        warm.append(time.perf_counter() - t0)
+    print(json.dumps({"benchmark": "quantum_isotherm_hexagon_15A_helium_1.5K_new_geometry",
+                      "median_s": round(statistics.median(cold), 3), "reps": len(cold),
+                      "note": "wall potential, states, site free energies, both branches, steps"}))
+    print(json.dumps({"benchmark": "quantum_isotherm_temperature_change_reusing_states",
+                      "median_s": round(statistics.median(warm), 3), "reps": len(warm)}))
+    classical = compute_isotherm(sc.replace(site_model="classical"), n_points=300)
+    shifts = {s.identity: s for s in classical.steps}
+    for s in iso.steps:
+        c = shifts.get(s.identity)
+        if c is not None:
+            print(json.dumps({"step": s.identity, "mu_shift_k": round(s.mu_k - c.mu_k, 3),
+                              "pressure_factor": float(f"{s.pressure_pa / c.pressure_pa:.3g}")}))
+
+
+if __name__ == "__main__":
+    main()
