@@ -45,4 +45,21 @@ condensation falls at p₀ *and* the low-pressure (Henry) limit is exact; the st
 calibration is in force. Mean-field hysteresis loops are wider than measured ones. Helium's first layers
 form at pressures far below what gauges read: compare amounts, not pressures, there.
 
+### Quantum states (site model "quantum")
+
+Helium-4 at 1–2 K is a quantum fluid: its thermal wavelength (7 Å at 1.5 K) is larger than a lattice cell.
+With the quantum site model, porefill solves the Schrödinger equation of one atom in the pore's
+cross-section exactly (free motion along the axis): a fourth-order finite-difference Laplacian on a
+triangular grid that keeps the hexagon's symmetry, and a sparse eigensolver for as many of the lowest
+states as the temperature needs. The grid is chosen for a stated accuracy of the energies, which is
+reported. The one-atom partition function then gives the low-pressure (Henry) limit exactly.
+
+The lattice needs a free energy per site. Spreading the thermal one-atom density over the cells would
+count the tails of wall-bound states as binding in the next row, so porefill assigns whole bands of
+near-degenerate states to the symmetry orbit of sites that holds most of their probability. The sum over
+sites then equals the exact sum over states, stays below the classical value (the Golden–Thompson
+inequality), and no site is made more attractive than classically. **Limits:** sites that no computed
+state reaches (inner rings, high in the spectrum) keep their classical free energy, so their zero-point
+energy is left out; the fluid–fluid bond stays classical; states are those of one atom.
+
 """ + SAFETY

@@ -190,7 +190,7 @@ def classical_boltzmann_area(pore, pair, temperature_k: float, *, spacing_angstr
 
 
 def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_k: float = 0.05,
-                 spacing_angstrom: float = 0.2, weight_fraction: float = _WEIGHT_FRACTION,
+                 spacing_angstrom: float = 0.25, weight_fraction: float = _WEIGHT_FRACTION,
                  max_states: int = _MAX_STATES, min_spacing_angstrom: float = 0.05) -> CrossSectionStates:
     """The lowest states, as many as the temperature needs (until the next carries less than
     ``weight_fraction`` of the ground state's Boltzmann weight, or ``max_states``: then ``capped``), on a
