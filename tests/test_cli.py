@@ -183,3 +183,28 @@ def test_isotherm_json_and_csv(tmp_path):
 def test_isotherm_bad_values(args, word):
     out = run("isotherm", *args)
     assert out.returncode == 2 and word in out.stderr and "Traceback" not in out.stderr
+
+
+def test_states_command_json():
+    # issue figures (independent finite-difference check): ZPE 40.9 K, quantum Henry 1.3e-9 of classical
+    out = run("states", "--pore", "hexagon", "--size", "15", "--wall", "8", "--adsorbate", "helium-4",
+              "--temperature", "1.5", "--json")
+    assert out.returncode == 0, out.stderr
+    data = json.loads(out.stdout)
+    assert data["zero_point_energy_k"] == pytest.approx(40.9, abs=0.1)
+    assert data["henry_quantum"] / data["henry_classical"] == pytest.approx(1.3e-9, rel=0.1)
+    assert data["grid"]["spacing_angstrom"] > 0 and data["states_used"] == len(data["energies_k"])
+    assert data["energies_k"] == sorted(data["energies_k"])
+
+
+def test_isotherm_site_model_is_reported():
+    out = run("isotherm", "--size", "12", "--wall", "6", "--temperature", "1.5", "--points", "60",
+              "--site-model", "quantum", "--json")
+    assert out.returncode == 0, out.stderr
+    data = json.loads(out.stdout)
+    assert data["model"]["site_model"] == "quantum"
+    quantum_first = data["steps"][0]["pressure_pa"]
+    classical = json.loads(run("isotherm", "--size", "12", "--wall", "6", "--temperature", "1.5", "--points",
+                               "60", "--json").stdout)
+    assert classical["model"]["site_model"] == "classical"
+    assert quantum_first > 100 * classical["steps"][0]["pressure_pa"]     # zero-point energy lifts the first layer
