@@ -93,7 +93,12 @@ def _websocket(port: int, token: str, headers: dict) -> int | str:
             conn.close()
         return "closed" if message is None else message
 
-    return asyncio.run(go())
+    # in a thread of its own: the browser tests' Playwright (sync API) keeps an event loop running in this
+    # thread when they share the test session, and asyncio.run refuses to nest
+    from concurrent.futures import ThreadPoolExecutor
+
+    with ThreadPoolExecutor(1) as pool:
+        return pool.submit(asyncio.run, go()).result()
 
 
 def _same_origin(port: int) -> dict:
