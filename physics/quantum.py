@@ -4,12 +4,12 @@
 
 The cross-section is covered by a triangular grid of spacing h with a point at the centre and rows along x,
 so the grid has the hexagon's full point group (C6v) and the states carry its degeneracies exactly. The
-Laplacian is the 7-point stencil ∇²f ≈ (2/(3h²)) Σ_nbrs (f_j − f_0), second order with an isotropic error
-term; points where V exceeds ``_WALL_CUT_K`` (deep in the repulsive wall, where every state we keep has
-decayed) are left out, which is a hard wall there. The lowest states come from a shift-invert sparse
-eigensolver (ARPACK via scipy.sparse.linalg.eigsh). Energies are Richardson-extrapolated from grids h and 2h
-(error O(h⁴) for smooth potentials), and the difference is the reported error estimate; the spacing is halved
-until that estimate is below the requested tolerance.
+Laplacian is fourth order, (4 L_h − L_2h)/3 with L_h f = (2/(3h²)) Σ_{6 nbrs at h} (f_j − f_0) and L_2h the
+same over the six collinear points at 2h (see `_hamiltonian`); points where V exceeds ``_WALL_CUT_K`` (deep in
+the repulsive wall, where every state kept has decayed) are left out, which is a hard wall there. The lowest
+states come from a shift-invert sparse eigensolver (ARPACK via scipy.sparse.linalg.eigsh, with a sparse LU).
+The energies' error is estimated from a second grid 2h as |E_h − E_2h|/15, and h is halved until the
+estimate is below the requested tolerance.
 
 The one-atom partition function per length L is Z₁/L = (1/λ) Σ_n exp(−E_n/kT), so at low pressure
 N/L = (p λ²/kT) Σ_n exp(−E_n/kT) (REFERENCES.md §4); classically N/L = (p/kT) ∫ exp(−V/kT) dA.
