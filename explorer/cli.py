@@ -29,7 +29,7 @@ def _point(text: str) -> tuple[float, float]:
     return x, y
 
 
-def _add_pore_options(p: argparse.ArgumentParser) -> None:
+def add_pore_options(p: argparse.ArgumentParser) -> None:
     from physics.geometry import PORE_SHAPES
     from physics.materials import ADSORBATES, SOLIDS
 
@@ -48,7 +48,7 @@ def _add_pore_options(p: argparse.ArgumentParser) -> None:
                    help="override the solid's force-centre number density, Å^-3")
 
 
-def _scenario_from_args(args, **extra):
+def scenario_from_args(args, **extra):
     from physics.scenario import Scenario
 
     try:
@@ -72,7 +72,7 @@ def _cmd_potential(args) -> int:
 
     from .formatting import format_minimum
 
-    scenario = _scenario_from_args(args)
+    scenario = scenario_from_args(args)
     pore, pair = scenario.pore(), scenario.pair()
     if args.grid is not None:
         try:
@@ -104,8 +104,24 @@ def _cmd_potential(args) -> int:
     return 0
 
 
-def _model_scenario(args):
-    return _scenario_from_args(args, temperature_k=args.temperature, lattice_spacing_angstrom=args.spacing,
+def add_model_options(p: argparse.ArgumentParser) -> None:
+    """Options of the lattice-gas model beside the pore's: bond, spacing, site model, pore volume."""
+    from physics.bond import BOND_RULES
+    from physics.site_models import SITE_MODEL_NAMES
+
+    p.add_argument("--bond", type=float, metavar="K", help="fluid–fluid bond energy ε_b, K (overrides the rule)")
+    p.add_argument("--bond-rule", choices=BOND_RULES, help="calibration of ε_b (default vapour-pressure)")
+    p.add_argument("--spacing", type=float, metavar="Å", help="lattice site spacing, Å (default: bulk liquid density)")
+    p.add_argument("--allow-above-p0", action="store_true",
+                   help="allow a pressure range above the saturated vapour pressure p0 (bulk condensation)")
+    p.add_argument("--site-model", choices=SITE_MODEL_NAMES, default="classical",
+                   help="how site free energies are computed (default classical)")
+    p.add_argument("--pore-volume", type=float, metavar="cm³/g",
+                   help="specific pore volume of the sample, cm³/g (adds mmol/g and cm³(STP)/g)")
+
+
+def model_scenario(args):
+    return scenario_from_args(args, temperature_k=args.temperature, lattice_spacing_angstrom=args.spacing,
                                bond_energy_k=args.bond, bond_calibration=args.bond_rule,
                                pore_volume_cm3_g=args.pore_volume, site_model=args.site_model)
 
@@ -115,7 +131,7 @@ def _cmd_isotherm(args) -> int:
 
     from .isotherm_export import isotherm_csv, isotherm_json, isotherm_summary
 
-    scenario = _model_scenario(args)
+    scenario = model_scenario(args)
     if args.csv is not None and not args.csv.strip():
         raise UsageError("--csv needs a file name")
     try:
@@ -150,7 +166,7 @@ def _cmd_isotherm(args) -> int:
 def _cmd_states(args) -> int:
     from physics.quantum import classical_boltzmann_area, solve_states
 
-    scenario = _scenario_from_args(args, temperature_k=args.temperature)
+    scenario = scenario_from_args(args, temperature_k=args.temperature)
     try:
         from physics.vapour_pressure import saturated_vapour_pressure
         saturated_vapour_pressure(scenario.adsorbate, scenario.temperature_k)     # the same T range as isotherms
@@ -280,7 +296,7 @@ def build_parser(*, serve_only: bool = False) -> argparse.ArgumentParser:
         return parser
 
     p = sub.add_parser("potential", help="wall potential at points or on a grid, K")
-    _add_pore_options(p)
+    add_pore_options(p)
     where = p.add_mutually_exclusive_group(required=True)
     where.add_argument("--at", type=_point, action="append", metavar="X,Y",
                        help="a point x,y in Å (origin at the pore centre, a corner on +x); repeatable")
@@ -288,10 +304,8 @@ def build_parser(*, serve_only: bool = False) -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true", help="print JSON")
     p.set_defaults(func=_cmd_potential)
 
-    from physics.bond import BOND_RULES
-
     p = sub.add_parser("isotherm", help="mean-field isotherm with both branches and the layer steps")
-    _add_pore_options(p)
+    add_pore_options(p)
     p.add_argument("--temperature", type=float, required=True, help="temperature, K")
     p.add_argument("--points", type=int, default=300, help="number of chemical potentials (default 300)")
     rng = p.add_mutually_exclusive_group()
@@ -299,22 +313,13 @@ def build_parser(*, serve_only: bool = False) -> argparse.ArgumentParser:
                      help="pressure range, Pa (default: from an empty pore to p0)")
     rng.add_argument("--relative-pressure-range", type=float, nargs=2, metavar=("LOW", "HIGH"),
                      help="range of p/p0 (dimensionless)")
-    p.add_argument("--bond", type=float, metavar="K", help="fluid–fluid bond energy ε_b, K (overrides the rule)")
-    p.add_argument("--bond-rule", choices=BOND_RULES, help="calibration of ε_b (default vapour-pressure)")
-    p.add_argument("--spacing", type=float, metavar="Å", help="lattice site spacing, Å (default: bulk liquid density)")
-    p.add_argument("--allow-above-p0", action="store_true",
-                   help="allow a pressure range above the saturated vapour pressure p0 (bulk condensation)")
-    from physics.site_models import SITE_MODEL_NAMES
-    p.add_argument("--site-model", choices=SITE_MODEL_NAMES, default="classical",
-                   help="how site free energies are computed (default classical)")
-    p.add_argument("--pore-volume", type=float, metavar="cm³/g",
-                   help="specific pore volume of the sample, cm³/g (adds mmol/g and cm³(STP)/g)")
+    add_model_options(p)
     p.add_argument("--json", action="store_true", help="print JSON")
     p.add_argument("--csv", metavar="FILE", help="also write the branches as CSV")
     p.set_defaults(func=_cmd_isotherm)
 
     p = sub.add_parser("states", help="exact one-atom quantum states of the pore cross-section, K")
-    _add_pore_options(p)
+    add_pore_options(p)
     p.add_argument("--temperature", type=float, required=True, help="temperature, K (sets how many states)")
     p.add_argument("--max-states", type=int, default=240, help="at most this many states (default 240)")
     p.add_argument("--json", action="store_true", help="print JSON")
@@ -325,7 +330,19 @@ def build_parser(*, serve_only: bool = False) -> argparse.ArgumentParser:
     p.add_argument("--temperature", type=float, required=True, help="temperature, K")
     p.add_argument("--json", action="store_true", help="print JSON")
     p.set_defaults(func=_cmd_vapour_pressure)
+    _register_commands(sub)
     return parser
+
+
+def _register_commands(sub) -> None:
+    """Commands that live in a module of their own under `explorer.commands` (each has ``register(sub)``)."""
+    import importlib
+    import pkgutil
+
+    from . import commands
+
+    for info in sorted(pkgutil.iter_modules(commands.__path__), key=lambda m: m.name):
+        importlib.import_module(f"{commands.__name__}.{info.name}").register(sub)
 
 
 
