@@ -1,6 +1,6 @@
 """Measured isotherms as the physics layer sees them: frozen runs of numbers, and the sample that scales them.
 
-Files are read at the edge (`explorer.measured_files`); what reaches the physics is a `MeasuredRun` — one
+Files are read at the edge (`explorer.measured`); what reaches the physics is a `MeasuredRun` — one
 temperature, one leg, pressures and amounts as arrays in a named unit — and a `Sample`, the description
 that turns a measured amount into the model's amount per Å of one pore.
 
