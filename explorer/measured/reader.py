@@ -18,14 +18,12 @@ _DEFAULT_MAX_BYTES = 64 * 2**20
 
 def _without_empty_columns(table: Table) -> Table:
     """Drop columns that have neither a header name nor any value (an unused column A of a sheet)."""
-    keep = [i for i, name in enumerate(table.columns)
-            if name != f"column {i + 1}" or (table.cells[i].astype(object).astype(str).str.strip() != "").any()]
-    if len(keep) == len(table.columns):
+    numbered = [i for i, name in enumerate(table.columns) if name == f"column {i + 1}"]
+    if not numbered:
         return table
-    cells = table.cells[keep].copy()
-    cells.columns = range(len(keep))
-    return Table(tuple(table.columns[i] for i in keep), cells, table.rows, table.decimal_comma, table.has_header,
-                 table.header_temperature_k)
+    cells = table.cells(*(table.columns[i] for i in numbered))
+    empty = {i for i, c in zip(numbered, cells) if not (c.astype(str).str.strip() != "").any()}
+    return table.keeping([i for i in range(len(table.columns)) if i not in empty]) if empty else table
 
 
 def _check_choices(choices: ColumnMap | None, columns: tuple[str, ...], problems: Problems) -> None:

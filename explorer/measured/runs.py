@@ -42,16 +42,20 @@ def _rows_text(rows, limit: int = 8) -> str:
 
 
 def _numbers(cells: pd.Series, comma: bool) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """(values, missing, not a number, stripped text): cells as floats, NaN where missing or not a number."""
-    text = cells.astype(object).astype(str).str.strip()
-    missing = text.str.lower().isin(_MISSING).to_numpy()
-    number_text = text
-    dotted = np.zeros(len(text), bool)
+    """(values, missing, not a number, cell text): cells as floats, NaN where missing or not a number.
+
+    pandas parses the numbers (correctly rounded); only the cells it cannot read are looked at one by one."""
+    text = cells.astype(object)
+    number_text, dotted = text, np.zeros(len(text), bool)
     if comma:
-        dotted = text.str.contains(".", regex=False).to_numpy()
+        dotted = text.str.contains(".", regex=False).to_numpy(bool)
         number_text = text.str.replace(",", ".", regex=False)
-    values = pd.to_numeric(number_text.where(~(missing | dotted), "nan"), errors="coerce").to_numpy(float, copy=True)
-    bad = (np.isnan(values) & ~missing) | dotted
+    values = np.array(pd.to_numeric(number_text, errors="coerce"), dtype=float)
+    missing = np.zeros(len(text), bool)
+    unread = np.isnan(values)
+    if unread.any():
+        missing[unread] = text[unread].str.strip().str.lower().isin(_MISSING).to_numpy(bool)
+    bad = (unread & ~missing) | dotted
     values[missing | bad] = np.nan
     return values, missing, bad, text.to_numpy(object)
 
@@ -59,7 +63,7 @@ def _numbers(cells: pd.Series, comma: bool) -> tuple[np.ndarray, np.ndarray, np.
 class _Column:
     def __init__(self, table: Table, name: str) -> None:
         self.name = name
-        self.cells = table.cells[table.columns.index(name)]
+        self.cells = table.cells(name)[0]
 
 
 def _reject(problems: Problems, mask: np.ndarray, keep: np.ndarray, message: str, rows, column: str, text) -> None:
@@ -121,6 +125,8 @@ def build_runs(table: Table, used: ColumnMap, problems: Problems, *, temperature
     """The runs of ``table`` under the complete map ``used``; ``label`` starts each run's name."""
     file, rows, comma = problems.file, table.rows, table.decimal_comma
     keep = np.ones(rows.size, bool)
+    table.cells(*(c for c in (used.pressure, used.amount, used.column("temperature"), used.column("leg"),
+                              used.column("run")) if c))                  # parsed in one pass
     p_col, a_col = _Column(table, used.pressure), _Column(table, used.amount)
     pressure, p_missing, p_bad, p_text = _numbers(p_col.cells, comma)
     amount, a_missing, a_bad, a_text = _numbers(a_col.cells, comma)

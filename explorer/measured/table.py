@@ -11,9 +11,11 @@ from __future__ import annotations
 import csv
 import io
 import math
+import operator
 import re
 from collections import Counter
-from dataclasses import dataclass
+from dataclasses import dataclass, field
+from typing import Callable
 from datetime import date, datetime, time
 
 import numpy as np
@@ -36,14 +38,36 @@ _TEMPERATURE = re.compile(r"(?i)(?:^|[^a-z])(?:t|temp\.?|temperature)\s*(?:\(k\)
 
 @dataclass
 class Table:
-    """Cells as strings (``cells`` columns 0..k-1), the column names, 1-based row numbers as seen."""
+    """The column names, 1-based row numbers as seen, and the cells (as text) of the columns asked for.
+
+    ``load(positions)`` gives {position: cells} for columns at those positions of the file; only the
+    columns a run needs are ever parsed (a 13-column export of 50 MB reads three of them).
+    """
 
     columns: tuple[str, ...]
-    cells: pd.DataFrame
     rows: np.ndarray
     decimal_comma: bool
     has_header: bool
     header_temperature_k: float | None
+    load: Callable[[list[int]], dict[int, pd.Series]]
+    positions: tuple[int, ...] = ()
+    _cache: dict = field(default_factory=dict)
+
+    def __post_init__(self) -> None:
+        self.positions = self.positions or tuple(range(len(self.columns)))
+
+    def cells(self, *names: str) -> list[pd.Series]:
+        """The cells (object array of str) of the named columns, parsed at once on first use."""
+        wanted = [self.positions[self.columns.index(n)] for n in names]
+        missing = sorted({p for p in wanted if p not in self._cache})
+        if missing:
+            self._cache.update(self.load(missing))
+        return [self._cache[p] for p in wanted]
+
+    def keeping(self, indices: list[int]) -> "Table":
+        """The same table with only the columns at ``indices``."""
+        return Table(tuple(self.columns[i] for i in indices), self.rows, self.decimal_comma, self.has_header,
+                     self.header_temperature_k, self.load, tuple(self.positions[i] for i in indices), self._cache)
 
 
 def is_number(cell: str, comma: bool) -> bool:
@@ -200,15 +224,9 @@ def table_from_text(text: str, problems: Problems) -> Table:
     if len(lines) > 5 * LIMITS["max_rows"]:      # hopeless at a glance: refuse before looking at every line
         raise problems.refuse(f"has {len(lines)} lines, far more than the {LIMITS['max_rows']} rows of data "
                               "porefill reads — split the file")
-    data_at, comments = [], []
-    for i, line in enumerate(lines):
-        s = line.strip()
-        if not s:
-            continue
-        if s[0] in "#%":
-            comments.append((i + 1, s))
-        else:
-            data_at.append(i)
+    starts = [line.lstrip()[:1] for line in lines]
+    data_at = [i for i, c in enumerate(starts) if c and c not in "#%"]
+    comments = [(i + 1, lines[i].strip()) for i, c in enumerate(starts) if c == "#" or c == "%"]
     if not data_at:
         raise problems.refuse("has only comment lines, no table" if comments else "the file is empty")
     quoted = '"' in text
@@ -227,35 +245,51 @@ def table_from_text(text: str, problems: Problems) -> Table:
                                   problems)
     body_at = data_at[layout.start:]
     _refuse_rows(len(body_at), problems)
-    kept_lines, kept_rows = [], []
-    for i in body_at:
-        line = lines[i]
-        fields = _split(line, delim, quoted) if quoted else None
-        n = len(fields) if fields is not None else (len(line.split()) if delim == " " else
-                                                     line.rstrip(" \t" + delim).count(delim) + 1)
-        if n > layout.width:
-            problems.add(f"has {n} fields; the table has {layout.width} columns — row skipped", row=i + 1)
-            continue
-        if n == 1 and layout.width > 1:
-            other = next((d for d in "\t;,|" if d != delim and len(_split(line, d, quoted)) >= 2), None)
-            if other is not None:
-                problems.add(f"fields separated by {_DELIMITER_NAMES[other]}, but the table uses "
-                             f"{_DELIMITER_NAMES[delim]} — row skipped", row=i + 1, value=line.strip())
-                continue
-        kept_lines.append(fields if quoted else (line.strip() if delim == " " else line.rstrip(" \t" + delim)))
-        kept_rows.append(i + 1)
-    if not kept_lines:
-        raise problems.refuse("has no rows that fit the table")
+    width = layout.width
     if quoted:
-        cells = pd.DataFrame([f + [""] * (layout.width - len(f)) for f in kept_lines], dtype=object)
+        body = [_split(lines[i], delim, True) for i in body_at]
+        counts = np.fromiter((len(f) for f in body), int, len(body))
     else:
-        cells = pd.read_csv(io.StringIO("\n".join(kept_lines)), sep=r"\s+" if delim == " " else delim,
-                            header=None, names=range(layout.width), dtype=str, na_filter=False,
-                            quoting=csv.QUOTE_NONE, engine="c", skip_blank_lines=False)
-        if len(cells) != len(kept_lines):
-            raise problems.refuse("could not be split into rows consistently (a stray quote or line break?)")
-    names = _clean_names(layout.names or [], layout.width, problems)
-    return Table(names, cells, np.asarray(kept_rows, int), comma, layout.names is not None, temperature)
+        contiguous = body_at[-1] - body_at[0] + 1 == len(body_at)
+        body = lines[body_at[0]:body_at[-1] + 1] if contiguous else [lines[i] for i in body_at]
+        if delim == " ":
+            counts = np.fromiter(map(len, map(str.split, body)), int, len(body))
+        else:
+            counts = np.fromiter(map(operator.methodcaller("count", delim), body), int, len(body)) + 1
+            for k in np.flatnonzero(counts > width):       # trailing delimiters and spaces are no fields
+                body[k] = body[k].rstrip(" \t" + delim)
+                counts[k] = body[k].count(delim) + 1
+    keep = np.ones(len(body), bool)
+    for k in np.flatnonzero((counts > width) | ((counts == 1) & (width > 1))):
+        row, line = body_at[k] + 1, lines[body_at[k]]
+        other = next((d for d in "\t;,|" if d != delim and len(_split(line, d, quoted)) >= 2), None)
+        if counts[k] > width:
+            problems.add(f"has {counts[k]} fields; the table has {width} columns — row skipped", row=row)
+        elif other is not None:
+            problems.add(f"fields separated by {_DELIMITER_NAMES[other]}, but the table uses "
+                         f"{_DELIMITER_NAMES[delim]} — row skipped", row=row, value=line.strip())
+        else:
+            continue
+        keep[k] = False
+    if not keep.any():
+        raise problems.refuse("has no rows that fit the table")
+    kept = [b for b, k in zip(body, keep) if k] if not keep.all() else body
+    rows = np.asarray(body_at, int)[keep] + 1
+    if quoted:
+        def load(positions):
+            return {p: pd.Series([f[p] if p < len(f) else "" for f in kept], dtype=object) for p in positions}
+    else:
+        joined = "\n".join(kept)
+
+        def load(positions):
+            frame = pd.read_csv(io.StringIO(joined), sep=r"\s+" if delim == " " else delim, header=None,
+                                names=range(width), usecols=positions, dtype=str, na_filter=False,
+                                quoting=csv.QUOTE_NONE, engine="c", skip_blank_lines=False)
+            if len(frame) != len(kept):
+                raise problems.refuse("could not be split into rows consistently (a stray line break?)")
+            return {p: frame[p].astype(object) for p in positions}
+    names = _clean_names(layout.names or [], width, problems)
+    return Table(names, rows, comma, layout.names is not None, temperature, load)
 
 
 def _cell_text(value) -> str:
@@ -293,6 +327,11 @@ def table_from_workbook(data: bytes, sheet: str | None, problems: Problems) -> t
     if (worksheet.max_column or 0) > LIMITS["max_columns"]:
         raise problems.refuse(f"sheet {name!r} has {worksheet.max_column} columns, more than the "
                               f"{LIMITS['max_columns']} porefill reads")
+    cells_said = (worksheet.max_row or 0) * (worksheet.max_column or 0)
+    if cells_said > LIMITS["max_workbook_cells"]:
+        raise problems.refuse(f"sheet {name!r} has {worksheet.max_row} rows × {worksheet.max_column} columns, more "
+                              f"than the {LIMITS['max_workbook_cells']} cells porefill reads from a workbook — "
+                              "save the columns needed as CSV")
     if (worksheet.max_row or 0) > LIMITS["max_rows"] + _SAMPLE_LINES:
         raise problems.refuse(f"sheet {name!r} has {worksheet.max_row} rows, more than the {LIMITS['max_rows']} "
                               "rows of data porefill reads — split the sheet")
@@ -322,9 +361,10 @@ def table_from_workbook(data: bytes, sheet: str | None, problems: Problems) -> t
     temperature = _temperature_in(comment_lines + preamble, problems)
     body = positions[layout.start:]
     _refuse_rows(len(body), problems)
-    cells = text.iloc[body, :layout.width].reset_index(drop=True)
-    cells.columns = range(cells.shape[1])
-    for extra in range(cells.shape[1], layout.width):
-        cells[extra] = ""
+    cells = text.iloc[body].reset_index(drop=True)
+
+    def load(positions):
+        return {p: cells[p].astype(object) if p < cells.shape[1] else pd.Series([""] * len(cells), dtype=object)
+                for p in positions}
     names = _clean_names(layout.names or [], layout.width, problems)
-    return Table(names, cells, rows[layout.start:].astype(int), False, layout.names is not None, temperature), sheets
+    return Table(names, rows[layout.start:].astype(int), False, layout.names is not None, temperature, load), sheets
