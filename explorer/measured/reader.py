@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import math
 import os
+from dataclasses import replace
 from pathlib import Path
 
 from .decode import classify
@@ -127,6 +128,10 @@ def read_measured(name: str, data: bytes, *, columns: ColumnMap | None = None, s
         problems.add(message, column=column)
     _check_choices(columns, table.columns, problems)
     used = guessed.overlaid(columns)
+    for kind in ("pressure", "amount"):     # a column chosen without its unit brings the unit of its own header
+        if columns is not None and columns.column(kind) and getattr(columns, f"{kind}_unit") is None:
+            header_kind, unit = parse_unit_from_header(columns.column(kind))
+            used = replace(used, **{f"{kind}_unit": unit if header_kind == kind else None})
     _note_units(used, columns, problems, table.columns, table.has_header)
     runs = []
     if used.column("pressure") and used.column("amount") and used.pressure_unit and used.amount_unit:

@@ -106,9 +106,9 @@ def _score(sample: list[str], delim: str, comma: bool, quoted: bool) -> tuple[in
             continue
         numbers = sum(is_number(f, comma) for f in fields)
         texts = sum(1 for f in fields if f.strip()) - numbers
-        if numbers:
+        if numbers:          # text-only lines (headers, notes) say nothing about the delimiter
             widths[len(fields)] += 1
-        score += numbers - texts
+            score += numbers - texts
     consistency = widths.most_common(1)[0][1] / sum(widths.values()) if widths else 0.0
     return score, consistency
 
