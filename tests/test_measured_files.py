@@ -281,3 +281,284 @@ HEADERS = [  # header → (kind, unit); spellings common practice, no source
 @pytest.mark.parametrize("header, expected", HEADERS, ids=[h[0] or "empty" for h in HEADERS])
 def test_parse_unit_from_header(header, expected):
     assert parse_unit_from_header(header) == expected
+
+
+# --- the gallery of bad files ----------------------------------------------------------------------------------
+# Each entry: (id, file name, bytes or a function making them, read_measured keywords, expectation).
+# expectation ("error", [...]): MeasuredFileError whose message holds every piece;
+#             ("problem", [...]): a result in which one problem's text holds every piece.
+
+HEAD = "P (Pa),n (mmol/g)\n"
+
+
+def _zip(files: dict[str, bytes]) -> bytes:
+    out = io.BytesIO()
+    with zipfile.ZipFile(out, "w") as archive:
+        for name, data in files.items():
+            archive.writestr(name, data)
+    return out.getvalue()
+
+
+def _formula_workbook() -> bytes:
+    # openpyxl stores "=..." as a formula with no cached value: read back as an empty cell, never computed
+    return _xlsx([["P (Pa)", "n (mmol/g)"], [1.0, 0.5], [2.0, "=1+1"], [3.0, "=cmd|' /C calc'!A0"], [4.0, 0.9]])
+
+
+GALLERY = [
+    ("empty", "a.csv", b"", {}, ("error", ["a.csv: the file is empty"])),
+    ("blank lines", "a.csv", b"  \n\n \t\n", {}, ("error", ["a.csv: the file is empty"])),
+    ("bom only", "a.csv", b"\xef\xbb\xbf", {}, ("error", ["the file is empty"])),
+    ("utf16 bom only", "a.csv", "\n".encode("utf-16"), {}, ("error", ["the file is empty"])),
+    ("header only", "a.csv", HEAD.encode(), {}, ("error", ["has a header line but no rows of numbers"])),
+    ("comments only", "a.csv", b"# invented\n% nothing else\n", {}, ("error", ["only comment lines"])),
+    ("one column", "a.csv", b"P (Pa)\n1\n2\n3\n", {}, ("error", ["only one column of numbers"])),
+    ("all text", "a.csv", b"a,b\nc,d\ne,f\n", {}, ("error", ["every row is text"])),
+    ("text in pressure", "a.csv", (HEAD + "1,0.1\nabc,0.2\n3,0.3\n").encode(), {},
+     ("problem", ["a.csv, row 3, column 'P (Pa)', value 'abc': not a number"])),
+    ("text in amount", "a.csv", (HEAD + "1,0.1\n2,lots\n3,0.3\n").encode(), {},
+     ("problem", ["row 3", "column 'n (mmol/g)'", "value 'lots'", "not a number"])),
+    ("nan amount", "a.csv", (HEAD + "1,0.1\n2,NaN\n3,0.3\n").encode(), {},
+     ("problem", ["row 3", "column 'n (mmol/g)'", "no amount — row skipped"])),
+    ("nan pressure kept", "a.csv", (HEAD + "NaN,0.1\n2,0.2\n3,0.3\n").encode(), {},
+     ("problem", ["row 2", "column 'P (Pa)'", "have no pressure", "kept"])),
+    ("inf pressure", "a.csv", (HEAD + "1,0.1\ninf,0.2\n3,0.3\n").encode(), {},
+     ("problem", ["row 3", "value 'inf'", "not a finite number"])),
+    ("-inf amount", "a.csv", (HEAD + "1,0.1\n2,-Infinity\n3,0.3\n").encode(), {},
+     ("problem", ["row 3", "value '-Infinity'", "not a finite number"])),
+    ("negative pressure", "a.csv", (HEAD + "1,0.1\n-5,0.2\n3,0.3\n").encode(), {},
+     ("problem", ["row 3", "column 'P (Pa)'", "value '-5'", "negative pressure"])),
+    ("zero pressure", "a.csv", (HEAD + "0,0\n1,0.1\n3,0.3\n").encode(), {},
+     ("problem", ["row 2", "value '0'", "zero pressure — row skipped"])),
+    ("zero pressure dosed", "a.csv", b"P (Pa),dosed (mol)\n0,1e-6\n1,2e-6\n3,3e-6\n", {},
+     ("problem", ["row 2", "zero pressure", "read as no usable pressure"])),
+    ("negative amount", "a.csv", (HEAD + "1,0.1\n2,-0.2\n3,0.3\n").encode(), {},
+     ("problem", ["row 3", "value '-0.2'", "negative amount"])),
+    ("duplicated row", "a.csv", (HEAD + "1,0.1\n2,0.2\n2,0.2\n3,0.3\n").encode(), {},
+     ("problem", ["row 4", "repeats row 3", "kept once"])),
+    ("unsorted rows", "a.csv", (HEAD + "1,0.1\n3,0.3\n2,0.2\n4,0.4\n5,0.5\n").encode(), {},
+     ("problem", ["row 4", "pressure falls within the adsorption leg at rows 4", "kept in file order"])),
+    ("mixed delimiters", "a.csv", b"P (Pa);n (mmol/g)\n1;0.1\n2,0.2\n3;0.3\n", {},
+     ("problem", ["row 3", "fields separated by ','", "table uses ';'"])),
+    ("too many fields", "a.csv", (HEAD + "1,0.1\n2,0.2,7\n3,0.3\n").encode(), {},
+     ("problem", ["row 3", "has 3 fields; the table has 2 columns"])),
+    ("decimal comma in dot file", "a.tsv", b"P (Pa)\tn (mmol/g)\n1.5\t0.1\n2,5\t0.2\n3.5\t0.3\n", {},
+     ("problem", ["row 3", "value '2,5'", "not a number"])),
+    ("dot in decimal-comma file", "a.csv", b"P (Pa);n (mmol/g)\n1,5;0,1\n2.5;0,2\n3,5;0,3\n", {},
+     ("problem", ["row 3", "value '2.5'", "not a number"])),
+    ("png", "a.csv", b"\x89PNG\r\n\x1a\n" + bytes(range(256)), {}, ("error", ["a.csv: a PNG image"])),
+    ("jpeg", "a.txt", b"\xff\xd8\xff\xe0" + bytes(100), {}, ("error", ["a JPEG image"])),
+    ("pdf", "a.csv", b"%PDF-1.7\n...", {}, ("error", ["a PDF document"])),
+    ("gzip", "a.csv", gzip.compress(HEAD.encode()), {}, ("error", ["gzip-compressed"])),
+    ("elf", "a.dat", b"\x7fELF\x02\x01\x01" + bytes(50), {}, ("error", ["a program"])),
+    ("rtf", "a.txt", b"{\\rtf1\\ansi P,n}", {}, ("error", ["rich-text (RTF)"])),
+    ("zip not xlsx", "a.xlsx", _zip({"readme.txt": b"hello"}), {},
+     ("error", ["a zip archive that is not an Excel workbook"])),
+    ("word document", "a.xlsx", _zip({"word/document.xml": b"<w/>"}), {}, ("error", ["a Word document"])),
+    ("ods content", "a.xlsx", _zip({"mimetype": b"application/vnd.oasis.opendocument.spreadsheet"}), {},
+     ("error", ["OpenDocument spreadsheet"])),
+    ("damaged zip", "a.xlsx", b"PK\x03\x04" + bytes(range(200)), {}, ("error", ["a damaged zip archive"])),
+    ("damaged workbook", "a.xlsx", _zip({"xl/workbook.xml": b"<not really/>"}), {},
+     ("error", ["cannot be opened as an Excel workbook"])),
+    ("random bytes", "a.csv", np.random.default_rng(3).integers(0, 256, 4000, dtype=np.uint8).tobytes(), {},
+     ("error", ["a.csv:", "binary"])),
+    ("zero bytes", "a.csv", b"P,n\n1,\x002\n", {}, ("error", ["contains zero bytes"])),
+    ("control characters", "a.csv", b"P,n\n" + b"\x01\x02\x03\x04" * 50, {}, ("error", ["control characters"])),
+    ("random bytes without zeros", "a.txt", np.random.default_rng(4).integers(1, 256, 4000, dtype=np.uint8).tobytes(),
+     {}, ("error", ["a.txt: looks like binary data"])),
+    ("cp1252 header", "a.csv", "P (Pa);V (cm³ STP/g)\n1;2\n2;3\n".encode("cp1252"), {},
+     ("problem", ["row 1", "not UTF-8", "byte 0xB3", "Windows-1252"])),
+    ("latin-1 only", "a.csv", b"P (Pa),n (mmol/g)\x81\n1,2\n2,3\n", {}, ("problem", ["Latin-1"])),
+    ("utf16 without bom", "a.csv", (HEAD + "1,2\n2,3\n").encode("utf-16-le"), {},
+     ("problem", ["no byte-order mark", "UTF-16-LE"])),
+    ("broken utf16", "a.csv", b"\xff\xfe" + (HEAD + "1,2\n").encode("utf-16-le")[:-1] + b"\x00\xd8", {},
+     ("error", ["not valid UTF-16"])),
+    ("missing sheet", "book.xlsx", _xlsx([["P (Pa)", "n (mmol/g)"], [1.0, 2.0]], title="Data"), {"sheet": "Results"},
+     ("error", ["book.xlsx: has no sheet 'Results'", "its sheets are 'Data'"])),
+    ("empty sheet", "book.xlsx", _xlsx([], more_sheets={"Data": [["P (Pa)", "n (mmol/g)"], [1.0, 2.0]]}), {},
+     ("error", ["sheet 'Sheet' is empty", "other sheets: Data"])),
+    ("text-only sheet", "book.xlsx", _xlsx([["notes"], ["invented"]], title="Notes"), {},
+     ("error", ["sheet 'Notes' has no rows of numbers"])),
+    ("header-only sheet", "book.xlsx", _xlsx([["P (Pa)", "n (mmol/g)"]]), {},
+     ("error", ["sheet 'Sheet' has a header line but no rows"])),
+    ("formula cells", "book.xlsx", _formula_workbook, {},
+     ("problem", ["book.xlsx, row 3, column 'n (mmol/g)'", "no amount — row skipped"])),
+    ("formula text in csv", "a.csv", (HEAD + "1,0.1\n2,=cmd|' /C calc'!A0\n3,0.3\n").encode(), {},
+     ("problem", ["row 3", "value '=cmd|' /C calc'!A0'", "not a number"])),
+    ("old binary xls", "a.xls", b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1" + bytes(500), {},
+     ("error", ["an old binary Office file (.xls or .doc)", "save the sheet as .xlsx or CSV"])),
+    ("text named xls", "a.xls", (HEAD + "1\t2\n").replace(",", "\t").encode() + b"3\t4\n", {},
+     ("problem", ["named .xls but is delimited text"])),
+    ("ods name", "a.ods", b"anything", {}, ("error", ["OpenDocument spreadsheet", ".xlsx or CSV"])),
+    ("xlsm name", "a.xlsm", b"anything", {}, ("error", ["macros are never run"])),
+    ("json name", "a.json", b'{"P": [1, 2]}', {}, ("error", ["JSON, not a table", ".csv"])),
+    ("text named xlsx", "a.xlsx", (HEAD + "1,2\n").encode(), {}, ("error", ["named .xlsx but is not an Excel"])),
+    ("xlsx named csv", "a.csv", _xlsx([["P (Pa)", "n (mmol/g)"], [1.0, 2.0]]), {},
+     ("problem", ["named .csv but is an Excel workbook; read as .xlsx"])),
+    ("html", "a.csv", b"<!DOCTYPE html><html><body><table><tr><td>1</td></tr></table></body></html>", {},
+     ("error", ["looks like a web page (HTML)"])),
+    ("json", "a.csv", b'[{"P": 1, "n": 2}]', {}, ("error", ["looks like JSON"])),
+    ("xml", "a.txt", b'<?xml version="1.0"?><isotherm/>', {}, ("error", ["looks like XML"])),
+    ("too large", "a.csv", (HEAD + "1,2\n" * 100).encode(), {"max_bytes": 100},
+     ("error", ["the file is 418 bytes, larger than the 100 bytes porefill reads"])),
+    ("too many columns", "a.csv", (",".join(f"c{i} (Pa)" for i in range(150)) + "\n" +
+                                   ",".join("1" for _ in range(150)) + "\n").encode(), {},
+     ("error", ["has 150 columns, more than the 100"])),
+    ("a million rows", "a.csv", HEAD.encode() + b"1,2\n" * 1_000_001, {}, ("error", ["1000003 lines", "split"])),
+    ("deep quoting", "a.csv", (HEAD + "1,2\n" + '"' * 5000 + "\n3,4\n").encode(), {},
+     ("problem", ["row 3", "column 'P (Pa)'", "…", "not a number"])),
+    ("unbalanced quote", "a.csv", (HEAD + '1,2\n"3,4\n5,6\n').encode(), {}, ("problem", ["row 3", "not a number"])),
+    ("control char in a cell", "a.csv", (HEAD + "1,2\n2,3\x074\n5,6\n").encode(), {},
+     ("problem", ["row 3", "value '3\\x074'", "not a number"])),
+    ("very long cell", "a.csv", (HEAD + "1,2\n" + "9" * 100 + "x" * 100_000 + ",3\n5,6\n").encode(), {},
+     ("problem", ["row 3", "…", "not a number"])),
+    ("psi unit", "a.csv", b"P (psi),n (mmol/g)\n1,2\n2,3\n", {},
+     ("problem", ["column 'P (psi)'", "does not read the unit 'psi'", "Torr"])),
+    ("cm3/g without STP", "a.csv", b"P (Pa),V (cm3/g)\n1,2\n2,3\n", {},
+     ("problem", ["column 'V (cm3/g)'", "does not say STP"])),
+    ("no units", "a.csv", b"P,n\n1,2\n2,3\n", {}, ("problem", ["column 'P'", "names no pressure unit"])),
+    ("no pressure column", "a.csv", b"x,n (mmol/g)\n1,2\n2,3\n", {},
+     ("problem", ["no column looks like the pressure", "'x'"])),
+    ("temperature in celsius", "a.csv", b"T (\xc2\xb0C),P (Pa),n (mmol/g)\n-196,1,2\n-196,2,3\n", {},
+     ("problem", ["column 'T (°C)'", "temperatures must be in K"])),
+    ("bad leg", "a.csv", b"P (Pa),n (mmol/g),leg\n1,2,ads\n2,3,sideways\n3,4,ads\n", {},
+     ("problem", ["row 3", "column 'leg'", "value 'sideways'", "not a leg"])),
+    ("bad temperature", "a.csv", b"T (K),P (Pa),n (mmol/g)\n77,1,2\nwarm,2,3\n77,3,4\n", {},
+     ("problem", ["row 3", "column 'T (K)'", "value 'warm'", "not a number"])),
+    ("negative temperature", "a.csv", b"T (K),P (Pa),n (mmol/g)\n77,1,2\n-77,2,3\n77,3,4\n", {},
+     ("problem", ["row 3", "value '-77'", "not a positive temperature"])),
+    ("empty run label", "a.csv", b"run,P (Pa),n (mmol/g)\nA,1,2\n,2,3\nA,3,4\n", {},
+     ("problem", ["row 3", "column 'run'", "no run label"])),
+    ("no usable row", "a.csv", (HEAD + "x,1\ny,2\n-1,3\n").encode(), {},
+     ("error", ["a.csv: has no usable rows in columns 'P (Pa)' and 'n (mmol/g)'",
+                "a.csv, row 2, column 'P (Pa)', value 'x': not a number"])),
+    ("chosen column missing", "a.csv", (HEAD + "1,2\n2,3\n").encode(), {"columns": ColumnMap(pressure="p")},
+     ("error", ["has no column 'p' (chosen for pressure)", "'P (Pa)'"])),
+    ("same column twice", "a.csv", (HEAD + "1,2\n2,3\n").encode(), {"columns": ColumnMap(amount="P (Pa)")},
+     ("error", ["the same column 'P (Pa)' is chosen for both"])),
+    ("sheet for a text file", "a.csv", (HEAD + "1,2\n2,3\n").encode(), {"sheet": "Data"},
+     ("problem", ["sheet 'Data' was asked for, but a text file has no sheets"])),
+    ("preamble lines", "a.csv", ("Instrument export\nSample: invented\n" + HEAD + "1,2\n2,3\n").encode(), {},
+     ("problem", ["row 1", "2 line(s) above the table", "skipped"])),
+    ("repeated header names", "a.csv", b"P (Pa),P (Pa),n (mmol/g)\n1,1,2\n2,2,3\n", {},
+     ("problem", ["repeats the name 'P (Pa)'", "'P (Pa) (2)'"])),
+    ("several pressure columns", "a.csv", b"P (Pa),p/p0,n (mmol/g)\n1,0.1,2\n2,0.2,3\n", {},
+     ("problem", ["several pressure columns", "using 'P (Pa)'"])),
+    ("unfamiliar ending", "a.isotherm", (HEAD + "1,2\n2,3\n").encode(), {},
+     ("problem", ["unfamiliar file ending '.isotherm'"])),
+    ("rows over the limit", "a.csv", (HEAD + "".join(f"{i + 1},{i}\n" for i in range(30))).encode(),
+     {"_limits": {"max_rows": 20}}, ("error", ["has 30 rows of data, more than the 20"])),
+    ("zip bomb", "book.xlsx", _xlsx([["P (Pa)", "n (mmol/g)"], [1.0, 2.0]]), {"_limits": {"max_unzipped_bytes": 1000}},
+     ("error", ["unpacks to", "zip bomb"])),
+    ("many bad cells counted", "a.csv", (HEAD + "x,1\n" * 400 + "1,2\n").encode(), {},
+     ("problem", ["more problems not listed one by one", "not a number"])),
+]
+
+_TRACEBACK_WORDS = re.compile(r"Traceback|\b\w+(Error|Exception)\b|File \"|line \d+, in")
+
+
+@pytest.mark.parametrize("name, data, kwargs, expected", [g[1:] for g in GALLERY], ids=[g[0] for g in GALLERY])
+def test_bad_file_gallery(name, data, kwargs, expected, monkeypatch):
+    kwargs = dict(kwargs)
+    for key, value in kwargs.pop("_limits", {}).items():
+        monkeypatch.setitem(LIMITS, key, value)
+    data = data() if callable(data) else data
+    kind, pieces = expected
+    if kind == "error":
+        with pytest.raises(MeasuredFileError) as caught:
+            read_measured(name, data, **kwargs)
+        message = str(caught.value)
+        assert message.startswith(f"{name}:"), message
+        assert len(message.splitlines()) <= 6, message
+        for piece in pieces:
+            assert piece in message, message
+        assert not _TRACEBACK_WORDS.search(message), message
+        assert all(isinstance(p, FileProblem) for p in caught.value.problems)
+    else:
+        result = read_measured(name, data, **kwargs)
+        texts = [str(p) for p in result.problems]
+        assert any(all(piece in t for piece in pieces) for t in texts), texts
+        assert not any(_TRACEBACK_WORDS.search(t) for t in texts), texts
+
+
+def test_gallery_is_large_and_distinct():
+    assert len(GALLERY) >= 50
+    assert len({g[0] for g in GALLERY}) == len(GALLERY)
+
+
+def test_formulas_are_never_evaluated():
+    # "=1+1" would be 2 if computed; "=cmd|..." is a classic spreadsheet injection: both stay unread
+    result = read_measured("book.xlsx", _formula_workbook())
+    run = _one_run(result)
+    assert run.amount.tolist() == [0.5, 0.9] and run.rows.tolist() == [2, 5]
+
+
+def test_bad_rows_skipped_rest_kept():
+    text = HEAD + "1,0.1\nabc,0.2\n3,-0.3\n4,0.4\n4,0.4\n5,0.5\n"
+    result = read_measured("mixed.csv", text.encode())
+    run = _one_run(result)
+    assert run.pressure.tolist() == [1.0, 4.0, 5.0] and run.rows.tolist() == [2, 5, 7]
+    assert [p.row for p in result.problems] == [3, 4, 6]
+
+
+# --- property-based tests --------------------------------------------------------------------------------------
+
+positive = st.floats(min_value=1e-30, max_value=1e30, allow_nan=False, allow_infinity=False)
+LAYOUTS = [(",", "."), (";", "."), (";", ","), ("\t", "."), ("\t", ","), (" ", "."), ("   ", ".")]
+
+
+@settings(max_examples=150, deadline=2000, suppress_health_check=[HealthCheck.too_slow])
+@given(pressure=st.lists(positive, min_size=1, max_size=40, unique=True), data=st.data(),
+       layout=st.sampled_from(LAYOUTS), header=st.booleans(), bom=st.booleans(), crlf=st.booleans(),
+       comment=st.booleans())
+def test_random_arrays_read_back_equal(pressure, data, layout, header, bom, crlf, comment):
+    pressure = sorted(pressure)   # rising: one adsorption leg
+    amount = data.draw(st.lists(st.floats(min_value=0.0, max_value=1e30), min_size=len(pressure),
+                                max_size=len(pressure)))
+    delimiter, decimal = layout
+    head = delimiter.join(["P_(Pa)", "n_(mmol/g)"] if delimiter.strip() == "" else ["P (Pa)", "n (mmol/g)"])
+    text = _text(head if header else None, pressure, amount, delimiter=delimiter, decimal=decimal,
+                 comments=["# invented by hypothesis"] if comment else [])
+    if crlf:
+        text = text.replace("\n", "\r\n")
+    raw = (b"\xef\xbb\xbf" if bom else b"") + text.encode()
+    choices = None if header else ColumnMap(pressure_unit="Pa", amount_unit="mmol/g")
+    run = _one_run(read_measured("random.csv", raw, columns=choices))
+    np.testing.assert_allclose(run.pressure, pressure, rtol=RTOL)
+    np.testing.assert_allclose(run.amount, amount, rtol=RTOL, atol=0)
+    above = int(comment) + int(header)       # lines above the first data line
+    assert run.rows.tolist() == list(range(above + 1, above + 1 + len(pressure)))
+
+
+@settings(max_examples=300, deadline=2000, suppress_health_check=[HealthCheck.too_slow])
+@given(data=st.binary(max_size=3000), name=st.sampled_from(["x.csv", "x.txt", "x.xlsx", "x.xls", "x", "x.dat"]))
+def test_random_bytes_give_a_result_or_a_file_error(data, name):
+    try:
+        result = read_measured(name, data)
+    except MeasuredFileError as exc:
+        assert str(exc).startswith(name) and not _TRACEBACK_WORDS.search(str(exc))
+    else:
+        assert isinstance(result, ReadResult)
+
+
+TOKENS = ["1.5", "2", "-3", "0", "1e-5", "nan", "inf", "abc", "=cmd|' /C calc'!A0", '"', '""', "P (Pa)",
+          "n (mmol/g)", "T (K)", "ads", "des", "1,5", "#", "%", "", " ", "µ", "€", "\x07", "77.35", "leg", "run"]
+
+
+@settings(max_examples=300, deadline=2000, suppress_health_check=[HealthCheck.too_slow])
+@given(rows=st.lists(st.lists(st.sampled_from(TOKENS), max_size=6), max_size=30),
+       delimiter=st.sampled_from([",", ";", "\t", " ", "|"]),
+       encoding=st.sampled_from(["utf-8", "utf-16", "cp1252", "latin-1"]))
+def test_table_like_junk_gives_a_result_or_a_file_error(rows, delimiter, encoding):
+    text = "\n".join(delimiter.join(row) for row in rows)
+    try:
+        raw = text.encode(encoding)
+    except UnicodeEncodeError:
+        raw = text.encode("utf-8")
+    try:
+        result = read_measured("junk.csv", raw)
+    except MeasuredFileError as exc:
+        assert str(exc).startswith("junk.csv") and not _TRACEBACK_WORDS.search(str(exc))
+    else:
+        for run in result.runs:
+            assert np.all(np.isfinite(run.amount)) and np.all(run.amount >= 0)
+            assert not np.any(run.pressure <= 0)

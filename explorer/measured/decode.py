@@ -58,7 +58,7 @@ _BOMS = (  # longest first: the UTF-32 LE mark begins with the UTF-16 LE one
 
 
 def _mb(n: float) -> str:
-    return f"{n / 2**20:.0f} MB" if n >= 2**20 else f"{n / 1024:.0f} kB"
+    return f"{n / 2**20:.0f} MB" if n >= 2**20 else f"{n / 1024:.0f} kB" if n >= 10 * 1024 else f"{n:.0f} bytes"
 
 
 def _zip_kind(data: bytes, problems: Problems) -> str:
@@ -153,7 +153,7 @@ def _text_checks(text: str, problems: Problems) -> None:
 
 
 def _with_accepted(what: str) -> str:
-    return what if "porefill reads" in what else f"{what}; porefill reads {ACCEPTED}"
+    return what if "porefill reads" in what or _SAVE_AS in what else f"{what}; porefill reads {ACCEPTED}"
 
 
 def classify(name: str, data: bytes, problems: Problems, *, max_bytes: int) -> tuple[str, str | bytes]:

@@ -49,7 +49,7 @@ def _note_units(used: ColumnMap, choices: ColumnMap | None, problems: Problems, 
         if unit is None:
             problems.add(f"the file has no header; choose the {kind} unit" if not has_header else
                          unit_advice(kind, column) if header_kind in (kind, "other") else
-                         f"the header reads as a {header_kind}, not a {kind}; choose the {kind} unit", column=column)
+                         f"the header reads as a {header_kind}, not as the {kind}; choose the {kind} unit", column=column)
         elif choices is not None and getattr(choices, f"{kind}_unit") and header_unit and header_unit != unit:
             problems.add(f"the header says {header_unit}; using the chosen {unit}", column=column)
     if used.column("pressure") and used.column("pressure") == used.column("amount"):
