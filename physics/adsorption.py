@@ -167,6 +167,40 @@ def equilibrium_transition(problem, mu_low: float, x_low: np.ndarray, mu_high: f
     return mid, float(w @ rise), rise
 
 
+def _equilibrium_logits(ads: Branch, des: Branch) -> np.ndarray:
+    """(M, O) logits of the lower-Ω branch at each μ."""
+    use = des.grand_potential - ads.grand_potential < -1e-9 * (1.0 + np.abs(ads.grand_potential))
+    return np.where(use[:, None], des.logits, ads.logits)
+
+
+def compressibility(problem, x: np.ndarray, solve) -> float:
+    """dN/dμ (sites per K) of a solved state: n_i(1−n_i) (J⁻¹·1)_i summed with the orbit weights, J the
+    Jacobian of the mean-field equations at the state (``solve`` applies J⁻¹, from `solve_state`)."""
+    n = expit(x)
+    return float(problem.weights @ (n * (1.0 - n) * solve(np.ones_like(x))))
+
+
+def compressibility_peak(problem, mu: np.ndarray, logits: np.ndarray, k0: int, k1: int, *,
+                         tol_k: float = 1e-7) -> float:
+    """μ (K) of the largest dN/dμ between grid points k0 < k1 of a branch (``logits`` (M, O) on ``mu``).
+
+    Each trial μ re-solves the state from the branch's nearest grid point and takes dN/dμ exactly from the
+    Jacobian (`compressibility`); a bounded Brent search (scipy.optimize.minimize_scalar) finds the maximum
+    to ``tol_k``.
+    """
+    from scipy.optimize import minimize_scalar
+
+    def minus_slope(m):
+        k = int(np.clip(np.searchsorted(mu, m), k0, k1))
+        k = k if k == k0 or abs(mu[k] - m) <= abs(mu[k - 1] - m) else k - 1
+        x, ok, solve, _ = solve_state(logits[k], m, problem)
+        return -compressibility(problem, x, solve)
+
+    res = minimize_scalar(minus_slope, bounds=(float(mu[k0]), float(mu[k1])), method="bounded",
+                          options={"xatol": tol_k})
+    return float(res.x)
+
+
 def _atoms_per_angstrom_per_site(stage: ThermalStage) -> float:
     """One occupied site per slice, in atoms per Å of pore; for the slit a row's one site stands for a
     site every ℓ along x, so per Å²."""
@@ -221,5 +255,6 @@ def compute_isotherm(scenario: Scenario, *, n_points: int = 300, mu_range: tuple
                        weights=p.weights, labels=labels, order=p.site_free_energy,
                        pressure_pa=stage.scale.pressure_pa, saturation_pressure_pa=stage.saturation_pressure_pa,
                        per_site=per_site, refine=lambda k0, k1: equilibrium_transition(
-                           p, mu[k0], ads.logits[k0], mu[k1], des.logits[k1]))
+                           p, mu[k0], ads.logits[k0], mu[k1], des.logits[k1]),
+                       refine_peak=lambda k0, k1: compressibility_peak(p, mu, _equilibrium_logits(ads, des), k0, k1))
     return Isotherm(stage, mu, ads, des, steps)

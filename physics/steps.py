@@ -7,7 +7,8 @@ Everything is read off the *equilibrium* curve, the lower-Ω of the two branches
   hysteresis loop is the run of μ, around the crossing, over which the branches differ. A run where
   the branches differ but Ω never crosses is a metastable excursion, not a step of the equilibrium.
 - a **continuous step** is a peak of the equilibrium compressibility dN/dμ between two minima, with the
-  first-order jumps taken out.
+  first-order jumps taken out; the grid finds it, and (with ``refine_peak``) the maximum of dN/dμ of the
+  re-solved states locates it, independent of the grid.
 
 Thresholds are fractions of the pore's own number of sites, so they scale with the pore. Every reported
 step adds a positive amount; each symmetry orbit of sites is named in the one step where it fills most,
@@ -66,7 +67,8 @@ def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
 
 
 def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weights, labels, order,
-               pressure_pa, saturation_pressure_pa: float, per_site: float, refine=None) -> tuple[Step, ...]:
+               pressure_pa, saturation_pressure_pa: float, per_site: float, refine=None,
+               refine_peak=None) -> tuple[Step, ...]:
     """Layer steps from the two branches on a common ascending μ grid.
 
     Parameters
@@ -144,7 +146,10 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
         added = float(n_eq[hi_i] - n_eq[lo_i] - np.sum(np.diff(n_eq)[lo_i:hi_i][jumps[lo_i:hi_i]]))
         if added <= min_add:
             continue
-        mu_s = float(0.5 * (mu[pk - 1] + mu[pk]))
+        if refine_peak is not None:    # the slope's peak interval and one on either side hold the maximum
+            mu_s = float(refine_peak(max(pk - 2, 0), min(pk + 1, mu.size - 1)))
+        else:
+            mu_s = float(0.5 * (mu[pk - 1] + mu[pk]))
         found.append((dict(kind="continuous", mu_k=mu_s, added=added, up=None, down=None),
                       occ_eq[hi_i] - occ_eq[lo_i]))
 
