@@ -76,6 +76,8 @@ ROUND_TRIPS = [
      "Pa", "mol/g"),
     ("whitespace.dat", _text("P_mbar   Vads_[cm³(STP)/g]", P, A, delimiter="   ").encode(), None, "mbar",
      "cm3(STP)/g"),
+    ("whitespace_single_spaces.dat", _text("P (Pa) n (mmol/g)", P, A, delimiter=" ").encode(), None, "Pa",
+     "mmol/g"),
     ("whitespace_names.dat", _text("P (Pa)    N (per nm)", P, A, delimiter="  ").encode(), None, "Pa", "per nm"),
     ("no_header.csv", _text(None, P, A).encode(), ColumnMap(pressure_unit="bar", amount_unit="per nm2 wall"), "bar",
      "per nm2 wall"),
@@ -445,6 +447,10 @@ GALLERY = [
      ("problem", ["several pressure columns", "using 'P (Pa)'"])),
     ("unfamiliar ending", "a.isotherm", (HEAD + "1,2\n2,3\n").encode(), {},
      ("problem", ["unfamiliar file ending '.isotherm'"])),
+    ("header not matching columns", "a.txt", b"pressure kPa amount\n1 2\n3 4\n", {},
+     ("problem", ["row 1", "the header has 3 names for 2 columns", "numbered"])),
+    ("relative pressure above 1", "a.csv", b"p/p0,n (mmol/g)\n0.5,1\n1.7,2\n", {},
+     ("problem", ["row 3", "value '1.7'", "relative pressure above 1"])),
     ("rows over the limit", "a.csv", (HEAD + "".join(f"{i + 1},{i}\n" for i in range(30))).encode(),
      {"_limits": {"max_rows": 20}}, ("error", ["has 30 rows of data, more than the 20"])),
     ("zip bomb", "book.xlsx", _xlsx([["P (Pa)", "n (mmol/g)"], [1.0, 2.0]]), {"_limits": {"max_unzipped_bytes": 1000}},
@@ -547,15 +553,17 @@ TOKENS = ["1.5", "2", "-3", "0", "1e-5", "nan", "inf", "abc", "=cmd|' /C calc'!A
 @settings(max_examples=300, deadline=2000, suppress_health_check=[HealthCheck.too_slow])
 @given(rows=st.lists(st.lists(st.sampled_from(TOKENS), max_size=6), max_size=30),
        delimiter=st.sampled_from([",", ";", "\t", " ", "|"]),
-       encoding=st.sampled_from(["utf-8", "utf-16", "cp1252", "latin-1"]))
-def test_table_like_junk_gives_a_result_or_a_file_error(rows, delimiter, encoding):
+       encoding=st.sampled_from(["utf-8", "utf-16", "cp1252", "latin-1"]),
+       choices=st.sampled_from([None, ColumnMap(pressure_unit="Pa", amount_unit="mol"),
+                                ColumnMap(pressure_unit="p/p0", amount_unit="mmol/g", leg="")]))
+def test_table_like_junk_gives_a_result_or_a_file_error(rows, delimiter, encoding, choices):
     text = "\n".join(delimiter.join(row) for row in rows)
     try:
         raw = text.encode(encoding)
     except UnicodeEncodeError:
         raw = text.encode("utf-8")
     try:
-        result = read_measured("junk.csv", raw)
+        result = read_measured("junk.csv", raw, columns=choices)
     except MeasuredFileError as exc:
         assert str(exc).startswith("junk.csv") and not _TRACEBACK_WORDS.search(str(exc))
     else:

@@ -143,6 +143,9 @@ def build_runs(table: Table, used: ColumnMap, problems: Problems, *, temperature
         _reject(problems, zero_pressure, keep, "zero pressure — row skipped (an isotherm is compared above zero "
                 "pressure)", rows, p_col.name, p_text)
     pressure[zero_pressure] = np.nan
+    if used.pressure_unit == "p/p0" and (above := keep & (pressure > 1)).any():
+        problems.add(f"relative pressure above 1 at rows {_rows_text(rows[above])}; kept (check the column and "
+                     "unit)", row=int(rows[above][0]), column=p_col.name, value=p_text[above][0])
 
     temperature = np.full(rows.size, np.nan)
     if used.column("temperature"):

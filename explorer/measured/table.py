@@ -31,6 +31,7 @@ _NUMBER = re.compile(r"[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?")
 _NON_FINITE = {"nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"}
 _CANDIDATES = (("\t", False), ("\t", True), (";", False), (";", True), (",", False), ("|", False), ("|", True),
                (" ", False), (" ", True))
+_ODD_SPACE = re.compile(r"[^\S \t\n]")     # whitespace other than space, tab and newline
 _DELIMITER_NAMES = {"\t": "tab", ";": "';'", ",": "','", "|": "'|'", " ": "spaces"}
 _TEMPERATURE = re.compile(r"(?i)(?:^|[^a-z])(?:t|temp\.?|temperature)\s*(?:\(k\)|\[k\])?\s*[=:]\s*"
                           r"([+-]?\d+(?:[.,]\d+)?(?:[eE][+-]?\d+)?)\s*(k\b|kelvin)?")
@@ -157,6 +158,17 @@ def _temperature_in(lines: list[tuple[int, str]], problems: Problems) -> float |
     return found[0][1] if found else None
 
 
+def _bracket_words(words: list[str]) -> list[str]:
+    """Whitespace-split header words with each bracketed unit joined to the name before it ("P", "(Pa)")."""
+    out: list[str] = []
+    for word in words:
+        if out and word[:1] in "([{" :
+            out[-1] += " " + word
+        else:
+            out.append(word)
+    return out
+
+
 @dataclass
 class _Layout:
     start: int            # index in the sample of the first data row
@@ -166,7 +178,7 @@ class _Layout:
 
 
 def _layout(sample: list[list[str]], comma: bool, problems: Problems, rows: list[int],
-            header_split=None, where: str = "", others: str = "") -> _Layout:
+            header_split=None, where: str = "", others: str = "", fixed_width: bool = False) -> _Layout:
     """Where the table starts in ``sample`` (rows split into fields), its header and width.
 
     ``where`` ("sheet 'A' ") and ``others`` ("; other sheets: B") frame the refusals of a workbook sheet."""
@@ -190,15 +202,19 @@ def _layout(sample: list[list[str]], comma: bool, problems: Problems, rows: list
             names = [f"{n.strip()} ({u.strip().strip('[]()')})" if u.strip() else n for n, u in zip(above, names)]
             header_from = start - 2
     elif start >= 1 and header_split is not None:
-        names = header_split(start - 1)
+        names = header_split(start - 1, width)
         if names and len(names) >= 2:
             header_from = start - 1
         else:
             names = None
     if names is not None and len(names) != width and header_split is not None:
-        alt = header_split(header_from)
+        alt = header_split(header_from, width)
         if alt and len(alt) == width:
             names = alt
+        elif fixed_width:
+            problems.add(f"the header has {len(names)} names for {width} columns of numbers; the columns are "
+                         "numbered — choose them", row=rows[header_from])
+            names = None
     if names is not None:
         if len(names) < width:
             problems.add(f"the header has {len(names)} names for {width} columns; the rest are numbered",
@@ -236,11 +252,14 @@ def table_from_text(text: str, problems: Problems) -> Table:
     sample = [_split(line, delim, quoted) for line in sample_lines]
     sample_rows = [i + 1 for i in data_at[:_SAMPLE_LINES]]
 
-    def header_split(k: int) -> list[str]:
+    def header_split(k: int, width: int) -> list[str]:
         line = sample_lines[k].strip()
-        return [f for f in re.split(r"\t|\s{2,}", line) if f] if delim == " " else _split(line, delim, True)
+        if delim != " ":
+            return _split(line, delim, True)
+        wide = [f for f in re.split(r"\t|\s{2,}", line) if f]
+        return wide if len(wide) == width else _bracket_words(line.split())
 
-    layout = _layout(sample, comma, problems, sample_rows, header_split)
+    layout = _layout(sample, comma, problems, sample_rows, header_split, fixed_width=delim == " ")
     temperature = _temperature_in(comments + [(sample_rows[k], sample_lines[k]) for k in range(layout.header_from)],
                                   problems)
     body_at = data_at[layout.start:]
@@ -253,6 +272,8 @@ def table_from_text(text: str, problems: Problems) -> Table:
         contiguous = body_at[-1] - body_at[0] + 1 == len(body_at)
         body = lines[body_at[0]:body_at[-1] + 1] if contiguous else [lines[i] for i in body_at]
         if delim == " ":
+            if _ODD_SPACE.search(text):    # pandas splits on spaces and tabs only: other blanks become spaces
+                body = [" ".join(line.split()) for line in body]
             counts = np.fromiter(map(len, map(str.split, body)), int, len(body))
         else:
             counts = np.fromiter(map(operator.methodcaller("count", delim), body), int, len(body)) + 1
@@ -282,10 +303,13 @@ def table_from_text(text: str, problems: Problems) -> Table:
         joined = "\n".join(kept)
 
         def load(positions):
-            frame = pd.read_csv(io.StringIO(joined), sep=r"\s+" if delim == " " else delim, header=None,
-                                names=range(width), usecols=positions, dtype=str, na_filter=False,
-                                quoting=csv.QUOTE_NONE, engine="c", skip_blank_lines=False)
-            if len(frame) != len(kept):
+            try:
+                frame = pd.read_csv(io.StringIO(joined), sep=r"\s+" if delim == " " else delim, header=None,
+                                    names=range(width), usecols=positions, dtype=str, na_filter=False,
+                                    quoting=csv.QUOTE_NONE, engine="c", skip_blank_lines=False)
+            except (pd.errors.ParserError, ValueError):
+                frame = None
+            if frame is None or len(frame) != len(kept):
                 raise problems.refuse("could not be split into rows consistently (a stray line break?)")
             return {p: frame[p].astype(object) for p in positions}
     names = _clean_names(layout.names or [], width, problems)
