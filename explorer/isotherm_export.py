@@ -35,7 +35,8 @@ def model_description(iso: Isotherm) -> dict:
     sc = s.scenario
     return {
         "scenario": sc.to_dict(),
-        "site_model": sc.site_model,
+        "site_model": sc.site_model_used,
+        "site_model_chosen": sc.site_model is not None,
         "saturation_pressure_pa": s.saturation_pressure_pa,
         "saturation_pressure_extrapolated": s.scale.p0_extrapolated,
         "mu_coexistence_k": s.mu_coexistence_k,
@@ -129,7 +130,7 @@ def isotherm_summary(iso: Isotherm) -> str:
     lines = [f"{sc.adsorbate} at {sc.temperature_k:g} K in a {sc.shape} pore of size {sc.size_angstrom:g} Å"
              + ("" if sc.effective_wall_angstrom is None else f", walls {sc.wall_angstrom:g} Å"),
              f"p0 = {s.saturation_pressure_pa:.6g} Pa{p0_note}; {s.bond_note}; lattice spacing "
-             f"{s.spacing_angstrom:.4g} Å ({s.problem.weights.sum():g} sites per slice); site model {sc.site_model}",
+             f"{s.spacing_angstrom:.4g} Å ({s.problem.weights.sum():g} sites per slice); site model {sc.site_model_used}",
              "", f"{'step':>4}  {'kind':<11} {'mu (K)':>9} {'p (Pa)':>11} {'p/p0':>10} "
                  f"{'adds (' + labels['short'] + ')':>16}  {'hysteresis (Pa)':<21}  where"]
     for i, st in enumerate(iso.steps, 1):

@@ -28,7 +28,7 @@ from .lattice import _cell_offsets, _triangular_sites
 from .wall_potential import wall_potential
 
 __all__ = ["CrossSectionStates", "solve_states", "thermal_wavelength_angstrom", "classical_boltzmann_area",
-           "grid_states", "potential_grid", "henry_constant", "assign_states", "quantum_site_free_energy", "cached_states"]
+           "grid_states", "potential_grid", "henry_constant", "assign_states", "state_homes", "quantum_site_free_energy", "cached_states"]
 
 _WALL_CUT_K = 2000.0          # grid points with V above this are outside the problem (hard wall; 400 K moves E0 by 0.1 K)
 _WEIGHT_FRACTION = 1e-6       # stop adding states once the next carries less Boltzmann weight than this
@@ -194,28 +194,38 @@ def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_
                  max_states: int = _MAX_STATES, min_spacing_angstrom: float = 0.05) -> CrossSectionStates:
     """The lowest states, as many as the temperature needs (until the next carries less than
     ``weight_fraction`` of the ground state's Boltzmann weight, or ``max_states``: then ``capped``), on a
-    grid fine enough that the error estimate of the thermally relevant energies is below ``tol_k``.
+    grid fine enough that the estimated error of the one-atom free energy −kT ln Σ_n e^{−E_n/kT} — the
+    Boltzmann-weighted mean error of the levels — is below ``tol_k`` (K).
 
     The estimate compares grids h and 2h: with a fourth-order scheme the error of the finer one is about
-    |E_h − E_2h| / 15.
+    |E_h − E_2h| / 15 for each level.
     """
     h = float(spacing_angstrom)
     kt = float(temperature_k)
     while True:
         pts, v, pairs = _grid(pore, pair, h)
         _, vc, pc = _grid(pore, pair, 2.0 * h)
+        if vc.size < _FIRST_STATES + 2:
+            raise ValueError(f"the pore is too small for the adsorbate: only {v.size} points of a {h:g} Å grid "
+                             f"over its cross-section lie below {_WALL_CUT_K:g} K, too few for its states")
+        # how many states the temperature needs, found on the coarse grid (four times fewer points), then
+        # the fine grid solved once for that many and a few more
         k = _FIRST_STATES
         while True:
-            ec, _ = grid_states(vc, pc, 2.0 * h, hbar2_over_mk, k=k, shift=float(vc.min()) - 1.0)
-            # shift just below the ground state: the wanted eigenvalues of (H − σ)⁻¹ are then well apart
-            e, vec = grid_states(v, pairs, h, hbar2_over_mk, k=k, shift=float(ec[0]) - 2.0)
-            enough = bool(np.exp(-(e[-1] - e[0]) / kt) < weight_fraction)
-            if enough or k >= max_states or k >= v.size - 2:
+            ec, _ = grid_states(vc, pc, 2.0 * h, hbar2_over_mk, k=min(k, vc.size - 2), shift=float(vc.min()) - 1.0)
+            if np.exp(-(ec[-1] - ec[0]) / kt) < weight_fraction or k >= max_states or k >= vc.size - 2:
                 break
             k = min(2 * k, max_states)
+        above = ec[0] - kt * np.log(weight_fraction)
+        k = int(min(max(np.searchsorted(ec, above) + 6, _FIRST_STATES), k, v.size - 2))
+        # shift just below the ground state: the wanted eigenvalues of (H − σ)⁻¹ are then well apart
+        e, vec = grid_states(v, pairs, h, hbar2_over_mk, k=k, shift=float(ec[0]) - 2.0)
+        enough = bool(np.exp(-(e[-1] - e[0]) / kt) < weight_fraction)
         n = min(len(e), len(ec))
-        matter = np.exp(-(e[:n] - e[0]) / kt) > weight_fraction
-        err = float(np.max(np.abs(e[:n] - ec[:n])[matter]) / 15.0)
+        # the error that reaches every result: that of the one-atom free energy −kT ln Σ e^{−E/kT}, i.e. the
+        # Boltzmann-weighted mean error of the levels (states far up the spectrum carry little weight)
+        w = np.exp(-(e[:n] - e[0]) / kt)
+        err = float((w @ np.abs(e[:n] - ec[:n])) / w.sum() / 15.0)
         if err <= tol_k or h / 2.0 < min_spacing_angstrom:
             break
         h /= 2.0
@@ -238,29 +248,40 @@ def _clusters(energies: np.ndarray, temperature_k: float) -> np.ndarray:
     return np.concatenate([[0], np.cumsum(np.diff(energies) > gap)])
 
 
-def assign_states(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, temperature_k: float):
-    """Σ_n exp(−E_n/kT) of the states given to each site (N,), and which sites got any.
+def state_homes(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, temperature_k: float) -> np.ndarray:
+    """(K,) the symmetry orbit each computed state is given to.
 
-    Each band of near-degenerate states goes, whole, to the symmetry orbit of sites that holds most of its
-    probability (the band's probability summed over the grid points nearest each site), shared evenly by
-    the orbit's sites. A band's evanescent tails in the next row are therefore never counted as binding
-    there, and Σ_sites equals the Boltzmann sum of the computed states exactly.
+    Each band of near-degenerate states goes, whole, to the orbit of sites that holds most of its
+    probability (the band's probability summed over the grid points nearest each site).
     """
-    kt = float(temperature_k)
     sites = np.column_stack([site_x, site_y])
     nearest = cKDTree(sites).query(states.points)[1]                        # (P,) site of each grid point
     n_orbits = int(orbit.max()) + 1
     prob = np.abs(states.vectors) ** 2                                      # (P, K), columns sum to 1
     per_orbit = np.zeros((n_orbits, prob.shape[1]))
     np.add.at(per_orbit, orbit[nearest], prob)
-    band = _clusters(states.energies_k, kt)
-    boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)      # relative to the ground state
-    z = np.zeros(len(sites))
-    size = np.bincount(orbit, minlength=n_orbits).astype(float)
+    band = _clusters(states.energies_k, float(temperature_k))
+    home = np.empty(band.size, int)
     for b in range(band[-1] + 1):
         members = band == b
-        home = int(np.argmax(per_orbit[:, members].sum(axis=1)))
-        z[orbit == home] += boltz[members].sum() / size[home]
+        home[members] = int(np.argmax(per_orbit[:, members].sum(axis=1)))
+    return home
+
+
+def assign_states(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, temperature_k: float):
+    """Σ_n exp(−E_n/kT) of the states given to each site (N,), and which sites got any.
+
+    Bands go whole to their home orbit (`state_homes`), shared evenly by the orbit's sites. A band's
+    evanescent tails in the next row are therefore never counted as binding there, and Σ_sites equals the
+    Boltzmann sum of the computed states exactly.
+    """
+    kt = float(temperature_k)
+    home = state_homes(states, site_x, site_y, orbit, kt)
+    n_orbits = int(orbit.max()) + 1
+    boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)      # relative to the ground state
+    per_orbit = np.bincount(home, weights=boltz, minlength=n_orbits)
+    size = np.bincount(orbit, minlength=n_orbits).astype(float)
+    z = per_orbit[orbit] / size[orbit]
     return z, z > 0
 
 
@@ -286,17 +307,19 @@ def quantum_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
 
 
 _STATES: dict = {}
+_HEADROOM = 1.3             # states are solved for 30 % above the temperature asked
 
 
 def cached_states(geometry, temperature_k: float) -> CrossSectionStates:
-    """The states of a geometry stage, computed once for the highest temperature asked so far: a lower
+    """The states of a geometry stage, computed once for the highest temperature asked so far (with
+    ``_HEADROOM`` to spare, so that a temperature slider nudged upwards does not solve again): a lower
     temperature needs fewer states and reuses them."""
     key = geometry.key
     held = _STATES.get(key)
     if held is None or held[0] < temperature_k:
-        states = solve_states(geometry.pore, geometry.pair, geometry.adsorbate.hbar2_over_mk,
-                              temperature_k=temperature_k)
+        top = _HEADROOM * float(temperature_k)
+        states = solve_states(geometry.pore, geometry.pair, geometry.adsorbate.hbar2_over_mk, temperature_k=top)
         if len(_STATES) > 16:
             _STATES.pop(next(iter(_STATES)))
-        _STATES[key] = held = (float(temperature_k), states)
+        _STATES[key] = held = (top, states)
     return held[1]

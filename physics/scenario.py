@@ -11,7 +11,7 @@ from dataclasses import asdict, dataclass, fields
 from .geometry import PORE_SHAPES, Pore, make_pore
 from .limits import check_geometry, check_number
 from .materials import ADSORBATES, SOLIDS, PairParameters, pair_parameters
-from .site_models import SITE_MODEL_NAMES
+from .site_models import SITE_MODEL_NAMES, default_site_model
 
 __all__ = ["Scenario"]
 
@@ -27,8 +27,8 @@ class Scenario:
     unbounded solid; the cylinder is always isolated. The three pair overrides, when set, replace the
     catalog's adsorbate–solid ε, σ and the solid's density. The lattice-gas model takes its site spacing
     (default: the bulk liquid's density), its bond energy ε_b (default: by ``bond_calibration``, see
-    `physics.bond`), the site model (how site free energies are computed) and, for amounts per gram, the
-    sample's specific pore volume.
+    `physics.bond`), the site model (how site free energies are computed; None: the adsorbate's default,
+    `site_model_used`) and, for amounts per gram, the sample's specific pore volume.
     """
 
     shape: str = "hexagon"
@@ -43,7 +43,7 @@ class Scenario:
     lattice_spacing_angstrom: float | None = None
     bond_energy_k: float | None = None
     bond_calibration: str | None = None
-    site_model: str = "classical"
+    site_model: str | None = None
     pore_volume_cm3_g: float | None = None
     title: str = ""
     notes: str = ""
@@ -52,6 +52,8 @@ class Scenario:
         for name, known in (("shape", PORE_SHAPES), ("adsorbate", ADSORBATES), ("solid", SOLIDS),
                             ("site_model", SITE_MODEL_NAMES)):
             value = getattr(self, name)
+            if name == "site_model" and value is None:
+                continue
             if not isinstance(value, str) or value not in known:
                 raise ValueError(f"{name} must be one of {', '.join(known)}; got {value!r}")
         for name in ("title", "notes"):
@@ -76,6 +78,12 @@ class Scenario:
     def effective_wall_angstrom(self) -> float | None:
         """The wall thickness the physics uses: None for the cylinder, which is always isolated."""
         return None if self.shape == "cylinder" else self.wall_angstrom
+
+    @property
+    def site_model_used(self) -> str:
+        """The site model computed with: the one named, or the adsorbate's default ("quantum" for
+        helium-4, hydrogen and neon; `physics.site_models.default_site_model`)."""
+        return self.site_model if self.site_model is not None else default_site_model(self.adsorbate)
 
     def pore(self) -> Pore:
         return make_pore(self.shape, self.size_angstrom, self.effective_wall_angstrom)

@@ -22,7 +22,13 @@ import numpy as np
 
 from .lattice import boltzmann_cell_average
 
-__all__ = ["SITE_MODEL_NAMES", "site_model", "classical_site_free_energy"]
+__all__ = ["SITE_MODEL_NAMES", "QUANTUM_BY_DEFAULT", "default_site_model", "site_model",
+           "classical_site_free_energy"]
+
+# The light adsorbates whose thermal wavelength at their working temperatures is comparable to a lattice
+# cell (helium-4 at 1.5 K: λ = 7.1 Å against 3.75 Å cells): classical cell averages put their first layers
+# decades too low in pressure, so the exact one-atom states are the default.
+QUANTUM_BY_DEFAULT = ("helium-4", "hydrogen", "neon")
 
 
 def classical_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
@@ -37,6 +43,11 @@ def _quantum(geometry, *, temperature_k: float) -> np.ndarray:
 
 _MODELS: dict[str, Callable] = {"classical": classical_site_free_energy, "quantum": _quantum}
 SITE_MODEL_NAMES = tuple(_MODELS)
+
+
+def default_site_model(adsorbate: str) -> str:
+    """The site model a scenario uses when it names none: "quantum" for `QUANTUM_BY_DEFAULT`, else "classical"."""
+    return "quantum" if adsorbate in QUANTUM_BY_DEFAULT else "classical"
 
 
 def site_model(name: str) -> Callable:

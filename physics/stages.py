@@ -157,7 +157,7 @@ def thermal_stage(scenario: Scenario, *, mu_max: float | None = None) -> Thermal
                                  cell_volume_angstrom3=cell_volume)
     mu_coex = -COORDINATION * bond / 2.0
     scale = PressureScale(p0, mu_coex, t, p0_is_extrapolated(scenario.adsorbate, t))
-    f = np.asarray(site_model(scenario.site_model)(geo, temperature_k=t), float)
+    f = np.asarray(site_model(scenario.site_model_used)(geo, temperature_k=t), float)
     top = mu_coex if mu_max is None else max(mu_max, mu_coex)
     max_bonds = np.asarray(geo.candidates.neighbours.sum(axis=1)).ravel()
     # keep whole orbits (rounding must not split one): by the orbit's lowest free energy

@@ -14,7 +14,8 @@ from physics.meanfield import MeanFieldProblem, solve_state
 from physics.scenario import Scenario
 from physics.wall_potential import wall_potential
 
-HELIUM = Scenario(shape="hexagon", size_angstrom=15.0, wall_angstrom=8.0, adsorbate="helium-4", temperature_k=1.5)
+HELIUM = Scenario(shape="hexagon", size_angstrom=15.0, wall_angstrom=8.0, adsorbate="helium-4", temperature_k=1.5,
+                  site_model="classical")   # the solver and lattice checks use the classical cell averages
 
 
 @pytest.fixture(scope="module")
@@ -115,7 +116,7 @@ class TestHelium:
 
     def test_henry_limit_is_exact_with_vapour_pressure_calibration(self, helium_pair):
         # REFERENCES.md §5 (derived): with ε_b = −(2kT/z) ln(p0 v/kT), N/L -> (p/kT) Σ_cells A⟨e^{−V/kT}⟩
-        sc = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=4.0)
+        sc = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=4.0, site_model="classical")
         setup = thermal_stage(sc)
         mu = float(setup.problem.site_free_energy.min()) - 25 * 4.0
         x, ok, *_ = solve_state(np.full(setup.problem.weights.size, -40.0), mu, setup.problem)
@@ -168,7 +169,8 @@ def test_nitrogen_condensation_near_kelvin_based_values():
 def test_without_fluid_interaction_every_step_is_continuous():
     # ε_b = 0: each site is an independent Langmuir site (Langmuir 1918), so the branches coincide and no
     # step is first order; the corners still fill first
-    iso = compute_isotherm(Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5, bond_energy_k=0.0),
+    iso = compute_isotherm(Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5, bond_energy_k=0.0,
+                                    site_model="classical"),
                            n_points=200)
     np.testing.assert_allclose(iso.adsorption.occupancy, iso.desorption.occupancy, atol=1e-9)
     assert iso.steps and all(s.kind == "continuous" for s in iso.steps)

@@ -48,3 +48,15 @@ def test_every_shipped_scenario_loads_and_computes(path):
     iso = compute_isotherm(s, n_points=60)
     assert iso.adsorption.converged.all() and iso.desorption.converged.all()
     assert iso.steps
+
+
+@pytest.mark.parametrize("adsorbate, expected", [
+    # light gases whose thermal wavelength is comparable to a lattice cell take the exact states by default
+    ("helium-4", "quantum"), ("hydrogen", "quantum"), ("neon", "quantum"),
+    ("argon", "classical"), ("nitrogen", "classical"),
+])
+def test_site_model_default_follows_the_adsorbate(adsorbate, expected):
+    sc = Scenario(adsorbate=adsorbate, temperature_k=20.0)
+    assert sc.site_model is None and sc.site_model_used == expected
+    assert "site_model" not in sc.to_dict()                     # a saved file keeps "by gas", not a name
+    assert Scenario(adsorbate=adsorbate, temperature_k=20.0, site_model="classical").site_model_used == "classical"

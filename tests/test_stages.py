@@ -18,7 +18,7 @@ from physics.wall_potential import deepest_minimum, potential_map, wall_potentia
 
 
 def test_geometry_stage_is_shared_across_temperatures_and_words():
-    a = Scenario(size_angstrom=14.0, wall_angstrom=7.0, temperature_k=1.5, title="one")
+    a = Scenario(size_angstrom=14.0, wall_angstrom=7.0, temperature_k=1.5, title="one", site_model="classical")
     b = a.replace(temperature_k=2.0, title="two", notes="other words", bond_calibration="critical-temperature")
     assert geometry_stage(a) is geometry_stage(b)
     assert geometry_stage(a) is not geometry_stage(a.replace(size_angstrom=14.5))
@@ -66,7 +66,7 @@ def test_bond_rules_by_their_definitions():
 def test_other_bond_rules_give_isotherms_with_bulk_coexistence_at_p0(rule):
     # with every rule μ_coex = −z ε_b/2 maps to p0 (Bragg–Williams particle–hole symmetry, REFERENCES.md §5)
     iso = compute_isotherm(Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5,
-                                    bond_calibration=rule), n_points=150)
+                                    bond_calibration=rule, site_model="classical"), n_points=150)
     st = iso.stage
     assert st.mu_coexistence_k == pytest.approx(-8 * st.bond_k / 2, rel=1e-12)
     assert iso.pressure_pa[-1] == pytest.approx(st.saturation_pressure_pa, rel=1e-12)
@@ -74,7 +74,7 @@ def test_other_bond_rules_give_isotherms_with_bulk_coexistence_at_p0(rule):
 
 
 def test_slit_isotherm_amounts_per_area_and_fraction():
-    iso = compute_isotherm(Scenario(shape="slit", size_angstrom=20.0, wall_angstrom=6.0, temperature_k=1.5),
+    iso = compute_isotherm(Scenario(shape="slit", size_angstrom=20.0, wall_angstrom=6.0, temperature_k=1.5, site_model="classical"),
                            n_points=120)
     assert iso.basis.per_area
     full = iso.fraction("desorption")[-1]
@@ -142,7 +142,7 @@ def test_limits_are_checked_once_with_the_value_named(changes, words):
 
 
 def test_pressure_ranges_above_p0_need_asking():
-    sc = Scenario(size_angstrom=12.0, wall_angstrom=5.0, temperature_k=1.5)
+    sc = Scenario(size_angstrom=12.0, wall_angstrom=5.0, temperature_k=1.5, site_model="classical")
     with pytest.raises(ValueError, match="above the saturated vapour pressure"):
         compute_isotherm(sc, n_points=20, pressure_range_pa=(1.0, 1e4))
     iso = compute_isotherm(sc, n_points=20, pressure_range_pa=(1.0, 1e3), allow_above_p0=True)
@@ -153,5 +153,5 @@ def test_pressure_ranges_above_p0_need_asking():
 
 def test_extrapolated_p0_is_flagged():
     # ITS-90 helium-4 covers 1.25–5 K (Preston-Thomas 1990); below, the extrapolation is flagged
-    assert thermal_stage(Scenario(size_angstrom=12.0, wall_angstrom=5.0, temperature_k=1.0)).scale.p0_extrapolated
-    assert not thermal_stage(Scenario(size_angstrom=12.0, wall_angstrom=5.0, temperature_k=1.5)).scale.p0_extrapolated
+    assert thermal_stage(Scenario(size_angstrom=12.0, wall_angstrom=5.0, temperature_k=1.0, site_model="classical")).scale.p0_extrapolated
+    assert not thermal_stage(Scenario(size_angstrom=12.0, wall_angstrom=5.0, temperature_k=1.5, site_model="classical")).scale.p0_extrapolated

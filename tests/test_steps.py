@@ -13,9 +13,9 @@ from physics.steps import find_steps
 
 @pytest.fixture(scope="module", params=[
     # cases that reported a first-order step adding nothing, and a 60-site face step adding 0.00 with a loop
-    Scenario(size_angstrom=16.5, wall_angstrom=9.5, temperature_k=1.53),
-    Scenario(size_angstrom=60.0, wall_angstrom=8.0, temperature_k=1.5),
-    Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5),
+    Scenario(size_angstrom=16.5, wall_angstrom=9.5, temperature_k=1.53, site_model="classical"),
+    Scenario(size_angstrom=60.0, wall_angstrom=8.0, temperature_k=1.5, site_model="classical"),
+    Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5, site_model="classical"),
     Scenario(shape="cylinder", size_angstrom=30.0, adsorbate="nitrogen", temperature_k=77.35),
 ], ids=lambda s: f"{s.shape}-{s.size_angstrom:g}-{s.adsorbate}-{s.temperature_k:g}K")
 def isotherm(request):
@@ -55,7 +55,7 @@ def test_step_identities_are_distinct(isotherm):
 
 def test_first_order_steps_do_not_depend_on_the_grid():
     # the equilibrium transition is found by bisection on the re-solved states (to 1e-6 K), not on the grid
-    sc = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5)
+    sc = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5, site_model="classical")
     coarse = [s.mu_k for s in compute_isotherm(sc, n_points=150).steps if s.kind == "first-order"]
     fine = [s.mu_k for s in compute_isotherm(sc, n_points=600).steps if s.kind == "first-order"]
     assert len(coarse) == len(fine) >= 1
@@ -102,7 +102,7 @@ def test_wide_slit_condenses_towards_p0():
     # shift falls as the width grows; common practice, no source for the lattice numbers)
     rel = []
     for width in (60.0, 120.0, 240.0):
-        iso = compute_isotherm(Scenario(shape="slit", size_angstrom=width, temperature_k=1.5), n_points=300)
+        iso = compute_isotherm(Scenario(shape="slit", size_angstrom=width, temperature_k=1.5, site_model="classical"), n_points=300)
         rel.append(max(iso.steps, key=lambda s: s.added_per_nm).relative_pressure)
     assert rel[0] < rel[1] < rel[2] < 1.0
     assert 1.0 - rel[2] < 0.5 * (1.0 - rel[1]) and 1.0 - rel[2] < 0.1
