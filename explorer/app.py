@@ -13,6 +13,7 @@ from .compute import start_temperature_windows
 from .state import ExplorerState
 from .views.isotherm import IsothermView
 from .views.potential import PotentialView
+from .views.quantum import QuantumView
 
 __all__ = ["create_app"]
 
@@ -77,5 +78,9 @@ def create_app(scenario: Scenario | None = None) -> pn.viewable.Viewable:
     pore_page = pn.Row(side, views, sizing_mode="stretch_width", name="Pore")
     about = pn.pane.Markdown(ABOUT, name="About & safety", sizing_mode="stretch_width",
                              styles={"max-width": "760px"})
-    return pn.Column(header(scenario.title), pn.Tabs(pore_page, about, dynamic=False),
-                     sizing_mode="stretch_width")
+    quantum = QuantumView(state=state)
+    quantum_page = pn.Column(quantum, name="Quantum states", sizing_mode="stretch_width")
+    tabs = pn.Tabs(pore_page, quantum_page, about, dynamic=False)
+    # opening the quantum tab computes what it shows for the current inputs (the light gases only)
+    tabs.param.watch(lambda event: quantum.refresh() if event.new == 1 else None, "active")
+    return pn.Column(header(scenario.title), tabs, sizing_mode="stretch_width")

@@ -114,8 +114,9 @@ def add_model_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--spacing", type=float, metavar="Å", help="lattice site spacing, Å (default: bulk liquid density)")
     p.add_argument("--allow-above-p0", action="store_true",
                    help="allow a pressure range above the saturated vapour pressure p0 (bulk condensation)")
-    p.add_argument("--site-model", choices=SITE_MODEL_NAMES, default="classical",
-                   help="how site free energies are computed (default classical)")
+    p.add_argument("--site-model", choices=SITE_MODEL_NAMES, default=None,
+                   help="how site free energies are computed: classical cell averages, or the exact one-atom "
+                        "quantum states (default: quantum for helium-4, hydrogen and neon, classical otherwise)")
     p.add_argument("--pore-volume", type=float, metavar="cm³/g",
                    help="specific pore volume of the sample, cm³/g (adds mmol/g and cm³(STP)/g)")
 
@@ -196,6 +197,10 @@ def _cmd_states(args) -> int:
         "states_used": int(st.energies_k.size),
         "states_capped": st.capped,
     }
+    from physics.stages import thermal_stage
+    from physics.state_bands import site_labels, state_bands
+    labels = site_labels(thermal_stage(scenario.replace(site_model="classical")))
+    result["bands"] = [b.to_dict() for b in state_bands(st, geo, t, labels=labels)]
     if args.json:
         json.dump(result, sys.stdout)
         sys.stdout.write("\n")
@@ -207,6 +212,8 @@ def _cmd_states(args) -> int:
         print(f"Henry constant: quantum {result['henry_quantum']:.4g}, classical {result['henry_classical']:.4g} "
               "atoms per nm per Pa")
         print("lowest excitations (K): " + ", ".join(f"{e:.3f}" for e in result["excitation_energies_k"][:12]))
+        print("lowest bands: " + "; ".join(f"+{b['excitation_k']:.2f} K ×{b['degeneracy']} {b['where']}"
+                                           for b in result["bands"][:6]))
     if st.capped:
         sys.stderr.write(f"porefill: note: the state count reached --max-states {args.max_states}; higher states "
                          "carry more than the set share of the Boltzmann weight\n")

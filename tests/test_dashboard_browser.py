@@ -307,3 +307,32 @@ def test_hostile_scenario_title_is_shown_as_text(browser, tmp_path):
         context.close()
         proc.terminate()
         proc.wait(timeout=10)
+
+
+def test_quantum_tab_shows_states_both_models_and_step_shifts(page):
+    # helium-4 at 1.5 K, 15 Å side, 8 Å walls (the demo scenario): the independent check gives a
+    # zero-point energy of 40.9 K and first-layer steps 10–31 K deeper in μ classically than with the states
+    from explorer.testing import text_of
+
+    page.locator(STEPS).first.wait_for(timeout=60_000)
+    page.get_by_text("Quantum states", exact=True).first.click()
+    page.locator(".porefill-shift-table").first.wait_for(timeout=120_000)
+    numbers = text_of(page, ".porefill-quantum-numbers")
+    zpe = float(re.search(r"zero-point energy ([\d.]+) K", numbers).group(1))
+    assert zpe == pytest.approx(40.9, abs=0.3)
+    bands = text_of(page, ".porefill-band-table")
+    assert "corner" in bands and "face" in bands
+    shifts = text_of(page, ".porefill-shift-table")
+    corner = re.search(r"corner\s+(-?[\d.]+)\s+(-?[\d.]+)\s+\+([\d.]+)", shifts)
+    assert corner and 10.0 <= float(corner.group(3)) <= 31.0
+    # the maps and the energy plot are drawn (a canvas each), and choosing another band redraws the map
+    page.locator(".porefill-quantum-body canvas").first.wait_for(state="visible", timeout=10_000)
+    body = page.locator(".porefill-quantum-body").first
+    before = body.screenshot()
+    page.locator(".porefill-quantum-body select").first.select_option(index=2)
+    page.wait_for_timeout(1500)
+    assert body.screenshot() != before
+    # back on the pore tab, the isotherm is still drawn and the page answers
+    page.get_by_text("Pore", exact=True).first.click()
+    page.locator(STEPS).first.wait_for(state="visible", timeout=10_000)
+    assert page.console_errors == []
