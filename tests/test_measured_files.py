@@ -306,6 +306,22 @@ def _formula_workbook() -> bytes:
     return _xlsx([["P (Pa)", "n (mmol/g)"], [1.0, 0.5], [2.0, "=1+1"], [3.0, "=cmd|' /C calc'!A0"], [4.0, 0.9]])
 
 
+def _entity_bomb_workbook() -> bytes:
+    # a "billion laughs" entity definition inside the sheet's XML: defusedxml (used by openpyxl) refuses it
+    source = zipfile.ZipFile(io.BytesIO(_xlsx([["P (Pa)", "n (mmol/g)"], [1.0, 2.0]])))
+    entities = ('<?xml version="1.0"?><!DOCTYPE lolz [<!ENTITY lol "lol">'
+                '<!ENTITY lol2 "&lol;&lol;&lol;&lol;&lol;&lol;&lol;&lol;&lol;&lol;">]>')
+    out = io.BytesIO()
+    with zipfile.ZipFile(out, "w") as archive:
+        for info in source.infolist():
+            data = source.read(info.filename)
+            if info.filename == "xl/worksheets/sheet1.xml":
+                text = data.decode()
+                data = (entities + text[text.index("<worksheet"):].replace("<v>1</v>", "<v>&lol2;</v>", 1)).encode()
+            archive.writestr(info, data)
+    return out.getvalue()
+
+
 GALLERY = [
     ("empty", "a.csv", b"", {}, ("error", ["a.csv: the file is empty"])),
     ("blank lines", "a.csv", b"  \n\n \t\n", {}, ("error", ["a.csv: the file is empty"])),
@@ -455,6 +471,7 @@ GALLERY = [
      {"_limits": {"max_rows": 20}}, ("error", ["has 30 rows of data, more than the 20"])),
     ("zip bomb", "book.xlsx", _xlsx([["P (Pa)", "n (mmol/g)"], [1.0, 2.0]]), {"_limits": {"max_unzipped_bytes": 1000}},
      ("error", ["unpacks to", "zip bomb"])),
+    ("xml entity bomb", "book.xlsx", _entity_bomb_workbook, {}, ("error", ["declares XML entities", "refused"])),
     ("many bad cells counted", "a.csv", (HEAD + "x,1\n" * 400 + "1,2\n").encode(), {},
      ("problem", ["more problems not listed one by one", "not a number"])),
 ]

@@ -328,6 +328,19 @@ def _cell_text(value) -> str:
     return str(value)
 
 
+def _workbook_failure(exc: Exception, otherwise: str) -> str:
+    try:
+        from defusedxml import DefusedXmlException   # openpyxl parses with defusedxml when it is installed
+    except ImportError:  # pragma: no cover
+        return otherwise
+    seen = 0
+    while exc is not None and seen < 10:                 # openpyxl wraps the parser's exception
+        if isinstance(exc, DefusedXmlException):
+            return "declares XML entities inside the workbook, as XML bombs do; refused"
+        exc, seen = exc.__cause__ or exc.__context__, seen + 1
+    return otherwise
+
+
 def table_from_workbook(data: bytes, sheet: str | None, problems: Problems) -> tuple[Table, tuple[str, ...]]:
     """The table in one sheet of an .xlsx workbook (the first when ``sheet`` is None), and the sheet names.
 
@@ -339,8 +352,9 @@ def table_from_workbook(data: bytes, sheet: str | None, problems: Problems) -> t
 
     try:
         book = openpyxl.load_workbook(io.BytesIO(data), read_only=True, data_only=True, keep_links=False)
-    except Exception:   # noqa: BLE001 — any failure of the parser on a damaged or hostile file is a refusal
-        raise problems.refuse("cannot be opened as an Excel workbook (damaged, or not really .xlsx)") from None
+    except Exception as exc:   # noqa: BLE001 — any failure of the parser on a damaged or hostile file is a refusal
+        raise problems.refuse(_workbook_failure(exc, "cannot be opened as an Excel workbook (damaged, or not "
+                                                     "really .xlsx)")) from None
     sheets = tuple(book.sheetnames)
     name = sheets[0] if sheet is None and sheets else sheet
     if name not in sheets:
@@ -362,8 +376,8 @@ def table_from_workbook(data: bytes, sheet: str | None, problems: Problems) -> t
     try:
         frame = pd.read_excel(book, sheet_name=name, header=None, dtype=object,
                               nrows=LIMITS["max_rows"] + _SAMPLE_LINES + 1)
-    except Exception:   # noqa: BLE001 — as above
-        raise problems.refuse(f"sheet {name!r} cannot be read (damaged workbook)") from None
+    except Exception as exc:   # noqa: BLE001 — as above
+        raise problems.refuse(_workbook_failure(exc, f"sheet {name!r} cannot be read (damaged workbook)")) from None
     others = [s for s in sheets if s != name]
     if frame.empty:
         raise problems.refuse(f"sheet {name!r} is empty" + (f"; other sheets: {', '.join(others)}" if others else ""))
