@@ -62,4 +62,14 @@ inequality), and no site is made more attractive than classically. **Limits:** s
 state reaches (inner rings, high in the spectrum) keep their classical free energy, so their zero-point
 energy is left out; the fluid–fluid bond stays classical; states are those of one atom.
 
+The quantum model is the default for helium-4, hydrogen and neon; the classical one for argon and
+nitrogen (their states are many and their cell averages already good). The **Quantum states** tab computes,
+for the current pore, the lowest states (their bands, degeneracies, splittings and where they live), maps of
+each band's probability and of the thermal density, the isotherm with both site models and the shift of
+every layer step in μ and in pressure, and the mean-field energy per adsorbed atom along the isotherm: the
+wall potential and kinetic energy of the states (or cells) each site holds, and the fluid–fluid bonds,
+−(ε<sub>b</sub>/2)Σ n<sub>i</sub>n<sub>j</sub> per atom. States are solved once per pore, for 30 % above the
+temperature asked, so a temperature change nearby reuses them; warmer helium needs more states and takes
+seconds.
+
 """ + SAFETY
