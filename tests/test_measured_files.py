@@ -420,7 +420,8 @@ GALLERY = [
      ("error", ["the file is 418 bytes, larger than the 100 bytes porefill reads"])),
     ("too many columns", "a.csv", (",".join(f"c{i} (Pa)" for i in range(150)) + "\n" +
                                    ",".join("1" for _ in range(150)) + "\n").encode(), {},
-     ("error", ["has 150 columns, more than the 100"])),
+     ("error", ["has at least 150 columns, more than the 100"])),
+    ("one giant line", "a.csv", b"1," * 5_000_000 + b"2\n", {}, ("error", ["columns, more than the 100"])),
     ("a million rows", "a.csv", HEAD.encode() + b"1,2\n" * 1_000_001, {}, ("error", ["1000003 lines", "split"])),
     ("deep quoting", "a.csv", (HEAD + "1,2\n" + '"' * 5000 + "\n3,4\n").encode(), {},
      ("problem", ["row 3", "column 'P (Pa)'", "…", "not a number"])),

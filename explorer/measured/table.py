@@ -27,6 +27,7 @@ from .model import LIMITS, Problems
 __all__ = ["Table", "table_from_text", "table_from_workbook", "is_number"]
 
 _SAMPLE_LINES = 500
+_SAMPLE_CHARS = 65536     # of each sampled line: enough for any header, no time lost on a single giant line
 _NUMBER = re.compile(r"[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?")
 _NON_FINITE = {"nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"}
 _CANDIDATES = (("\t", False), ("\t", True), (";", False), (";", True), (",", False), ("|", False), ("|", True),
@@ -162,7 +163,7 @@ def _bracket_words(words: list[str]) -> list[str]:
     """Whitespace-split header words with each bracketed unit joined to the name before it ("P", "(Pa)")."""
     out: list[str] = []
     for word in words:
-        if out and word[:1] in "([{" :
+        if out and word[:1] in "([{":
             out[-1] += " " + word
         else:
             out.append(word)
@@ -224,7 +225,7 @@ def _layout(sample: list[list[str]], comma: bool, problems: Problems, rows: list
         problems.add(f"{header_from} line(s) above the table are not part of it (rows {rows[0]}–"
                      f"{rows[header_from - 1]}); skipped", row=rows[0])
     if width > LIMITS["max_columns"]:
-        raise problems.refuse(f"has {width} columns, more than the {LIMITS['max_columns']} porefill reads")
+        raise problems.refuse(f"has at least {width} columns, more than the {LIMITS['max_columns']} porefill reads")
     return _Layout(start, names, header_from, width)
 
 
@@ -246,7 +247,7 @@ def table_from_text(text: str, problems: Problems) -> Table:
     if not data_at:
         raise problems.refuse("has only comment lines, no table" if comments else "the file is empty")
     quoted = '"' in text
-    sample_lines = [lines[i] for i in data_at[:_SAMPLE_LINES]]
+    sample_lines = [lines[i][:_SAMPLE_CHARS] for i in data_at[:_SAMPLE_LINES]]   # a 50 MB line is no header
     delim, comma = _sniff(sample_lines, quoted)
     delim = delim or ","
     sample = [_split(line, delim, quoted) for line in sample_lines]
