@@ -588,3 +588,19 @@ def test_table_like_junk_gives_a_result_or_a_file_error(rows, delimiter, encodin
         for run in result.runs:
             assert np.all(np.isfinite(run.amount)) and np.all(run.amount >= 0)
             assert not np.any(run.pressure <= 0)
+
+
+def test_each_bad_cell_of_a_row_is_named():
+    result = read_measured("two_bad.csv", (HEAD + "1,0.1\nabc,-2\n3,0.3\n").encode())
+    named = {(p.row, p.column, p.value) for p in result.problems}
+    assert {(3, "P (Pa)", "abc"), (3, "n (mmol/g)", "-2")} <= named
+
+
+def test_problems_are_plain_values_for_json():
+    import dataclasses
+    import json
+
+    data = _xlsx([["P (Pa)", "n (mmol/g)"], [1.0, 0.1], ["x", 0.2], [3.0, 0.3]])
+    result = read_measured("book.xlsx", data)
+    text = json.dumps([dataclasses.asdict(p) for p in result.problems])
+    assert '"row": 3' in text and '"value": "x"' in text

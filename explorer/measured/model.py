@@ -47,7 +47,7 @@ class FileProblem:
     message: str
 
     def __str__(self) -> str:
-        where = [shown(self.file, 80)]
+        where = [shown(self.file, 200)]
         if self.row is not None:
             where.append(f"row {self.row}")
         if self.column is not None:
@@ -154,7 +154,8 @@ class Problems:
     def add(self, message: str, *, row: int | None = None, column: str | None = None,
             value: str | None = None) -> None:
         if len(self.items) < LIMITS["max_problems"]:
-            self.items.append(FileProblem(self.file, row, column, None if value is None else str(value), message))
+            self.items.append(FileProblem(self.file, None if row is None else int(row), column,
+                                          None if value is None else str(value), message))
         else:
             self.more[message] += 1
 
@@ -182,7 +183,7 @@ class Problems:
     def refuse(self, message: str, *, shown_problems: int = 3) -> MeasuredFileError:
         """A MeasuredFileError: ``message`` after the file name, then the first few problems, one a line."""
         problems = self.result()
-        lines = [f"{shown(self.file, 80)}: {message}"]
+        lines = [f"{shown(self.file, 200)}: {message}"]
         lines += [f"  {p}" for p in problems[:shown_problems]]
         if len(problems) > shown_problems:
             lines.append(f"  … and {len(self) - shown_problems} more problem(s)")

@@ -66,11 +66,22 @@ class _Column:
         self.cells = table.cells(name)[0]
 
 
-def _reject(problems: Problems, mask: np.ndarray, keep: np.ndarray, message: str, rows, column: str, text) -> None:
-    mask = mask & keep
-    if mask.any():
-        problems.add_many(message, rows[mask], column=column, values=text[mask])
-        keep &= ~mask
+class _Rejects:
+    """Skips rows and names each bad cell once: a row bad in two columns gets a problem for each cell."""
+
+    def __init__(self, problems: Problems, rows: np.ndarray) -> None:
+        self.problems, self.rows = problems, rows
+        self.keep = np.ones(rows.size, bool)
+        self.blank = np.zeros(rows.size, bool)      # rows with neither pressure nor amount, named once
+        self.seen: dict[str, np.ndarray] = {}
+
+    def __call__(self, mask: np.ndarray, message: str, column: str, text) -> None:
+        seen = self.seen.setdefault(column, self.blank.copy())
+        mask = mask & ~seen
+        if mask.any():
+            self.problems.add_many(message, self.rows[mask], column=column, values=text[mask])
+            seen |= mask
+            self.keep &= ~mask
 
 
 def _temperature_clusters(values: np.ndarray) -> np.ndarray:
@@ -96,7 +107,7 @@ def _direction_legs(pressure: np.ndarray) -> np.ndarray:
     return legs
 
 
-def _note_direction(problems: Problems, leg: str, pressure, rows, text, column: str) -> None:
+def _note_direction(problems: Problems, leg: str, pressure, text, column: str) -> None:
     finite = np.flatnonzero(np.isfinite(pressure))
     steps = np.diff(pressure[finite])
     against = finite[1:][steps < 0] if leg == "adsorption" else finite[1:][steps > 0]
@@ -124,24 +135,26 @@ def build_runs(table: Table, used: ColumnMap, problems: Problems, *, temperature
                label: str) -> list[MeasuredRun]:
     """The runs of ``table`` under the complete map ``used``; ``label`` starts each run's name."""
     file, rows, comma = problems.file, table.rows, table.decimal_comma
-    keep = np.ones(rows.size, bool)
+    reject = _Rejects(problems, rows)
+    keep = reject.keep
     table.cells(*(c for c in (used.pressure, used.amount, used.column("temperature"), used.column("leg"),
                               used.column("run")) if c))                  # parsed in one pass
     p_col, a_col = _Column(table, used.pressure), _Column(table, used.amount)
     pressure, p_missing, p_bad, p_text = _numbers(p_col.cells, comma)
     amount, a_missing, a_bad, a_text = _numbers(a_col.cells, comma)
     dosed = used.amount_unit in DOSED_UNITS
-    _reject(problems, p_missing & a_missing, keep, "no pressure and no amount — row skipped", rows, a_col.name, a_text)
+    reject(p_missing & a_missing, "no pressure and no amount — row skipped", a_col.name, a_text)
+    reject.blank |= p_missing & a_missing
     for values, bad, missing, text, column, what in ((pressure, p_bad, p_missing, p_text, p_col.name, "pressure"),
                                                      (amount, a_bad, a_missing, a_text, a_col.name, "amount")):
-        _reject(problems, bad, keep, "not a number — row skipped", rows, column, text)
-        _reject(problems, np.isinf(values), keep, "not a finite number — row skipped", rows, column, text)
-        _reject(problems, values < 0, keep, f"negative {what} — row skipped", rows, column, text)
-    _reject(problems, a_missing, keep, "no amount — row skipped", rows, a_col.name, a_text)
-    zero_pressure = (pressure == 0) & keep
+        reject(bad, "not a number — row skipped", column, text)
+        reject(np.isinf(values), "not a finite number — row skipped", column, text)
+        reject(values < 0, f"negative {what} — row skipped", column, text)
+    reject(a_missing, "no amount — row skipped", a_col.name, a_text)
+    zero_pressure = pressure == 0
     if not dosed:
-        _reject(problems, zero_pressure, keep, "zero pressure — row skipped (an isotherm is compared above zero "
-                "pressure)", rows, p_col.name, p_text)
+        reject(zero_pressure, "zero pressure — row skipped (an isotherm is compared above zero "
+                "pressure)", p_col.name, p_text)
     pressure[zero_pressure] = np.nan
     if used.pressure_unit == "p/p0" and (above := keep & (pressure > 1)).any():
         problems.add(f"relative pressure above 1 at rows {_rows_text(rows[above])}; kept (check the column and "
@@ -151,22 +164,22 @@ def build_runs(table: Table, used: ColumnMap, problems: Problems, *, temperature
     if used.column("temperature"):
         t_col = _Column(table, used.temperature)
         temperature, t_missing, t_bad, t_text = _numbers(t_col.cells, comma)
-        _reject(problems, t_missing, keep, "no temperature — row skipped", rows, t_col.name, t_text)
-        _reject(problems, t_bad, keep, "not a number — row skipped", rows, t_col.name, t_text)
-        _reject(problems, ~np.isfinite(temperature) | (temperature <= 0), keep,
-                "not a positive temperature in K — row skipped", rows, t_col.name, t_text)
+        reject(t_missing, "no temperature — row skipped", t_col.name, t_text)
+        reject(t_bad, "not a number — row skipped", t_col.name, t_text)
+        reject(~np.isfinite(temperature) | (temperature <= 0), "not a positive temperature in K — row skipped",
+               t_col.name, t_text)
     leg_code = np.full(rows.size, -1)
     if used.column("leg"):
         l_col = _Column(table, used.leg)
         words = l_col.cells.astype(object).astype(str).str.strip().str.lower().to_numpy(object)
         for code, leg in enumerate(LEGS):
             leg_code[np.isin(words, list(LEG_WORDS[leg]))] = code
-        _reject(problems, leg_code < 0, keep, _LEG_HINT, rows, l_col.name, l_col.cells.to_numpy(object))
+        reject(leg_code < 0, _LEG_HINT, l_col.name, l_col.cells.to_numpy(object))
     run_label = np.full(rows.size, "", dtype=object)
     if used.column("run"):
         r_col = _Column(table, used.run)
         run_label = r_col.cells.astype(object).astype(str).str.strip().to_numpy(object)
-        _reject(problems, run_label == "", keep, "no run label — row skipped", rows, r_col.name, run_label)
+        reject(run_label == "", "no run label — row skipped", r_col.name, run_label)
 
     if not keep.any():
         raise problems.refuse(f"has no usable rows in columns {p_col.name!r} and {a_col.name!r}")
