@@ -107,7 +107,7 @@ def _direction_legs(pressure: np.ndarray) -> np.ndarray:
     return legs
 
 
-def _note_direction(problems: Problems, leg: str, pressure, text, column: str) -> None:
+def _note_direction(problems: Problems, leg: str, pressure, rows, text, column: str) -> None:
     finite = np.flatnonzero(np.isfinite(pressure))
     steps = np.diff(pressure[finite])
     against = finite[1:][steps < 0] if leg == "adsorption" else finite[1:][steps > 0]
