@@ -1,14 +1,15 @@
 """Lattice of adsorption sites in the pore cross-section, repeated along the pore axis.
 
-The cross-section carries a triangular lattice of spacing ℓ with a site at the pore centre and rows
-parallel to the x axis; for the hexagon (corner on +x) the lattice directions 0°, 60°, 120° run along its
-faces, so corners and faces are sampled symmetrically. The same lattice serves the cylinder. For the slit,
-which is uniform along x, one site per row stands for the whole row. Layers repeat along z with spacing ℓ,
-so every site has 6 in-plane and 2 axial neighbours (z = 8); in mean field with uniform density along z the
-axial pair couples a site to itself, which is how it enters the neighbour matrix.
+The sites sit in rows that follow the wall, the first row in the potential well (`physics.placement`):
+for the hexagon a triangular lattice scaled to fit, for the cylinder the same graph on circles, for the
+slit rows across it (one site per row stands for the whole row along x). Every site has the triangular
+lattice's 6 in-plane neighbours (a slit row: 2 along it, 2 in each adjacent row) and 2 along the axis,
+z = 8; in mean field with uniform density along z the axial pair couples a site to itself, which is how it
+enters the neighbour matrix. Layers repeat along z with the fluid spacing ℓ.
 
-Default spacing: the full lattice holds the bulk liquid's number density n_l, so the cell volume is
-v = (√3/2) ℓ³ = 1/n_l.
+Default spacing: the full lattice holds the bulk liquid's number density n_l, so the nominal cell volume is
+v = (√3/2) ℓ³ = 1/n_l; a site's free energy is stated against that nominal cell (`physics.site_models`),
+its Boltzmann integral runs over its own cell (`physics.cells`).
 """
 from __future__ import annotations
 
@@ -16,16 +17,12 @@ from dataclasses import dataclass
 
 import numpy as np
 from scipy import sparse
-from scipy.special import logsumexp
 
 from .geometry import Pore
-from .materials import PairParameters
-from .wall_potential import wall_potential
+from .placement import Placement, place_sites
 
-__all__ = ["SiteLattice", "build_lattice", "default_spacing", "cell_free_energies", "cell_samples",
-           "boltzmann_cell_average", "shared_operations", "symmetry_orbits", "orbit_problem_matrices",
-           "slit_row_sites", "COORDINATION",
-           "SITE_KINDS"]
+__all__ = ["SiteLattice", "build_lattice", "lattice_of", "default_spacing", "shared_operations",
+           "symmetry_orbits", "orbit_problem_matrices", "slit_row_sites", "COORDINATION", "SITE_KINDS"]
 
 COORDINATION = 8
 SITE_KINDS = ("corner", "face", "wall", "ring", "centre")   # face: polygon sides; wall: cylinder, slit
@@ -45,11 +42,13 @@ class SiteLattice:
     x, y : (N,) site positions, Å
     neighbours : (N, N) sparse symmetric-weighted matrix; (A n)_i is the number of occupied neighbours
         of site i (axial pair included on the diagonal)
-    spacing_angstrom : in-plane and axial spacing ℓ
-    cell_area_angstrom2 : cross-section area one site stands for (for the slit: per Å of x)
+    spacing_angstrom : axial spacing, ℓ/s² (ℓ the fluid's spacing, s the in-plane scale of the rows)
+    cell_area_angstrom2 : mean cross-section area one site stands for, s²(√3/2)ℓ² (slit: per Å of x);
+        cell area × axial spacing = (√3/2)ℓ³, the fluid's volume per atom
     kind : (N,) 'corner', 'face' (polygon) or 'wall' (cylinder, slit), 'ring' or 'centre'
-    ring : (N,) row index counted from the wall (0 = against the wall)
-    weight : (N,) how many sites a site stands for in totals (1, or the row length for the slit)
+    ring : (N,) row index counted from the wall (0 = the first row, in the well)
+    shape : the pore's shape name
+    vertex : (N,) the site is a corner of its ring (a hexagon's corner sites)
     """
 
     x: np.ndarray
@@ -60,6 +59,7 @@ class SiteLattice:
     kind: np.ndarray
     ring: np.ndarray
     shape: str
+    vertex: np.ndarray | None = None
 
     @property
     def size(self) -> int:
@@ -76,10 +76,10 @@ class SiteLattice:
     def subset(self, keep: np.ndarray, pore: Pore) -> "SiteLattice":
         """The kept sites, relabelled: rings are counted from the outermost kept row."""
         idx = np.flatnonzero(keep)
-        pts = np.column_stack([self.x[idx], self.y[idx]])
-        kind, ring = _classify(pore, pts, self.spacing_angstrom)
+        vertex = None if self.vertex is None else self.vertex[idx]
+        kind, ring = _classify(pore, self.x[idx], self.y[idx], self.ring[idx], vertex, self.spacing_angstrom)
         return SiteLattice(self.x[idx], self.y[idx], self.neighbours[idx][:, idx].tocsr(), self.spacing_angstrom,
-                           self.cell_area_angstrom2, kind, ring, self.shape)
+                           self.cell_area_angstrom2, kind, ring, self.shape, vertex)
 
 
 def _triangular_sites(radius: float, spacing: float) -> np.ndarray:
@@ -92,60 +92,52 @@ def _triangular_sites(radius: float, spacing: float) -> np.ndarray:
     return pts[np.hypot(pts[:, 0], pts[:, 1]) <= radius]
 
 
-def _neighbour_matrix(pts: np.ndarray, spacing: float) -> sparse.csr_matrix:
-    from scipy.spatial import cKDTree
-
-    tree = cKDTree(pts)
-    pairs = tree.query_pairs(spacing * 1.01, output_type="ndarray")
-    n = len(pts)
+def _neighbour_matrix(pairs: np.ndarray, n: int, *, in_plane: float, axial: float) -> sparse.csr_matrix:
+    """A with ``in_plane`` on every neighbour pair and ``axial`` on the diagonal (the two axial neighbours)."""
     rows = np.concatenate([pairs[:, 0], pairs[:, 1], np.arange(n)])
     cols = np.concatenate([pairs[:, 1], pairs[:, 0], np.arange(n)])
-    vals = np.concatenate([np.ones(2 * len(pairs)), np.full(n, 2.0)])   # diagonal: the two axial neighbours
+    vals = np.concatenate([np.full(2 * len(pairs), in_plane), np.full(n, axial)])
     return sparse.csr_matrix((vals, (rows, cols)), shape=(n, n))
 
 
-def _classify(pore: Pore, pts: np.ndarray, spacing: float) -> tuple[np.ndarray, np.ndarray]:
-    """Kind and ring (rows from the wall) of each site, from the pore's own face distances."""
-    row = spacing * np.sqrt(3.0) / 2.0
-    faces = np.sort(pore.face_distances(pts[:, 0], pts[:, 1]), axis=1)
-    depth = faces[:, 0]
-    outer = depth.min() if depth.size else 0.0
-    ring = np.floor((depth - outer) / row + 0.5).astype(int)
-    kind = np.full(len(pts), "ring", dtype=object)
+def _classify(pore: Pore, x, y, ring, vertex, spacing: float) -> tuple[np.ndarray, np.ndarray]:
+    """Kind and ring (rows from the outermost kept row) of each site."""
+    ring = np.asarray(ring, int) - (int(np.min(ring)) if len(ring) else 0)
+    kind = np.full(ring.size, "ring", dtype=object)
     kind[ring == 0] = pore.wall_label
-    if pore.has_corners:
-        kind[(ring == 0) & (faces[:, 1] - faces[:, 0] < 0.5 * row)] = "corner"   # two faces equally near
-    kind[ring == ring.max()] = "centre"
-    if ring.max() == 0:
-        kind[np.hypot(pts[:, 0], pts[:, 1]) < 0.5 * spacing] = "centre"
+    if pore.has_corners and vertex is not None:
+        kind[(ring == 0) & vertex] = "corner"
+    if ring.size:
+        kind[ring == ring.max()] = "centre"
+        if ring.max() == 0:
+            kind[:] = pore.wall_label
+            kind[np.hypot(x, y) < 0.5 * spacing] = "centre"
     return kind.astype(str), ring
 
 
-def build_lattice(pore: Pore, spacing_angstrom: float) -> SiteLattice:
-    """All sites whose cell reaches into the pore (their free energies decide which are kept, see
-    `SiteLattice.subset`)."""
+def lattice_of(pore: Pore, placement: Placement, spacing_angstrom: float) -> SiteLattice:
+    """The site lattice of a placement: neighbours, nominal cell area and labels."""
+    ell = float(spacing_angstrom)
+    n = placement.x.size
+    if pore.lattice_kind == "rows":
+        # per site: 2 in-row + 2 axial on the diagonal, 2 in each adjacent row
+        a = _neighbour_matrix(placement.pairs, n, in_plane=2.0, axial=4.0)
+        area = ell * np.sqrt(3.0) / 2.0
+    else:
+        a = _neighbour_matrix(placement.pairs, n, in_plane=1.0, axial=2.0)
+        area = np.sqrt(3.0) / 2.0 * ell * ell
+    kind, ring = _classify(pore, placement.x, placement.y, placement.ring, placement.vertex, ell)
+    scale = placement.area_scale
+    return SiteLattice(placement.x, placement.y, a, ell / scale, area * scale, kind, ring,
+                       "slit" if pore.lattice_kind == "rows" else pore.shape, placement.vertex)
+
+
+def build_lattice(pore: Pore, spacing_angstrom: float, *, first_row_angstrom: float) -> SiteLattice:
+    """Sites in rows that follow the wall, the first ``first_row_angstrom`` from it (`physics.placement`)."""
     ell = float(spacing_angstrom)
     if not (np.isfinite(ell) and ell > 0):
         raise ValueError(f"lattice spacing must be a positive length in Å, got {spacing_angstrom!r}")
-    if pore.lattice_kind == "rows":
-        row = ell * np.sqrt(3.0) / 2.0
-        k = np.arange(-int(np.ceil(pore.width_angstrom / row)) - 1, int(np.ceil(pore.width_angstrom / row)) + 2)
-        y = k * row
-        y = y[np.abs(y) < 0.5 * pore.width_angstrom + 0.5 * row]
-        pts = np.column_stack([np.zeros_like(y), y])
-        n = len(y)
-        # per site: 2 in-row + 2 axial on the diagonal, 2 in each adjacent row
-        a = sparse.diags([np.full(n - 1, 2.0), np.full(n, 4.0), np.full(n - 1, 2.0)], [-1, 0, 1]).tocsr()
-        kind, ring = _classify(pore, pts, ell)
-        return SiteLattice(pts[:, 0], pts[:, 1], a, ell, row, kind, ring, "slit")
-    x0, x1, y0, y1 = pore.bounding_box()
-    radius = np.hypot(max(abs(x0), abs(x1)), max(abs(y0), abs(y1))) + ell
-    pts = _triangular_sites(radius, ell)
-    cell_radius = ell / np.sqrt(3.0)          # circumradius of the hexagonal Wigner–Seitz cell
-    pts = pts[pore.depth_inside(pts[:, 0], pts[:, 1]) > -cell_radius]
-    kind, ring = _classify(pore, pts, ell)
-    return SiteLattice(pts[:, 0], pts[:, 1], _neighbour_matrix(pts, ell), ell, np.sqrt(3.0) / 2.0 * ell * ell,
-                       kind, ring, pore.shape)
+    return lattice_of(pore, place_sites(pore, ell, first_row_angstrom), ell)
 
 
 def _cell_offsets(spacing: float, subdivisions: int, slit: bool) -> tuple[np.ndarray, np.ndarray]:
@@ -170,33 +162,6 @@ def _cell_offsets(spacing: float, subdivisions: int, slit: bool) -> tuple[np.nda
     keep = ~closer.any(axis=1)
     w = 1.0 / (1.0 + ties.sum(axis=1))
     return fine[keep], w[keep] / w[keep].sum()
-
-
-def cell_samples(lattice: SiteLattice, subdivisions: int = 4) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Sample points of every site's cell: x (N, S), y (N, S) in Å and weights (S,) summing to 1."""
-    offsets, weights = _cell_offsets(lattice.spacing_angstrom, subdivisions, lattice.shape == "slit")
-    return (lattice.x[:, None] + offsets[None, :, 0], lattice.y[:, None] + offsets[None, :, 1], weights)
-
-
-def boltzmann_cell_average(potential_k: np.ndarray, weights: np.ndarray, temperature_k: float) -> np.ndarray:
-    """f_i = −kT ln Σ_s w_s exp(−V_is/kT) (K) from the potential at the cells' sample points; +inf where the
-    whole cell is solid."""
-    kt = float(temperature_k)
-    with np.errstate(invalid="ignore"):
-        log_mean = logsumexp(-potential_k / kt, axis=1, b=np.broadcast_to(weights, potential_k.shape))
-    return np.where(np.isfinite(log_mean), -kt * log_mean, np.inf)
-
-
-def cell_free_energies(lattice: SiteLattice, *, pore: Pore, pair: PairParameters, temperature_k: float,
-                       subdivisions: int = 4) -> np.ndarray:
-    """Classical site free energy f_i = −kT ln⟨exp(−V/kT)⟩_cell (K); +inf where the cell is all solid.
-
-    The average runs over a symmetric set of points of the site's cell, so sites against the wall
-    (partly in the solid, where V = +inf) get a finite, smooth value.
-    """
-    px, py, weights = cell_samples(lattice, subdivisions)
-    v = wall_potential(px.ravel(), py.ravel(), pore=pore, pair=pair).reshape(px.shape)
-    return boltzmann_cell_average(v, weights, temperature_k)
 
 
 def _lattice_operations(lattice_kind: str) -> list[np.ndarray]:
@@ -233,7 +198,8 @@ def symmetry_orbits(lattice: SiteLattice, pore: Pore) -> np.ndarray:
 
 
 def orbit_problem_matrices(lattice: SiteLattice, orbit: np.ndarray):
-    """Representative site of each orbit, orbit sizes w, and B with B_oo' = Σ_{j∈o'} A_{rep(o), j}."""
+    """Representative site of each orbit, orbit sizes w, and B with B_oo' = Σ_{j∈o'} A_{rep(o), j}
+    (the same for every member of o, since A is invariant under the operations that make the orbits)."""
     n_orbits = int(orbit.max()) + 1
     rep = np.zeros(n_orbits, int)
     rep[orbit[::-1]] = np.arange(lattice.size)[::-1]     # first member of each orbit
@@ -249,7 +215,7 @@ def slit_row_sites(lattice: SiteLattice, width_angstrom: float):
     by half a spacing on odd rows), within |x| <= width/2. Returns x, y (Å) and the index of the row's site."""
     half = 0.5 * width_angstrom
     ell = lattice.spacing_angstrom
-    rows = np.rint(lattice.y / (ell * np.sqrt(3.0) / 2.0)).astype(int)
+    rows = np.argsort(np.argsort(lattice.y))              # rows in order across the slit
     ks = np.arange(-int(half / ell) - 1, int(half / ell) + 2)
     x = np.concatenate([ell * (ks + 0.5 * (r % 2)) for r in rows])
     site = np.repeat(np.arange(lattice.size), len(ks))

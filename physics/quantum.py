@@ -293,14 +293,12 @@ def quantum_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
     classical value. Σ_i exp(−f_i/kT) A_cell is then λ² Σ_n exp(−E_n/kT) plus those sites' classical share:
     the low-pressure limit is the quantum Henry constant.
     """
-    from .lattice import boltzmann_cell_average
-
     kt = float(temperature_k)
     states = cached_states(geometry, kt)
     lat = geometry.candidates
     z_rel, reached = assign_states(states, lat.x, lat.y, geometry.orbit, kt)
     lam = thermal_wavelength_angstrom(states.hbar2_over_mk, kt)
-    f = boltzmann_cell_average(geometry.sample_potential_k, geometry.sample_weights, kt)
+    f = geometry.cells.free_energies(kt, lat.cell_area_angstrom2)
     with np.errstate(divide="ignore"):
         f_q = states.energies_k[0] - kt * np.log(lam * lam * z_rel / lat.cell_area_angstrom2)
     return np.where(reached, f_q, f)

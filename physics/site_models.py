@@ -6,7 +6,8 @@ volume and λ the thermal wavelength — the free energy of an atom held in the 
 atom in the same volume*. The pressure scale of `physics.bond` is written in the same frame, so
 N/L → (p/kT) Σ_i A_cell e^{−f_i/kT} at low pressure whatever the model.
 
-- ``classical``: Z_i = (v/λ³)⟨e^{−V/kT}⟩_cell, so f_i = −kT ln⟨e^{−V/kT}⟩_cell over the cell's sample points.
+- ``classical``: Z_i = (ℓ/λ³)∫_cell e^{−V/kT} dA, so f_i = −kT ln[(1/A_cell)∫_cell e^{−V/kT} dA], the integral
+  over the site's own cell (`physics.cells`, converged), A_cell the lattice's nominal cell area.
 - ``quantum``: the exact one-atom states of the cross-section (`physics.quantum`), whole bands of them given
   to the site orbit that holds them: Z_i = (ℓ/λ) Σ_{n at i} e^{−E_n/kT}, so f_i = −kT ln(λ² Σ e^{−E_n/kT}/A_cell).
 
@@ -20,8 +21,6 @@ from typing import Callable
 
 import numpy as np
 
-from .lattice import boltzmann_cell_average
-
 __all__ = ["SITE_MODEL_NAMES", "QUANTUM_BY_DEFAULT", "default_site_model", "site_model",
            "classical_site_free_energy"]
 
@@ -32,8 +31,8 @@ QUANTUM_BY_DEFAULT = ("helium-4", "hydrogen", "neon")
 
 
 def classical_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
-    """f_i = −kT ln⟨exp(−V/kT)⟩_cell (K), Boltzmann-averaged over the cell's sample points."""
-    return boltzmann_cell_average(geometry.sample_potential_k, geometry.sample_weights, temperature_k)
+    """f_i = −kT ln[(1/A_cell)∫_cell exp(−V/kT) dA] (K), over each site's own cell (`physics.cells`)."""
+    return geometry.cells.free_energies(temperature_k, geometry.candidates.cell_area_angstrom2)
 
 
 def _quantum(geometry, *, temperature_k: float) -> np.ndarray:

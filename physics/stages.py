@@ -1,7 +1,8 @@
 """The model's stages, each a frozen result of the one before, all keyed by the scenario alone.
 
-    Scenario ──geometry_stage──▶ GeometryStage   pore, pair, adsorbate, candidate sites and the wall potential
-                                                  at their cells' sample points (no temperature; cached)
+    Scenario ──geometry_stage──▶ GeometryStage   pore, pair, adsorbate, candidate sites in rows that follow
+                                                  the wall, quadrature nodes of their cells and the wall
+                                                  potential there (no temperature; cached)
              ──thermal_stage───▶ ThermalStage    site free energies (by the scenario's site model), bond ε_b,
                                                   pressure scale p0 / μ_coex, kept sites reduced to orbits
              ──compute_isotherm (physics.adsorption)──▶ Isotherm, complete with its steps
@@ -17,14 +18,16 @@ import numpy as np
 
 from .bond import bond_energy, default_bond_rule
 from .geometry import Pore
-from .lattice import (COORDINATION, SiteLattice, build_lattice, cell_samples, default_spacing,
-                      orbit_problem_matrices, symmetry_orbits)
+from .cells import SiteCells, site_cells
+from .lattice import (COORDINATION, SiteLattice, default_spacing, lattice_of, orbit_problem_matrices,
+                      symmetry_orbits)
 from .materials import Adsorbate, PairParameters, get_adsorbate
 from .meanfield import MeanFieldProblem
 from .scenario import Scenario
 from .site_models import site_model
-from .vapour_pressure import liquid_number_density, p0_is_extrapolated, saturated_vapour_pressure
-from .wall_potential import wall_potential
+from .placement import first_row_distance, place_sites
+from .vapour_pressure import (liquid_number_density, p0_is_extrapolated, saturated_vapour_pressure,
+                              temperature_range)
 
 __all__ = ["GeometryStage", "ThermalStage", "PressureScale", "geometry_stage", "thermal_stage"]
 
@@ -58,15 +61,14 @@ class PressureScale:
 
 @dataclass(frozen=True, eq=False)
 class GeometryStage:
-    """Temperature-independent inputs: every candidate site and the potential over its cell."""
+    """Temperature-independent inputs: every candidate site and the quadrature of its cell."""
 
     key: tuple
     pore: Pore
     pair: PairParameters
     adsorbate: Adsorbate
     candidates: SiteLattice
-    sample_potential_k: np.ndarray      # (N, S) wall potential at each cell's sample points, K
-    sample_weights: np.ndarray          # (S,) weights of the sample points, sum 1
+    cells: SiteCells                    # nodes, weights and wall potential of every cell, converged over T
     orbit: np.ndarray                   # (N,) symmetry orbit of each candidate
     spacing_angstrom: float
     spacing_note: str
@@ -82,11 +84,16 @@ def _geometry_stage(key: tuple) -> GeometryStage:
         density, source = liquid_number_density(scenario.adsorbate)
         spacing = default_spacing(density)
         note = f"full lattice at the bulk liquid density {density:.5f} Å⁻³ ({source})"
-    candidates = build_lattice(pore, spacing)
-    px, py, weights = cell_samples(candidates)
-    v = wall_potential(px.ravel(), py.ravel(), pore=pore, pair=pair).reshape(px.shape)
-    return GeometryStage(key, pore, pair, get_adsorbate(scenario.adsorbate), candidates, v, weights,
-                         symmetry_orbits(candidates, pore), float(spacing), note)
+    placement = place_sites(pore, spacing, first_row_distance(pore, pair))
+    candidates = lattice_of(pore, placement, spacing)
+    orbit = symmetry_orbits(candidates, pore)
+    t_min, t_max, _ = temperature_range(scenario.adsorbate)
+    cells = site_cells(pore, pair, placement, orbit, temperature_range_k=(t_min, t_max))
+    if placement.area_scale != 1.0:
+        note += (f"; rows scaled by s = {np.sqrt(placement.area_scale):.4f} to fit the pore, axial spacing "
+                 f"ℓ/s² = {candidates.spacing_angstrom:.4f} Å keeps the cell volume")
+    return GeometryStage(key, pore, pair, get_adsorbate(scenario.adsorbate), candidates, cells, orbit,
+                         float(candidates.spacing_angstrom), note)
 
 
 def geometry_stage(scenario: Scenario) -> GeometryStage:
@@ -148,7 +155,7 @@ def thermal_stage(scenario: Scenario, *, mu_max: float | None = None) -> Thermal
     geo = geometry_stage(scenario)
     t = scenario.temperature_k
     p0 = saturated_vapour_pressure(scenario.adsorbate, t)
-    cell_volume = geo.candidates.cell_area_angstrom2 * geo.spacing_angstrom
+    cell_volume = geo.candidates.cell_volume_angstrom3
     if scenario.bond_energy_k is not None:
         bond, note = float(scenario.bond_energy_k), f"ε_b = {scenario.bond_energy_k:g} K, set by the user"
     else:

@@ -9,10 +9,10 @@ from scipy.optimize import brentq
 from physics.adsorption import compute_isotherm
 from physics.stages import thermal_stage
 from physics.geometry import HexagonPore
-from physics.lattice import _cell_offsets, build_lattice, cell_free_energies, default_spacing
+from physics.lattice import build_lattice, default_spacing
+from physics.stages import geometry_stage
 from physics.meanfield import MeanFieldProblem, solve_state
 from physics.scenario import Scenario
-from physics.wall_potential import wall_potential
 
 HELIUM = Scenario(shape="hexagon", size_angstrom=15.0, wall_angstrom=8.0, adsorbate="helium-4", temperature_k=1.5,
                   site_model="classical")   # the solver and lattice checks use the classical cell averages
@@ -30,25 +30,31 @@ class TestLattice:
         assert np.sqrt(3) / 2 * ell**3 == pytest.approx(1 / 0.021837, rel=1e-14)
 
     def test_triangular_lattice_has_coordination_8(self):
+        # every site has the triangular lattice's 6 in-plane neighbours and 2 axial ones away from the wall
+        # (z = 8, the Bragg–Williams coordination of REFERENCES.md §5)
         pore = HexagonPore(30.0, 5.0)
-        lat = build_lattice(pore, 3.75)
+        lat = build_lattice(pore, 3.75, first_row_angstrom=2.5)
         counts = np.asarray(lat.neighbours.sum(axis=1)).ravel()
-        inner = np.hypot(lat.x, lat.y) < 15.0
-        assert np.all(counts[inner] == 8)          # 6 in-plane + 2 along the axis
+        assert np.all(counts[lat.ring > 0] == 8)
+        assert np.all(counts[(lat.ring == 0) & (lat.kind == "face")] == 6)     # none beyond the first row
 
-    def test_cell_average_is_symmetric_and_bounded(self, helium_pair):
-        # min V <= −kT ln⟨e^{−V/kT}⟩ <= ⟨V⟩ over the cell's sample points (Jensen's inequality), and the
-        # free energies are D6-symmetric
-        pore = HexagonPore(15.0, 8.0)
-        lat = build_lattice(pore, 3.75)
-        f = cell_free_energies(lat, pore=pore, pair=helium_pair, temperature_k=20.0)
-        offsets, weights = _cell_offsets(3.75, 4, slit=False)
-        assert weights.sum() == pytest.approx(1.0) and len(weights) >= 16
-        for k in np.argsort(np.hypot(lat.x, lat.y))[:19]:
-            v = wall_potential(lat.x[k] + offsets[:, 0], lat.y[k] + offsets[:, 1], pore=pore, pair=helium_pair)
-            assert v.min() - 1e-9 <= f[k] <= weights @ v + 1e-9
+    def test_cell_free_energy_is_symmetric_and_bounded(self):
+        # min V <= f_i + kT ln(A_i/A) <= ⟨V⟩_cell (Jensen's inequality over the cell, A_i its own area), and
+        # the free energies are D6-symmetric
+        sc = HELIUM.replace(temperature_k=4.0)
+        geo = geometry_stage(sc)
+        cells, lat, t = geo.cells, geo.candidates, 4.0
+        f = cells.free_energies(t, lat.cell_area_angstrom2)
+        own = cells.area_angstrom2[cells.site_group]
+        shifted = f + t * np.log(own / lat.cell_area_angstrom2)
+        finite = np.isfinite(cells.potential_k)
+        for g in np.unique(cells.site_group):
+            node = (cells.group == g) & finite
+            v, w = cells.potential_k[node], cells.weight[node]
+            site = np.flatnonzero(cells.site_group == g)[0]
+            assert v.min() - 1e-9 <= shifted[site] <= (w @ v) / cells.area_angstrom2[g] + 1e-9
         pts = np.column_stack([lat.x, lat.y])
-        for op in HexagonPore(15.0, 8.0).symmetry_operations():
+        for op in sc.pore().symmetry_operations():
             img = pts @ op.T
             j = [int(np.argmin(np.hypot(*(pts - q).T))) for q in img]
             np.testing.assert_allclose(f[j], f, rtol=1e-9)
