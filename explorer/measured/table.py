@@ -32,7 +32,14 @@ _NUMBER = re.compile(r"[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?")
 _NON_FINITE = {"nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"}
 _CANDIDATES = (("\t", False), ("\t", True), (";", False), (";", True), (",", False), ("|", False), ("|", True),
                (" ", False), (" ", True))
-_ODD_SPACE = re.compile(r"[^\S \t\n]")     # whitespace other than space, tab and newline
+_ASCII_ODD_SPACES = "\x0b\x0c\x1c\x1d\x1e\x1f"     # what str.split() splits on besides space, tab, newline
+
+
+def _odd_spaces(text: str) -> bool:
+    """Whether ``text`` may hold blanks other than space and tab (str.split sees them, pandas does not)."""
+    return not text.isascii() or any(ch in text for ch in _ASCII_ODD_SPACES)
+
+
 _DELIMITER_NAMES = {"\t": "tab", ";": "';'", ",": "','", "|": "'|'", " ": "spaces"}
 _TEMPERATURE = re.compile(r"(?i)(?:^|[^a-z])(?:t|temp\.?|temperature)\s*(?:\(k\)|\[k\])?\s*[=:]\s*"
                           r"([+-]?\d+(?:[.,]\d+)?(?:[eE][+-]?\d+)?)\s*(k\b|kelvin)?")
@@ -273,7 +280,7 @@ def table_from_text(text: str, problems: Problems) -> Table:
         contiguous = body_at[-1] - body_at[0] + 1 == len(body_at)
         body = lines[body_at[0]:body_at[-1] + 1] if contiguous else [lines[i] for i in body_at]
         if delim == " ":
-            if _ODD_SPACE.search(text):    # pandas splits on spaces and tabs only: other blanks become spaces
+            if _odd_spaces("\n".join(body)):     # pandas splits on spaces and tabs only: other blanks become spaces
                 body = [" ".join(line.split()) for line in body]
             counts = np.fromiter(map(len, map(str.split, body)), int, len(body))
         else:
@@ -301,11 +308,11 @@ def table_from_text(text: str, problems: Problems) -> Table:
         def load(positions):
             return {p: pd.Series([f[p] if p < len(f) else "" for f in kept], dtype=object) for p in positions}
     else:
-        joined = "\n".join(kept)
+        joined = "\n".join(kept).encode("utf-8")    # pandas reads bytes faster than a str buffer
 
         def load(positions):
             try:
-                frame = pd.read_csv(io.StringIO(joined), sep=r"\s+" if delim == " " else delim, header=None,
+                frame = pd.read_csv(io.BytesIO(joined), encoding="utf-8", sep=r"\s+" if delim == " " else delim, header=None,
                                     names=range(width), usecols=positions, dtype=str, na_filter=False,
                                     quoting=csv.QUOTE_NONE, engine="c", skip_blank_lines=False)
             except (pd.errors.ParserError, ValueError):
