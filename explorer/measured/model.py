@@ -16,7 +16,7 @@ LIMITS = {
     "max_columns": 100,
     "max_problems": 200,        # listed one by one; the rest are counted in one summary problem
     "max_unzipped_bytes": 256 * 2**20,   # total unpacked size of an .xlsx (a zip): guards against zip bombs
-    "max_workbook_cells": 2_000_000,     # rows × columns a sheet says it has (openpyxl reads ~30 µs a cell)
+    "max_workbook_cells": 1_000_000,     # rows × columns a sheet says it has (openpyxl: ~30–60 µs a cell)
 }
 
 _SHOWN_VALUE_CHARS = 60
