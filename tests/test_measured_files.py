@@ -472,6 +472,8 @@ GALLERY = [
      {"_limits": {"max_rows": 20}}, ("error", ["has 30 rows of data, more than the 20"])),
     ("zip bomb", "book.xlsx", _xlsx([["P (Pa)", "n (mmol/g)"], [1.0, 2.0]]), {"_limits": {"max_unzipped_bytes": 1000}},
      ("error", ["unpacks to", "zip bomb"])),
+    ("workbook over the cell limit", "book.xlsx", _xlsx([["P (Pa)", "n (mmol/g)"]] + [[1.0, 2.0]] * 20),
+     {"_limits": {"max_workbook_cells": 30}}, ("error", ["sheet 'Sheet' has 21 rows × 2 columns", "save the columns"])),
     ("xml entity bomb", "book.xlsx", _entity_bomb_workbook, {}, ("error", ["declares XML entities", "refused"])),
     ("many bad cells counted", "a.csv", (HEAD + "x,1\n" * 400 + "1,2\n").encode(), {},
      ("problem", ["more problems not listed one by one", "not a number"])),
