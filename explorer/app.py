@@ -13,6 +13,7 @@ from .compute import start_temperature_windows
 from .state import ExplorerState
 from .views.isotherm import IsothermView
 from .views.potential import PotentialView
+from .views.measured import MeasuredView
 from .views.quantum import QuantumView
 
 __all__ = ["create_app"]
@@ -68,19 +69,26 @@ def header(title: str) -> pn.pane.HTML:
 
 def create_app(scenario: Scenario | None = None) -> pn.viewable.Viewable:
     """Build one session's page (called by the server for every browser tab)."""
-    pn.extension(notifications=True)
+    pn.extension("filedropper", notifications=True)
     start_temperature_windows()        # CoolProp loads in a worker, not when someone picks nitrogen
     scenario = scenario or Scenario(wall_angstrom=8.0)
     state = ExplorerState.from_scenario(scenario)
-    views = pn.Column(PotentialView(state=state), pn.pane.HTML("<h3>Adsorption</h3>"), IsothermView(state=state),
+    isotherm = IsothermView(state=state)
+    views = pn.Column(PotentialView(state=state), pn.pane.HTML("<h3>Adsorption</h3>"), isotherm,
                       sizing_mode="stretch_width", styles={"min-width": "0"})
+    measured = MeasuredView(state=state)
+    isotherm.listeners.append(measured.model_arrived)
+    if isotherm._iso is not None:
+        measured.model_arrived(isotherm._shown, isotherm._iso)
     side = pn.Column(pn.pane.HTML("<h3>Pore and gas</h3>"), controls(state), width=CONTROLS_WIDTH)
     pore_page = pn.Row(side, views, sizing_mode="stretch_width", name="Pore")
     about = pn.pane.Markdown(ABOUT, name="About & safety", sizing_mode="stretch_width",
                              styles={"max-width": "760px"})
     quantum = QuantumView(state=state)
     quantum_page = pn.Column(quantum, name="Quantum states", sizing_mode="stretch_width")
-    tabs = pn.Tabs(pore_page, quantum_page, about, dynamic=False)
+    measured_side = pn.Column(pn.pane.HTML("<h3>Pore and gas</h3>"), controls(state), width=CONTROLS_WIDTH)
+    measured_page = pn.Row(measured_side, measured, sizing_mode="stretch_width", name="Measured data")
+    tabs = pn.Tabs(pore_page, quantum_page, measured_page, about, dynamic=False)
     # opening the quantum tab computes what it shows for the current inputs (the light gases only)
     tabs.param.watch(lambda event: quantum.refresh() if event.new == 1 else None, "active")
     return pn.Column(header(scenario.title), tabs, sizing_mode="stretch_width")

@@ -100,6 +100,7 @@ class IsothermView(pn.viewable.Viewer):
         self._wanted: Scenario | None = None      # inputs of the newest request
         self._pick_log10 = -1.0
         self._runner = LatestRunner("isotherm", name="isotherm")
+        self.listeners: list = []      # called with (scenario, isotherm or None) whenever what is shown changes
         self._redraw()
         self.state.param.watch(self._redraw, MODEL_KEYS)
         self.pick.param.watch(self._on_pick, "value_throttled")
@@ -208,6 +209,7 @@ class IsothermView(pn.viewable.Viewer):
             self._occ_text.object = ""
             self._table.object = ""
             self._set_loading(False)
+        self._tell(self._wanted, None)
 
     def _apply(self, sc: Scenario, iso: Isotherm) -> None:
         previous, self._iso, self._shown = self._shown, iso, sc
@@ -245,6 +247,15 @@ class IsothermView(pn.viewable.Viewer):
             self._set_pick(value, start=lo, end=hi)
             self._update_occupancy()
             self._set_loading(False)
+        self._tell(sc, iso)
+
+    def _tell(self, sc, iso) -> None:
+        for listener in self.listeners:
+            try:
+                listener(sc, iso)
+            except Exception:          # noqa: BLE001 - another view's bug must not break this one
+                import logging
+                logging.getLogger("porefill.explorer").exception("isotherm listener failed")
 
     def _set_pick(self, value: float, **bounds) -> None:
         """Move the occupancy slider (and what it stands for) without waiting for the browser."""

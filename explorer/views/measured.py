@@ -1,0 +1,435 @@
+"""Measured isotherms: drop the lab's files, map columns and units, see them over the model, fit.
+
+Files arrive in chunks (`pn.widgets.FileDropper`), are read in memory by `explorer.measured` (parsed, never
+executed or written to disk), and drawn over the isotherm the Pore tab shows (`explorer.overlay`). The fit
+runs in a process of its own (`explorer.fit_job`) with progress and cancel.
+"""
+from __future__ import annotations
+
+import csv
+import html
+import io
+
+import numpy as np
+import panel as pn
+import param
+from bokeh.models import ColumnDataSource, Range1d, Span
+from bokeh.plotting import figure
+
+from physics.fitting import FREE_PARAMETERS, PARAMETER_UNITS, FitRequest, carry_to, fitted_curves, residual_table
+from physics.measured import MEASURED_AMOUNT_UNITS, Sample
+from physics.units import PRESSURE_UNITS
+
+from ..measured import ColumnMap, MeasuredFileError, read_measured
+from ..overlay import AXES, model_curves, overlay_run
+from ..state import ExplorerState, describe
+from .isotherm import ADS_COLOUR, DES_COLOUR
+from .potential import FRAME
+
+ACCEPTED = [".csv", ".txt", ".tsv", ".dat", ".xlsx"]
+FROM_FILE = "(from the header)"
+NO_COLUMN = "(none)"
+RUN_COLOURS = ("#2a9d8f", "#e76f51", "#6a4c93", "#8ab17d", "#bc6c25", "#577590")
+SAMPLE_FIELDS = (("mass_g", "Sample mass (g)"), ("pore_volume_cm3_g", "Pore volume (cm³/g)"),
+                 ("surface_area_m2_g", "Surface area (m²/g)"), ("d100_angstrom", "X-ray d₁₀₀ (Å)"))
+
+
+def _cell(value):
+    """A CSV cell that a spreadsheet will not run: text from an upload (run names, file names) that starts
+    like a formula gets a leading apostrophe (common practice, no source)."""
+    if isinstance(value, str) and value[:1] in ("=", "+", "-", "@", "\t", "\r"):
+        return "'" + value
+    return value
+
+
+class MeasuredView(pn.viewable.Viewer):
+    """Upload, column mapping, sample description, overlay with residuals, and the fit."""
+
+    state = param.ClassSelector(class_=ExplorerState)
+
+    def __init__(self, **params):
+        super().__init__(**params)
+        self.dropper = pn.widgets.FileDropper(multiple=True, accepted_filetypes=ACCEPTED, max_file_size="64MB",
+                                              max_total_file_size="200MB", chunk_size=4_000_000,
+                                              name="Measured isotherms", css_classes=["porefill-dropper"],
+                                              sizing_mode="stretch_width")
+        self.file_select = pn.widgets.Select(name="File", options=[], width=250)
+        self.columns = {name: pn.widgets.Select(name=label, options=[FROM_FILE], value=FROM_FILE, width=160)
+                        for name, label in (("pressure", "Pressure column"), ("amount", "Amount column"),
+                                            ("leg", "Leg column"), ("temperature", "Temperature column"))}
+        self.pressure_unit = pn.widgets.Select(name="Pressure unit", options=[FROM_FILE, *PRESSURE_UNITS], width=130)
+        self.amount_unit = pn.widgets.Select(name="Amount unit", options=[FROM_FILE, *MEASURED_AMOUNT_UNITS],
+                                             width=130)
+        self.reread = pn.widgets.Button(name="Read the file with these choices", width=250)
+        self.problems = pn.pane.HTML("", css_classes=["porefill-file-problems"], sizing_mode="stretch_width",
+                                     styles={"font-size": "13px"})
+        self.sample_inputs = {name: pn.widgets.FloatInput(name=label, value=None, start=0.0, width=150)
+                              for name, label in SAMPLE_FIELDS}
+        self.sample_note = pn.pane.HTML("", css_classes=["porefill-sample-note"], styles={"font-size": "12px"})
+        self.axis = pn.widgets.RadioButtonGroup(options=list(AXES), value="pressure (log)")
+        self.caption = pn.pane.HTML("", css_classes=["porefill-overlay-caption"], sizing_mode="stretch_width",
+                                    styles={"font-size": "13px"})
+        self.free = pn.widgets.CheckBoxGroup(options=list(FREE_PARAMETERS),
+                                             value=["wall-strength", "size", "pore-volume"], inline=True)
+        self.fit_button = pn.widgets.Button(name="Fit", button_type="primary", width=120,
+                                            css_classes=["porefill-fit-button"])
+        self.cancel_button = pn.widgets.Button(name="Cancel", width=100, disabled=True)
+        self.progress = pn.indicators.Progress(value=0, max=1000, width=300, visible=False)
+        self.fit_status = pn.pane.HTML("", css_classes=["porefill-fit-status"], sizing_mode="stretch_width")
+        self.fit_result = pn.pane.HTML("", css_classes=["porefill-fit-result"], sizing_mode="stretch_width")
+        self.use_fit = pn.widgets.Button(name="Use the fitted pore and sample", width=250, disabled=True)
+        self.download = pn.widgets.FileDownload(callback=self.fit_csv, filename="porefill-fit.csv",
+                                                label="Download the fitted model and residuals (CSV)", width=330,
+                                                disabled=True)
+        self._files: dict[str, dict] = {}          # name -> {"data": bytes, "result": ReadResult | None, ...}
+        self._iso = None
+        self._fit = None
+        self._job = None
+        self._poller = None
+        self._sources: list[ColumnDataSource] = []
+        self._model_src = {b: ColumnDataSource({"x": [], "y": []}) for b in ("adsorption", "desorption")}
+        self._fig, self._res_fig = self._figures()
+        self._plots = pn.Column(css_classes=["porefill-overlay"], sizing_mode="stretch_width")
+        self.dropper.param.watch(self._dropped, "value")
+        self.file_select.param.watch(self._show_file, "value")
+        self.reread.on_click(self._reread)
+        for w in self.sample_inputs.values():
+            w.param.watch(self._sample_changed, "value")
+        self.axis.param.watch(lambda *_: self._redraw(), "value")
+        self.fit_button.on_click(self._start_fit)
+        self.cancel_button.on_click(self._cancel_fit)
+        self.use_fit.on_click(self._use_fit)
+        self._sample_source: dict[str, str] = {}
+        self._show_sample_sources()
+        self._axis_for_gas()
+        self.state.param.watch(self._axis_for_gas, "adsorbate")
+
+    def _axis_for_gas(self, *_):
+        """p/p0 on a linear axis is what nitrogen and argon users read; log p for the light gases, whose
+        first layers form decades below p0."""
+        from physics.site_models import QUANTUM_BY_DEFAULT
+        self.axis.value = "pressure (log)" if self.state.adsorbate in QUANTUM_BY_DEFAULT else "p/p0"
+
+    # the model the Pore tab shows ----------------------------------------------------------------
+    def model_arrived(self, scenario, iso) -> None:
+        """Called by the isotherm view with every isotherm it shows (None: none for these inputs)."""
+        self._iso = iso
+        self._redraw()
+
+    # files -------------------------------------------------------------------------------------------
+    def _dropped(self, event) -> None:
+        value = event.new or {}
+        for name in list(self._files):
+            if name not in value:
+                del self._files[name]
+        newest = None
+        for name, data in value.items():
+            if name not in self._files:
+                raw = data.encode("utf-8") if isinstance(data, str) else bytes(data)
+                self._files[name] = {"data": raw, "choices": ColumnMap(), "sheet": None}
+                self._read(name)
+                newest = name
+        self.file_select.options = list(self._files)
+        if newest is not None:
+            self.file_select.value = newest            # the file just dropped is the one to look at
+        elif self._files and self.file_select.value not in self._files:
+            self.file_select.value = next(iter(self._files))
+        self._show_file()
+        self._redraw()
+
+    def _read(self, name: str) -> None:
+        entry = self._files[name]
+        try:
+            entry["result"], entry["error"] = read_measured(name, entry["data"], columns=entry["choices"],
+                                                           sheet=entry["sheet"]), None
+        except MeasuredFileError as exc:
+            entry["result"], entry["error"] = None, str(exc)
+        except Exception as exc:        # noqa: BLE001 - a reader bug must not take the session with it
+            entry["result"], entry["error"] = None, f"{name}: could not be read ({type(exc).__name__})"
+
+    def _show_file(self, *_):
+        name = self.file_select.value
+        entry = self._files.get(name)
+        if entry is None:
+            self.problems.object = ""
+            return
+        result = entry.get("result")
+        if result is None:
+            self.problems.object = f"<p class='porefill-file-error'><b>Not used:</b> {html.escape(entry['error'])}</p>"
+            return
+        cols = list(result.columns)
+        for key, widget in self.columns.items():
+            widget.options = [FROM_FILE, *cols] if key in ("pressure", "amount") else [FROM_FILE, NO_COLUMN, *cols]
+            chosen = getattr(entry["choices"], key)
+            widget.value = FROM_FILE if chosen is None else (NO_COLUMN if chosen == "" else chosen)
+        self.pressure_unit.value = entry["choices"].pressure_unit or FROM_FILE
+        self.amount_unit.value = entry["choices"].amount_unit or FROM_FILE
+        lines = [f"<p><b>{html.escape(name)}</b>: {len(result.runs)} run(s) — "
+                 + ", ".join(html.escape(f"{r.name} ({r.amount.size} points)") for r in result.runs) + "</p>"]
+        used = result.used
+        lines.append(f"<p>Read as: pressure <code>{html.escape(str(used.pressure))}</code> in "
+                     f"{html.escape(str(used.pressure_unit))}, amount <code>{html.escape(str(used.amount))}</code> in "
+                     f"{html.escape(str(used.amount_unit))}.</p>")
+        if result.to_choose:
+            lines.append("<p class='porefill-file-error'><b>Choose:</b> " + html.escape(", ".join(result.to_choose))
+                         + " (the header does not say).</p>")
+        if result.problems:
+            shown = result.problems[:12]
+            more = len(result.problems) - len(shown)
+            lines.append("<ul>" + "".join(f"<li>{html.escape(str(p))}</li>" for p in shown)
+                         + (f"<li>… and {more} more</li>" if more else "") + "</ul>")
+        self.problems.object = "".join(lines)
+
+    def _reread(self, *_):
+        name = self.file_select.value
+        if name not in self._files:
+            return
+
+        def pick(key):
+            v = self.columns[key].value
+            return None if v == FROM_FILE else ("" if v == NO_COLUMN else v)
+
+        unit = lambda w: None if w.value == FROM_FILE else w.value     # noqa: E731
+        self._files[name]["choices"] = ColumnMap(pressure=pick("pressure"), amount=pick("amount"),
+                                                 leg=pick("leg"), temperature=pick("temperature"),
+                                                 pressure_unit=unit(self.pressure_unit),
+                                                 amount_unit=unit(self.amount_unit))
+        self._read(name)
+        self._show_file()
+        self._redraw()
+
+    def runs(self) -> list:
+        return [r for e in self._files.values() if e.get("result") is not None for r in e["result"].runs]
+
+    # sample -----------------------------------------------------------------------------------------
+    def sample(self) -> Sample:
+        values = {name: (None if w.value in (None, 0) else float(w.value)) for name, w in self.sample_inputs.items()}
+        sources = tuple((n, self._sample_source.get(n, "typed")) for n, v in values.items() if v is not None)
+        return Sample(**values, sources=sources)
+
+    def _sample_changed(self, event) -> None:
+        name = next(n for n, w in self.sample_inputs.items() if w is event.obj)
+        if not getattr(self, "_setting_sample", False):
+            self._sample_source[name] = "typed"
+        self._show_sample_sources()
+        self._redraw()
+
+    def _show_sample_sources(self) -> None:
+        parts = []
+        for name, label in SAMPLE_FIELDS:
+            value = self.sample_inputs[name].value
+            where = self._sample_source.get(name, "typed") if value not in (None, 0) else "not given"
+            parts.append(f"{html.escape(label.split(' (')[0])}: {where}")
+        self.sample_note.object = "<p>" + "; ".join(parts) + ". Amounts per gram need the pore volume; dosed " \
+                                  "amounts also the mass; d₁₀₀ ties the wall to the side (a₀ = 2·d₁₀₀/√3).</p>"
+
+    # drawing ------------------------------------------------------------------------------------------
+    def _figures(self):
+        fig = figure(title="Measured over the model", x_axis_type="log", frame_width=FRAME + 120, frame_height=260,
+                     x_range=Range1d(1e-3, 1e3), y_range=Range1d(0, 1), tools="pan,wheel_zoom,box_zoom,reset,save",
+                     toolbar_location="above", x_axis_label="pressure p (Pa)", y_axis_label="coverage (per nm)")
+        fig.line("x", "y", source=self._model_src["adsorption"], color=ADS_COLOUR, line_width=2,
+                 legend_label="model, adsorption")
+        fig.line("x", "y", source=self._model_src["desorption"], color=DES_COLOUR, line_width=2, line_dash="dashed",
+                 legend_label="model, desorption")
+        fig.legend.location = "top_left"
+        fig.legend.background_fill_alpha = 0.8
+        res = figure(title="Residuals (measured − model)", x_axis_type="log", frame_width=FRAME + 120,
+                     frame_height=140, x_range=fig.x_range, y_range=Range1d(-1, 1),
+                     tools="pan,wheel_zoom,box_zoom,reset,save", toolbar_location="above",
+                     y_axis_label="per nm")
+        res.add_layout(Span(location=0, dimension="width", line_color="#888888", line_dash="dotted"))
+        return fig, res
+
+    def _redraw(self) -> None:
+        runs, iso = self.runs(), self._iso
+        if not runs:
+            self.caption.object = "<p>Drop one or more measured isotherms (CSV, TXT, TSV, DAT or XLSX) above.</p>"
+            return
+        if iso is None:
+            self.caption.object = "<p>The model has no isotherm for these inputs (see the Pore tab).</p>"
+            return
+        if not self._plots.objects:
+            # the figures join the page with the first data, while the tab is on show (see views.quantum)
+            self._plots.objects = [pn.pane.Bokeh(self._fig), pn.pane.Bokeh(self._res_fig)]
+        axis = self.axis.value
+        sample = self.sample()
+        overlays, notes = [], []
+        for run in runs:
+            try:
+                overlays.append(overlay_run(iso, run, sample, axis))
+            except ValueError as exc:
+                notes.append(str(exc))
+        with pn.io.hold():
+            self._set_axes(axis)
+            for branch, (x, y) in model_curves(iso, axis).items():
+                self._model_src[branch].data = {"x": x, "y": y}
+            while len(self._sources) < len(overlays):
+                self._add_run_glyphs(len(self._sources))
+            for i, src in enumerate(self._sources):
+                o = overlays[i] if i < len(overlays) else None
+                src.data = ({"x": o.x, "y": o.y, "r": o.residual, "row": o.rows} if o is not None
+                            else {"x": [], "y": [], "r": [], "row": []})
+            self._fit_ranges(iso, axis, overlays)
+            for o in overlays:
+                if o.note:
+                    notes.append(f"{o.run.name}: {o.note}")
+            label = html.escape(describe(self.state.scenario()))
+            legend = "; ".join(f"<span style='color:{RUN_COLOURS[i % len(RUN_COLOURS)]}'>●</span> "
+                               f"{html.escape(o.run.name)}" for i, o in enumerate(overlays))
+            self.caption.object = (f"<p>Model for {label}. Measured: {legend}.</p>"
+                                   + "".join(f"<p class='porefill-overlay-note'>{html.escape(n)}</p>" for n in notes))
+
+    def _add_run_glyphs(self, i: int) -> None:
+        src = ColumnDataSource({"x": [], "y": [], "r": [], "row": []})
+        colour = RUN_COLOURS[i % len(RUN_COLOURS)]
+        self._fig.scatter("x", "y", source=src, size=6, color=colour, marker="circle")
+        self._res_fig.scatter("x", "r", source=src, size=5, color=colour)
+        self._sources.append(src)
+
+    def _set_axes(self, axis: str) -> None:
+        x_label = {"pressure (log)": "pressure p (Pa)", "p/p0": "relative pressure p/p₀",
+                   "chemical potential": "chemical potential μ (K)", "coverage": "coverage (per nm)"}[axis]
+        self._fig.xaxis.axis_label = x_label
+        self._fig.yaxis.axis_label = "pressure p (Pa)" if axis == "coverage" else "coverage (per nm)"
+        self._res_fig.yaxis.axis_label = "log₁₀(p/p_model)" if axis == "coverage" else "per nm"
+
+    def _fit_ranges(self, iso, axis, overlays) -> None:
+        xs = [c[0] for c in model_curves(iso, axis).values()] + [o.x for o in overlays]
+        ys = [c[1] for c in model_curves(iso, axis).values()] + [o.y for o in overlays]
+        x = np.concatenate([np.asarray(a, float).ravel() for a in xs])
+        y = np.concatenate([np.asarray(a, float).ravel() for a in ys])
+        x, y = x[np.isfinite(x)], y[np.isfinite(y)]
+        if axis == "pressure (log)":
+            x = x[x > 0]
+        if axis == "p/p0":
+            x = x[(x >= 0) & (x <= 1.05)]
+        if x.size:
+            lo, hi = float(x.min()), float(x.max())
+            self._fig.x_range.update(start=lo, end=hi if hi > lo else lo + 1)
+        if y.size:
+            lo, hi = float(y.min()), float(y.max())
+            self._fig.y_range.update(start=lo if axis == "coverage" else min(0.0, lo), end=hi * 1.05 if hi > 0 else 1)
+        r = np.concatenate([o.residual for o in overlays]) if overlays else np.array([])
+        r = r[np.isfinite(r)]
+        top = float(np.abs(r).max()) * 1.1 if r.size else 1.0
+        self._res_fig.y_range.update(start=-top or -1, end=top or 1)
+
+    # fit ---------------------------------------------------------------------------------------------
+    def _start_fit(self, *_):
+        runs = self.runs()
+        if not runs:
+            self.fit_status.object = "<p class='porefill-fit-error'>Drop a measured isotherm first.</p>"
+            return
+        try:
+            request = FitRequest(scenario=self.state.scenario(), runs=tuple(runs), sample=self.sample(),
+                                 free=tuple(self.free.value))
+        except ValueError as exc:
+            self.fit_status.object = f"<p class='porefill-fit-error'>{html.escape(str(exc))}</p>"
+            return
+        from ..fit_job import FitProcess
+
+        self._job = FitProcess(request)
+        self.fit_button.disabled, self.cancel_button.disabled = True, False
+        self.progress.value, self.progress.visible = 0, True
+        self.fit_status.object = "<p>Starting the fit …</p>"
+        self._poller = pn.state.add_periodic_callback(self._poll, period=300)
+
+    def _cancel_fit(self, *_):
+        if self._job is not None:
+            self._job.cancel()
+            self.fit_status.object = "<p>Cancelling …</p>"
+
+    def _poll(self) -> None:
+        job = self._job
+        if job is None:
+            return
+        for message in job.poll():
+            kind = message[0]
+            if kind == "progress":
+                self.progress.value = int(1000 * message[1])
+                self.fit_status.object = f"<p>{html.escape(message[2])}</p>"
+            elif kind == "done":
+                self._fit_done(message[1])
+            elif kind in ("cancelled", "error"):
+                word = "Cancelled" if kind == "cancelled" else "The fit failed"
+                self.fit_status.object = (f"<p class='porefill-fit-error'><b>{word}:</b> "
+                                          f"{html.escape(message[1])}</p>")
+        if job.finished:
+            self._job = None
+            if self._poller is not None:
+                self._poller.stop()
+                self._poller = None
+            self.fit_button.disabled, self.cancel_button.disabled = False, True
+            self.progress.visible = False
+
+    def _fit_done(self, result) -> None:
+        self._fit = result
+        stats = result.statistics()
+        rows = "".join(
+            f"<tr><td>{html.escape(name)}</td><td class='porefill-fit-value'>{value:.5g}</td>"
+            f"<td>{'—' if not np.isfinite(err) else f'{err:.2g}'}</td><td>{html.escape(PARAMETER_UNITS.get(name, ''))}</td></tr>"
+            for name, (value, err) in result.parameters.items())
+        warnings = "".join(f"<li>{html.escape(w)}</li>" for w in result.warnings)
+        self.fit_result.object = (
+            "<table class='porefill-fit-table'><caption style='text-align:left'><b>Fitted parameters</b></caption>"
+            f"<tr><th>parameter</th><th>value</th><th>standard error</th><th>unit</th></tr>{rows}</table>"
+            f"<p>χ² = {stats['chi2']:.4g}, reduced χ² = {stats['reduced_chi2']:.3g}, R² = {stats['r_squared']:.4f}, "
+            f"{stats['points']} points, {stats['evaluations']} model evaluations.</p>"
+            + (f"<ul class='porefill-fit-warnings'>{warnings}</ul>" if warnings else ""))
+        self.fit_status.object = "<p>Fit finished.</p>"
+        self.use_fit.disabled = self.download.disabled = False
+
+    def _use_fit(self, *_):
+        result = self._fit
+        if result is None:
+            return
+        current = self.state.scenario()
+        new = carry_to(result, current)
+        if current.adsorbate == result.scenario.adsorbate:
+            new = new.replace(pair_epsilon_k=result.scenario.pair_epsilon_k)
+        self.state.base = new
+        self.state.param.update(size_angstrom=new.size_angstrom,
+                                **({"wall_angstrom": new.wall_angstrom} if new.wall_angstrom is not None else {}))
+        self._setting_sample = True
+        try:
+            for name, value in result.sample.to_dict().items():
+                if name in self.sample_inputs and value is not None:
+                    self.sample_inputs[name].value = value
+                    self._sample_source[name] = dict(result.sample.sources).get(name, "fitted")
+        finally:
+            self._setting_sample = False
+        self._show_sample_sources()
+
+    def fit_csv(self) -> io.BytesIO:
+        """The fitted model along each run and the residual of every point, as one CSV."""
+        out = io.StringIO()
+        writer = csv.writer(out)
+        result = self._fit
+        if result is None:
+            writer.writerow(["no fit yet"])
+        else:
+            writer.writerow(["# fitted model along each run"])
+            writer.writerow(["run", "branch", "pressure", "pressure_Pa", "model_amount"])
+            for c in fitted_curves(result):
+                for p, pa, a in zip(c.pressure, c.pressure_pa, c.amount):
+                    writer.writerow([_cell(c.run.name), c.branch, repr(float(p)), repr(float(pa)), repr(float(a))])
+            table = residual_table(result)
+            if table:
+                writer.writerow(["# residuals"])
+                writer.writerow(list(table[0]))
+                for row in table:
+                    writer.writerow([_cell(row[k]) for k in table[0]])
+        return io.BytesIO(out.getvalue().encode("utf-8"))
+
+    def __panel__(self):
+        mapping = pn.Row(self.file_select, *self.columns.values(), self.pressure_unit, self.amount_unit,
+                         sizing_mode="stretch_width", styles={"flex-wrap": "wrap"})
+        sample = pn.Row(*self.sample_inputs.values(), styles={"flex-wrap": "wrap"})
+        fit = pn.Column(pn.pane.HTML("<b>Free parameters</b>"), self.free,
+                        pn.Row(self.fit_button, self.cancel_button, self.progress), self.fit_status,
+                        self.fit_result, pn.Row(self.use_fit, self.download), css_classes=["porefill-fit"])
+        return pn.Column(pn.pane.HTML("<h3>Measured isotherms</h3>"), self.dropper, mapping, self.reread,
+                         self.problems, pn.pane.HTML("<b>Sample</b>"), sample, self.sample_note, self.axis,
+                         self.caption, self._plots, fit, sizing_mode="stretch_width",
+                         css_classes=["porefill-measured"])
