@@ -2,8 +2,8 @@
 
 Per site i, at temperature T (K; energies as E/k_B):
 
-- classical site model: ⟨V⟩_i = Σ_s w_s V_s e^{−V_s/kT} / Σ_s w_s e^{−V_s/kT} over the cell's sample points, and
-  the kinetic energy of free classical motion, 3kT/2;
+- classical site model: ⟨V⟩_i = ∫_cell V e^{−V/kT} dA / ∫_cell e^{−V/kT} dA on the cell's converged quadrature
+  nodes (`physics.cells`), and the kinetic energy of free classical motion, 3kT/2;
 - quantum site model: the states given to the site's orbit (`physics.quantum.state_homes`), Boltzmann weights
   b_n: ⟨V⟩_i = Σ b_n ⟨n|V|n⟩ / Σ b_n and kinetic Σ b_n (E_n − ⟨n|V|n⟩) / Σ b_n + kT/2 (free motion along the
   axis). Sites no computed state reaches keep the classical values, as their free energies do.
@@ -39,16 +39,23 @@ class SiteEnergies:
         return self.potential_k + self.kinetic_k
 
 
-def _classical(sample_potential_k: np.ndarray, sample_weights: np.ndarray, temperature_k: float):
-    v = np.asarray(sample_potential_k, float)
-    lowest = np.min(np.where(np.isfinite(v), v, np.inf), axis=1, keepdims=True)
-    with np.errstate(invalid="ignore", over="ignore"):
-        b = np.where(np.isfinite(v), np.exp(-(v - lowest) / temperature_k), 0.0) * sample_weights
-        mean_v = np.where(np.isfinite(v), v, 0.0) * b
-    total = b.sum(axis=1)
+def _classical(cells, temperature_k: float):
+    """Boltzmann-weighted mean potential over each site's cell, from the converged cell quadrature
+    (`physics.cells.SiteCells`: nodes, weights, potential), and the classical kinetic energy 3kT/2."""
+    kt = float(temperature_k)
+    n_groups = cells.area_angstrom2.size
+    finite = np.isfinite(cells.potential_k)
+    ref = np.full(n_groups, np.inf)
+    np.minimum.at(ref, cells.group[finite], cells.potential_k[finite])
+    ref = np.where(np.isfinite(ref), ref, 0.0)
+    v = np.where(finite, cells.potential_k, 0.0)
+    with np.errstate(over="ignore", invalid="ignore"):
+        b = np.where(finite, cells.weight * np.exp(-(v - ref[cells.group]) / kt), 0.0)
+    z = np.bincount(cells.group, weights=b, minlength=n_groups)
     with np.errstate(invalid="ignore", divide="ignore"):
-        potential = np.where(total > 0, mean_v.sum(axis=1) / total, np.inf)
-    return potential, np.full(potential.shape, 1.5 * temperature_k)
+        mean = np.where(z > 0, np.bincount(cells.group, weights=b * v, minlength=n_groups) / z, np.inf)
+    potential = mean[cells.site_group]
+    return potential, np.full(potential.shape, 1.5 * kt)
 
 
 def _quantum(geometry, temperature_k: float, potential: np.ndarray, kinetic: np.ndarray):
@@ -71,7 +78,7 @@ def _quantum(geometry, temperature_k: float, potential: np.ndarray, kinetic: np.
 
 
 def _candidate_energies(geometry, site_model: str, temperature_k: float):
-    potential, kinetic = _classical(geometry.sample_potential_k, geometry.sample_weights, temperature_k)
+    potential, kinetic = _classical(geometry.cells, temperature_k)
     if site_model == "quantum":
         potential, kinetic = _quantum(geometry, temperature_k, potential, kinetic)
     return potential, kinetic

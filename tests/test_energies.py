@@ -49,14 +49,14 @@ def test_quantum_energies_at_low_coverage_are_the_one_atom_averages():
 
 def test_classical_wall_energy_at_low_coverage_against_quadrature():
     # Nitrogen at 77 K: the Boltzmann average of V over the cross-section, ∫V e^{−V/kT}dA / ∫e^{−V/kT}dA, by
-    # direct quadrature of the potential map (numerical integration, no source needed); the cells' sample
-    # points resolve e^{−V/kT} at this temperature to about 1 %.
+    # direct quadrature of the potential map (numerical integration, no source needed) on an 801² grid, which
+    # limits the agreement to a few 1e-3 (the cells' own quadrature is converged).
     iso = compute_isotherm(NITROGEN, n_points=40)
     en = isotherm_energies(iso, "adsorption")
     m = potential_map(pore=NITROGEN.pore(), pair=NITROGEN.pair(), n=801)
     v = m.values[np.isfinite(m.values)]
     b = np.exp(-(v - v.min()) / 77.35)
-    assert en.wall_k[0] == pytest.approx(float((v * b).sum() / b.sum()), rel=2e-2)
+    assert en.wall_k[0] == pytest.approx(float((v * b).sum() / b.sum()), rel=5e-3)
     assert en.kinetic_k[0] == pytest.approx(1.5 * 77.35, rel=1e-12)     # equipartition, three free directions
 
 
