@@ -1,0 +1,298 @@
+"""Sweeps over pore size, wall thickness and temperature, and the targets a pore size is chosen for.
+
+A `SweepSpec` is a base `Scenario` and the values to vary; `SweepSpec.scenarios` lists the frozen
+scenarios of its grid (temperature slowest, then wall, size fastest). `sweep_point` computes one of them
+into a plain dict (picklable, JSON-ready): its steps, what fills at each step and the occupancy profile
+that `meets` reads a `Target` from. Running a whole grid in parallel is the explorer's job
+(`explorer.sweep_runner`); nothing here prints, reads files or knows about workers.
+
+Site groups (from the orbit labels of `physics.stages.ThermalStage.orbit_labels`, the same words a
+`Step.filling` uses):
+
+- **centre**: the central channel (label "centre");
+- **next ring**: the ring of sites next out from it: the innermost "ring k" (largest k), or, in a pore
+  with no inner rings, the wall-contact layer;
+- **first layer**: every wall-contact site ("corner", "face", or "wall" for the cylinder and the slit);
+- **pore**: every kept site.
+
+A group counts as *filled* at a pressure when its sites' equilibrium occupancy is at least the target's
+threshold (the centre: its mean, `Isotherm.central_channel_occupancy`; the first layer and the pore: every
+orbit of sites), and *empty* when every orbit of it is below the threshold.
+"""
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+from typing import Callable
+
+import numpy as np
+
+from .scenario import Scenario
+
+__all__ = ["SweepSpec", "parse_range", "sweep_point", "fill_class", "step_fill_class", "occupancy_profile",
+           "Target", "TARGET_KINDS", "meets", "holding_intervals", "wall_from_d100", "FILL_CLASSES",
+           "MAX_SWEEP_PORES"]
+
+MAX_SWEEP_PORES = 5000         # pores in one sweep: a few hours on a laptop with the classical model
+FILL_CLASSES = ("corner", "face", "ring", "centre")
+_NUMBER = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"
+
+
+def parse_range(text: str, *, name: str = "range") -> tuple[float, ...]:
+    """Values from ``"start:stop:count"`` (inclusive at both ends, like `numpy.linspace`), a single
+    number (``"8"``) or a comma list (``"8,10,12.5"``).
+
+    Raises ValueError naming ``name`` and the text when it is none of these, when a number is not finite,
+    or when the count is not a whole number of at least 2.
+    """
+    if not isinstance(text, str) or not text.strip():
+        raise ValueError(f"{name}: give start:stop:count (e.g. 10:50:40), one number or a comma list; got {text!r}")
+    s = text.strip()
+    if ":" in s:
+        parts = s.split(":")
+        if len(parts) != 3:
+            raise ValueError(f"{name} {text!r}: give start:stop:count, three numbers separated by ':' "
+                             "(e.g. 10:50:40)")
+        start, stop = (_number(p, name, text) for p in parts[:2])
+        count_text = parts[2].strip()
+        if not re.fullmatch(r"\d+", count_text):
+            raise ValueError(f"{name} {text!r}: the count {count_text!r} must be a whole number of at least 2")
+        count = int(count_text)
+        if count < 2:
+            raise ValueError(f"{name} {text!r}: the count must be at least 2 (for one value give just the number)")
+        if count > MAX_SWEEP_PORES:
+            raise ValueError(f"{name} {text!r}: the count {count} is above the limit of {MAX_SWEEP_PORES}")
+        if start == stop:
+            raise ValueError(f"{name} {text!r}: start and stop are equal (for one value give just the number)")
+        return tuple(float(v) for v in np.linspace(start, stop, count))
+    return tuple(_number(p, name, text) for p in s.split(","))
+
+
+def _number(part: str, name: str, text: str) -> float:
+    p = part.strip()
+    if not re.fullmatch(_NUMBER, p):
+        raise ValueError(f"{name} {text!r}: {p!r} is not a number")
+    v = float(p)
+    if not math.isfinite(v):
+        raise ValueError(f"{name} {text!r}: {p!r} is not finite")
+    return v
+
+
+def wall_from_d100(side_angstrom, d100_angstrom: float):
+    """Wall thickness (Å) of a hexagonal array of side ``side_angstrom`` whose X-ray (100) spacing is
+    ``d100_angstrom``: w = a0 − √3·t with a0 = 2·d100/√3 (p6mm lattice; `HexagonPore.lattice_spacing_angstrom`
+    is a0 = √3·t + w). Negative where the pores would overlap."""
+    a0 = 2.0 * d100_angstrom / math.sqrt(3.0)
+    return a0 - math.sqrt(3.0) * np.asarray(side_angstrom, float)
+
+
+def _values(name: str, values) -> tuple:
+    if values is None:
+        return ()
+    if isinstance(values, (str, bytes)) or not hasattr(values, "__iter__"):
+        values = (values,)
+    out = []
+    for v in values:
+        if v is None and name == "walls_angstrom":
+            out.append(None)          # an isolated pore
+            continue
+        if isinstance(v, bool) or not isinstance(v, (int, float, np.integer, np.floating)) or not math.isfinite(v):
+            raise ValueError(f"{name} must hold finite numbers; got {v!r}")
+        out.append(float(v))
+    return tuple(out)
+
+
+@dataclass(frozen=True)
+class SweepSpec:
+    """A grid of scenarios: ``base`` with each of ``sizes_angstrom`` (Å), ``walls_angstrom`` (Å; None for an
+    isolated pore) and ``temperatures_k`` (K). An empty tuple keeps the base's value. ``n_points``: chemical
+    potentials along each isotherm."""
+
+    base: Scenario
+    sizes_angstrom: tuple = ()
+    walls_angstrom: tuple = ()
+    temperatures_k: tuple = ()
+    n_points: int = 300
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.base, Scenario):
+            raise ValueError(f"base must be a Scenario; got {type(self.base).__name__}")
+        for name in ("sizes_angstrom", "walls_angstrom", "temperatures_k"):
+            object.__setattr__(self, name, _values(name, getattr(self, name)))
+        from .limits import check_points
+        object.__setattr__(self, "n_points", check_points(self.n_points))
+        if self.size > MAX_SWEEP_PORES:
+            raise ValueError(f"a sweep of {self.size} pores is above the limit of {MAX_SWEEP_PORES}")
+        self.scenarios()                # every value within the limits, or a ValueError naming it
+
+    @property
+    def axes(self) -> tuple[tuple, tuple, tuple]:
+        """(temperatures, walls, sizes) actually swept, each at least the base's one value."""
+        b = self.base
+        return (self.temperatures_k or (b.temperature_k,), self.walls_angstrom or (b.wall_angstrom,),
+                self.sizes_angstrom or (b.size_angstrom,))
+
+    @property
+    def size(self) -> int:
+        t, w, s = self.axes
+        return len(t) * len(w) * len(s)
+
+    def scenarios(self) -> tuple[Scenario, ...]:
+        """The grid's scenarios, temperature slowest, then wall, size fastest (each validated: a value
+        outside the limits raises ValueError naming it)."""
+        temps, walls, sizes = self.axes
+        return tuple(self.base.replace(temperature_k=t, wall_angstrom=w, size_angstrom=s)
+                     for t in temps for w in walls for s in sizes)
+
+
+# what fills -----------------------------------------------------------------------------------------
+def fill_class(label: str) -> str:
+    """The class of a site label: 'corner', 'face' (a polygon's face, or the wall of a cylinder or slit),
+    'ring' (any inner ring) or 'centre'."""
+    if label in ("face", "wall"):
+        return "face"
+    if label.startswith("ring"):
+        return "ring"
+    if label in ("corner", "centre"):
+        return label
+    raise ValueError(f"unknown site label {label!r}")
+
+
+def step_fill_class(step) -> str:
+    """The class holding most of the sites a step fills ('spread' when it names none)."""
+    counts: dict[str, float] = {}
+    for label, n in step.filling:
+        c = fill_class(label)
+        counts[c] = counts.get(c, 0.0) + float(n)
+    return max(counts, key=counts.get) if counts else "spread"
+
+
+def _ring_number(label: str) -> int | None:
+    m = re.fullmatch(r"ring (\d+)", label)
+    return int(m.group(1)) if m else None
+
+
+def occupancy_profile(iso) -> dict[str, np.ndarray]:
+    """Along the isotherm's μ grid (equilibrium branch): ``pressure_pa`` (Pa) and the occupancies of the
+    site groups of this module's docstring: ``centre`` (mean), ``next_ring`` (highest orbit), ``first_layer``
+    and ``pore`` (lowest orbit)."""
+    labels = iso.stage.orbit_labels()
+    occ = iso.equilibrium_occupancy()
+    rings = [_ring_number(lab) for lab in labels]
+    wall_layer = [i for i, lab in enumerate(labels) if lab in ("corner", "face", "wall")]
+    inner = [r for r in rings if r is not None]
+    nxt = [i for i, r in enumerate(rings) if r == max(inner)] if inner else wall_layer
+    m = iso.mu.size
+
+    def lowest(idx):
+        return occ[:, idx].min(axis=1) if idx else np.full(m, np.nan)
+
+    has_centre = "centre" in labels
+    return {
+        "pressure_pa": np.asarray(iso.pressure_pa, float),
+        "centre": iso.central_channel_occupancy() if has_centre else np.zeros(m),
+        "next_ring": occ[:, nxt].max(axis=1) if nxt else np.zeros(m),
+        "first_layer": lowest(wall_layer),
+        "pore": occ.min(axis=1),
+    }
+
+
+def _plain(values) -> list:
+    return [float(v) if math.isfinite(v) else None for v in np.asarray(values, float)]
+
+
+def sweep_point(scenario: Scenario, n_points: int = 300, *,
+                step_dict: Callable | None = None) -> dict:
+    """One pore of a sweep, computed (`physics.adsorption.compute_isotherm`) into plain types.
+
+    Keys: ``size_angstrom``, ``wall_angstrom``, ``temperature_k``, ``site_model`` (the one used),
+    ``n_points``, ``saturation_pressure_pa``, ``steps`` (``step_dict(isotherm, step)`` of each step; by
+    default `Step.to_dict`), ``step_fills`` (`step_fill_class` of each step, in the same order) and
+    ``profile`` (`occupancy_profile` as lists; None for NaN).
+    """
+    from .adsorption import compute_isotherm
+
+    iso = compute_isotherm(scenario, n_points=n_points)
+    to_dict = step_dict or (lambda _iso, step: step.to_dict())
+    return {
+        "size_angstrom": scenario.size_angstrom,
+        "wall_angstrom": scenario.effective_wall_angstrom,
+        "temperature_k": scenario.temperature_k,
+        "site_model": scenario.site_model_used,
+        "n_points": n_points,
+        "saturation_pressure_pa": float(iso.stage.saturation_pressure_pa),
+        "steps": [to_dict(iso, s) for s in iso.steps],
+        "step_fills": [step_fill_class(s) for s in iso.steps],
+        "profile": {k: _plain(v) for k, v in occupancy_profile(iso).items()},
+    }
+
+
+# targets --------------------------------------------------------------------------------------------
+TARGET_KINDS = {
+    "single-channel": "central channel occupied, next ring empty",
+    "first-layer": "complete first layer (every wall-contact site filled)",
+    "full-pore": "pore filled (every site)",
+}
+
+
+@dataclass(frozen=True)
+class Target:
+    """What an experiment wants of a pore, somewhere in the pressure window [``low_pa``, ``high_pa``] (Pa).
+
+    ``kind`` is one of `TARGET_KINDS`: "single-channel" (the centre filled while the next ring is empty),
+    "first-layer" (every wall-contact site filled; "below p" is ``high_pa`` = p) or "full-pore" (every
+    site filled). ``threshold``: the occupancy that counts as filled (module docstring).
+    """
+
+    kind: str
+    low_pa: float = 0.0
+    high_pa: float = math.inf
+    threshold: float = 0.5
+
+    def __post_init__(self) -> None:
+        if self.kind not in TARGET_KINDS:
+            raise ValueError(f"target kind must be one of {', '.join(TARGET_KINDS)}; got {self.kind!r}")
+        from .limits import check_number
+        lo = check_number("target low pressure (low_pa)", self.low_pa, low=0.0, unit="Pa")
+        if isinstance(self.high_pa, bool) or not isinstance(self.high_pa, (int, float)) or math.isnan(self.high_pa):
+            raise ValueError(f"target high pressure (high_pa) must be a number in Pa; got {self.high_pa!r}")
+        if not self.high_pa > lo:
+            raise ValueError(f"target pressure window must have low < high; got {self.low_pa!r} – {self.high_pa!r} Pa")
+        check_number("target threshold", self.threshold, low=0.0, high=1.0, low_open=True)
+
+    @property
+    def description(self) -> str:
+        return TARGET_KINDS[self.kind]
+
+    def holds(self, profile: dict) -> np.ndarray:
+        """(M,) whether the configuration holds at each grid point of an `occupancy_profile` (any pressure)."""
+        g = {k: np.array([np.nan if v is None else v for v in profile[k]], float) for k in profile}
+        t = self.threshold
+        with np.errstate(invalid="ignore"):
+            if self.kind == "single-channel":
+                return (g["centre"] >= t) & (g["next_ring"] < t)
+            return g["first_layer" if self.kind == "first-layer" else "pore"] >= t
+
+
+def _profile_of(result) -> dict:
+    return result["profile"] if isinstance(result, dict) else occupancy_profile(result)
+
+
+def holding_intervals(target: Target, result) -> list[tuple[float, float]]:
+    """Every run of grid pressures (Pa, lowest and highest of the run) inside the target's window at which
+    its configuration holds. ``result``: an `Isotherm` or a `sweep_point` dict (without an ``error``).
+    The ends are grid points of the isotherm's μ grid, so they are as fine as its ``n_points``."""
+    profile = _profile_of(result)
+    p = np.array([np.nan if v is None else v for v in profile["pressure_pa"]], float)
+    ok = target.holds(profile) & (p >= target.low_pa) & (p <= target.high_pa)
+    edges = np.diff(np.concatenate([[0], ok.astype(np.int8), [0]]))
+    starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1) - 1
+    return [(float(p[a]), float(p[b])) for a, b in zip(starts, ends)]
+
+
+def meets(target: Target, result) -> tuple[bool, tuple[float, float] | None]:
+    """Whether a pore meets ``target``, and the lowest run of pressures (Pa) where it does
+    (`holding_intervals`; None when it does not)."""
+    runs = holding_intervals(target, result)
+    return (True, runs[0]) if runs else (False, None)
