@@ -13,7 +13,7 @@ import numpy as np
 from physics.adsorption import Isotherm
 from physics.units import particle_word
 
-__all__ = ["isotherm_json", "isotherm_csv", "isotherm_summary", "model_description", "amount_labels",
+__all__ = ["isotherm_json", "step_json", "isotherm_csv", "isotherm_summary", "model_description", "amount_labels",
            "branch_columns"]
 
 
@@ -87,7 +87,7 @@ def isotherm_json(iso: Isotherm) -> dict:
         "desorption": _branch(iso, "desorption"),
         "equilibrium": _branch(iso, "equilibrium"),
         "sites": _sites(iso),
-        "steps": [_step(iso, s) for s in iso.steps],
+        "steps": [step_json(iso, s) for s in iso.steps],
     }
 
 
@@ -98,7 +98,7 @@ def _sites(iso: Isotherm) -> dict:
             "free_energy_k": _finite(iso.stage.site_free_energy)}
 
 
-def _step(iso: Isotherm, step) -> dict:
+def step_json(iso: Isotherm, step) -> dict:
     """A step, with the linear density along every site's channel just after it (equilibrium)."""
     d = step.to_dict()
     k = int(min(np.searchsorted(iso.mu, step.mu_k) + 1, iso.mu.size - 1))
