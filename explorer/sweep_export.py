@@ -72,7 +72,7 @@ def sweep_csv(result: SweepResult) -> str:
         steps = p.get("steps") or []
         if not steps:
             w.writerow(head + [""] * (len(CSV_COLUMNS) - len(head) - 1) + [p.get("error", "")])
-        for i, (s, fills) in enumerate(zip(steps, p["step_fills"]), 1):
+        for i, (s, fills) in enumerate(zip(steps, p.get("step_fills", ())), 1):
             where = "; ".join(f"{f['where']} ({f['sites']:g})" for f in s["filling"])
             w.writerow(head + [str(i), s["kind"], fills, where, _g(s["mu_k"]), _g(s["pressure_pa"]),
                                _g(s["relative_pressure"]), _g(s["added_per_nm"]),
