@@ -41,7 +41,7 @@ def sweep_json(result: SweepResult, *, target: Target | None = None) -> dict:
         "units": {"size": "angstrom", "wall": "angstrom", "temperature": "K", "pressure": "Pa", "mu": "K",
                   "coverage": "per nm of pore length (slit: per nm²)"},
         "sweep": {"base": result.spec.base.to_dict(), "sizes_angstrom": list(sizes), "walls_angstrom": list(walls),
-                  "temperatures_k": list(temps), "n_points": spec.n_points,
+                  "temperatures_k": list(temps), "n_points": spec.n_points, "d100_angstrom": spec.d100_angstrom,
                   "order": "temperature slowest, then wall, size fastest"},
         "pores": [_pore(p, target) for p in result.done],
         "complete": result.complete,

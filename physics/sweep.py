@@ -107,21 +107,32 @@ def _values(name: str, values) -> tuple:
 class SweepSpec:
     """A grid of scenarios: ``base`` with each of ``sizes_angstrom`` (Å), ``walls_angstrom`` (Å; None for an
     isolated pore) and ``temperatures_k`` (K). An empty tuple keeps the base's value. ``n_points``: chemical
-    potentials along each isotherm."""
+    potentials along each isotherm.
+
+    ``d100_angstrom`` (hexagonal arrays only, no ``walls_angstrom``): the X-ray (100) spacing of the array
+    is known, so each size has its own wall, `wall_from_d100`; a size whose wall would fall outside the
+    limits raises ValueError naming it.
+    """
 
     base: Scenario
     sizes_angstrom: tuple = ()
     walls_angstrom: tuple = ()
     temperatures_k: tuple = ()
     n_points: int = 300
+    d100_angstrom: float | None = None
 
     def __post_init__(self) -> None:
         if not isinstance(self.base, Scenario):
             raise ValueError(f"base must be a Scenario; got {type(self.base).__name__}")
         for name in ("sizes_angstrom", "walls_angstrom", "temperatures_k"):
             object.__setattr__(self, name, _values(name, getattr(self, name)))
-        from .limits import check_points
+        from .limits import check_number, check_points
         object.__setattr__(self, "n_points", check_points(self.n_points))
+        if self.d100_angstrom is not None:
+            check_number("X-ray spacing (d100_angstrom)", self.d100_angstrom, low=0.0, low_open=True, unit="Å")
+            if self.base.shape != "hexagon" or self.walls_angstrom:
+                raise ValueError("a d100 spacing ties the wall to the side length of a hexagonal array: "
+                                 "give it for the hexagon, without walls")
         if self.size > MAX_SWEEP_PORES:
             raise ValueError(f"a sweep of {self.size} pores is above the limit of {MAX_SWEEP_PORES}")
         self.scenarios()                # every value within the limits, or a ValueError naming it
@@ -136,14 +147,24 @@ class SweepSpec:
     @property
     def size(self) -> int:
         t, w, s = self.axes
-        return len(t) * len(w) * len(s)
+        return len(t) * (1 if self.d100_angstrom is not None else len(w)) * len(s)
 
     def scenarios(self) -> tuple[Scenario, ...]:
         """The grid's scenarios, temperature slowest, then wall, size fastest (each validated: a value
         outside the limits raises ValueError naming it)."""
         temps, walls, sizes = self.axes
+        if self.d100_angstrom is not None:
+            return tuple(self._tied(t, s) for t in temps for s in sizes)
         return tuple(self.base.replace(temperature_k=t, wall_angstrom=w, size_angstrom=s)
                      for t in temps for w in walls for s in sizes)
+
+    def _tied(self, temperature_k: float, size: float) -> Scenario:
+        wall = float(wall_from_d100(size, self.d100_angstrom))
+        try:
+            return self.base.replace(temperature_k=temperature_k, wall_angstrom=wall, size_angstrom=size)
+        except ValueError as exc:
+            raise ValueError(f"side {size:g} Å with d100 = {self.d100_angstrom:g} Å leaves a wall of {wall:.3g} Å: "
+                             f"{exc}") from None
 
 
 # what fills -----------------------------------------------------------------------------------------

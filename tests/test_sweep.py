@@ -354,3 +354,15 @@ def test_sweep_on_a_local_dask_cluster_equals_the_local_one(capsys):
     assert main(ARGS + ["--json", "--quiet"]) == 0
     local = json.loads(capsys.readouterr().out)
     assert remote["pores"] == local["pores"]
+
+
+def test_d100_ties_each_wall_to_its_side():
+    d100 = 40.0
+    spec = SweepSpec(BASE, sizes_angstrom=(10.0, 15.0), d100_angstrom=d100)
+    for sc in spec.scenarios():
+        a0 = sc.pore().lattice_spacing_angstrom
+        assert a0 * math.sqrt(3.0) / 2.0 == pytest.approx(d100, rel=1e-12)   # d100 = a0·√3/2, as above
+    with pytest.raises(ValueError, match="side 30 Å with d100 = 40 Å"):
+        SweepSpec(BASE, sizes_angstrom=(30.0,), d100_angstrom=d100)          # the pores would overlap
+    with pytest.raises(ValueError, match="without walls"):
+        SweepSpec(BASE, walls_angstrom=(8.0,), d100_angstrom=d100)
