@@ -15,6 +15,7 @@ from .views.isotherm import IsothermView
 from .views.potential import PotentialView
 from .views.measured import MeasuredView
 from .views.quantum import QuantumView
+from .views.sizing import SizingView
 
 __all__ = ["create_app"]
 
@@ -88,7 +89,8 @@ def create_app(scenario: Scenario | None = None) -> pn.viewable.Viewable:
     quantum_page = pn.Column(quantum, name="Quantum states", sizing_mode="stretch_width")
     measured_side = pn.Column(pn.pane.HTML("<h3>Pore and gas</h3>"), controls(state), width=CONTROLS_WIDTH)
     measured_page = pn.Row(measured_side, measured, sizing_mode="stretch_width", name="Measured data")
-    tabs = pn.Tabs(pore_page, quantum_page, measured_page, about, dynamic=False)
+    sizing_page = pn.Column(SizingView(state=state), name="Sizing", sizing_mode="stretch_width")
+    tabs = pn.Tabs(pore_page, quantum_page, measured_page, sizing_page, about, dynamic=False)
     # opening the quantum tab computes what it shows for the current inputs (the light gases only)
     tabs.param.watch(lambda event: quantum.refresh() if event.new == 1 else None, "active")
     return pn.Column(header(scenario.title), tabs, sizing_mode="stretch_width")

@@ -175,18 +175,24 @@ class SweepRunner:
         self._executor = executor
         self._own_pool: Executor | None = None
         self._client = None
+        self._lock = threading.Lock()
 
     # backends -------------------------------------------------------------------------------------
     def _pool(self) -> Executor:
         if self._executor is not None:
             return self._executor
-        if self._own_pool is None:
-            self._own_pool = ProcessPoolExecutor(self.workers, mp_context=multiprocessing.get_context("spawn"),
-                                                 initializer=_init_worker)
-        return self._own_pool
+        with self._lock:               # one runner may serve several dashboard sessions at once
+            if self._own_pool is None:
+                self._own_pool = ProcessPoolExecutor(self.workers, mp_context=multiprocessing.get_context("spawn"),
+                                                     initializer=_init_worker)
+            return self._own_pool
 
     def client(self):
         """The Dask client of ``cluster`` (connected on first use); ClusterError if it cannot be reached."""
+        with self._lock:
+            return self._connect()
+
+    def _connect(self):
         if self._client is None:
             try:
                 from distributed import Client

@@ -1,0 +1,308 @@
+"""Sizing map: the pressure of every layer step against side length (or temperature, or along the line an
+X-ray d100 spacing ties wall to side), coloured by what fills, the apparatus's pressure window shaded,
+and the pores that meet a stated target marked, in the plot and in a list beside it.
+
+Sweeps run off the event loop (`explorer.sweep_runner.SweepRunner`: worker processes shared by every
+session, or a Dask scheduler whose address is typed in), with a progress bar and a Stop button; results
+are cached per pore (`SWEEP_CACHE`), so going back to sizes already computed is instant. The HoloViews
+plots are made with the first result, when this tab is on show: Bokeh figures laid into a hidden tab
+before they were ever shown stall the painting of every other plot on the page.
+"""
+from __future__ import annotations
+
+import html
+import math
+import threading
+from functools import partial
+
+import numpy as np
+import panel as pn
+import param
+from panel.io.state import set_curdoc
+
+from physics.sweep import TARGET_KINDS, SweepSpec, Target, meets, parse_range, wall_from_d100
+
+from ..compute import short_error
+from ..state import ExplorerState, describe
+from ..sweep_runner import SWEEP_CACHE, ClusterError, SweepRunner
+
+__all__ = ["SizingView", "FILL_COLOURS"]
+
+FILL_COLOURS = {"corner": "#d1495b", "face": "#1b6ca8", "ring": "#2e8540", "centre": "#e08a00", "spread": "#777777"}
+MODES = {"side length": "size", "temperature (fixed side)": "temperature", "side length at a known d100": "d100"}
+_NO_TARGET = "(no target)"
+_WIDTH = 620
+
+_runners: dict[str, SweepRunner] = {}
+_runners_lock = threading.Lock()
+
+
+def _runner(address: str) -> SweepRunner:
+    """One runner per place (this machine, or a scheduler address), shared by every session."""
+    with _runners_lock:
+        r = _runners.get(address)
+        if r is None:
+            r = _runners[address] = SweepRunner(cluster=address or None, cache=SWEEP_CACHE)
+        return r
+
+
+def _on_session(doc, callback) -> None:
+    def run():
+        with set_curdoc(doc):
+            callback()
+    try:
+        doc.add_next_tick_callback(run)
+    except Exception:          # noqa: BLE001 - the session closed meanwhile
+        pass
+
+
+def step_rows(result, x_key: str) -> dict[str, list]:
+    """Columns for the plot: x (size or temperature), step pressure, what fills, the wall, the kind."""
+    rows = {"x": [], "p": [], "fills": [], "wall": [], "kind": []}
+    for pt in result.done:
+        for s, fills in zip(pt.get("steps", ()), pt.get("step_fills", ())):
+            rows["x"].append(pt[x_key])
+            rows["p"].append(s["pressure_pa"])
+            rows["fills"].append(fills)
+            rows["wall"].append(np.nan if pt["wall_angstrom"] is None else pt["wall_angstrom"])
+            rows["kind"].append(s["kind"])
+    return rows
+
+
+class SizingView(pn.viewable.Viewer):
+    """Step pressures across a sweep, the pressure window, a target and the pores meeting it."""
+
+    state = param.ClassSelector(class_=ExplorerState)
+
+    def __init__(self, **params):
+        super().__init__(**params)
+        st = self.state
+        wall = "8" if st.isolated else f"{st.wall_angstrom:g}"
+        t = st.temperature_k
+        self.mode = pn.widgets.RadioButtonGroup(name="Across", options=list(MODES), value="side length")
+        self.sizes = pn.widgets.TextInput(name="Side lengths (Å): start:stop:count, or a list",
+                                          value="10:30:11", width=290)
+        self.walls = pn.widgets.TextInput(name="Walls (Å): one, a list or start:stop:count", value=wall, width=290)
+        self.temps = pn.widgets.TextInput(name="Temperatures (K): start:stop:count",
+                                          value=f"{max(t - 0.25, 0.3):.2f}:{t + 0.25:.2f}:6", width=290)
+        self.d100 = pn.widgets.FloatInput(name="X-ray d100 spacing (Å)", value=40.0, start=1.0, step=0.5, width=290)
+        self.model = pn.widgets.Select(name="Site model", options=["as the scenario", "classical", "quantum"],
+                                       value="as the scenario", width=290)
+        self.points = pn.widgets.IntInput(name="Points per isotherm", value=300, start=20, end=2000, step=50, width=290)
+        self.low = pn.widgets.FloatInput(name="Apparatus: lowest pressure (Pa)", value=1e-3, start=0.0, width=290,
+                                         css_classes=["porefill-sizing-low"])
+        self.high = pn.widgets.FloatInput(name="Apparatus: highest pressure (Pa)", value=1e3, start=0.0, width=290,
+                                          css_classes=["porefill-sizing-high"])
+        self.target = pn.widgets.Select(name="Target", options=[_NO_TARGET] + list(TARGET_KINDS.values()),
+                                        value=_NO_TARGET, width=290, css_classes=["porefill-sizing-target"])
+        self.scheduler = pn.widgets.TextInput(name="Dask scheduler (empty: this machine)",
+                                              placeholder="tcp://host:8786", width=290)
+        self.compute_button = pn.widgets.Button(name="Compute the sweep", button_type="primary", width=140,
+                                                css_classes=["porefill-sizing-compute"])
+        self.stop_button = pn.widgets.Button(name="Stop", button_type="warning", width=140, disabled=True,
+                                             css_classes=["porefill-sizing-stop"])
+        self.progress = pn.indicators.Progress(value=0, max=1, width=290, bar_color="primary", visible=False)
+        self.status = pn.pane.HTML("<p>Choose the sizes and press Compute.</p>", css_classes=["porefill-sizing-status"],
+                                   width=_WIDTH, styles={"font-size": "13px"})
+        self.meets_list = pn.pane.HTML("", css_classes=["porefill-sizing-meets"], width=300)
+        self._plot = None
+        self._body = pn.Column(css_classes=["porefill-sizing-body"], min_height=40)
+        self._result = None
+        self._mode_shown = "size"
+        self._stop: threading.Event | None = None
+        self.compute_button.on_click(self.compute)
+        self.stop_button.on_click(self.stop)
+        for w in (self.low, self.high, self.target):
+            w.param.watch(self._redraw, "value")
+        self.mode.param.watch(self._fit_inputs, "value")
+        self._fit_inputs()
+
+    # inputs ---------------------------------------------------------------------------------------
+    def _fit_inputs(self, *_):
+        mode = MODES[self.mode.value]
+        self.sizes.visible = mode in ("size", "d100")
+        self.walls.visible = mode == "size"
+        self.temps.visible = mode == "temperature"
+        self.d100.visible = mode == "d100"
+
+    def target_object(self) -> Target | None:
+        """The chosen target in the apparatus's window (None: no target, or a window that is not one)."""
+        if self.target.value == _NO_TARGET:
+            return None
+        kind = next(k for k, v in TARGET_KINDS.items() if v == self.target.value)
+        try:
+            return Target(kind, low_pa=float(self.low.value or 0.0), high_pa=float(self.high.value or math.inf))
+        except ValueError:
+            return None
+
+    def spec(self) -> SweepSpec:
+        """The sweep the inputs describe; ValueError naming the input that is wrong."""
+        base = self.state.scenario()
+        if self.model.value != "as the scenario":
+            base = base.replace(site_model=self.model.value)
+        mode = MODES[self.mode.value]
+        if mode == "temperature":
+            return SweepSpec(base, temperatures_k=parse_range(self.temps.value, name="temperatures"),
+                             n_points=self.points.value)
+        sizes = parse_range(self.sizes.value, name="side lengths")
+        if mode == "d100":
+            return SweepSpec(base.replace(wall_angstrom=8.0), sizes_angstrom=sizes, d100_angstrom=self.d100.value,
+                             n_points=self.points.value)
+        walls = () if base.wall_angstrom is None else parse_range(self.walls.value, name="walls")
+        return SweepSpec(base, sizes_angstrom=sizes, walls_angstrom=walls, n_points=self.points.value)
+
+    # running --------------------------------------------------------------------------------------
+    def compute(self, *_) -> None:
+        """Run the sweep the inputs describe (in a thread when served; at once otherwise)."""
+        try:
+            spec = self.spec()
+        except ValueError as exc:
+            self.status.object = f"<p style='color:#8a4b00'><b>Cannot sweep:</b> {html.escape(str(exc))}</p>"
+            return
+        runner = _runner(self.scheduler.value.strip())
+        mode = MODES[self.mode.value]
+        stop = self._stop = threading.Event()
+        doc = pn.state.curdoc
+        if doc is None or doc.session_context is None:           # tests, notebooks
+            try:
+                self._apply(mode, runner.run(spec, stop=stop))
+            except (ClusterError, ValueError) as exc:
+                self._fail(exc)
+            return
+        self.compute_button.disabled, self.stop_button.disabled = True, False
+        self.progress.max, self.progress.value, self.progress.visible = spec.size, 0, True
+        where = "this machine" if runner.cluster is None else html.escape(runner.cluster)
+        self.status.object = f"<p>Computing {spec.size} pores on {where} …</p>"
+
+        def progress(done, total):
+            _on_session(doc, partial(self._show_progress, done, total))
+
+        def work():
+            try:
+                result = runner.run(spec, progress=progress, stop=stop)
+            except Exception as exc:       # noqa: BLE001 - shown in the view; a ClusterError says why
+                _on_session(doc, partial(self._fail, exc))
+            else:
+                _on_session(doc, partial(self._apply, mode, result))
+
+        threading.Thread(target=work, name="porefill-sweep", daemon=True).start()
+
+    def stop(self, *_) -> None:
+        """Stop the running sweep: pores not started are cancelled, those done are shown."""
+        if self._stop is not None:
+            self._stop.set()
+            self.status.object = "<p>Stopping: the pores under way finish, the rest are cancelled …</p>"
+
+    def _show_progress(self, done: int, total: int) -> None:
+        self.progress.max, self.progress.value = max(total, 1), done
+
+    def _fail(self, exc: BaseException) -> None:
+        self.compute_button.disabled, self.stop_button.disabled = False, True
+        self.progress.visible = False
+        text = str(exc) if isinstance(exc, ClusterError) else short_error(exc)
+        self.status.object = f"<p style='color:#8a4b00'><b>The sweep failed:</b> {html.escape(text)}</p>"
+
+    def _apply(self, mode: str, result) -> None:
+        self._result, self._mode_shown = result, mode
+        self.compute_button.disabled, self.stop_button.disabled = False, True
+        self.progress.visible = False
+        errors = [p for p in result.done if "error" in p]
+        what = f"{len(result.done)} of {len(result.points)} pores" if result.stopped else f"{len(result.done)} pores"
+        notes = [f"Stopped: {what} computed." if result.stopped else f"{what} in {result.seconds:.1f} s"
+                 f" ({result.from_cache} from the cache; on {html.escape(result.where)})."]
+        if errors:
+            notes.append(f"{len(errors)} could not be computed: {html.escape(errors[0]['error'])}")
+        base = result.spec.base
+        where = describe(base, temperature=mode != "temperature")
+        if result.spec.d100_angstrom is not None:
+            where = where.replace(f"walls {base.wall_angstrom:g} Å", f"walls from d100 = {result.spec.d100_angstrom:g} Å")
+        notes.insert(0, f"For {html.escape(where)}; site model {html.escape(base.site_model_used)}.")
+        self.status.object = "<p>" + " ".join(notes) + "</p>"
+        self._redraw()
+
+    # drawing --------------------------------------------------------------------------------------
+    def _marks(self):
+        """(x, low Pa, high Pa) of every pore meeting the target, and the pores' x values."""
+        target, result = self.target_object(), self._result
+        if result is None or target is None:
+            return target, []
+        x_key = "temperature_k" if self._mode_shown == "temperature" else "size_angstrom"
+        out = []
+        for pt in result.done:
+            if "error" in pt:
+                continue
+            ok, rng = meets(target, pt)
+            if ok:
+                out.append((pt[x_key], pt["wall_angstrom"], rng[0], rng[1]))
+        return target, out
+
+    def _redraw(self, *_) -> None:
+        target, marks = self._marks()
+        self.meets_list.object = self._meets_html(target, marks)
+        if self._result is None:
+            return
+        if self._plot is None:
+            self._plot = pn.pane.HoloViews(None, css_classes=["porefill-sizing-plot"], backend="bokeh")
+            self._body.objects = [self._plot]
+        self._plot.object = self._figure(marks)
+
+    def _meets_html(self, target, marks) -> str:
+        if target is None:
+            if self.target.value != _NO_TARGET:
+                return "<p style='color:#8a4b00'>The pressure window needs lowest &lt; highest.</p>"
+            return "<p>Choose a target to mark the pores that meet it.</p>"
+        if self._result is None:
+            return f"<p>Target: {html.escape(target.description)}. Compute a sweep to see which pores meet it.</p>"
+        x_name = "Temperature (K)" if self._mode_shown == "temperature" else "Side (Å)"
+        head = (f"<p><b>{html.escape(target.description)}</b>, between {target.low_pa:.3g} and "
+                f"{target.high_pa:.3g} Pa: {len(marks)} of {len(self._result.done)} pores.</p>")
+        if not marks:
+            return head + "<p>No pore of this sweep meets it.</p>"
+        rows = "".join(f"<tr><td>{x:.4g}</td><td>{'—' if w is None else f'{w:.3g}'}</td><td>{lo:.3g} – {hi:.3g}</td></tr>"
+                       for x, w, lo, hi in marks)
+        return (head + f"<table><thead><tr><th>{x_name}</th><th>Wall (Å)</th><th>where it holds (Pa)</th></tr>"
+                f"</thead><tbody>{rows}</tbody></table>")
+
+    def _figure(self, marks):
+        import holoviews as hv
+        import holoviews.plotting.bokeh  # noqa: F401 - registers the Bokeh backend without a notebook
+
+        mode = self._mode_shown
+        x_key = "temperature_k" if mode == "temperature" else "size_angstrom"
+        x_label = "temperature (K)" if mode == "temperature" else "side length (Å)"
+        rows = step_rows(self._result, x_key)
+        p = np.array(rows["p"], float)
+        low, high = float(self.low.value or 0.0), float(self.high.value or 0.0)
+        positive = p[p > 0]
+        y0 = min([positive.min() if positive.size else 1e-6] + ([low] if low > 0 else [])) / 3
+        y1 = max([positive.max() if positive.size else 1.0] + ([high] if high > 0 else [])) * 3
+        layers = [hv.HSpan(max(low, y0), min(high, y1) if high > 0 else y1).opts(color="#999999", alpha=0.18)]
+        if marks:
+            seg = hv.Segments([(x, lo, x, hi) for x, _, lo, hi in marks], kdims=["x", "p", "x1", "p1"])
+            layers.append(seg.opts(color="black", alpha=0.35, line_width=7))
+        for fills, colour in FILL_COLOURS.items():
+            sel = [i for i, f in enumerate(rows["fills"]) if f == fills]
+            data = {k: [v[i] for i in sel] for k, v in rows.items()}
+            pts = hv.Scatter(data, kdims=["x"], vdims=["p", "fills", "wall", "kind"], label=fills)
+            layers.append(pts.opts(color=colour, size=7, tools=["hover"]))
+        fig = hv.Overlay(layers).opts(
+            logy=True, width=_WIDTH, height=380, xlabel=x_label, ylabel="step pressure p (Pa)", ylim=(y0, y1),
+            legend_position="top_left", title="Layer steps; grey band: the apparatus's window; black bars: target met",
+            toolbar="above")
+        if mode != "d100":
+            return fig
+        sizes = np.array(sorted({pt["size_angstrom"] for pt in self._result.done}), float)
+        line = hv.Curve((sizes, wall_from_d100(sizes, self._result.spec.d100_angstrom)), "side length (Å)",
+                        "wall (Å)").opts(color="#444444")
+        met = hv.Scatter([(x, w) for x, w, _, _ in marks], "side length (Å)", "wall (Å)").opts(
+            color="black", size=9, marker="diamond")
+        tied = (line * met).opts(width=_WIDTH, height=220, title=f"Wall tied to side by d100 = "
+                                 f"{self._result.spec.d100_angstrom:g} Å; diamonds: target met")
+        return (fig + tied).cols(1)
+
+    def __panel__(self):
+        controls = pn.Column(self.mode, self.sizes, self.walls, self.temps, self.d100, self.model, self.points,
+                             self.low, self.high, self.target, self.scheduler,
+                             pn.Row(self.compute_button, self.stop_button), self.progress, width=310)
+        return pn.Row(controls, pn.Column(self.status, pn.Row(self._body, self.meets_list)),
+                      css_classes=["porefill-sizing"])
