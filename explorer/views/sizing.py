@@ -81,14 +81,15 @@ class SizingView(pn.viewable.Viewer):
         t = st.temperature_k
         self.mode = pn.widgets.RadioButtonGroup(name="Across", options=list(MODES), value="side length")
         self.sizes = pn.widgets.TextInput(name="Side lengths (Å): start:stop:count, or a list",
-                                          value="10:30:11", width=290)
+                                          value="10:30:11", width=290, css_classes=["porefill-sizing-sizes"])
         self.walls = pn.widgets.TextInput(name="Walls (Å): one, a list or start:stop:count", value=wall, width=290)
         self.temps = pn.widgets.TextInput(name="Temperatures (K): start:stop:count",
                                           value=f"{max(t - 0.25, 0.3):.2f}:{t + 0.25:.2f}:6", width=290)
         self.d100 = pn.widgets.FloatInput(name="X-ray d100 spacing (Å)", value=40.0, start=1.0, step=0.5, width=290)
         self.model = pn.widgets.Select(name="Site model", options=["as the scenario", "classical", "quantum"],
-                                       value="as the scenario", width=290)
-        self.points = pn.widgets.IntInput(name="Points per isotherm", value=300, start=20, end=2000, step=50, width=290)
+                                       value="as the scenario", width=290, css_classes=["porefill-sizing-model"])
+        self.points = pn.widgets.IntInput(name="Points per isotherm", value=300, start=20, end=2000, step=50, width=290,
+                                    css_classes=["porefill-sizing-points"])
         self.low = pn.widgets.FloatInput(name="Apparatus: lowest pressure (Pa)", value=1e-3, start=0.0, width=290,
                                          css_classes=["porefill-sizing-low"])
         self.high = pn.widgets.FloatInput(name="Apparatus: highest pressure (Pa)", value=1e3, start=0.0, width=290,
@@ -96,7 +97,8 @@ class SizingView(pn.viewable.Viewer):
         self.target = pn.widgets.Select(name="Target", options=[_NO_TARGET] + list(TARGET_KINDS.values()),
                                         value=_NO_TARGET, width=290, css_classes=["porefill-sizing-target"])
         self.scheduler = pn.widgets.TextInput(name="Dask scheduler (empty: this machine)",
-                                              placeholder="tcp://host:8786", width=290)
+                                              placeholder="tcp://host:8786", width=290,
+                                              css_classes=["porefill-sizing-scheduler"])
         self.compute_button = pn.widgets.Button(name="Compute the sweep", button_type="primary", width=140,
                                                 css_classes=["porefill-sizing-compute"])
         self.stop_button = pn.widgets.Button(name="Stop", button_type="warning", width=140, disabled=True,
@@ -116,6 +118,7 @@ class SizingView(pn.viewable.Viewer):
             w.param.watch(self._redraw, "value")
         self.mode.param.watch(self._fit_inputs, "value")
         self._fit_inputs()
+        self._redraw()
 
     # inputs ---------------------------------------------------------------------------------------
     def _fit_inputs(self, *_):

@@ -1,0 +1,91 @@
+"""The Sizing tab in headless Chromium: set a target, sweep, see the sizes that meet it listed and marked."""
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+import pytest
+
+
+ROOT = Path(__file__).resolve().parents[1]
+
+pytestmark = pytest.mark.browser
+
+MEETS = ".porefill-sizing-meets"
+POINTS = 60
+SIZES = (8.0, 10.0, 14.0)
+FULL = "pore filled (every site)"
+FIRST = "complete first layer (every wall-contact site filled)"
+
+
+def _expected(kind: str, low: float, high: float) -> list[float]:
+    """The sizes meeting the target, computed here through the physics (not through the page)."""
+    from explorer.scenario_file import load_scenario
+    from explorer.sweep_runner import point_job
+    from physics.sweep import Target, meets
+
+    base = load_scenario(ROOT / "scenarios" / "demo-hexagon-helium.toml").replace(site_model="classical",
+                                                                                  title="", notes="")
+    target = Target(kind, low_pa=low, high_pa=high)
+    return [s for s in SIZES if meets(target, point_job(base.replace(size_angstrom=s), POINTS))[0]]
+
+
+def _listed_sizes(page) -> list[float]:
+    """Side lengths in the table of the list beside the plot (first column)."""
+    return [float(v) for v in page.locator(f"{MEETS} tbody tr td:first-child").all_inner_texts()]
+
+
+def _text(page, selector: str) -> str:
+    """The paragraphs of an HTML pane (its text sits in a shadow root, which CSS locators pierce)."""
+    return " ".join(page.locator(f"{selector} p").all_inner_texts())
+
+
+def _wait_for(page, selector: str, pattern: str, timeout_ms: int = 60_000) -> str:
+    """Poll the paragraphs under ``selector`` until they match ``pattern``; return them."""
+    text = ""
+    for _ in range(timeout_ms // 100):
+        text = _text(page, selector)
+        if re.search(pattern, text):
+            return text
+        page.wait_for_timeout(100)
+    raise AssertionError(f"{selector} never matched {pattern!r}; it reads {text!r}")
+
+
+def _fill(page, css: str, value: str) -> None:
+    box = page.locator(f".{css} input").first
+    box.fill(value)
+    box.press("Enter")
+
+
+def test_a_target_marks_the_sizes_that_meet_it(page):
+    page.get_by_text("Sizing", exact=True).first.click()
+    page.locator(".porefill-sizing-compute button").first.wait_for(timeout=30_000)
+    _wait_for(page, MEETS, "Choose a target")
+
+    _fill(page, "porefill-sizing-sizes", ",".join(f"{s:g}" for s in SIZES))
+    _fill(page, "porefill-sizing-points", str(POINTS))
+    page.locator(".porefill-sizing-model select").first.select_option("classical")
+    _fill(page, "porefill-sizing-low", "0.001")
+    _fill(page, "porefill-sizing-high", "1")
+    page.locator(".porefill-sizing-target select").first.select_option(label=FULL)
+    _wait_for(page, MEETS, "Compute a sweep")
+
+    page.locator(".porefill-sizing-compute button").first.click()
+    text = _wait_for(page, MEETS, r"of 3 pores", timeout_ms=120_000)
+    want = _expected("full-pore", 1e-3, 1.0)
+    assert 0 < len(want) < len(SIZES), "the window splits the sizes (checked through the physics)"
+    assert f"{len(want)} of {len(SIZES)} pores" in text
+    assert _listed_sizes(page) == want
+    page.locator(".porefill-sizing-plot canvas").first.wait_for(timeout=30_000)
+    assert "3 pores" in _text(page, ".porefill-sizing-status")
+
+    # another target: the list follows at once, from the results already there
+    page.locator(".porefill-sizing-target select").first.select_option(label=FIRST)
+    _wait_for(page, MEETS, "complete first layer")
+    assert _listed_sizes(page) == _expected("first-layer", 1e-3, 1.0)
+
+    # the same sweep again comes from the cache
+    _fill(page, "porefill-sizing-sizes", "8,10")
+    page.locator(".porefill-sizing-compute button").first.click()
+    _wait_for(page, ".porefill-sizing-status", r"2 pores in [\d.]+ s \(2 from the cache")
+    assert page.console_errors == []
