@@ -11,7 +11,7 @@ union of pieces with straight sides in coordinates that follow the wall:
   band (the centre: 2π ∫ r e^{−V/kT} dr).
 - slit: the potential depends on y alone; a row's Z is ∫ e^{−V(y)/kT} dy over its band (per Å of x).
 
-Each piece is integrated by adaptive Gauss–Legendre quadrature (4 nodes per direction; a box is split in
+Each piece is integrated by adaptive Gauss–Legendre quadrature (6 nodes per direction; a box is split in
 2^dim children until the children agree with it) with one node set serving every temperature the gas
 allows: a box is accepted only when, at each of several temperatures spanning that range, the children
 change the integral by less than a relative ``tol_k/T`` of its piece, shared by area. The nodes, their
@@ -28,10 +28,10 @@ from .wall_potential import wall_potential
 
 __all__ = ["SiteCells", "site_cells"]
 
-_GAUSS_ORDER = 4
+_GAUSS_ORDER = 6
 _TOLERANCE_K = 2e-3           # target error of kT ln Z per cell, K (the requirement is 0.01 K)
 _MAX_RELATIVE = 1e-4          # ... but never looser than this relative error
-_BOX_ANGSTROM = 0.6           # largest first box, Å: GL nodes then lie within 0.1 Å of any well bottom
+_BOX_ANGSTROM = 1.5           # largest first box, Å (six GL nodes then lie within 0.2 Å of any well bottom)
 _MAX_LEVEL = 14
 _TEMPERATURES = 6             # temperatures the node set is checked at, geometric over the gas's range
 
