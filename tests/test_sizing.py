@@ -1,0 +1,56 @@
+"""The sizing view driven from Python (no browser): inputs to a sweep, messages, the list of pores meeting a target."""
+from __future__ import annotations
+
+import html
+
+import pytest
+
+from explorer.state import ExplorerState
+from explorer.views.sizing import SizingView, step_rows
+from physics.scenario import Scenario
+from physics.sweep import Target, meets
+
+
+@pytest.fixture()
+def view():
+    state = ExplorerState.from_scenario(Scenario(size_angstrom=10.0, wall_angstrom=8.0, temperature_k=1.5))
+    v = SizingView(state=state)
+    v.model.value, v.points.value = "classical", 60
+    return v
+
+
+@pytest.mark.parametrize("field, text, words", [("sizes", "10:50", "side lengths '10:50'"),
+                                                ("sizes", "1:3:3", "size_angstrom"),
+                                                ("walls", "0.5", "wall_angstrom")])
+def test_bad_inputs_say_what_is_wrong(view, field, text, words):
+    getattr(view, field).value = text
+    view.compute()
+    assert "Cannot sweep" in view.status.object and html.escape(words) in view.status.object
+    assert view._plot is None                 # no figure until there is a result
+
+
+def test_modes_build_their_sweeps(view):
+    view.mode.value = "temperature (fixed side)"
+    view.temps.value = "1.4:1.6:3"
+    spec = view.spec()
+    assert [s.temperature_k for s in spec.scenarios()] == pytest.approx([1.4, 1.5, 1.6])
+    assert {s.size_angstrom for s in spec.scenarios()} == {10.0}
+    view.mode.value = "side length at a known d100"
+    view.sizes.value, view.d100.value = "10,12", 30.0
+    assert spec is not view.spec() and view.spec().d100_angstrom == 30.0
+    assert view.walls.visible is False and view.d100.visible is True
+
+
+def test_the_list_shows_the_pores_meeting_the_target(view):
+    view.sizes.value = "8,10,14"
+    view.compute()
+    assert "3 pores" in view.status.object and view._plot is not None
+    assert len(step_rows(view._result, "size_angstrom")["p"]) == sum(len(p["steps"]) for p in view._result.done)
+    view.low.value, view.high.value = 1e-3, 1.0
+    view.target.value = "pore filled (every site)"
+    want = [p["size_angstrom"] for p in view._result.done if meets(Target("full-pore", low_pa=1e-3, high_pa=1.0), p)[0]]
+    assert f"{len(want)} of 3 pores" in view.meets_list.object
+    for size in want:
+        assert f"<tr><td>{size:g}</td>" in view.meets_list.object
+    view.high.value = 1e-4                     # a window that is not one
+    assert "lowest &lt; highest" in view.meets_list.object
