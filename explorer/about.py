@@ -33,10 +33,14 @@ parameters get pinned.
 
 ### The adsorption model
 
-A lattice gas fills the pore cross-section (a triangular lattice aligned with the hexagon's faces, repeated
-along the axis, 8 neighbours per site) and is solved in mean field (lattice density functional theory).
-Each site's free energy is the wall potential Boltzmann-averaged over its cell, so sites against the wall
-behave smoothly; sites that can never fill are left out. The adsorption branch is followed up from an empty
+A lattice gas fills the pore cross-section and is solved in mean field (lattice density functional theory).
+Its sites sit in rows that follow the wall: the first row in the wall potential's well at every size (corners
+included), the inner rows at the liquid's spacing to within a few per cent, the centre taking what is left;
+each site has 8 neighbours (6 in the cross-section, 2 along the axis) and each cell holds the liquid's volume
+per atom. A new row enters where the room between the first row and the centre grows by one row spacing:
+that is a real step in how the isotherm changes with pore size. Each site's free energy is the wall potential's
+Boltzmann factor integrated over its cell (converged at every temperature, so the low-pressure limit equals the
+exact Henry constant); sites that can never fill are left out. The adsorption branch is followed up from an empty
 pore, the desorption branch down from a full one; first-order steps sit where their grand potentials cross.
 
 Pressures: p = p₀(T)·exp[(μ − μ<sub>coex</sub>)/kT], where μ<sub>coex</sub> is the chemical potential of bulk liquid–vapour coexistence; p₀ comes from ITS-90 for helium-4 (extrapolated below 1.25 K) and
