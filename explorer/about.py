@@ -72,8 +72,8 @@ for the current pore, the lowest states (their bands, degeneracies, splittings a
 each band's probability and of the thermal density, the isotherm with both site models and the shift of
 every layer step in μ and in pressure, and the mean-field energy per adsorbed atom along the isotherm: the
 wall potential and kinetic energy of the states (or cells) each site holds, and the fluid–fluid bonds,
-−(ε<sub>b</sub>/2)Σ n<sub>i</sub>n<sub>j</sub> per atom. States are solved once per pore, for 30 % above the
-temperature asked, so a temperature change nearby reuses them; warmer helium needs more states and takes
-seconds.
+−(ε<sub>b</sub>/2)Σ n<sub>i</sub>n<sub>j</sub> per atom. States are solved once per pore and reused for lower
+temperatures and for warmer ones while the highest state held stays negligible; much warmer helium needs
+more states and takes seconds.
 
 """ + SAFETY

@@ -305,19 +305,23 @@ def quantum_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
 
 
 _STATES: dict = {}
-_HEADROOM = 1.3             # states are solved for 30 % above the temperature asked
+_REUSE_FRACTION = 1e-4      # held states serve a warmer temperature while their top carries less than this
 
 
 def cached_states(geometry, temperature_k: float) -> CrossSectionStates:
-    """The states of a geometry stage, computed once for the highest temperature asked so far (with
-    ``_HEADROOM`` to spare, so that a temperature slider nudged upwards does not solve again): a lower
-    temperature needs fewer states and reuses them."""
+    """The states of a geometry stage, computed once and reused for every temperature they cover: a lower
+    temperature needs fewer states, and a somewhat higher one is covered while the highest state held keeps
+    less than ``_REUSE_FRACTION`` of the ground state's Boltzmann weight there (so a temperature slider
+    nudged upwards does not solve again)."""
     key = geometry.key
     held = _STATES.get(key)
-    if held is None or held[0] < temperature_k:
-        top = _HEADROOM * float(temperature_k)
-        states = solve_states(geometry.pore, geometry.pair, geometry.adsorbate.hbar2_over_mk, temperature_k=top)
+    if held is not None:
+        e = held[1].energies_k
+        covered = held[0] >= temperature_k or np.exp(-(e[-1] - e[0]) / temperature_k) < _REUSE_FRACTION
+    if held is None or not covered:
+        states = solve_states(geometry.pore, geometry.pair, geometry.adsorbate.hbar2_over_mk,
+                              temperature_k=temperature_k)
         if len(_STATES) > 16:
             _STATES.pop(next(iter(_STATES)))
-        _STATES[key] = held = (top, states)
+        _STATES[key] = held = (float(temperature_k), states)
     return held[1]
