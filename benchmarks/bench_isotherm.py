@@ -20,7 +20,7 @@ def time_isotherm(side: float, reps: int) -> list[float]:
     times = []
     for i in range(reps):
         sc = Scenario(shape="hexagon", size_angstrom=side + 0.01 * i, wall_angstrom=8.0, adsorbate="helium-4",
-                      temperature_k=1.5)
+                      temperature_k=1.5, site_model="classical")   # the quantum one: bench_quantum.py
         t0 = time.perf_counter()
         iso = compute_isotherm(sc, n_points=300)
         times.append(time.perf_counter() - t0)
@@ -29,10 +29,10 @@ def time_isotherm(side: float, reps: int) -> list[float]:
 
 
 def main() -> None:
-    compute_isotherm(Scenario(size_angstrom=10.0, wall_angstrom=8.0), n_points=30)   # imports, caches
+    compute_isotherm(Scenario(size_angstrom=10.0, wall_angstrom=8.0, site_model="classical"), n_points=30)   # imports, caches
     for side, reps in ((15.0, 10), (50.0, 5)):
         t = time_isotherm(side, reps)
-        print(json.dumps({"benchmark": f"isotherm_hexagon_{side:g}A_helium_1.5K_300mu_both_branches",
+        print(json.dumps({"benchmark": f"isotherm_hexagon_{side:g}A_helium_1.5K_classical_300mu_both_branches",
                           "median_s": round(statistics.median(t), 3), "max_s": round(max(t), 3), "reps": reps,
                           "note": "new geometry each rep: wall potential, sites, both branches, steps"}))
     from test_adsorption import nitrogen_condensation_table
