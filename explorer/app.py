@@ -3,6 +3,9 @@ safety notes."""
 from __future__ import annotations
 
 import html
+import os
+import sys
+import types
 
 import panel as pn
 
@@ -10,11 +13,13 @@ from physics.scenario import Scenario
 
 from .about import ABOUT
 from .compute import start_temperature_windows
+from .scenario_file import ScenarioDocument
 from .state import ExplorerState
 from .views.isotherm import IsothermView
 from .views.potential import PotentialView
 from .views.measured import MeasuredView
 from .views.quantum import QuantumView
+from .views.scenario_io import ScenarioIO
 from .views.sizing import SizingView
 
 __all__ = ["create_app"]
@@ -68,11 +73,13 @@ def header(title: str) -> pn.pane.HTML:
                         stylesheets=[_CSS])
 
 
-def create_app(scenario: Scenario | None = None) -> pn.viewable.Viewable:
-    """Build one session's page (called by the server for every browser tab)."""
+def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewable.Viewable:
+    """Build one session's page (called by the server for every browser tab); a whole scenario file
+    (`ScenarioDocument`) also brings its view choices, sample, measured runs and fit."""
     pn.extension("filedropper", notifications=True)
     start_temperature_windows()        # CoolProp loads in a worker, not when someone picks nitrogen
-    scenario = scenario or Scenario(wall_angstrom=8.0)
+    doc = scenario if isinstance(scenario, ScenarioDocument) else ScenarioDocument(scenario or Scenario(wall_angstrom=8.0))
+    scenario = doc.scenario
     state = ExplorerState.from_scenario(scenario)
     isotherm = IsothermView(state=state)
     views = pn.Column(PotentialView(state=state), pn.pane.HTML("<h3>Adsorption</h3>"), isotherm,
@@ -81,7 +88,8 @@ def create_app(scenario: Scenario | None = None) -> pn.viewable.Viewable:
     isotherm.listeners.append(measured.model_arrived)
     if isotherm._iso is not None:
         measured.model_arrived(isotherm._shown, isotherm._iso)
-    side = pn.Column(pn.pane.HTML("<h3>Pore and gas</h3>"), controls(state), width=CONTROLS_WIDTH)
+    scenario_io = ScenarioIO(state=state, document=doc, isotherm=isotherm, measured=measured)
+    side = pn.Column(pn.pane.HTML("<h3>Pore and gas</h3>"), controls(state), scenario_io, width=CONTROLS_WIDTH)
     pore_page = pn.Row(side, views, sizing_mode="stretch_width", name="Pore")
     about = pn.pane.Markdown(ABOUT, name="About & safety", sizing_mode="stretch_width",
                              styles={"max-width": "760px"})
@@ -93,4 +101,27 @@ def create_app(scenario: Scenario | None = None) -> pn.viewable.Viewable:
     tabs = pn.Tabs(pore_page, quantum_page, measured_page, sizing_page, about, dynamic=False)
     # opening the quantum tab computes what it shows for the current inputs (the light gases only)
     tabs.param.watch(lambda event: quantum.refresh() if event.new == 1 else None, "active")
+    scenario_io.tabs = tabs
+    scenario_io.show_tab(doc.view.tab)
+    scenario_io.sync_url()             # the link carries the inputs; a link's own values are checked first
     return pn.Column(header(scenario.title), tabs, sizing_mode="stretch_width")
+
+
+def notebook_app(scenario=None) -> pn.viewable.Viewable:
+    """The dashboard for a notebook cell (`explorer.app`): ``scenario`` a `Scenario`, a `ScenarioDocument`,
+    a scenario file's path or the name of a shipped one (None: the defaults)."""
+    if isinstance(scenario, (str, os.PathLike)):
+        from .scenario_file import load_document, resolve_scenario
+        scenario = load_document(resolve_scenario(str(scenario)))
+    return create_app(scenario)
+
+
+class _CallableModule(types.ModuleType):
+    """Importing this module sets `explorer.app` to it, over the package's function of the same name: so
+    the module answers ``explorer.app(scenario)`` too."""
+
+    def __call__(self, scenario=None) -> pn.viewable.Viewable:
+        return notebook_app(scenario)
+
+
+sys.modules[__name__].__class__ = _CallableModule

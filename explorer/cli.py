@@ -242,18 +242,13 @@ def _cmd_vapour_pressure(args) -> int:
 
 def _cmd_serve(args) -> int:
     # every check runs before Panel is imported, so a mistake is reported at once
-    from pathlib import Path
-
     from .security import AccessPolicy, ServeError, check_address, check_can_listen, is_loopback, read_password
 
     scenario = None
     if args.scenario:
-        path = Path(args.scenario)
-        if path.is_dir():
-            raise UsageError(f"--scenario {args.scenario}: is a directory, not a scenario file")
-        from .scenario_file import ScenarioFileError, load_scenario
+        from .scenario_file import ScenarioFileError, load_document, resolve_scenario
         try:
-            scenario = load_scenario(path)
+            scenario = load_document(resolve_scenario(args.scenario))    # a path, or a shipped one's name
         except ScenarioFileError as exc:
             raise UsageError(str(exc)) from None
         except OSError as exc:
@@ -288,7 +283,8 @@ def build_parser(*, serve_only: bool = False) -> argparse.ArgumentParser:
     sub = parser.add_subparsers(dest="command", required=True)
 
     p = sub.add_parser("serve", help="serve the dashboard in the browser")
-    p.add_argument("--scenario", help="scenario TOML file to open (default: built-in defaults)")
+    p.add_argument("--scenario", help="scenario TOML file to open, or the name of a shipped one in scenarios/ "
+                                      "(e.g. demo-hexagon-helium; default: built-in defaults)")
     p.add_argument("--address", default="127.0.0.1", help="address to listen on (default 127.0.0.1)")
     p.add_argument("--port", type=int, default=5006, help="port (default 5006)")
     p.add_argument("--show", action="store_true", help="open a browser window")
