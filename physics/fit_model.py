@@ -1,14 +1,19 @@
 """The model side of a fit: measured runs compared with the isotherm of one parameter set (`physics.fitting`).
 
 For each temperature the runs share one isotherm (`compute_isotherm`) over their pressure range; each leg is
-compared with the branch chosen for it, interpolated linearly in log p at the measured pressures. Amounts are
-compared in the run's own unit, so a residual is (model − measured)/σ with σ in that unit.
+compared with the branch chosen for it, a curve in ln p whose jumps are placed between grid points
+(`physics.jumps`). Amounts are compared in the run's own unit, σ in that unit. With a pressure noise σ_lnp > 0
+the residual is the signed distance from the point to the curve in (ln p/σ_lnp, amount/σ) — an errors-in-both
+-variables comparison, so a point beside a vertical step is compared at equal coverage (horizontally) and the
+residual moves continuously as a step moves past it; with σ_lnp = 0 it is (model − measured)/σ at the
+recorded pressure (linear interpolation in ln p).
 
 **The pore volume enters linearly.** For amounts per gram (and dosed amounts, per gram through the sample
 mass) the model amount is V_p·a_i, with a_i the model's amount for 1 cm³/g; for amounts per pore it is b_i,
 independent of V_p. So V_p is never searched: at every parameter set it is the weighted linear
 least-squares value (variable projection, Golub & Pereyra, SIAM J. Numer. Anal. 10, 413 (1973) — value
-from memory), computed exactly in `solve_pore_volume`.
+from memory), exact for the vertical residuals and refined by a one-variable Gauss–Newton descent for the
+distance residuals, in `solve_pore_volume`, without a new model evaluation.
 
 **Points without pressure** (a dosed amount below what the gauge reads) are compared at equal coverage: the
 model must reach the point's amount y at a pressure between the recorded pressures of its neighbours in
@@ -287,7 +292,8 @@ def simulated_run(scenario: Scenario, *, pressure_pa, leg: str = "adsorption", b
     branch (default: the leg's own), in ``amount_unit`` and ``pressure_unit``.
 
     The isotherm runs from a nearly empty pore to p0 on ``n_points`` chemical potentials (so the branches are
-    those of a pore filled from empty and emptied from full); per-gram amounts take the pore volume from
+    those of a pore filled from empty and emptied from full), its jumps placed between grid points
+    (`physics.jumps`); per-gram amounts take the pore volume from
     ``sample`` or else the scenario.
     """
     sample = sample or Sample(pore_volume_cm3_g=scenario.pore_volume_cm3_g)
@@ -295,7 +301,8 @@ def simulated_run(scenario: Scenario, *, pressure_pa, leg: str = "adsorption", b
         sample = sample.with_value("pore_volume_cm3_g", scenario.pore_volume_cm3_g, "typed")
     iso = compute_isotherm(scenario, n_points=n_points)
     p = np.asarray(pressure_pa, float)
-    amount = np.interp(np.log(p), np.log(iso.pressure_pa), iso.per_angstrom(branch or leg))
+    mu, per = branch_curve(iso, branch or leg, bisections=16)       # jumps where they are, not on the grid
+    amount = np.interp(np.log(p), np.log(iso.stage.scale.pressure_pa(mu)), per)
     probe = MeasuredRun(name, source, [np.nan], pressure_unit, [1.0], amount_unit, leg, scenario.temperature_k)
     values = amount * unit_factor(probe, scenario.pore(), sample, sample.pore_volume_cm3_g or 1.0)
     shown = from_pascal(p, pressure_unit, p0_pa=iso.stage.saturation_pressure_pa)

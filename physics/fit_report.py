@@ -28,13 +28,13 @@ def _fixed_v_residuals(obj, u, n_points: int, pore_volume: float) -> np.ndarray:
 
 def _jacobian(obj, u: np.ndarray, pred, pore_volume: float) -> np.ndarray:
     """(n_all, p) Jacobian of the normalised residuals in the parameters' own units (``FREE_PARAMETERS``
-    order): central differences in the nonlinear ones with V_p held; the pore-volume column by a small
+    order): central differences of ``error_step`` in the nonlinear ones with V_p held; the pore-volume column by a small
     difference of V_p alone (it only scales the model curve, so no model evaluation is needed)."""
     space, req = obj.space, obj.request
     cols = []
     for j, name in enumerate(space.nonlinear):
         up, dn = u.copy(), u.copy()
-        up[j], dn[j] = min(u[j] + req.diff_step, 1.0), max(u[j] - req.diff_step, 0.0)
+        up[j], dn[j] = min(u[j] + req.error_step, 1.0), max(u[j] - req.error_step, 0.0)
         r_up = _fixed_v_residuals(obj, up, req.local_points, pore_volume)
         r_dn = _fixed_v_residuals(obj, dn, req.local_points, pore_volume)
         cols.append((r_up - r_dn) / ((up[j] - dn[j]) * space.width(name)))
@@ -88,13 +88,14 @@ def _warnings(space, values, names, stderr, corr, undetermined, n, n_violated, o
         tol = 1e-3 * (hi - lo)
         if v - lo <= tol or hi - v <= tol:
             side, edge = ("lower", lo) if v - lo <= tol else ("upper", hi)
-            out.append(f"{name} = {v:.4g} {unit} is at its {side} bound ({edge:g} {unit}): widen the bounds or "
-                       "fix it; its standard error does not hold there".replace("  ", " "))
+            out.append(f"{name} = {v:.4g}{' ' + unit if unit else ''} is at its {side} bound "
+                       f"({edge:g}{' ' + unit if unit else ''}): widen the bounds or fix it; its standard error "
+                       "does not hold there")
         if undetermined[i]:
             out.append(f"{name} is not determined by the data (the fit does not change when it moves)")
-        elif n > p and np.isfinite(stderr[i]) and (stderr[i] > abs(v) or stderr[i] > hi - lo):
-            out.append(f"{name} is not determined by the data: standard error {stderr[i]:.3g} {unit} against a "
-                       f"value of {v:.4g} {unit}".replace("  ", " "))
+        elif n > p and np.isfinite(stderr[i]) and (stderr[i] > abs(v) or stderr[i] > 0.25 * (hi - lo)):
+            out.append(f"{name} is not determined by the data: standard error {stderr[i]:.3g} against a value "
+                       f"of {v:.4g}{' ' + unit if unit else ''} (bounds {lo:g} to {hi:g})")
     for i in range(p):
         for j in range(i + 1, p):
             if np.isfinite(corr[i, j]) and abs(corr[i, j]) > _CORRELATED:

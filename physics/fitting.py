@@ -69,7 +69,11 @@ class FitRequest:
     local_evaluations : at most this many residual evaluations in each local refinement.
     local_starts : local refinements from this many distinct good points of the global search; a second
         optimum that fits about as well is reported.
-    diff_step : finite-difference step as a fraction of each parameter's bound width.
+    diff_step : finite-difference step of the local refinement, as a fraction of each bound width.
+    error_step : the (central) step of the Jacobian the standard errors come from, as a fraction of each
+        bound width. It is wider than ``diff_step`` on purpose: next to a layer step the distance residuals
+        have narrow dips (a riser placed beside a point), and a wide secant measures the valley rather than
+        the dip, so the errors are not made small by the dips.
     pressure_margin : factor by which each temperature's isotherm extends past the measured pressures.
     seed : seed of the global phase.
     """
@@ -92,6 +96,7 @@ class FitRequest:
     local_evaluations: int = 40
     local_starts: int = 2
     diff_step: float = 0.01
+    error_step: float = 0.05
     pressure_margin: float = 1.5
     seed: int = 0
 
@@ -114,7 +119,7 @@ class FitRequest:
         object.__setattr__(self, "bounds", {k: (float(v[0]), float(v[1])) for k, v in dict(self.bounds).items()})
         if not (isinstance(self.pressure_noise, (int, float)) and 0 <= self.pressure_noise < 1):
             raise ValueError(f"pressure_noise must be a number from 0 to 1; got {self.pressure_noise!r}")
-        for name in ("noise_relative", "noise_floor", "diff_step"):
+        for name in ("noise_relative", "noise_floor", "diff_step", "error_step"):
             value = getattr(self, name)
             if not (isinstance(value, (int, float)) and np.isfinite(value) and 0 < value < 1):
                 raise ValueError(f"{name} must be a number between 0 and 1; got {value!r}")

@@ -1,0 +1,97 @@
+"""Tests of `porefill fit`, run in-process through explorer.cli.main: JSON shape and units, the text table,
+CSV output, and plain exit-2 messages for files and options that cannot be used."""
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from explorer.cli import main
+from physics.fit_model import simulated_run
+from physics.materials import pair_parameters
+from physics.scenario import Scenario
+
+TRUE = Scenario(shape="hexagon", size_angstrom=17.3, wall_angstrom=8.0, adsorbate="nitrogen", temperature_k=77.35,
+                pair_epsilon_k=1.08 * pair_parameters("nitrogen", "silica").epsilon_k, site_model="classical",
+                pore_volume_cm3_g=0.62)
+BASE_ARGS = ["--pore", "hexagon", "--size", "16.5", "--wall", "8", "--adsorbate", "nitrogen", "--temperature",
+             "77.35", "--site-model", "classical", "--pair-epsilon", f"{TRUE.pair_epsilon_k:.6f}"]
+
+
+@pytest.fixture(scope="module")
+def data_file(tmp_path_factory) -> Path:
+    """Model-made nitrogen data with 1 % seeded noise, in kPa and mmol/g (invented, for the test)."""
+    rng = np.random.default_rng(3)
+    p = np.r_[np.geomspace(300, 1e4, 6), np.linspace(1.5e4, 9.5e4, 10)]
+    run = simulated_run(TRUE, pressure_pa=p, pressure_unit="kPa", amount_unit="mmol/g", n_points=500)
+    amount = run.amount * (1 + 0.01 * rng.standard_normal(p.size))
+    path = tmp_path_factory.mktemp("fit") / "n2.csv"
+    path.write_text("# invented by porefill's model for a test\npressure (kPa),amount (mmol/g)\n"
+                    + "".join(f"{x:.8g},{y:.8g}\n" for x, y in zip(run.pressure, amount)))
+    return path
+
+
+def _fast(monkeypatch):
+    """Small search budgets: the command's output is under test, not the search."""
+    import physics.fitting as fitting
+    real = fitting.FitRequest
+
+    def small(*args, **kw):
+        kw.update(global_points=32, local_points=60, population=4, global_iterations=3, local_evaluations=8,
+                  local_starts=1)
+        return real(*args, **kw)
+    monkeypatch.setattr(fitting, "FitRequest", small)
+
+
+def test_fit_json_reports_values_errors_and_statistics(data_file, capsys, monkeypatch, tmp_path):
+    _fast(monkeypatch)
+    out_csv = tmp_path / "fit.csv"
+    code = main(["fit", str(data_file), *BASE_ARGS, "--free", "size,pore-volume", "--bounds", "size=14:20",
+                 "--json", "--csv", str(out_csv)])
+    assert code == 0
+    data = json.loads(capsys.readouterr().out)
+    assert set(data["parameters"]) == {"size", "pore-volume"}
+    size = data["parameters"]["size"]
+    assert size["unit"] == "Å" and size["bounds"] == [14.0, 20.0] and 14.0 <= size["value"] <= 20.0
+    assert data["parameters"]["pore-volume"]["unit"] == "cm³/g" and data["parameters"]["pore-volume"]["stderr"] > 0
+    assert data["statistics"]["points"] == 16 and data["statistics"]["parameters"] == 2
+    assert data["site_model"] == "classical"
+    assert data["runs"][0]["amount_unit"] == "mmol/g" and data["runs"][0]["pressure_unit"] == "kPa"
+    text = out_csv.read_text().splitlines()
+    assert text[0].startswith("kind,run,source,row")
+    assert sum(line.startswith("point,") for line in text) == 16
+    assert sum(line.startswith("model,") for line in text) > 16
+
+
+def test_fit_text_output_is_a_table(data_file, capsys, monkeypatch):
+    _fast(monkeypatch)
+    assert main(["fit", str(data_file), *BASE_ARGS, "--free", "pore-volume"]) == 0
+    out = capsys.readouterr().out
+    assert out.splitlines()[0].split()[:3] == ["parameter", "value", "stderr"]
+    assert "pore-volume" in out and "reduced χ²" in out
+
+
+@pytest.mark.parametrize("content, extra, message", [
+    (b"", [], "empty"),
+    (b"\x00\x01\x02binary\xff\xfe" * 50, [], "n2.csv"),
+    (None, ["--free", "size,depth"], "free parameters must be"),
+    (None, ["--bounds", "size=ten"], "NAME=LOW:HIGH"),
+    (None, ["--free", "wall,a0"], "not both"),
+])
+def test_unusable_input_exits_2_with_plain_lines(tmp_path, data_file, capsys, content, extra, message):
+    path = data_file
+    if content is not None:
+        path = tmp_path / "n2.csv"
+        path.write_bytes(content)
+    code = main(["fit", str(path), *BASE_ARGS, *extra])
+    err = capsys.readouterr().err
+    assert code == 2
+    assert message in err and "Traceback" not in err
+    assert 1 <= len(err.strip().splitlines()) <= 7
+
+
+def test_missing_file_exits_2(tmp_path, capsys):
+    assert main(["fit", str(tmp_path / "none.csv"), *BASE_ARGS]) == 2
+    assert "no such file" in capsys.readouterr().err
