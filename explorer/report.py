@@ -159,7 +159,7 @@ def _quantum(sc) -> str:
 def _measured(doc, iso) -> str:
     from physics.adsorption import compute_isotherm
 
-    if not doc.measured:
+    if not doc.measured and doc.fit is None:
         return "<p>The scenario holds no measured runs.</p>"
     sample = doc.sample
     if sample is None:
@@ -176,7 +176,8 @@ def _measured(doc, iso) -> str:
                      f"{run.pressure_unit}; {run.amount_unit}", note])
     out = ("<p class='note'>The measured numbers are copied into the scenario file from the source files named; "
            "amounts are shown per nm of pore through the sample description.</p>"
-           + _table(["run", "source", "leg", "T (K)", "points", "units", "note"], rows))
+           + _table(["run", "source", "leg", "T (K)", "points", "units", "note"], rows)) if rows else \
+        "<p>The scenario holds no measured runs, only a saved fit.</p>"
     fitted = None
     if doc.fit is not None:
         fit = doc.fit
@@ -187,6 +188,8 @@ def _measured(doc, iso) -> str:
         out += "".join(f"<p class='warning'>{_e(w)}</p>" for w in fit.warnings)
         if fit.scenario is not None:
             fitted = compute_isotherm(fit.scenario.model_key(), n_points=200)
+    if not doc.measured:
+        return out
     return out + _img(fg.measured_figure(iso, doc.measured, sample, fitted=fitted), "measured over the model")
 
 

@@ -12,6 +12,10 @@ def _cmd_report(args) -> int:
 
     if not args.out.strip():
         raise UsageError("--out needs a file name")
+    from pathlib import Path
+    folder = Path(args.out).resolve().parent
+    if not folder.is_dir():          # said before a minute of computing, not after
+        raise UsageError(f"cannot write {args.out}: no folder {folder}")
     try:
         doc = load_document(resolve_scenario(args.scenario))
     except ScenarioFileError as exc:

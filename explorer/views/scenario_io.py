@@ -193,7 +193,8 @@ class ScenarioIO(pn.viewable.Viewer):
         if sc.wall_angstrom is not None:
             values["wall_angstrom"] = sc.wall_angstrom
         self._check_on_probe(sc, values)
-        self.state.param.update(base=sc, solid=sc.solid, title=sc.title, adsorbate=sc.adsorbate)
+        with param.edit_constant(self.state):          # the solid is set by files only, never by a control
+            self.state.param.update(base=sc, solid=sc.solid, title=sc.title, adsorbate=sc.adsorbate)
         self.state.param.update(**{k: v for k, v in values.items() if k != "adsorbate"})
         self.document = doc
         self.apply_view(doc.view)

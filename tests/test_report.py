@@ -1,0 +1,194 @@
+"""The HTML report, the slide figures, the notebook entry point and the dashboard's scenario controls
+(without a browser)."""
+from __future__ import annotations
+
+import re
+import struct
+import subprocess
+import sys
+import tomllib
+import xml.etree.ElementTree as ET
+from pathlib import Path
+
+import pytest
+
+from explorer.figures import FIGURES, SLIDE_WIDTH_PX, figure_job
+from explorer.report import SECTIONS, build_report
+from explorer.scenario_file import ScenarioDocument, load_document, parse_document, resolve_scenario
+from physics.scenario import Scenario
+
+ROOT = Path(__file__).resolve().parents[1]
+FAST = Scenario(shape="slit", size_angstrom=12.0, wall_angstrom=10.0, adsorbate="argon", temperature_k=87.3)
+
+
+def _png_size(data: bytes) -> tuple[int, int]:
+    # PNG: 8-byte signature, then the IHDR chunk whose first fields are width and height, big-endian
+    # (PNG specification, W3C Recommendation 2003, §11.2.2)
+    assert data[:8] == b"\x89PNG\r\n\x1a\n"
+    return struct.unpack(">II", data[16:24])
+
+
+@pytest.fixture(scope="module")
+def measured_report() -> str:
+    doc = load_document(resolve_scenario("demo-nitrogen-invented-measured"))
+    return build_report(doc, sizes=(14.0, 18.0))
+
+
+def test_every_section_is_there(measured_report):
+    for key, title in SECTIONS.items():
+        assert f"<section id='{key}'" in measured_report
+        assert title in measured_report
+    for words in ("Asphyxiation", "not safety figures", "Lorentz–Berthelot", "sites that fill",
+                  "invented-nitrogen-77K.csv", "p₀"):
+        assert words in measured_report
+
+
+def test_the_report_links_to_nothing_outside_itself(measured_report):
+    assert "<script" not in measured_report.lower()
+    # every src/href is a data URI or a fragment of this page
+    for attr, value in re.findall(r"(src|href)\s*=\s*['\"]([^'\"]*)", measured_report):
+        assert value.startswith(("data:", "#")), (attr, value[:80])
+    assert "http://" not in measured_report and "https://" not in measured_report
+
+
+def test_text_from_the_file_is_escaped():
+    sc = FAST.replace(title="<script>alert(1)</script>", notes="<img src=x onerror=alert(2)>")
+    text = build_report(ScenarioDocument(sc), sizes=())
+    assert "<script>alert" not in text and "&lt;script&gt;alert(1)&lt;/script&gt;" in text
+    assert "<img src=x" not in text
+
+
+def test_classical_gas_says_why_no_quantum_states():
+    text = build_report(ScenarioDocument(FAST), sizes=())
+    assert "Not computed: argon is treated with classical sites" in text
+    assert "Not computed (asked for no sizes)" in text
+    assert "The scenario holds no measured runs" in text
+
+
+def test_step_table_matches_the_isotherm():
+    from physics.adsorption import compute_isotherm
+
+    iso = compute_isotherm(FAST, n_points=300)
+    text = build_report(ScenarioDocument(FAST), sizes=())
+    table = text[text.index("porefill-step-table"):]
+    for s in iso.steps:
+        assert f"<td>{s.pressure_pa:.4g}</td>" in table
+
+
+def test_saved_fit_appears_with_its_numbers():
+    from explorer.saved_fit import FitParameter, SavedFit
+
+    fit = SavedFit(free=("size",), parameters=(FitParameter("size", 12.345, 0.067, "Å", 9.0, 15.0),),
+                   statistics=(("chi2", 3.25), ("points", 12)), warnings=("size sits near a bound",))
+    text = build_report(ScenarioDocument(FAST, fit=fit), sizes=())
+    assert "<td>12.345</td>" in text and "<td>0.067</td>" in text and "size sits near a bound" in text
+
+
+# the command ----------------------------------------------------------------------------------------------
+def _porefill(*args):
+    exe = Path(sys.executable).with_name("porefill")
+    return subprocess.run([str(exe), *args], capture_output=True, text=True, timeout=300)
+
+
+def test_report_command_writes_the_file(tmp_path):
+    out = tmp_path / "r.html"
+    done = _porefill("report", str(ROOT / "scenarios" / "demo-slit-argon.toml"), "--out", str(out), "--sizes",
+                     "12,20")
+    assert done.returncode == 0, done.stderr
+    text = out.read_text(encoding="utf-8")
+    assert all(f"<section id='{k}'" in text for k in SECTIONS)
+    assert "sizing map: pore 2 of 2" in done.stderr and "opens offline" in done.stderr
+
+
+@pytest.mark.parametrize("args, words", [
+    (["no-such-demo", "--out", "x.html"], "no shipped scenario of that name"),
+    (["demo-slit-argon", "--out", " "], "--out needs a file name"),
+    (["demo-slit-argon", "--out", "x.html", "--sizes", "1:2"], "--sizes"),
+    (["demo-slit-argon", "--out", "/no/such/dir/x.html", "--sizes", "none"], "cannot write"),
+])
+def test_report_command_errors_are_one_line(args, words):
+    done = _porefill("report", *args)
+    assert done.returncode == 2
+    assert words in done.stderr and len(done.stderr.strip().splitlines()) == 1
+
+
+# figures --------------------------------------------------------------------------------------------------
+@pytest.mark.parametrize("name", list(FIGURES))
+def test_every_figure_as_slide_png_and_svg(name):
+    png = figure_job(FAST, name, "png", pick_pa=1e4)
+    width, height = _png_size(png)
+    assert width == SLIDE_WIDTH_PX and 900 <= height <= 1700
+    svg = figure_job(FAST, name, "svg", pick_pa=1e4)
+    root = ET.fromstring(svg)
+    assert root.tag == "{http://www.w3.org/2000/svg}svg"      # SVG 1.1 namespace (W3C)
+
+
+def test_unknown_figure_or_format_is_refused():
+    with pytest.raises(ValueError, match="figure must be one of"):
+        figure_job(FAST, "pie-chart", "png")
+    with pytest.raises(ValueError, match="format must be 'png' or 'svg'"):
+        figure_job(FAST, "line-cuts", "gif")
+
+
+# notebooks and the dashboard's controls ---------------------------------------------------------------------
+def test_importing_explorer_is_cheap():
+    code = "import sys, explorer; print('panel' in sys.modules, 'numpy' in sys.modules, callable(explorer.app))"
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60).stdout
+    assert out.split() == ["False", "False", "True"]
+
+
+def test_explorer_app_returns_a_viewable_without_a_server():
+    import panel as pn
+
+    import explorer
+
+    page = explorer.app(FAST)
+    assert isinstance(page, pn.viewable.Viewable)
+    root = page.get_root()                        # the Bokeh model a notebook displays
+    assert root is not None
+    import explorer.app as module                 # the module and the function share the name
+    assert callable(explorer.app) and callable(module)
+
+
+def _io(scenario=FAST):
+    from explorer.state import ExplorerState
+    from explorer.views.isotherm import IsothermView
+    from explorer.views.scenario_io import ScenarioIO
+
+    state = ExplorerState.from_scenario(scenario)
+    return ScenarioIO(state=state, isotherm=IsothermView(state=state)), state
+
+
+def test_save_writes_what_the_controls_hold():
+    io_view, state = _io()
+    state.temperature_k = 90.0
+    io_view.isotherm.x_axis.value = "chemical potential"
+    doc = parse_document(io_view.toml_file().getvalue().decode("utf-8"))
+    assert doc.scenario == state.scenario()
+    assert doc.view.axis == "chemical-potential"
+    assert tomllib.loads(io_view.toml_text())["format"] == 1
+
+
+def test_open_applies_a_good_file_and_refuses_a_bad_one():
+    io_view, state = _io()
+    good = (ROOT / "scenarios" / "demo-cylinder-nitrogen.toml").read_bytes()
+    io_view.open.param.update(filename="n.toml", value=good)
+    assert state.scenario().model_key() == load_document(ROOT / "scenarios" / "demo-cylinder-nitrogen.toml").scenario.model_key()
+    before = state.scenario()
+    io_view.open.param.update(filename="bad.toml", value=b"[scenario]\nshape = 'hexagon'\nsize_angstrom = -2.0\n")
+    assert state.scenario() == before
+    assert io_view.message.visible and "bad.toml, line 3" in io_view.message.object
+    assert "size_angstrom" in io_view.message.object and "Nothing was changed" in io_view.message.object
+    io_view.open.param.update(filename="big.toml", value=b"[scenario]\nsize_angstrom = 150.0\n")
+    assert state.scenario() == before and "cannot show" in io_view.message.object
+    io_view.open.param.update(filename="bin.toml", value=b"\xff\xfe\x00")
+    assert "not UTF-8" in io_view.message.object
+
+
+def test_a_link_refuses_bad_values_by_name_and_keeps_the_good():
+    io_view, state = _io()
+    refused = io_view._apply_link({"size_angstrom": 999, "temperature_k": 88.0, "shape": "triangle",
+                                   "isolated": "perhaps"})
+    assert set(refused) == {"size_angstrom", "shape", "isolated"}
+    assert state.temperature_k == 88.0 and state.size_angstrom == FAST.size_angstrom and state.shape == "slit"
+    assert io_view._apply_link({"temperature_k": float("nan")}) and state.temperature_k == 88.0
