@@ -50,6 +50,11 @@ def served_app():
     else:
         proc.kill()
         raise RuntimeError("server did not start within 60 s")
+    # the first page starts the worker processes (each imports the physics): take that cost here, once,
+    # so that each test's page load measures the page, not the start-up
+    import urllib.request
+    with urllib.request.urlopen(url, timeout=120) as response:
+        response.read()
     yield url
     proc.terminate()
     try:
@@ -79,6 +84,6 @@ def page(browser, served_app):
     pg.on("console", lambda msg: errors.append(msg.text) if msg.type == "error" else None)
     pg.on("pageerror", lambda exc: errors.append(str(exc)))
     pg.console_errors = errors
-    pg.goto(served_app)
+    pg.goto(served_app, timeout=90_000)
     yield pg
     context.close()
