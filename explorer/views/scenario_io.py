@@ -17,6 +17,7 @@ import asyncio
 import html
 import io
 import logging
+from functools import partial
 
 import panel as pn
 import param
@@ -72,10 +73,10 @@ class ScenarioIO(pn.viewable.Viewer):
         self.figure = pn.widgets.Select(name="Figure for slides", options={v: k for k, v in FIGURES.items()},
                                         value="isotherm", width=WIDTH)
         self.png = pn.widgets.FileDownload(callback=self._figure_png, filename="porefill-isotherm.png",
-                                           label="PNG, 1920 px", width=WIDTH // 2 - 5,
+                                           label="PNG, 1920 px", width=WIDTH // 2 - 10,
                                            css_classes=["porefill-figure-png"])
         self.svg = pn.widgets.FileDownload(callback=self._figure_svg, filename="porefill-isotherm.svg",
-                                           label="SVG", width=WIDTH // 2 - 5, css_classes=["porefill-figure-svg"])
+                                           label="SVG", width=WIDTH // 2 - 10, css_classes=["porefill-figure-svg"])
         self.message = pn.pane.HTML("", css_classes=["porefill-scenario-message"], width=WIDTH, visible=False,
                                     styles={"font-size": "12px", "color": "#8a4b00"})
         self.open.param.watch(self._opened, "value")
@@ -133,7 +134,8 @@ class ScenarioIO(pn.viewable.Viewer):
         sc = self.state.scenario().model_key()
         choices = self.view_choices()
         pick = None if choices.pick_log10_pa is None else 10.0 ** choices.pick_log10_pa
-        return await self._busy(widget, figure_job, sc, self.figure.value, fmt, pick, choices.branch)
+        job = partial(figure_job, sc, self.figure.value, fmt, pick_pa=pick, branch=choices.branch)
+        return await self._busy(widget, job)
 
     async def _figure_png(self):
         return await self._figure("png", self.png)

@@ -1,0 +1,240 @@
+"""In headless Chromium: the report opens with every request outside the file refused; the dashboard's
+Save / Open / link / report / figure controls as a person uses them; keyboard reach; laptop and projector
+screens."""
+from __future__ import annotations
+
+import struct
+from pathlib import Path
+
+import pytest
+
+from explorer.report import SECTIONS, build_report
+from explorer.scenario_file import load_document, parse_document, resolve_scenario
+from explorer.testing import serve_scenario, slider_title, wait_for_loading
+
+pytestmark = pytest.mark.browser
+ROOT = Path(__file__).resolve().parents[1]
+STEPS = ".porefill-steps table"
+MESSAGE = ".porefill-scenario-message p"
+
+
+@pytest.fixture(scope="module")
+def argon_url():
+    """A server of its own on the argon slit demo (classical sites: its isotherms take a fraction of a second)."""
+    from conftest import _free_port
+
+    port = _free_port()
+    proc = serve_scenario("demo-slit-argon", port)
+    yield f"http://127.0.0.1:{port}/"
+    proc.terminate()
+    proc.wait(timeout=20)
+
+
+@pytest.fixture()
+def argon(browser, argon_url):
+    context = browser.new_context(viewport={"width": 1366, "height": 900}, accept_downloads=True)
+    pg = context.new_page()
+    errors: list[str] = []
+    pg.on("console", lambda m: errors.append(m.text) if m.type == "error" else None)
+    pg.on("pageerror", lambda exc: errors.append(str(exc)))
+    pg.console_errors = errors
+    pg.goto(argon_url)
+    pg.locator(STEPS).first.wait_for(timeout=60_000)
+    yield pg
+    context.close()
+
+
+def _offline_check(browser, path: Path) -> None:
+    """Open ``path`` with every request that is not file:// aborted; every section shows, every image draws."""
+    context = browser.new_context(viewport={"width": 1366, "height": 900})
+    page = context.new_page()
+    refused, failed, errors = [], [], []
+    page.route("**/*", lambda route: route.continue_() if route.request.url.startswith(("file://", "data:"))
+               else (refused.append(route.request.url), route.abort()))
+    page.on("requestfailed", lambda r: failed.append(r.url))
+    page.on("console", lambda m: errors.append(m.text) if m.type == "error" else None)
+    page.on("pageerror", lambda exc: errors.append(str(exc)))
+    page.goto(path.as_uri())
+    page.wait_for_load_state("load")
+    for key, title in SECTIONS.items():
+        section = page.locator(f"section#{key}")
+        assert section.count() == 1, key
+        assert section.locator("h2").inner_text() == title
+    images = page.locator("img.figure")
+    assert images.count() >= 4
+    widths = images.evaluate_all("imgs => imgs.map(i => i.complete ? i.naturalWidth : 0)")
+    assert all(w > 100 for w in widths), widths
+    page.get_by_text("Asphyxiation").first.wait_for(state="visible")
+    assert refused == [] and failed == [] and errors == []
+    context.close()
+
+
+def test_report_opens_offline_with_every_section(browser, tmp_path):
+    doc = load_document(resolve_scenario("demo-nitrogen-invented-measured"))
+    out = tmp_path / "report.html"
+    out.write_text(build_report(doc, sizes=(14.0, 18.0)), encoding="utf-8")
+    _offline_check(browser, out)
+
+
+def test_report_button_downloads_an_offline_report(argon, browser, tmp_path):
+    button = argon.locator(".porefill-report-button button").first
+    with argon.expect_download(timeout=180_000) as info:
+        button.click()
+        wait_for_loading(argon, ".porefill-report-button", True, timeout_s=10)     # busy while it builds
+    path = tmp_path / "from-the-page.html"
+    info.value.save_as(path)
+    wait_for_loading(argon, ".porefill-report-button", False)
+    assert "argon" in path.read_text(encoding="utf-8")
+    _offline_check(browser, path)
+    assert argon.console_errors == []
+
+
+def test_figure_downloads_png_at_slide_width_and_svg(argon):
+    with argon.expect_download(timeout=120_000) as info:
+        argon.locator(".porefill-figure-png button").first.click()
+    png = Path(info.value.path()).read_bytes()
+    assert struct.unpack(">II", png[16:24])[0] == 1920        # IHDR width (PNG specification §11.2.2)
+    with argon.expect_download(timeout=120_000) as info:
+        argon.locator(".porefill-figure-svg button").first.click()
+    assert b"<svg" in Path(info.value.path()).read_bytes()[:2000]
+    assert info.value.suggested_filename == "porefill-isotherm.svg"
+
+
+def _save(page) -> str:
+    with page.expect_download(timeout=60_000) as info:
+        page.locator(".porefill-save-scenario button").first.click()
+    return Path(info.value.path()).read_text(encoding="utf-8")
+
+
+def test_saved_scenario_reopens_the_same_screen_from_file_and_link(argon, browser, argon_url, tmp_path):
+    from explorer.testing import drag_handle, slider_handle, text_of, wait_for_text_change
+
+    before = text_of(argon, STEPS)
+    drag_handle(argon, slider_handle(argon, "Temperature"), 25)
+    wait_for_text_change(argon, STEPS, before)
+    argon.wait_for_timeout(1500)
+    steps, title = text_of(argon, STEPS), slider_title(argon, "Temperature")
+    saved = _save(argon)
+    doc = parse_document(saved)
+    assert f"{doc.scenario.temperature_k:.2f}" in title
+    assert f"temperature_k={doc.scenario.temperature_k!r}" in argon.url      # the link carries it
+    link = argon.url
+    file = tmp_path / "saved.toml"
+    file.write_text(saved, encoding="utf-8")
+
+    for how in ("file", "link"):
+        context = browser.new_context(viewport={"width": 1366, "height": 900})
+        page = context.new_page()
+        page.goto(argon_url if how == "file" else link)
+        page.locator(STEPS).first.wait_for(timeout=60_000)
+        if how == "file":
+            start = text_of(page, STEPS)
+            page.locator(".porefill-open-scenario input[type=file]").set_input_files(str(file))
+            wait_for_text_change(page, STEPS, start, timeout_s=60)
+        page.wait_for_timeout(1500)
+        assert slider_title(page, "Temperature") == title, how
+        assert text_of(page, STEPS) == steps, how
+        context.close()
+
+
+@pytest.mark.parametrize("body, words", [
+    (b"[scenario]\nshape = 'hexagon'\nsize_angstrom = -2.0\n", "line 3"),
+    (b"[scenario\n", "not valid TOML"),
+    (b"[scenario]\ncolour = 'red'\n", "colour"),
+])
+def test_a_bad_file_is_named_and_the_page_stays(argon, tmp_path, body, words):
+    bad = tmp_path / "bad.toml"
+    bad.write_bytes(body)
+    title = slider_title(argon, "Side length")
+    argon.locator(".porefill-open-scenario input[type=file]").set_input_files(str(bad))
+    argon.locator(MESSAGE).first.wait_for(timeout=20_000)
+    text = argon.locator(MESSAGE).first.inner_text()
+    assert "bad.toml" in text and words in text and "Nothing was changed" in text
+    assert slider_title(argon, "Side length") == title
+    assert argon.console_errors == []
+
+
+def test_a_link_with_bad_values_says_so_and_keeps_the_scenario(browser, argon_url):
+    context = browser.new_context(viewport={"width": 1366, "height": 900})
+    page = context.new_page()
+    page.goto(argon_url + "?size_angstrom=abc&temperature_k=88.5&shape=triangle")
+    page.locator(STEPS).first.wait_for(timeout=60_000)
+    text = page.locator(MESSAGE).first.inner_text()
+    assert "size_angstrom" in text and "shape" in text and "scenario's values are shown" in text
+    assert slider_title(page, "Side length").endswith(": 20")            # the demo's 20 Å
+    assert slider_title(page, "Temperature").endswith("88.50")           # the good value is taken
+    page.wait_for_timeout(1000)
+    assert "size_angstrom=20.0" in page.url and "triangle" not in page.url
+    context.close()
+
+
+def _focused(page) -> str:
+    return page.evaluate("""() => {
+      let e = document.activeElement;
+      while (e && e.shadowRoot && e.shadowRoot.activeElement) e = e.shadowRoot.activeElement;
+      return e ? (e.className + ' ' + (e.textContent || '').trim().slice(0, 40)) : '';
+    }""")
+
+
+def test_tab_reaches_sliders_and_the_scenario_buttons(argon):
+    seen = []
+    argon.locator("body").click(position={"x": 5, "y": 5})
+    for _ in range(80):
+        argon.keyboard.press("Tab")
+        seen.append(_focused(argon))
+    joined = "\n".join(seen)
+    assert "noUi-handle" in joined                             # the sliders
+    for label in ("Save scenario", "Report (HTML", "PNG, 1920 px"):
+        assert label in joined, label
+    # a slider moves with the arrow keys once it has the focus
+    handle = next(i for i, s in enumerate(seen) if "noUi-handle" in s)
+    argon.locator("body").click(position={"x": 5, "y": 5})
+    for _ in range(handle + 1):
+        argon.keyboard.press("Tab")
+    before = slider_title(argon, "Side length")
+    argon.keyboard.press("ArrowRight")
+    argon.wait_for_timeout(800)
+    assert slider_title(argon, "Side length") != before
+
+
+@pytest.mark.parametrize("width, height", [(1366, 768), (1024, 768)])
+def test_laptop_and_projector_screens(browser, argon_url, width, height, tmp_path):
+    context = browser.new_context(viewport={"width": width, "height": height})
+    page = context.new_page()
+    page.goto(argon_url)
+    page.locator(STEPS).first.wait_for(timeout=60_000)
+    page.wait_for_timeout(1500)
+    page.screenshot(path=str(tmp_path / f"pore-{width}x{height}.png"))
+    # what the pore page shows fits across the screen (the plots wrap below each other)
+    for selector in (".porefill-controls", ".porefill-scenario-io", ".porefill-map", ".porefill-cuts",
+                     ".porefill-isotherm"):
+        box = page.locator(selector).first.bounding_box()
+        assert box is not None and box["x"] >= 0 and box["x"] + box["width"] <= width + 1, selector
+    # the scenario buttons stay inside the column of controls
+    column = page.locator(".porefill-scenario-io").first.bounding_box()
+    for selector in (".porefill-save-scenario", ".porefill-report-button", ".porefill-figure-png",
+                     ".porefill-figure-svg"):
+        box = page.locator(selector).first.bounding_box()
+        assert box["x"] + box["width"] <= column["x"] + column["width"] + 1, selector
+        assert box["y"] + box["height"] <= height, f"{selector} is below the first screen"
+    assert page.get_by_text("Save scenario (TOML)").first.is_visible()
+    context.close()
+
+
+@pytest.mark.xfail(strict=True, reason="the Measured data tab's row of column and unit menus is ~1130 px wide and "
+                                       "widens the whole page to 1380 px, so stretched text (the readout, the "
+                                       "step table) runs past a 1024 px screen; remove this mark when it wraps")
+@pytest.mark.parametrize("width", [1366, 1024])
+def test_no_sideways_scrolling(browser, argon_url, width):
+    context = browser.new_context(viewport={"width": width, "height": 768})
+    page = context.new_page()
+    page.goto(argon_url)
+    page.locator(STEPS).first.wait_for(timeout=60_000)
+    page.wait_for_timeout(1000)
+    try:
+        assert page.evaluate("() => document.scrollingElement.scrollWidth - window.innerWidth") <= 1
+        for selector in (".porefill-readout", ".porefill-steps"):
+            box = page.locator(selector).first.bounding_box()
+            assert box["x"] + box["width"] <= width + 1, selector
+    finally:
+        context.close()
