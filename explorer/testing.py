@@ -34,7 +34,7 @@ def text_of(page, selector: str) -> str:
     return page.locator(selector).first.inner_text()
 
 
-def wait_for_text_change(page, selector: str, before: str, timeout_s: float = 20.0) -> float:
+def wait_for_text_change(page, selector: str, before: str, timeout_s: float = 60.0) -> float:
     """Poll until the text under ``selector`` differs from ``before``; return the time it did."""
     deadline = time.perf_counter() + timeout_s
     while time.perf_counter() < deadline:
