@@ -224,7 +224,7 @@ def test_line_of_finds_keys_in_arrays_of_tables():
 # names --------------------------------------------------------------------------------------------------
 def test_shipped_scenarios_open_by_name():
     names = demo_names()
-    assert "demo-hexagon-helium" in names and len(names) >= 4
+    assert "demo-hexagon-helium" in names and len(names) >= 4   # helium, nitrogen (two), argon
     for name in names:
         assert resolve_scenario(name).name == f"{name}.toml"
         doc = load_document(resolve_scenario(name))
