@@ -104,7 +104,9 @@ def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewab
     scenario_io.tabs = tabs
     scenario_io.show_tab(doc.view.tab)
     scenario_io.sync_url()             # the link carries the inputs; a link's own values are checked first
-    return pn.Column(header(scenario.title), tabs, sizing_mode="stretch_width")
+    head = header(scenario.title)      # follows the title of a scenario opened on the page
+    state.param.watch(lambda event: head.param.update(object=header(event.new).object), "title")
+    return pn.Column(head, tabs, sizing_mode="stretch_width")
 
 
 def notebook_app(scenario=None) -> pn.viewable.Viewable:

@@ -134,6 +134,7 @@ def test_saved_scenario_reopens_the_same_screen_from_file_and_link(argon, browse
         page.wait_for_timeout(1500)
         assert slider_title(page, "Temperature") == title, how
         assert text_of(page, STEPS) == steps, how
+        assert "argon at 87.3 K" in page.locator(".porefill-header h1").first.inner_text(), how
         context.close()
 
 
@@ -238,3 +239,14 @@ def test_no_sideways_scrolling(browser, argon_url, width):
             assert box["x"] + box["width"] <= width + 1, selector
     finally:
         context.close()
+
+
+def test_opening_another_scenario_changes_controls_and_title(argon):
+    start = argon.locator(".porefill-header h1").first.inner_text()
+    argon.locator(".porefill-open-scenario input[type=file]").set_input_files(
+        str(ROOT / "scenarios" / "demo-cylinder-nitrogen.toml"))
+    argon.get_by_text("6 nm cylindrical silica pore").first.wait_for(timeout=30_000)
+    assert argon.locator(".porefill-header h1").first.inner_text() != start
+    assert slider_title(argon, "Side length").endswith(": 30")
+    assert slider_title(argon, "Temperature").endswith("77.35")
+    assert argon.console_errors == []
