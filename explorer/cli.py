@@ -165,7 +165,7 @@ def _cmd_isotherm(args) -> int:
 
 
 def _cmd_states(args) -> int:
-    from physics.quantum import classical_boltzmann_area, solve_states
+    from physics.quantum import solve_states
 
     scenario = scenario_from_args(args, temperature_k=args.temperature)
     try:
@@ -178,25 +178,10 @@ def _cmd_states(args) -> int:
                           max_states=args.max_states)
     except ValueError as exc:
         raise UsageError(str(exc)) from None
-    classical = classical_boltzmann_area(geo.pore, geo.pair, t)
-    from physics.quantum import henry_constant
-    result = {
-        "units": {"energy": "K", "length": "angstrom", "henry": "atoms per nm of pore per Pa"},
-        "scenario": scenario.to_dict(),
-        "energies_k": [float(e) for e in st.energies_k],
-        "ground_state_k": st.ground_state_k,
-        "potential_minimum_k": st.potential_minimum_k,
-        "zero_point_energy_k": st.zero_point_energy_k,
-        "excitation_energies_k": [float(e - st.energies_k[0]) for e in st.energies_k],
-        "henry_quantum": st.henry_per_nm_pa(t),
-        "henry_classical": henry_constant(classical, t),
-        "mean_kinetic_energy_k": st.mean_kinetic_k(t),
-        "mean_potential_energy_k": st.mean_potential_k(t),
-        "grid": {"spacing_angstrom": st.spacing_angstrom, "points": int(st.points.shape[0]),
-                 "energy_error_estimate_k": st.error_k},
-        "states_used": int(st.energies_k.size),
-        "states_capped": st.capped,
-    }
+    from .model_comparison import states_numbers
+
+    result = {"units": {"energy": "K", "length": "angstrom", "henry": "atoms per nm of pore per Pa"},
+              "scenario": scenario.to_dict(), **states_numbers(st, geo, t)}
     from physics.stages import thermal_stage
     from physics.state_bands import site_labels, state_bands
     labels = site_labels(thermal_stage(scenario.replace(site_model="classical")))

@@ -57,20 +57,36 @@ class SiteCells:
     def n_nodes(self) -> int:
         return self.group.size
 
-    def log_integrals(self, temperature_k: float) -> np.ndarray:
-        """ln Z_i (Z in Å², slit Å) of every site at temperature T; −inf where a cell holds no allowed point."""
-        kt = float(temperature_k)
+    def _boltzmann(self, kt: float):
+        """Per node w·exp(−(V − V_min,group)/kT) (0 where V is not finite), and each group's V_min."""
         n_groups = self.area_angstrom2.size
         finite = np.isfinite(self.potential_k)
         ref = np.full(n_groups, np.inf)
         np.minimum.at(ref, self.group[finite], self.potential_k[finite])
         ref = np.where(np.isfinite(ref), ref, 0.0)
-        with np.errstate(over="ignore"):
-            terms = self.weight * np.exp(-(self.potential_k - ref[self.group]) / kt)
-        z = np.bincount(self.group, weights=terms, minlength=n_groups)
+        with np.errstate(over="ignore", invalid="ignore"):
+            terms = np.where(finite, self.weight * np.exp(-(self.potential_k - ref[self.group]) / kt), 0.0)
+        return terms, ref
+
+    def log_integrals(self, temperature_k: float) -> np.ndarray:
+        """ln Z_i (Z in Å², slit Å) of every site at temperature T; −inf where a cell holds no allowed point."""
+        kt = float(temperature_k)
+        terms, ref = self._boltzmann(kt)
+        z = np.bincount(self.group, weights=terms, minlength=self.area_angstrom2.size)
         with np.errstate(divide="ignore"):
             log_z = np.log(z) - ref / kt
         return log_z[self.site_group]
+
+    def mean_potential_k(self, temperature_k: float) -> np.ndarray:
+        """⟨V⟩_i = ∫_cell V e^{−V/kT} dA / ∫_cell e^{−V/kT} dA (K) of every site; +inf where a cell holds no
+        allowed point."""
+        terms, _ = self._boltzmann(float(temperature_k))
+        n_groups = self.area_angstrom2.size
+        v = np.where(np.isfinite(self.potential_k), self.potential_k, 0.0)
+        z = np.bincount(self.group, weights=terms, minlength=n_groups)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            mean = np.where(z > 0, np.bincount(self.group, weights=terms * v, minlength=n_groups) / z, np.inf)
+        return mean[self.site_group]
 
     def free_energies(self, temperature_k: float, nominal_area_angstrom2: float) -> np.ndarray:
         """f_i = −kT ln(Z_i / A) (K) in the frame of `physics.site_models`, A the lattice's nominal cell area."""

@@ -40,22 +40,10 @@ class SiteEnergies:
 
 
 def _classical(cells, temperature_k: float):
-    """Boltzmann-weighted mean potential over each site's cell, from the converged cell quadrature
-    (`physics.cells.SiteCells`: nodes, weights, potential), and the classical kinetic energy 3kT/2."""
-    kt = float(temperature_k)
-    n_groups = cells.area_angstrom2.size
-    finite = np.isfinite(cells.potential_k)
-    ref = np.full(n_groups, np.inf)
-    np.minimum.at(ref, cells.group[finite], cells.potential_k[finite])
-    ref = np.where(np.isfinite(ref), ref, 0.0)
-    v = np.where(finite, cells.potential_k, 0.0)
-    with np.errstate(over="ignore", invalid="ignore"):
-        b = np.where(finite, cells.weight * np.exp(-(v - ref[cells.group]) / kt), 0.0)
-    z = np.bincount(cells.group, weights=b, minlength=n_groups)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        mean = np.where(z > 0, np.bincount(cells.group, weights=b * v, minlength=n_groups) / z, np.inf)
-    potential = mean[cells.site_group]
-    return potential, np.full(potential.shape, 1.5 * kt)
+    """Boltzmann-weighted mean potential over each site's cell (`physics.cells.SiteCells.mean_potential_k`)
+    and the classical kinetic energy 3kT/2."""
+    potential = cells.mean_potential_k(temperature_k)
+    return potential, np.full(potential.shape, 1.5 * float(temperature_k))
 
 
 def _quantum(geometry, temperature_k: float, potential: np.ndarray, kinetic: np.ndarray):
