@@ -23,7 +23,7 @@ from dataclasses import asdict, dataclass, replace
 import numpy as np
 from scipy.signal import find_peaks
 
-__all__ = ["Step", "find_steps"]
+__all__ = ["Step", "find_steps", "condensation_step"]
 
 _DIFFER_FRACTION = 1e-6      # branches differing by more than this fraction of all sites form a loop
 _MIN_STEP_FRACTION = 1e-3    # a step adds at least this fraction of all sites
@@ -180,3 +180,13 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
         seen[base] += 1
         named.append(replace(s, identity=base if seen[base] == 1 else f"{base} #{seen[base]}"))
     return tuple(named)
+
+
+def condensation_step(steps) -> Step | None:
+    """The capillary condensation among ``steps``: the last step that fills the pore's centre (its sites
+    labelled 'centre'), else the one that adds most; None when there are no steps."""
+    steps = tuple(steps)
+    if not steps:
+        return None
+    centre = [s for s in steps if any(name == "centre" for name, _ in s.filling)]
+    return centre[-1] if centre else max(steps, key=lambda s: s.added_per_nm)
