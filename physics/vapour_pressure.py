@@ -5,7 +5,10 @@ ideal-vapour Clausius–Clapeyron extrapolation below 1.25 K from the zero-tempe
 (L0 = 59.83 J/mol, Donnelly & Barenghi, J. Phys. Chem. Ref. Data 27, 1217 (1998)):
 ln p = ln p(1.25 K) − (L0/R)(1/T − 1/1.25 K) + (5/2) ln(T/1.25 K), i.e. dlnp/dT = (L0 + 5RT/2)/(RT²)
 for a liquid of negligible heat capacity and an ideal monatomic vapour.
-The other gases use CoolProp's reference equations of state between the triple and critical points.
+The other gases use CoolProp's reference equations of state between the triple and critical points. Argon is
+also served down to 75 K as a supercooled liquid (argon at 77 K, below its 83.8 K triple point, is common
+practice for pore analysis): p0 is extrapolated from the triple point along the liquid's Clausius–Clapeyron
+line, ln p = ln p_t − (ΔH_vap/R)(1/T − 1/T_t), with CoolProp's p_t and ΔH_vap at T_t, and flagged as extrapolated.
 """
 from __future__ import annotations
 
@@ -31,6 +34,7 @@ HELIUM4_LATENT_HEAT_0K_J_MOL = 59.83          # Donnelly & Barenghi (1998)
 HELIUM4_EXTRAPOLATION_MIN_K = 0.2             # lowest temperature served (p0 ~ 1e-13 Pa there)
 HELIUM4_LIQUID_DENSITY_0K_PER_A3 = 0.021837   # 0.14514 g/cm³, Donnelly & Barenghi (1998)
 HELIUM4_BINDING_0K_K = 7.196                  # L0/R, Donnelly & Barenghi (1998)
+SUPERCOOLED_MIN_K = {"argon": 75.0}           # lowest supercooled-liquid temperature served (common practice)
 
 
 class VapourPressureRangeError(ValueError):
@@ -82,13 +86,35 @@ def temperature_range(adsorbate: str) -> tuple[float, float, str]:
         return (HELIUM4_EXTRAPOLATION_MIN_K, 5.0,
                 "ITS-90 helium-4 equation, 1.25–5.0 K; ideal-vapour extrapolation with L0 = 59.83 J/mol below")
     cp = _coolprop()
-    return (float(cp.PropsSI("Ttriple", ads.coolprop_name)), float(cp.PropsSI("Tcrit", ads.coolprop_name)),
-            f"CoolProp reference equation of state for {ads.coolprop_name}, triple to critical point")
+    t_triple = float(cp.PropsSI("Ttriple", ads.coolprop_name))
+    t_crit = float(cp.PropsSI("Tcrit", ads.coolprop_name))
+    if ads.name in SUPERCOOLED_MIN_K:
+        return (SUPERCOOLED_MIN_K[ads.name], t_crit,
+                f"CoolProp reference equation of state for {ads.coolprop_name}, triple to critical point; "
+                f"supercooled liquid extrapolated by Clausius–Clapeyron below the triple point {t_triple:.2f} K")
+    return (t_triple, t_crit, f"CoolProp reference equation of state for {ads.coolprop_name}, triple to critical point")
+
+
+@lru_cache(maxsize=None)
+def _triple_point(name: str) -> tuple[float, float, float]:
+    """(T_t K, p_t Pa, ΔH_vap J/mol at T_t) of a CoolProp fluid's liquid–vapour line."""
+    cp = _coolprop()
+    t = float(cp.PropsSI("Ttriple", name))
+    p = float(cp.PropsSI("P", "T", t, "Q", 0, name))
+    dh = float(cp.PropsSI("Hmolar", "T", t, "Q", 1, name) - cp.PropsSI("Hmolar", "T", t, "Q", 0, name))
+    return t, p, dh
 
 
 def p0_is_extrapolated(adsorbate: str, temperature_k: float) -> bool:
-    """True where p0 comes from an extrapolation beyond its equation's own range (helium-4 below 1.25 K)."""
-    return adsorbate == "helium-4" and float(temperature_k) < _ITS90_LOW["t_range"][0]
+    """True where p0 comes from an extrapolation beyond its equation's own range (helium-4 below 1.25 K,
+    a supercooled liquid below its triple point)."""
+    t = float(temperature_k)
+    if adsorbate == "helium-4":
+        return t < _ITS90_LOW["t_range"][0]
+    if adsorbate in SUPERCOOLED_MIN_K:
+        from .materials import get_adsorbate
+        return t < _triple_point(get_adsorbate(adsorbate).coolprop_name)[0]
+    return False
 
 
 def saturated_vapour_pressure(adsorbate: str, temperature_k: float) -> float:
@@ -110,6 +136,9 @@ def saturated_vapour_pressure(adsorbate: str, temperature_k: float) -> float:
     name = get_adsorbate(adsorbate).coolprop_name
     if t >= t_max:
         return float(_coolprop().PropsSI("pcrit", name))
+    t_triple, p_triple, dh = _triple_point(name)
+    if t < t_triple:                      # supercooled liquid (only where temperature_range allows it)
+        return float(p_triple * np.exp(-dh / constants.R * (1.0 / t - 1.0 / t_triple)))
     return float(_coolprop().PropsSI("P", "T", t, "Q", 0, name))
 
 

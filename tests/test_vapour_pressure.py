@@ -56,8 +56,17 @@ def test_nitrogen_normal_boiling_point():
 
 
 def test_classical_gas_range_is_triple_to_critical():
+    lo, hi, what = vp.temperature_range("nitrogen")
+    assert lo == pytest.approx(63.151, abs=0.01) and hi == pytest.approx(126.192, abs=0.01)   # CoolProp; value from memory
+    with pytest.raises(vp.VapourPressureRangeError, match="nitrogen"):
+        vp.saturated_vapour_pressure("nitrogen", 50.0)
+
+
+def test_argon_range_reaches_its_supercooled_liquid():
+    # argon: triple point 83.806 K, critical 150.687 K (CoolProp; value from memory); served down to 75 K as a
+    # supercooled liquid (argon at 77 K is common practice), flagged as extrapolated
     lo, hi, what = vp.temperature_range("argon")
-    assert lo == pytest.approx(83.806, abs=0.01) and hi == pytest.approx(150.687, abs=0.01)   # CoolProp; value from memory
+    assert lo == 75.0 and hi == pytest.approx(150.687, abs=0.01) and "supercooled" in what
     with pytest.raises(vp.VapourPressureRangeError, match="argon"):
         vp.saturated_vapour_pressure("argon", 50.0)
 
