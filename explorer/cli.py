@@ -119,12 +119,17 @@ def add_model_options(p: argparse.ArgumentParser) -> None:
                         "quantum states (default: quantum for helium-4, hydrogen and neon, classical otherwise)")
     p.add_argument("--pore-volume", type=float, metavar="cm³/g",
                    help="specific pore volume of the sample, cm³/g (adds mmol/g and cm³(STP)/g)")
+    p.add_argument("--pore-ends", choices=("open", "closed-end", "infinite"), default="open",
+                   help="how the pores end, which decides the branch a measurement follows: open (default; "
+                        "desorption at the equilibrium transition), closed-end (no hysteresis), infinite "
+                        "(the mean-field spinodals)")
 
 
 def model_scenario(args):
     return scenario_from_args(args, temperature_k=args.temperature, lattice_spacing_angstrom=args.spacing,
                                bond_energy_k=args.bond, bond_calibration=args.bond_rule,
-                               pore_volume_cm3_g=args.pore_volume, site_model=args.site_model)
+                               pore_volume_cm3_g=args.pore_volume, site_model=args.site_model,
+                               pore_ends=args.pore_ends)
 
 
 def _cmd_isotherm(args) -> int:

@@ -118,9 +118,11 @@ def isotherm_figure(iso, *, axis: str = "pressure", pick_pa: float | None = None
     ax = fig.add_subplot()
     log = axis == "pressure"
     x = iso.pressure_pa if log else iso.mu
-    ads, des = iso.per_nm("adsorption"), iso.per_nm("desorption")
+    ads, des = iso.per_nm(iso.measured_branch("adsorption")), iso.per_nm(iso.measured_branch("desorption"))
     ax.plot(x, ads, color=ADS, lw=2, label="adsorption")
-    ax.plot(x, des, color=DES, lw=2, ls="--", label="desorption")
+    ax.plot(x, des, color=DES, lw=2, ls="--", label="desorption (as measured)")
+    if iso.measured_branch("desorption") != "desorption":
+        ax.plot(x, iso.per_nm("desorption"), color="#9a9a9a", lw=1.2, ls=":", label="mean-field desorption limit")
     for i, s in enumerate(iso.steps, 1):
         sx = s.pressure_pa if log else s.mu_k
         sy = float(np.interp(s.mu_k, iso.mu, 0.5 * (ads + des)))
@@ -211,8 +213,10 @@ def measured_figure(iso, runs, sample, *, fitted=None) -> Figure:
     """Measured runs (points) over the model's branches (lines), and the fitted model's (dotted) if given."""
     fig = _figure()
     ax = fig.add_subplot()
-    ax.plot(iso.pressure_pa, iso.per_nm("adsorption"), color=ADS, lw=1.5, label="model, adsorption")
-    ax.plot(iso.pressure_pa, iso.per_nm("desorption"), color=DES, lw=1.5, ls="--", label="model, desorption")
+    ax.plot(iso.pressure_pa, iso.per_nm(iso.measured_branch("adsorption")), color=ADS, lw=1.5,
+            label="model, adsorption")
+    ax.plot(iso.pressure_pa, iso.per_nm(iso.measured_branch("desorption")), color=DES, lw=1.5, ls="--",
+            label="model, desorption (as measured)")
     if fitted is not None:
         ax.plot(fitted.pressure_pa, fitted.per_nm("adsorption"), color="#2e8540", lw=2, ls=":",
                 label="fitted model, adsorption")

@@ -11,9 +11,11 @@ import math
 import numpy as np
 
 from physics.adsorption import Isotherm
+from physics.bond import calibration_facts, default_bond_rule
+from physics.branches import branch_notes, measured_branches
 from physics.units import particle_word
 
-__all__ = ["isotherm_json", "step_json", "isotherm_csv", "isotherm_summary", "model_description", "amount_labels",
+__all__ = ["calibration", "calibration_note", "isotherm_json", "step_json", "isotherm_csv", "isotherm_summary", "model_description", "amount_labels",
            "branch_columns"]
 
 
@@ -47,7 +49,39 @@ def model_description(iso: Isotherm) -> dict:
         "sites_per_slice": float(s.problem.weights.sum()),
         "pair": s.geometry.pair.to_dict(),
         "pressure_mapping": "p = p0(T) exp[(mu - mu_coex)/kT], mu_coex = -z eps_b / 2, z = 8",
+        "calibration": calibration(iso),
+        "pore_ends": sc.pore_ends,
+        "measured_branches": measured_branches(sc.pore_ends),
+        "branch_notes": branch_notes(iso),
     }
+
+
+def calibration(iso: Isotherm) -> list[dict]:
+    """The bulk facts the lattice fluid keeps and how far it misses the others (`physics.bond`)."""
+    s = iso.stage
+    sc = s.scenario
+    rule = None if sc.bond_energy_k is not None else (sc.bond_calibration or default_bond_rule(sc.adsorbate))
+    return calibration_facts(adsorbate=sc.adsorbate, temperature_k=sc.temperature_k, bond_k=s.bond_k, rule=rule,
+                             cell_volume_angstrom3=s.lattice.cell_volume_angstrom3)
+
+
+def calibration_note(iso: Isotherm) -> str:
+    """HTML paragraph: which bulk facts the lattice fluid keeps, and by how much it misses the others."""
+    import html
+
+    kept, missed = [], []
+    for f in calibration(iso):
+        if f["kept"]:
+            kept.append(html.escape(f["fact"]))
+        elif f["miss"] is not None:
+            missed.append(f"{html.escape(f['fact'])} {f['model']:.4g} {html.escape(f['unit'])} against "
+                          f"{f['reference']:.4g} ({f['miss']:+.0%}; {html.escape(f['source'])})")
+        else:
+            missed.append(html.escape(f["fact"]))
+    text = f"Lattice fluid keeps: {', '.join(kept) or 'none'}."
+    if missed:
+        text += f" Misses: {'; '.join(missed)}."
+    return f"<p class='porefill-calibration' style='font-size:90%'>{text}</p>"
 
 
 def branch_columns(iso: Isotherm, branch: str) -> dict[str, np.ndarray]:
@@ -142,4 +176,5 @@ def isotherm_summary(iso: Isotherm) -> str:
                      f"{st.added_per_nm:16.3f}  {loop:<21}  {where}")
     if not iso.steps:
         lines.append("      no steps in this range")
+    lines += ["", *branch_notes(iso)]
     return "\n".join(lines)

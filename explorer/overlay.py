@@ -51,16 +51,16 @@ def model_curves(iso, axis: str) -> dict[str, tuple[np.ndarray, np.ndarray]]:
     """{branch: (x, y)} of the model on ``axis`` (coverage axis: x amount per nm, y pressure in Pa)."""
     p = iso.pressure_pa
     out = {}
-    for branch in ("adsorption", "desorption"):
-        n = iso.per_nm(branch)
-        out[branch] = (n, p) if axis == "coverage" else (_x_of(iso, p, axis), n)
+    for leg in ("adsorption", "desorption"):
+        n = iso.per_nm(iso.measured_branch(leg))
+        out[leg] = (n, p) if axis == "coverage" else (_x_of(iso, p, axis), n)
     return out
 
 
 def overlay_run(iso, run: MeasuredRun, sample: Sample, axis: str) -> RunOverlay:
     """Place ``run`` on ``axis`` against the model isotherm ``iso``; ValueError names what is missing
     (e.g. the pore volume for amounts per gram)."""
-    branch = "desorption" if run.leg == "desorption" else "adsorption"
+    branch = iso.measured_branch("desorption" if run.leg == "desorption" else "adsorption")
     per_nm = from_atoms_per_angstrom(amount_to_model(run, iso.basis, sample), "per nm", iso.basis)
     p0 = iso.stage.scale.saturation_pressure_pa
     pressure = run.pressure_pa(p0)

@@ -118,11 +118,17 @@ def _steps_table(iso) -> str:
 
 
 def _isotherm(iso, view) -> str:
+    from physics.branches import branch_notes
+
+    from .isotherm_export import calibration_note
+
     pick = None if view.pick_log10_pa is None else 10.0 ** view.pick_log10_pa
     return (_img(fg.isotherm_figure(iso, axis="pressure", pick_pa=pick), "isotherm")
             + _img(fg.compressibility_figure(iso), "compressibility") + _steps_table(iso)
             + "<p class='note'>First-order steps are placed where the branches' grand potentials cross; the "
-              "hysteresis column gives the pressures where the desorption and adsorption branches jump.</p>")
+              "hysteresis column gives the pressures where the desorption and adsorption branches jump.</p>"
+            + "<ul class='note'>" + "".join(f"<li>{_e(n)}</li>" for n in branch_notes(iso)) + "</ul>"
+            + calibration_note(iso))
 
 
 def _quantum(sc) -> str:

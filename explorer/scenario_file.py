@@ -34,7 +34,7 @@ __all__ = ["FORMAT", "ScenarioFileError", "ScenarioDocument", "ViewChoices", "lo
 FORMAT = 1
 DEMO_DIR = Path(__file__).resolve().parents[1] / "scenarios"
 TABLES = ("format", "scenario", "sample", "measured", "fit", "view")
-AXES = ("pressure", "chemical-potential")
+AXES = ("pressure", "relative-pressure", "chemical-potential")
 BRANCHES = ("adsorption", "desorption", "equilibrium")
 TABS = ("pore", "quantum", "measured", "about")
 

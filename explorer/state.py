@@ -59,6 +59,11 @@ class ExplorerState(param.Parameterized):
     temperature_k = param.Number(default=1.5, bounds=(0.2, 400.0), step=0.01, label="Temperature (K)",
                                  doc="K, within the range of the adsorbate's vapour-pressure equation; changes "
                                      "the isotherm and the depth / kT readout, not the wall potential.")
+    pore_ends = param.Selector(default="open", objects=["open", "closed-end", "infinite"], label="Pore ends",
+                               doc="Decides which model branch a measurement follows. Open (both ends): the pore "
+                                   "fills on the adsorption branch and empties at the equilibrium transition "
+                                   "(a receding meniscus). Closed at one end: fills and empties at equilibrium, no "
+                                   "hysteresis. Infinite: the raw mean-field branches, both spinodals (limits).")
     solid = param.String(default="silica", constant=True, doc="Solid (catalog name)")
     title = param.String(default="", doc="Scenario title (from the scenario file; shown as plain text)")
     base = param.ClassSelector(class_=Scenario, default=Scenario(), precedence=-1,
@@ -92,7 +97,8 @@ class ExplorerState(param.Parameterized):
         return cls(shape=scenario.shape, size_angstrom=scenario.size_angstrom,
                    wall_angstrom=wall if wall is not None else 8.0,
                    isolated=wall is None, adsorbate=scenario.adsorbate,
-                   temperature_k=scenario.temperature_k, solid=scenario.solid, title=scenario.title, base=scenario)
+                   temperature_k=scenario.temperature_k, solid=scenario.solid, title=scenario.title,
+                   pore_ends=scenario.pore_ends, base=scenario)
 
     def scenario(self) -> Scenario:
         """The loaded scenario with what the controls hold: every other field (pair overrides, lattice,
@@ -100,4 +106,4 @@ class ExplorerState(param.Parameterized):
         return self.base.replace(shape=self.shape, size_angstrom=float(self.size_angstrom),
                                  wall_angstrom=None if self.isolated else float(self.wall_angstrom),
                                  adsorbate=self.adsorbate, solid=self.solid, temperature_k=float(self.temperature_k),
-                                 title=self.title)
+                                 pore_ends=self.pore_ends, title=self.title)

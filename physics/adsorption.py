@@ -62,6 +62,12 @@ class Isotherm:
             raise ValueError(f"branch must be adsorption, desorption or equilibrium; got {name!r}")
         return getattr(self, name).occupancy
 
+    def measured_branch(self, leg: str) -> str:
+        """The branch ('adsorption', 'desorption' or 'equilibrium') a measured ``leg`` follows, by the
+        scenario's pore ends (`physics.branches`)."""
+        from .branches import measured_branches
+        return measured_branches(self.stage.scenario.pore_ends)[leg]
+
     def _occupancy(self, branch) -> np.ndarray:
         return self.branch(branch) if isinstance(branch, str) else branch.occupancy
 

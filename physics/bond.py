@@ -25,7 +25,7 @@ from scipy import constants
 from .lattice import COORDINATION
 from .vapour_pressure import HELIUM4_BINDING_0K_K, critical_temperature, saturated_vapour_pressure
 
-__all__ = ["BOND_RULES", "default_bond_rule", "bond_energy"]
+__all__ = ["BOND_RULES", "default_bond_rule", "bond_energy", "calibration_facts"]
 
 BOND_RULES = ("vapour-pressure", "critical-temperature", "binding-energy")
 
@@ -59,3 +59,45 @@ def bond_energy(rule: str, *, adsorbate: str, temperature_k: float, cell_volume_
         return float(eb), (f"binding-energy calibration: z ε_b / 2 = L0/R = {HELIUM4_BINDING_0K_K} K, "
                            f"ε_b = {eb:.4g} K")
     raise ValueError(f"unknown bond calibration {rule!r}; known: {', '.join(BOND_RULES)}")
+
+
+def calibration_facts(*, adsorbate: str, temperature_k: float, bond_k: float, rule: str | None,
+                      cell_volume_angstrom3: float, coordination: int = COORDINATION) -> list[dict]:
+    """Which bulk facts the lattice fluid keeps at this temperature and by how much it misses the others.
+
+    One dict per fact: ``fact``, ``kept`` (True when the calibration holds it by construction), ``model``,
+    ``reference`` (with ``unit`` and ``source``) and ``miss`` (model/reference − 1; None when kept exactly).
+    The lattice's critical temperature is the Bragg–Williams kT_c = zε_b/4 of this temperature's bond (Hill 1960);
+    its liquid density is one atom per cell, against the saturated liquid at T (CoolProp; helium-4: the T → 0
+    liquid of Donnelly & Barenghi 1998).
+    """
+    from .vapour_pressure import critical_temperature, liquid_number_density
+
+    rule_used = rule or "set by the user"
+    tc_model = coordination * bond_k / 4.0
+    tc_real = critical_temperature(adsorbate)
+    facts = [
+        {"fact": "bulk coexistence at p0", "kept": True, "model": None, "reference": None, "unit": "Pa",
+         "source": "the pressure scale p = p0 exp[(μ − μ_coex)/kT] puts it there for every rule", "miss": None},
+        {"fact": "ideal-vapour Henry limit", "kept": rule_used == "vapour-pressure", "model": None,
+         "reference": None, "unit": "", "miss": None,
+         "source": "exact with the vapour-pressure rule (ε_b = −(2kT/z) ln(p0 v/kT)); otherwise off by the "
+                   "lattice vapour's non-ideality"},
+        {"fact": "critical temperature", "kept": rule_used == "critical-temperature", "model": float(tc_model),
+         "reference": tc_real, "unit": "K", "source": "CoolProp critical constants",
+         "miss": tc_model / tc_real - 1.0},
+    ]
+    liquid = 1.0 / cell_volume_angstrom3
+    if adsorbate == "helium-4":
+        ref, source = liquid_number_density(adsorbate)
+    else:
+        from .materials import get_adsorbate
+        from .vapour_pressure import _coolprop
+        name = get_adsorbate(adsorbate).coolprop_name
+        t_triple = float(_coolprop().PropsSI("Ttriple", name))
+        t = max(temperature_k, t_triple)
+        ref = float(_coolprop().PropsSI("Dmolar", "T", t, "Q", 0, name)) * constants.Avogadro * 1e-30
+        source = f"CoolProp saturated liquid at {t:.2f} K" + (" (triple point)" if t > temperature_k else "")
+    facts.append({"fact": "liquid density (capacity)", "kept": bool(abs(liquid / ref - 1.0) < 1e-3), "model": liquid,
+                  "reference": ref, "unit": "Å⁻³", "source": source, "miss": liquid / ref - 1.0})
+    return facts

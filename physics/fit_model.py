@@ -289,7 +289,7 @@ def simulated_run(scenario: Scenario, *, pressure_pa, leg: str = "adsorption", b
                   pressure_unit: str = "Pa", amount_unit: str = "mmol/g", sample: Sample | None = None,
                   n_points: int = 2000, name: str = "model", source: str = "model") -> MeasuredRun:
     """A noiseless run made by the model: amounts at ``pressure_pa`` (Pa, in the order given) on the leg's
-    branch (default: the leg's own), in ``amount_unit`` and ``pressure_unit``.
+    branch (default: the one the leg follows in pores with the scenario's ends, `Isotherm.measured_branch`), in ``amount_unit`` and ``pressure_unit``.
 
     The isotherm runs from a nearly empty pore to p0 on ``n_points`` chemical potentials (so the branches are
     those of a pore filled from empty and emptied from full), its jumps placed between grid points
@@ -301,7 +301,7 @@ def simulated_run(scenario: Scenario, *, pressure_pa, leg: str = "adsorption", b
         sample = sample.with_value("pore_volume_cm3_g", scenario.pore_volume_cm3_g, "typed")
     iso = compute_isotherm(scenario, n_points=n_points)
     p = np.asarray(pressure_pa, float)
-    mu, per = branch_curve(iso, branch or leg, bisections=16)       # jumps where they are, not on the grid
+    mu, per = branch_curve(iso, branch or iso.measured_branch(leg), bisections=16)       # jumps where they are, not on the grid
     amount = np.interp(np.log(p), np.log(iso.stage.scale.pressure_pa(mu)), per)
     probe = MeasuredRun(name, source, [np.nan], pressure_unit, [1.0], amount_unit, leg, scenario.temperature_k)
     values = amount * unit_factor(probe, scenario.pore(), sample, sample.pore_volume_cm3_g or 1.0)

@@ -29,6 +29,7 @@ import numpy as np
 from scipy.optimize import differential_evolution, least_squares
 
 from . import fit_model as fm
+from .branches import measured_branches
 from .fit_params import FREE_PARAMETERS, PARAMETER_UNITS, ParameterSpace
 from .measured import LEGS, MeasuredRun, Sample
 from .scenario import Scenario
@@ -56,8 +57,9 @@ class FitRequest:
     sample : mass, pore volume, d100 (a d100 ties the hexagon's wall to its side).
     free : free parameter names, from ``FREE_PARAMETERS``.
     bounds : {name: (low, high)} replacing the default bounds (units of ``PARAMETER_UNITS``).
-    branches : {leg: branch} — the model branch each leg is compared with; default adsorption → 'adsorption',
-        desorption → 'desorption' ('equilibrium' compares with the lower-Ω state instead).
+    branches : {leg: branch} — the model branch each leg is compared with; by default the branch a measurement
+        follows in pores with the scenario's ends (`physics.branches.measured_branches`: open pores compare
+        adsorption with 'adsorption' and desorption with 'equilibrium', the lower-Ω state).
     noise_relative, noise_floor : σ_i = noise_relative × max(|y_i|, noise_floor × max|y|) in the run's unit;
         with ``scale_covariance`` only their ratios matter for the errors (s² rescales them).
     pressure_noise : relative uncertainty of a recorded pressure (σ of ln p). Above 0 each point is compared
@@ -83,7 +85,7 @@ class FitRequest:
     sample: Sample = field(default_factory=Sample)
     free: tuple[str, ...] = ("wall-strength", "size", "pore-volume")
     bounds: dict = field(default_factory=dict)
-    branches: dict = field(default_factory=lambda: {"adsorption": "adsorption", "desorption": "desorption"})
+    branches: dict = field(default_factory=dict)
     noise_relative: float = 0.02
     noise_floor: float = 0.05
     pressure_noise: float = 0.01
@@ -110,7 +112,7 @@ class FitRequest:
         free = tuple(dict.fromkeys(str(f).strip() for f in ([self.free] if isinstance(self.free, str)
                                                             else self.free)))
         object.__setattr__(self, "free", free)
-        branches = {**{"adsorption": "adsorption", "desorption": "desorption"}, **dict(self.branches)}
+        branches = {**measured_branches(self.scenario.pore_ends), **dict(self.branches)}
         for leg, branch in branches.items():
             if leg not in LEGS or branch not in BRANCHES:
                 raise ValueError(f"branches maps a leg ({', '.join(LEGS)}) to a branch ({', '.join(BRANCHES)}); "

@@ -58,14 +58,33 @@ def _refine(problem, mu, logits, k: int, rising: bool, bisections: int):
     return a, before, after
 
 
+def _equilibrium_curve(iso, mu: np.ndarray, per: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The equilibrium on the grid, each first-order transition a riser at its exact μ: below it the
+    adsorption branch's amount, above it the desorption branch's."""
+    ads, des = iso.per_angstrom("adsorption"), iso.per_angstrom("desorption")
+    xs, ys, last = [], [], 0
+    for mu_star in sorted(s.mu_k for s in iso.steps if s.kind == "first-order" and mu[0] < s.mu_k < mu[-1]):
+        k = int(np.searchsorted(mu, mu_star))          # mu[k-1] < mu* <= mu[k]
+        if k <= last:
+            continue
+        xs += [mu[last:k], np.array([mu_star, mu_star])]
+        ys += [per[last:k], np.array([np.interp(mu_star, mu, ads), np.interp(mu_star, mu, des)])]
+        last = k
+    xs.append(mu[last:])
+    ys.append(per[last:])
+    return np.concatenate(xs), np.concatenate(ys)
+
+
 def branch_curve(iso, branch: str, *, bisections: int = _BISECTIONS) -> tuple[np.ndarray, np.ndarray]:
     """(μ, atoms per Å) vertices of ``branch`` of an `Isotherm`, ascending in μ, with a vertical riser (two
     vertices at one μ) at each jump, placed to 2^-bisections of its grid interval. 'equilibrium' is returned
-    on the grid as it is."""
+    with a riser at each first-order step's equilibrium μ (found by root-finding, `physics.adsorption`)."""
     mu = iso.mu
     per = iso.per_angstrom(branch)
-    if branch == "equilibrium" or mu.size < 3:
+    if mu.size < 3:
         return mu, per
+    if branch == "equilibrium":
+        return _equilibrium_curve(iso, mu, per)
     problem = iso.stage.problem
     b = getattr(iso, branch)
     total = b.occupancy @ problem.weights

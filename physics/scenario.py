@@ -28,7 +28,9 @@ class Scenario:
     catalog's adsorbate–solid ε, σ and the solid's density. The lattice-gas model takes its site spacing
     (default: the bulk liquid's density), its bond energy ε_b (default: by ``bond_calibration``, see
     `physics.bond`), the site model (how site free energies are computed; None: the adsorbate's default,
-    `site_model_used`) and, for amounts per gram, the sample's specific pore volume.
+    `site_model_used`) and, for amounts per gram, the sample's specific pore volume. ``pore_ends`` says
+    which branch a measurement follows (`physics.branches`: "open" at both ends, the default; "closed-end";
+    "infinite").
     """
 
     shape: str = "hexagon"
@@ -45,6 +47,7 @@ class Scenario:
     bond_calibration: str | None = None
     site_model: str | None = None
     pore_volume_cm3_g: float | None = None
+    pore_ends: str = "open"
     title: str = ""
     notes: str = ""
 
@@ -56,6 +59,9 @@ class Scenario:
                 continue
             if not isinstance(value, str) or value not in known:
                 raise ValueError(f"{name} must be one of {', '.join(known)}; got {value!r}")
+        from .branches import PORE_ENDS
+        if self.pore_ends not in PORE_ENDS:
+            raise ValueError(f"pore_ends must be one of {', '.join(PORE_ENDS)}; got {self.pore_ends!r}")
         for name in ("title", "notes"):
             if not isinstance(getattr(self, name), str):
                 raise ValueError(f"{name} must be text; got {getattr(self, name)!r}")

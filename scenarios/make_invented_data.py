@@ -2,6 +2,8 @@
 
     .venv/bin/python scenarios/make_invented_data.py
 
+(it also copies the nitrogen runs into ``demo-nitrogen-invented-measured.toml``)
+
 - ``invented-nitrogen-77K.csv``: nitrogen at 77.35 K in a hexagonal silica pore array, p/p0 and cm³(STP)/g,
   an adsorption and a desorption leg (a ``leg`` column).
 - ``invented-helium-dosing.csv``: helium-4 at 1.5 K in the same sample, dosed amounts in mol for a sample
@@ -89,10 +91,24 @@ def helium(rng) -> str:
     return "\n".join(lines) + "\n"
 
 
+def refresh_demo_scenario() -> None:
+    """Copy the nitrogen runs into demo-nitrogen-invented-measured.toml (the rest of that file is kept)."""
+    from explorer.measured.reader import read_measured
+    from explorer.scenario_file import dump_document, load_document
+
+    path = HERE / "demo-nitrogen-invented-measured.toml"
+    first = path.read_text(encoding="utf-8").splitlines()[0]
+    name = "invented-nitrogen-77K.csv"
+    runs = read_measured(name, (HERE / name).read_bytes()).runs
+    text = dump_document(load_document(path).replace(measured=tuple(runs)))
+    path.write_text(first + "\n" + text, encoding="utf-8")
+
+
 def main() -> None:
     rng = np.random.default_rng(SEED)
     (HERE / "invented-nitrogen-77K.csv").write_text(nitrogen(rng), encoding="utf-8")
     (HERE / "invented-helium-dosing.csv").write_text(helium(rng), encoding="utf-8")
+    refresh_demo_scenario()
 
 
 if __name__ == "__main__":

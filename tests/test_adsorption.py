@@ -4,7 +4,6 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from scipy import constants
-from scipy.optimize import brentq
 
 from physics.adsorption import compute_isotherm
 from physics.stages import thermal_stage
@@ -132,44 +131,6 @@ class TestHelium:
         p = setup.pressure_pa(mu)
         ideal = p / (constants.k * 4.0) * 1e-30 * boltz                       # atoms per Å
         assert n_per_a == pytest.approx(ideal, rel=1e-6)
-
-
-def kruk_jaroniec_sayari_relative_pressure(d_nm: float) -> float:
-    """Condensation p/p0 for N2 at 77 K in a cylindrical silica pore of diameter d (KJS 1997, value from
-    memory — REFERENCES.md §6): d/2 = r_K + t + 0.3 nm, r_K = 0.954 nm / ln(p0/p),
-    t = 0.1 [60.65 / (0.03071 − log10(p/p0))]^0.3968 nm."""
-    def gap(x):
-        r_k = 0.954 / np.log(1 / x)
-        t = 0.1 * (60.65 / (0.03071 - np.log10(x))) ** 0.3968
-        return r_k + t + 0.3 - d_nm / 2
-    return brentq(gap, 1e-4, 0.999)
-
-
-def nitrogen_condensation_table():
-    rows = []
-    for d in (3, 4, 5, 6, 7, 8):
-        iso = compute_isotherm(Scenario(shape="cylinder", size_angstrom=5.0 * d, adsorbate="nitrogen",
-                                        temperature_k=77.35))
-        biggest = max(iso.steps, key=lambda s: s.added_per_nm)
-        rows.append((d, biggest.relative_pressure, kruk_jaroniec_sayari_relative_pressure(d), biggest.kind))
-    return rows
-
-
-def test_kjs_reference_values():
-    # REFERENCES.md §6 (derived from the KJS relation): 3 nm -> 0.21, 4 -> 0.38, 5 -> 0.51, 6 -> 0.59
-    for d, want in ((3, 0.21), (4, 0.38), (5, 0.51), (6, 0.59)):
-        assert kruk_jaroniec_sayari_relative_pressure(d) == pytest.approx(want, abs=0.01)
-
-
-def test_nitrogen_condensation_near_kelvin_based_values():
-    # N2 at 77.35 K in 3–8 nm cylinders: the equilibrium condensation step rises with pore size and lies
-    # within 0.12 in p/p0 of the KJS (1997) Kelvin-based values (value from memory; the table is printed
-    # by benchmarks/bench_isotherm.py)
-    rows = nitrogen_condensation_table()
-    table = "\n".join(f"d = {d} nm: model {m:.3f}, KJS {k:.3f} ({kind})" for d, m, k, kind in rows)
-    model = [m for _, m, _, _ in rows]
-    assert all(b > a for a, b in zip(model, model[1:])), table
-    assert all(abs(m - k) < 0.12 for _, m, k, _ in rows), table
 
 
 def test_without_fluid_interaction_every_step_is_continuous():

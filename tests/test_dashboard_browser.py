@@ -336,3 +336,25 @@ def test_quantum_tab_shows_states_both_models_and_step_shifts(page):
     page.get_by_text("Pore", exact=True).first.click()
     page.locator(STEPS).first.wait_for(state="visible", timeout=10_000)
     assert page.console_errors == []
+
+
+def test_pore_ends_and_the_relative_pressure_axis(page):
+    """Choosing how the pores end changes what the caption says is drawn as measured (physics.branches); the
+    p/p0 axis shows a linear relative-pressure plot, what nitrogen users read isotherms on."""
+    from explorer.testing import text_of, wait_for_text_change
+
+    notes = ".porefill-branch-notes"
+    page.locator(notes).first.wait_for(timeout=60_000)
+    before = text_of(page, notes)
+    assert "Pore ends: open" in before and "equilibrium branch" in before
+    page.get_by_role("button", name="closed-end").click()
+    wait_for_text_change(page, notes, before)
+    after = text_of(page, notes)
+    assert "Pore ends: closed-end" in after and "Adsorption follows the model's equilibrium branch" in after
+    box = page.locator(ISOTHERM).first
+    page.wait_for_timeout(800)
+    log_png = box.screenshot()
+    page.get_by_role("button", name="p/p₀ (linear)").click()
+    page.wait_for_timeout(1200)
+    assert box.screenshot() != log_png          # another plot is on show (its text is drawn on the canvas)
+    assert page.console_errors == []

@@ -56,8 +56,9 @@ def register(sub) -> None:
     p.add_argument("--pressure-unit", choices=tuple(PRESSURE_UNITS), help="unit of the pressure column")
     p.add_argument("--amount-unit", choices=MEASURED_AMOUNT_UNITS, help="unit of the amount column")
     p.add_argument("--sheet", help="sheet of an .xlsx workbook (default: the first)")
-    p.add_argument("--desorption-branch", choices=("desorption", "equilibrium"), default="desorption",
-                   help="model branch the desorption legs are compared with (default desorption)")
+    p.add_argument("--desorption-branch", choices=("desorption", "equilibrium"), default=None,
+                   help="model branch the desorption legs are compared with (default: by --pore-ends; "
+                        "open pores: equilibrium)")
     p.add_argument("--gauge-floor", type=float, metavar="Pa",
                    help="lowest pressure the gauge reads, Pa (for points recorded without pressure)")
     p.add_argument("--noise", type=float, default=0.02,
@@ -107,7 +108,8 @@ def _request(args, runs):
     try:
         sample = Sample(mass_g=args.mass, pore_volume_cm3_g=args.pore_volume, d100_angstrom=args.d100)
         return FitRequest(scenario, tuple(runs), sample, free=tuple(args.free.split(",")), bounds=_bounds(args.bounds),
-                          branches={"desorption": args.desorption_branch}, noise_relative=args.noise,
+                          branches={} if args.desorption_branch is None else {"desorption": args.desorption_branch},
+                          noise_relative=args.noise,
                           pressure_noise=args.pressure_noise, gauge_floor_pa=args.gauge_floor, seed=args.seed)
     except ValueError as exc:
         raise UsageError(str(exc)) from None

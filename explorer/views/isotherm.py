@@ -18,16 +18,17 @@ from bokeh.palettes import Cividis256
 from bokeh.plotting import figure
 
 from physics.adsorption import Isotherm
+from physics.branches import branch_notes
 from physics.lattice import slit_row_sites
 from physics.scenario import Scenario
 
 from ..compute import LatestRunner, isotherm_job, short_error
-from ..isotherm_export import amount_labels, isotherm_csv
+from ..isotherm_export import amount_labels, calibration_note, isotherm_csv
 from ..state import ExplorerState, describe
 from .potential import FRAME, outline
 
 ADS_COLOUR, DES_COLOUR, EQ_COLOUR = "#1b6ca8", "#d1495b", "#333333"
-MODEL_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k"]
+MODEL_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k", "pore_ends"]
 # a change of these moves the pressure range so much that the picked pressure starts afresh
 RANGE_KEYS = ("shape", "adsorbate", "temperature_k")
 PICK_FRACTION = 0.8      # where in the log-pressure range the occupancy map starts: the upper layers
@@ -62,20 +63,22 @@ class IsothermView(pn.viewable.Viewer):
 
     def __init__(self, **params):
         super().__init__(**params)
-        self._curves = ColumnDataSource({k: [] for k in ("mu", "p", "ads", "des", "kads", "kdes")})
-        self._steps = ColumnDataSource({k: [] for k in ("mu", "p", "n", "label")})
+        self._curves = ColumnDataSource({k: [] for k in ("mu", "p", "rel", "ads", "des", "lim", "kads", "kdes")})
+        self._steps = ColumnDataSource({k: [] for k in ("mu", "p", "rel", "n", "label")})
         self._sites = ColumnDataSource({k: [] for k in ("x", "y", "occ", "where")})
         self._outline = ColumnDataSource({"xs": [], "ys": []})
-        self.x_axis = pn.widgets.RadioButtonGroup(options=["pressure (log)", "chemical potential"],
+        self.x_axis = pn.widgets.RadioButtonGroup(options=["pressure (log)", "p/p₀ (linear)", "chemical potential"],
                                                   value="pressure (log)")
         self.branch = pn.widgets.RadioButtonGroup(options=["adsorption", "desorption", "equilibrium"],
                                                   value="equilibrium")
+        self.pore_ends = pn.widgets.RadioButtonGroup.from_param(self.state.param.pore_ends, name="Pore ends")
         self.pick = pn.widgets.FloatSlider(label="Occupancy map at log₁₀(p / Pa)", start=-10, end=0, step=0.01,
                                            value=-1, width=FRAME + 50)
-        self._p0_span = [Span(dimension="height", line_dash="dashed", line_color="#888888") for _ in range(2)]
-        self._pick_span = [Span(dimension="height", line_color="#f4a259", line_width=2) for _ in range(2)]
+        self._p0_span = [Span(dimension="height", line_dash="dashed", line_color="#888888") for _ in range(3)]
+        self._pick_span = [Span(dimension="height", line_color="#f4a259", line_width=2) for _ in range(3)]
         self._fig_p = self._isotherm_figure("log")
         self._fig_mu = self._isotherm_figure("linear")
+        self._fig_rel = self._isotherm_figure("relative")
         self._fig_k = self._compressibility_figure()
         self._fig_occ = self._occupancy_figure()
         self._message = pn.pane.HTML("", css_classes=["porefill-isotherm-message"], visible=False,
@@ -88,7 +91,8 @@ class IsothermView(pn.viewable.Viewer):
                                       styles={"font-size": "13px"})
         self.download = pn.widgets.FileDownload(callback=self.csv_file, filename="isotherm.csv",
                                                 label="Download the isotherm (CSV)", width=260)
-        self._iso_box = pn.Column(self._iso_caption, self.x_axis, self.branch, pn.pane.Bokeh(self._fig_p),
+        self._iso_box = pn.Column(self._iso_caption, self.x_axis, pn.Row(pn.pane.HTML("Pore ends:"), self.pore_ends),
+                                  self.branch, pn.pane.Bokeh(self._fig_p), pn.pane.Bokeh(self._fig_rel),
                                   pn.pane.Bokeh(self._fig_mu), css_classes=["porefill-isotherm"])
         self._occ_box = pn.Column(self.pick, pn.pane.Bokeh(self._fig_occ), self._occ_text,
                                   css_classes=["porefill-occupancy-map"])
@@ -106,7 +110,7 @@ class IsothermView(pn.viewable.Viewer):
         self.pick.param.watch(self._on_pick, "value_throttled")
         self.branch.param.watch(self._update_occupancy, "value")
         self.x_axis.param.watch(self._swap_axis, "value")
-        for fig in (self._fig_p, self._fig_mu):
+        for fig in (self._fig_p, self._fig_mu, self._fig_rel):
             fig.on_event(Tap, self._on_tap)
 
     @property
@@ -115,25 +119,30 @@ class IsothermView(pn.viewable.Viewer):
 
     # figures --------------------------------------------------------------------------------------
     def _isotherm_figure(self, axis: str):
+        """axis: 'log' (pressure, log scale), 'relative' (p/p0, linear) or 'linear' (μ)."""
         log = axis == "log"
-        x = "p" if log else "mu"
-        # the μ figure starts hidden, so it gets explicit ranges (Bokeh cannot size a hidden plot's own)
+        x = {"log": "p", "relative": "rel", "linear": "mu"}[axis]
+        # the μ and p/p0 figures start hidden, so they get explicit ranges (Bokeh cannot size a hidden plot's own)
         extra = {} if log else {"x_range": Range1d(0, 1), "y_range": Range1d(0, 1)}
+        label = {"log": "pressure p (Pa)", "relative": "relative pressure p/p₀",
+                 "linear": "chemical potential μ (K)"}[axis]
         fig = figure(title="Isotherm (mean-field lattice gas)", x_axis_type="log" if log else "linear",
-                     x_axis_label="pressure p (Pa)" if log else "chemical potential μ (K)",
+                     x_axis_label=label,
                      y_axis_label="coverage (atoms/nm; slit: per nm²)", frame_width=FRAME, frame_height=230,
                      tools="pan,wheel_zoom,box_zoom,reset,save,tap", toolbar_location="above", visible=log,
                      **extra)
         fig.line(x, "ads", source=self._curves, color=ADS_COLOUR, line_width=2, legend_label="adsorption")
         fig.line(x, "des", source=self._curves, color=DES_COLOUR, line_width=2, line_dash="dashed",
-                 legend_label="desorption")
+                 legend_label="desorption (as measured)")
+        fig.line(x, "lim", source=self._curves, color="#9a9a9a", line_width=1.5, line_dash="dotted",
+                 legend_label="mean-field desorption limit")
         fig.scatter(x, "n", source=self._steps, size=9, color="#f4a259", line_color="black")
         fig.add_layout(LabelSet(x=x, y="n", text="label", source=self._steps, x_offset=6, y_offset=-14,
                                 text_font_size="11px"))
-        k = 0 if log else 1
+        k = {"log": 0, "linear": 1, "relative": 2}[axis]
         fig.add_layout(self._p0_span[k])
         fig.add_layout(self._pick_span[k])
-        fig.legend.location = "top_left"
+        fig.legend.location = "bottom_right" if axis == "relative" else "top_left"
         fig.legend.label_text_font_size = "12px"
         fig.legend.background_fill_alpha = 0.8
         return fig
@@ -213,25 +222,35 @@ class IsothermView(pn.viewable.Viewer):
 
     def _apply(self, sc: Scenario, iso: Isotherm) -> None:
         previous, self._iso, self._shown = self._shown, iso, sc
-        ads, des = iso.per_nm(iso.adsorption), iso.per_nm(iso.desorption)
+        ads, des = iso.per_nm(iso.measured_branch("adsorption")), iso.per_nm(iso.measured_branch("desorption"))
+        limit = iso.per_nm(iso.desorption)
+        if iso.measured_branch("desorption") == "desorption":
+            limit = np.full(limit.shape, np.nan)        # the drawn desorption is the limit itself
         p = iso.pressure_pa
         lo, hi = round(float(np.log10(p[0])), 2), round(float(np.log10(p[-1])), 2)
         label = html.escape(describe(sc))
         with pn.io.hold():
             self._message.visible = False
-            self._curves.data = {"mu": iso.mu, "p": p, "ads": ads, "des": des,
+            rel = iso.relative_pressure
+            self._curves.data = {"mu": iso.mu, "p": p, "rel": rel, "ads": ads, "des": des, "lim": limit,
                                  "kads": iso.compressibility_per_nm(iso.adsorption),
                                  "kdes": iso.compressibility_per_nm(iso.desorption)}
             steps = iso.steps
             self._steps.data = {"mu": [s.mu_k for s in steps], "p": [s.pressure_pa for s in steps],
+                                "rel": [s.relative_pressure for s in steps],
                                 "n": [float(np.interp(s.mu_k, iso.mu, 0.5 * (ads + des))) for s in steps],
                                 "label": [str(i) for i in range(1, len(steps) + 1)]}
             top = float(max(ads.max(), des.max())) * 1.05 or 1.0
             self._fig_mu.x_range.update(start=float(iso.mu[0]), end=float(iso.mu[-1]))
             self._fig_mu.y_range.update(start=-0.02 * top, end=top)
+            self._fig_rel.x_range.update(start=0.0, end=min(1.02, max(1.0, float(rel[-1])) * 1.02))
+            self._fig_rel.y_range.update(start=-0.02 * top, end=top)
             self._p0_span[0].location = iso.setup.saturation_pressure_pa
             self._p0_span[1].location = iso.setup.mu_coexistence_k
-            self._iso_caption.object = f"<p>For {label}. Dashed line: p₀.</p>"
+            self._p0_span[2].location = 1.0
+            notes = "".join(f"<li>{html.escape(n)}</li>" for n in branch_notes(iso))
+            self._iso_caption.object = (f"<p>For {label}. Dashed line: p₀.</p>"
+                                        f"<ul class='porefill-branch-notes'>{notes}</ul>")
             self._table.object = self._steps_table(iso, label)
             lines = outline(sc)
             self._outline.data = {"xs": [q[:, 0] for q in lines], "ys": [q[:, 1] for q in lines]}
@@ -285,7 +304,8 @@ class IsothermView(pn.viewable.Viewer):
         note = (f"<p style='font-size:90%'>p₀ = {setup.saturation_pressure_pa:.4g} Pa; "
                 f"{html.escape(setup.bond_note)}; lattice spacing {setup.spacing_angstrom:.3f} Å, "
                 f"{setup.problem.weights.sum():g} sites per slice. "
-                f"First-order steps are placed where the branches' grand potentials cross.</p>")
+                f"First-order steps are placed where the branches' grand potentials cross.</p>"
+                f"{calibration_note(iso)}")
         return (f"<table class='porefill-step-table'><caption style='text-align:left'><b>Layer steps</b> for "
                 f"{label}</caption>{head}{body}</table>{note}")
 
@@ -318,6 +338,7 @@ class IsothermView(pn.viewable.Viewer):
             self._sites.data = {"x": x, "y": y, "occ": occ, "where": where}
             self._pick_span[0].location = float(iso.pressure_pa[k])
             self._pick_span[1].location = float(iso.mu[k])
+            self._pick_span[2].location = float(iso.relative_pressure[k])
             self._occ_text.object = (
                 f"<p><b>Occupancy map</b> ({html.escape(self.branch.value)}) for {html.escape(describe(sc))}, "
                 f"at p = {iso.pressure_pa[k]:.3g} Pa "
@@ -330,15 +351,21 @@ class IsothermView(pn.viewable.Viewer):
         iso = self._iso
         if iso is None or event.x is None:
             return
-        p = event.x if self.x_axis.value.startswith("pressure") else float(iso.setup.pressure_pa(event.x))
+        if self.x_axis.value.startswith("pressure"):
+            p = event.x
+        elif self.x_axis.value.startswith("p/p"):
+            p = event.x * iso.setup.saturation_pressure_pa
+        else:
+            p = float(iso.setup.pressure_pa(event.x))
         if p > 0:
             value = round(float(np.clip(np.log10(p), self.pick.start, self.pick.end)), 2)
             self._set_pick(value)
             self._update_occupancy()
 
     def _swap_axis(self, event):
-        log = event.new.startswith("pressure")
-        self._fig_p.visible, self._fig_mu.visible = log, not log
+        shown = {"pressure": self._fig_p, "p/p": self._fig_rel, "chemical": self._fig_mu}
+        for start, fig in shown.items():
+            fig.visible = event.new.startswith(start)
 
     def __panel__(self):
         plots = pn.FlexBox(self._iso_box, self._occ_box, self._k_box, flex_wrap="wrap", gap="8px 16px",

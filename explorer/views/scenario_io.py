@@ -33,7 +33,8 @@ log = logging.getLogger("porefill.explorer")
 URL_KEYS = ("shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k")
 _APPLY_ORDER = ("adsorbate", "shape", "isolated", "wall_angstrom", "size_angstrom", "temperature_k")
 MAX_SCENARIO_BYTES = 4 * 1024 * 1024      # a scenario with many measured runs is well under 1 MB
-_AXIS_LABEL = {"pressure": "pressure (log)", "chemical-potential": "chemical potential"}
+_AXIS_LABEL = {"pressure": "pressure (log)", "relative-pressure": "p/p₀ (linear)",
+               "chemical-potential": "chemical potential"}
 _TAB_NAMES = {"pore": "Pore", "quantum": "Quantum", "measured": "Measured", "about": "About"}
 WIDTH = 220
 
@@ -92,7 +93,7 @@ class ScenarioIO(pn.viewable.Viewer):
         axis, branch, pick, tab = "pressure", "equilibrium", None, "pore"
         iso = self.isotherm
         if iso is not None:
-            axis = "pressure" if iso.x_axis.value.startswith("pressure") else "chemical-potential"
+            axis = {label: key for key, label in _AXIS_LABEL.items()}[iso.x_axis.value]
             branch = iso.branch.value
             if getattr(iso, "_iso", None) is not None:
                 pick = float(iso.pick.value)
