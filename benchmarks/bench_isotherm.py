@@ -6,14 +6,11 @@ from __future__ import annotations
 
 import json
 import statistics
-import sys
 import time
-from pathlib import Path
 
 from physics.adsorption import compute_isotherm
 from physics.scenario import Scenario
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 
 
 def time_isotherm(side: float, reps: int) -> list[float]:
@@ -35,12 +32,16 @@ def main() -> None:
         print(json.dumps({"benchmark": f"isotherm_hexagon_{side:g}A_helium_1.5K_classical_300mu_both_branches",
                           "median_s": round(statistics.median(t), 3), "max_s": round(max(t), 3), "reps": reps,
                           "note": "new geometry each rep: wall potential, sites, both branches, steps"}))
-    from test_adsorption import nitrogen_condensation_table
+    from physics.kelvin import kjs_condensation_relative_pressure
+    from physics.steps import condensation_step
 
     print("\nN2 at 77.35 K in silica cylinders: equilibrium condensation step vs Kruk–Jaroniec–Sayari (1997)")
     print(f"{'d (nm)':>7} {'model p/p0':>11} {'KJS p/p0':>9}  kind")
-    for d, model, kjs, kind in nitrogen_condensation_table():
-        print(f"{d:>7} {model:>11.3f} {kjs:>9.3f}  {kind}")
+    for d in (3, 4, 5, 6, 7, 8):
+        iso = compute_isotherm(Scenario(shape="cylinder", size_angstrom=5.0 * d, adsorbate="nitrogen",
+                                        temperature_k=77.35))
+        step = condensation_step(iso.steps)
+        print(f"{d:>7} {step.relative_pressure:>11.3f} {kjs_condensation_relative_pressure(d):>9.3f}  {step.kind}")
 
 
 if __name__ == "__main__":

@@ -109,3 +109,24 @@ def test_bad_files_get_their_own_message_and_the_page_stays_alive(page, tmp_path
     page.get_by_text("Pore", exact=True).first.click()
     page.locator(".porefill-steps table").first.wait_for(state="visible", timeout=10_000)
     assert page.console_errors == []
+
+
+def test_a_50_mb_file_arrives_in_chunks_and_is_read(nitrogen_page, tmp_path):
+    """FileInput would send a file in one websocket message (20 MB default; larger drops the connection); the
+    dropper sends 4 MB chunks, so a 50 MB file (the demo's data behind 50 MB of comment lines) arrives and is
+    read, and the page answers afterwards (common practice, no source: a lab export with a long log header)."""
+    page = nitrogen_page
+    _open_tab(page)
+    path = tmp_path / "big-export.csv"
+    line = "# instrument log: " + "x" * 100 + "\n"
+    with path.open("w", encoding="utf-8") as f:
+        f.write(line * (50 * 2**20 // len(line)))
+        f.write(DEMO.read_text(encoding="utf-8"))
+    assert path.stat().st_size > 50 * 2**20
+    _upload(page, path)
+    caption = _wait_for_text(page, ".porefill-overlay-caption", path.name, timeout_s=120.0)
+    assert path.name in caption
+    assert "Traceback" not in text_of(page, ".porefill-file-problems")
+    page.get_by_text("Pore", exact=True).first.click()
+    page.locator(".porefill-steps table").first.wait_for(state="visible", timeout=30_000)
+    assert page.console_errors == []
