@@ -88,6 +88,7 @@ def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewab
     isotherm.listeners.append(measured.model_arrived)
     if isotherm._iso is not None:
         measured.model_arrived(isotherm._shown, isotherm._iso)
+    measured.show_document(doc)
     scenario_io = ScenarioIO(state=state, document=doc, isotherm=isotherm, measured=measured)
     side = pn.Column(pn.pane.HTML("<h3>Pore and gas</h3>"), controls(state), scenario_io, width=CONTROLS_WIDTH)
     pore_page = pn.Row(side, views, sizing_mode="stretch_width", name="Pore")

@@ -26,3 +26,24 @@ def test_out_of_range_settings_show_a_message_and_keep_the_view_alive():
     assert view.csv_file().getvalue().startswith(b"no isotherm")
     state.size_angstrom = 15.0                          # recovers
     assert not view._message.visible and view._iso.steps
+
+
+def test_measured_runs_and_sample_of_a_scenario_file_reach_the_measured_tab():
+    """A scenario file's [[measured]] runs and [sample] show in the Measured data tab as they were saved,
+    each sample value with its source, and Save writes them back (scenario save → load round trip)."""
+    from explorer.scenario_file import load_document, resolve_scenario
+    from explorer.views.measured import MeasuredView
+    from explorer.views.scenario_io import ScenarioIO
+
+    doc = load_document(resolve_scenario("demo-nitrogen-invented-measured"))
+    state = ExplorerState.from_scenario(doc.scenario)
+    measured = MeasuredView(state=state)
+    io_view = ScenarioIO(state=state, document=doc, measured=measured)
+    measured.show_document(doc)
+    assert [r.name for r in measured.runs()] == [r.name for r in doc.measured]
+    sample = measured.sample()
+    assert sample.pore_volume_cm3_g == doc.sample.pore_volume_cm3_g and sample.source_of("pore_volume_cm3_g") == "typed"
+    assert "From the scenario file" in measured.problems.object
+    saved = io_view.current_document()
+    assert [r.name for r in saved.measured] == [r.name for r in doc.measured]
+    np.testing.assert_array_equal(saved.measured[0].amount, doc.measured[0].amount)

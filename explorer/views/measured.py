@@ -82,6 +82,7 @@ class MeasuredView(pn.viewable.Viewer):
                                                 label="Download the fitted model and residuals (CSV)", width=330,
                                                 disabled=True)
         self._files: dict[str, dict] = {}          # name -> {"data": bytes, "result": ReadResult | None, ...}
+        self._document_runs: tuple = ()             # runs a scenario file brought with it
         self._iso = None
         self._fit = None
         self._job = None
@@ -199,7 +200,29 @@ class MeasuredView(pn.viewable.Viewer):
         self._redraw()
 
     def runs(self) -> list:
-        return [r for e in self._files.values() if e.get("result") is not None for r in e["result"].runs]
+        """The runs a scenario file brought and those of every dropped file."""
+        dropped = [r for e in self._files.values() if e.get("result") is not None for r in e["result"].runs]
+        return [*self._document_runs, *dropped]
+
+    def show_document(self, doc) -> None:
+        """Show what a scenario file holds for this tab: its measured runs (as copied into the file) and its
+        sample, each value with the source the file gives."""
+        self._document_runs = tuple(doc.measured)
+        if doc.sample is not None:
+            self._setting_sample = True
+            try:
+                for name, widget in self.sample_inputs.items():
+                    value = getattr(doc.sample, name, None)
+                    widget.value = value
+                    if value is not None:
+                        self._sample_source[name] = doc.sample.source_of(name) or "typed"
+            finally:
+                self._setting_sample = False
+            self._show_sample_sources()
+        if self._document_runs:
+            names = ", ".join(html.escape(f"{r.name} ({r.amount.size} points)") for r in self._document_runs)
+            self.problems.object = f"<p><b>From the scenario file</b>: {len(self._document_runs)} run(s) — {names}</p>"
+        self._redraw()
 
     # sample -----------------------------------------------------------------------------------------
     def sample(self) -> Sample:
@@ -277,6 +300,8 @@ class MeasuredView(pn.viewable.Viewer):
             label = html.escape(describe(self.state.scenario()))
             legend = "; ".join(f"<span style='color:{RUN_COLOURS[i % len(RUN_COLOURS)]}'>●</span> "
                                f"{html.escape(o.run.name)}" for i, o in enumerate(overlays))
+            if not overlays:
+                legend = "no run can be placed yet (see below)"
             self.caption.object = (f"<p>Model for {label}. Measured: {legend}.</p>"
                                    + "".join(f"<p class='porefill-overlay-note'>{html.escape(n)}</p>" for n in notes))
 

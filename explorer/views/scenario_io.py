@@ -200,6 +200,8 @@ class ScenarioIO(pn.viewable.Viewer):
             self.state.param.update(base=sc, solid=sc.solid, title=sc.title, adsorbate=sc.adsorbate)
         self.state.param.update(**{k: v for k, v in values.items() if k != "adsorbate"})
         self.document = doc
+        if self.measured is not None:
+            self.measured.show_document(doc)
         self.apply_view(doc.view)
 
     @staticmethod
