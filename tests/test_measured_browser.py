@@ -124,9 +124,8 @@ def test_a_50_mb_file_arrives_in_chunks_and_is_read(nitrogen_page, tmp_path):
         f.write(DEMO.read_text(encoding="utf-8"))
     assert path.stat().st_size > 50 * 2**20
     _upload(page, path)
-    caption = _wait_for_text(page, ".porefill-overlay-caption", path.name, timeout_s=120.0)
-    assert path.name in caption
-    assert "Traceback" not in text_of(page, ".porefill-file-problems")
+    read = _wait_for_text(page, ".porefill-file-problems p", f"{path.name}: 2 run(s)", timeout_s=120.0)
+    assert f"{path.name}: 2 run(s)" in read and "Traceback" not in read
     page.get_by_text("Pore", exact=True).first.click()
     page.locator(".porefill-steps table").first.wait_for(state="visible", timeout=30_000)
     assert page.console_errors == []
