@@ -24,7 +24,7 @@ from typing import Any, Callable
 import panel as pn
 from panel.io.state import set_curdoc
 
-__all__ = ["TIME_LIMIT_S", "LatestRunner", "isotherm_pool", "map_pool", "temperature_window", "short_error"]
+__all__ = ["TIME_LIMIT_S", "LatestRunner", "isotherm_pool", "map_pool", "retire_pools", "temperature_window", "short_error"]
 
 log = logging.getLogger("porefill.explorer")
 
@@ -49,6 +49,16 @@ def _pool(kind: str) -> Executor:
                 pool = ThreadPoolExecutor(ISOTHERM_WORKERS, thread_name_prefix=f"porefill-{kind}")
             _pools[kind] = pool
         return pool
+
+
+def retire_pools() -> None:
+    """Shut the pools down (a later request starts new ones): their worker processes and what they cache
+    go with them. Used when no session is open."""
+    with _pools_lock:
+        pools = list(_pools.values())
+        _pools.clear()
+    for pool in pools:
+        pool.shutdown(wait=False, cancel_futures=True)
 
 
 def isotherm_pool() -> Executor:

@@ -1,6 +1,7 @@
 """Serving the dashboard with Panel's Bokeh server, behind the gate of `explorer.security`."""
 from __future__ import annotations
 
+import logging
 import os
 import secrets
 
@@ -28,7 +29,14 @@ def start_server(scenario: Scenario | None, *, address: str, port: int, policy: 
 
     from .app import create_app
 
+    from .session_memory import session_closed, session_opened
+
     def page():
+        try:
+            pn.state.on_session_destroyed(session_closed)     # the last one out gives the caches back
+            session_opened()
+        except Exception:          # noqa: BLE001 - the page matters more than the memory bookkeeping
+            logging.getLogger("porefill.explorer").exception("cannot watch this session's end")
         return create_app(scenario)
 
     secret_key = _secret_key()

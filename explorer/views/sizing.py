@@ -46,6 +46,15 @@ def _runner(address: str) -> SweepRunner:
         return r
 
 
+def close_runners() -> None:
+    """Shut every shared runner's pool down (a later sweep starts a new one); used when no session is open."""
+    with _runners_lock:
+        runners = list(_runners.values())
+        _runners.clear()
+    for r in runners:
+        r.close(terminate=True)
+
+
 def _on_session(doc, callback) -> None:
     def run():
         with set_curdoc(doc):
