@@ -27,9 +27,12 @@ porefill computes the potential an adsorbed atom feels inside the pores of an or
 causes, from a mean-field lattice-gas model. Conventions: lengths in Å, energies and temperatures in K, the pore centre at
 the origin, one corner of the hexagon on the +x axis.
 
-The adsorbate–solid pair parameters come from a published pair where one is known; otherwise they are
-**derived** with the Lorentz–Berthelot rules, and the page says so. Fits to measured isotherms are where such
-parameters get pinned.
+The adsorbate–solid pair parameters come from a published pair where one is known (argon, nitrogen); otherwise
+they are **derived** with the Lorentz–Berthelot rules, and the page says so. Nitrogen's published ε carries one
+wall-strength factor (1.08) for this lattice, calibrated once against the Kelvin equation with a statistical film
+(Kruk, Jaroniec & Sayari 1997) in 3–8 nm silica cylinders at 77.35 K and then held fixed for every size and
+temperature: nitrogen gives a type IV isotherm with a monolayer by p/p₀ 0.2 and condensation within 0.02 of that
+relation at 4–8 nm (0.15 against 0.21 at 3 nm). Fits to measured isotherms are where such parameters get pinned.
 
 ### The adsorption model
 
@@ -46,7 +49,14 @@ pore, the desorption branch down from a full one; first-order steps sit where th
 Pressures: p = p₀(T)·exp[(μ − μ<sub>coex</sub>)/kT], where μ<sub>coex</sub> is the chemical potential of bulk liquid–vapour coexistence; p₀ comes from ITS-90 for helium-4 (extrapolated below 1.25 K) and
 from CoolProp for the other gases. By default the bond energy ε<sub>b</sub> is calibrated so that the lattice's bulk
 condensation falls at p₀ *and* the low-pressure (Henry) limit is exact; the steps table says which
-calibration is in force. Mean-field hysteresis loops are wider than measured ones. Helium's first layers
+calibration is in force, and a line under it which bulk facts that calibration keeps and by how much it
+misses the others (nitrogen's mean-field critical temperature is 201 K against 126.2 K, so its loops are wide).
+
+**Branches and pore ends.** In a pore open at both ends (the default) desorption happens at the equilibrium
+transition, through a receding meniscus: that is the desorption curve drawn, overlaid on data and fitted. The
+mean-field desorption branch of an infinite pore is drawn dotted, as a limit only. A pore closed at one end fills
+and empties at equilibrium (no loop); "infinite" keeps both mean-field spinodals. Where mean field predicts a loop
+below nitrogen's lower closure point (p/p₀ ≈ 0.42 at 77 K), the page says that measurements there are reversible. Helium's first layers
 form at pressures far below what gauges read: compare amounts, not pressures, there.
 
 ### Quantum states (site model "quantum")
