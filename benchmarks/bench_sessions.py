@@ -41,7 +41,6 @@ import asyncio
 import json
 import os
 import subprocess
-import sys
 import tempfile
 import time
 from collections import Counter
@@ -51,6 +50,7 @@ import numpy as np
 from playwright.async_api import async_playwright
 
 from bench_browser_redraw import ARGS, free_port
+from explorer.testing import serve_scenario
 
 ROOT = Path(__file__).resolve().parents[1]
 SCENARIO = ROOT / "scenarios" / "demo-nitrogen-invented-measured.toml"
@@ -80,22 +80,7 @@ SHADOW_TEXT = "e => (e.shadowRoot || e).textContent"
 # ---- server and its memory ------------------------------------------------------------------------
 def serve(scenario: Path, port: int, log) -> subprocess.Popen:
     """``porefill serve`` in a subprocess writing to ``log``; returned once the port accepts connections."""
-    import socket
-
-    exe = Path(sys.executable).with_name("porefill")
-    proc = subprocess.Popen([str(exe), "serve", "--scenario", str(scenario), "--port", str(port)],
-                            stdout=log, stderr=subprocess.STDOUT, env={**os.environ, "PYTHONUNBUFFERED": "1"})
-    deadline = time.time() + 120
-    while time.time() < deadline:
-        try:
-            socket.create_connection(("127.0.0.1", port), timeout=0.5).close()
-            return proc
-        except OSError:
-            if proc.poll() is not None:
-                raise RuntimeError("server exited before listening") from None
-            time.sleep(0.2)
-    proc.kill()
-    raise RuntimeError("server did not start within 120 s")
+    return serve_scenario(scenario, port, output=log, timeout_s=120.0)
 
 
 def process_tree(root: int) -> list[int]:

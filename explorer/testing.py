@@ -96,10 +96,11 @@ def wait_for_loading(page, selector: str, loading: bool, timeout_s: float = 60.0
     raise TimeoutError(f"{selector} did not {'start' if loading else 'stop'} loading")
 
 
-def serve_scenario(scenario_file, port: int, *extra: str, env: dict | None = None):
+def serve_scenario(scenario_file, port: int, *extra: str, env: dict | None = None, output=None,
+                   timeout_s: float = 60.0):
     """Start ``porefill serve`` on ``scenario_file`` at 127.0.0.1:``port`` (with ``extra`` arguments and the
-    environment ``env``, default this process's) in a subprocess; return it once the port accepts
-    connections (the caller terminates it)."""
+    environment ``env``, default this process's) in a subprocess, its output to ``output`` (an open file;
+    default a pipe); return it once the port accepts connections (the caller terminates it)."""
     import os
     import socket
     import subprocess
@@ -109,18 +110,19 @@ def serve_scenario(scenario_file, port: int, *extra: str, env: dict | None = Non
     exe = Path(sys.executable).with_name("porefill")
     environment = {**(os.environ if env is None else env), "PYTHONUNBUFFERED": "1"}
     proc = subprocess.Popen([str(exe), "serve", "--scenario", str(scenario_file), "--port", str(port), *extra],
-                            stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True, env=environment)
-    deadline = time.time() + 60
+                            stdout=subprocess.PIPE if output is None else output, stderr=subprocess.STDOUT,
+                            text=True, env=environment)
+    deadline = time.time() + timeout_s
     while time.time() < deadline:
         try:
             socket.create_connection(("127.0.0.1", port), timeout=0.5).close()
             return proc
         except OSError:
             if proc.poll() is not None:
-                raise RuntimeError(f"server exited: {proc.stdout.read()}")
+                raise RuntimeError(f"server exited: {proc.stdout.read() if proc.stdout else 'see its log'}")
             time.sleep(0.2)
     proc.kill()
-    raise RuntimeError("server did not start within 60 s")
+    raise RuntimeError(f"server did not start within {timeout_s:g} s")
 
 
 _RECORDER = """([host, key]) => {
