@@ -164,8 +164,9 @@ def _cmd_isotherm(args) -> int:
     else:
         print(isotherm_summary(iso))
     if iso.stage.scale.p0_extrapolated:
-        sys.stderr.write(f"porefill: note: p0 at {scenario.temperature_k:g} K is extrapolated below the ITS-90 "
-                         "range (1.25 K); the JSON flags it\n")
+        from physics.vapour_pressure import temperature_range
+        sys.stderr.write(f"porefill: note: p0 of {scenario.adsorbate} at {scenario.temperature_k:g} K is extrapolated "
+                         f"({temperature_range(scenario.adsorbate)[2]}); the JSON flags it\n")
     return 0
 
 

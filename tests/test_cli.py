@@ -211,3 +211,13 @@ def test_isotherm_site_model_is_reported():
                               "--temperature", "77.35", "--points", "40", "--json").stdout)
     assert nitrogen["model"]["site_model"] == "classical"
     assert quantum_first > 100 * classical["steps"][0]["pressure_pa"]     # zero-point energy lifts the first layer
+
+
+def test_extrapolated_p0_note_names_the_gas_and_the_extrapolation():
+    # argon at 77.35 K lies below its 83.81 K triple point (CoolProp): p0 is a supercooled liquid's, and the
+    # note says so rather than speak of helium's ITS-90 range
+    out = run("isotherm", "--pore", "cylinder", "--size", "20", "--adsorbate", "argon", "--temperature", "77.35",
+              "--points", "20", "--json")
+    assert out.returncode == 0
+    assert "argon" in out.stderr and "supercooled" in out.stderr and "ITS-90" not in out.stderr
+    assert json.loads(out.stdout)["model"]["saturation_pressure_extrapolated"] is True
