@@ -287,7 +287,8 @@ def test_hostile_scenario_title_is_shown_as_text(browser, tmp_path):
 
     scenario = tmp_path / "hostile.toml"
     scenario.write_text(f'[scenario]\ntitle = "{HOSTILE}"\nshape = "hexagon"\nsize_angstrom = 12.0\n'
-                        'wall_angstrom = 6.0\nadsorbate = "helium-4"\ntemperature_k = 1.5\n', encoding="utf-8")
+                        'wall_angstrom = 6.0\nadsorbate = "helium-4"\ntemperature_k = 1.5\n'
+                        'site_model = "classical"\n', encoding="utf-8")     # fast first page: the test is on the title
     with socket.socket() as s:
         s.bind(("127.0.0.1", 0))
         port = s.getsockname()[1]
