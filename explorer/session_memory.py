@@ -33,13 +33,30 @@ def session_opened() -> None:
 
 
 def session_closed(session_context) -> None:
-    """Count a session out; with none left, release what the sessions kept (`release_memory`)."""
+    """Count a session out and let go of its page; with none left, release what the sessions kept
+    (`release_memory`)."""
     global _open
+    _let_go(session_context)
     with _lock:
         _open = max(0, _open - 1)
         last = _open == 0
     if last:
         release_memory()
+
+
+def _let_go(session_context) -> None:
+    """Drop a closed session's pending callbacks (each holds the views it would update) and its roots, so its
+    page can be collected even where something still refers to the document (measured: without this every
+    closed session's whole page stayed in memory, about 6 MB each)."""
+    doc = getattr(session_context, "_document", None)
+    if doc is None:
+        return
+    try:
+        for callback in list(doc.session_callbacks):
+            doc.callbacks.remove_session_callback(callback)
+        doc.clear()
+    except Exception:          # noqa: BLE001 - letting go must never take the server down
+        _log.debug("could not let go of a closed session's document", exc_info=True)
 
 
 def _caches():
