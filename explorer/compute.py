@@ -52,13 +52,12 @@ def _pool(kind: str) -> Executor:
 
 
 def retire_pools() -> None:
-    """Shut the pools down (a later request starts new ones): their worker processes and what they cache
-    go with them. Used when no session is open."""
+    """Shut the isotherm pool down (a later request starts a new one): its worker processes and what they
+    cache go with them. Jobs already given to it still run. Used when no session is open."""
     with _pools_lock:
-        pools = list(_pools.values())
-        _pools.clear()
-    for pool in pools:
-        pool.shutdown(wait=False, cancel_futures=True)
+        pool = _pools.pop("isotherm", None)
+    if pool is not None:
+        pool.shutdown(wait=False, cancel_futures=False)
 
 
 def isotherm_pool() -> Executor:
@@ -201,7 +200,12 @@ class LatestRunner:
         gen, fn, args, on_result, on_error, doc = job
         self._queued = None
         try:
-            future = _pool(self.kind).submit(fn, *args)
+            try:
+                future = _pool(self.kind).submit(fn, *args)
+            except RuntimeError:          # the pool was retired meanwhile (explorer.session_memory): a new one
+                with _pools_lock:
+                    _pools.pop(self.kind, None)
+                future = _pool(self.kind).submit(fn, *args)
         except Exception as exc:          # noqa: BLE001 - e.g. a pool broken by a killed worker
             log.exception("%s: could not start", self.name)
             with _pools_lock:

@@ -80,8 +80,11 @@ def release_memory() -> None:
         for cache in _caches():
             cache.cache_clear()
         SWEEP_CACHE.clear()
-        retire_pools()
-        close_runners()
+        with _lock:
+            idle = _open == 0              # a session may have opened meanwhile: then keep the workers
+        if idle:
+            retire_pools()
+            close_runners()
     except Exception:          # noqa: BLE001 - releasing memory must never take the server down
         _log.exception("releasing memory after the last session failed")
     gc.collect()

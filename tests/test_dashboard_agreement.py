@@ -17,7 +17,7 @@ PORFILL = Path(sys.executable).with_name("porefill")
 
 def test_page_and_command_line_agree_on_the_deepest_minimum(page):
     # the demo scenario: hexagon of side 15 Å in an array with 8 Å walls, helium-4 on silica
-    page.locator(".porefill-readout p").first.wait_for(timeout=30_000)
+    page.locator(".porefill-readout p").first.wait_for(timeout=90_000)     # a fresh server's first page
     shown = readout_text(page)
     out = subprocess.run([str(PORFILL), "potential", "--pore", "hexagon", "--size", "15", "--wall", "8",
                           "--adsorbate", "helium-4", "--grid", "200"], capture_output=True, text=True, check=True)
