@@ -22,7 +22,7 @@ from pathlib import Path
 
 from playwright.sync_api import sync_playwright
 
-from explorer.testing import drag_handle, readout_text, slider_handle, text_of
+from porefill.explorer.server.testing import drag_handle, readout_text, slider_handle, text_of
 
 ROOT = Path(__file__).resolve().parents[1]
 ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update",

@@ -14,10 +14,10 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from explorer.measured import read_measured_path  # noqa: E402
-from physics.fitting import FitRequest, fit  # noqa: E402
-from physics.measured import Sample  # noqa: E402
-from physics.scenario import Scenario  # noqa: E402
+from porefill.explorer.files.measured import read_measured_path  # noqa: E402
+from porefill.physics.fitting.solve import FitRequest, fit  # noqa: E402
+from porefill.physics.fitting.measured import Sample  # noqa: E402
+from porefill.physics.scenario import Scenario  # noqa: E402
 
 
 def main() -> None:

@@ -19,8 +19,8 @@ def main() -> None:
     from bokeh.models import ColumnDataSource
     from bokeh.plotting import figure
 
-    from physics.scenario import Scenario
-    from physics.wall_potential import potential_map
+    from porefill.physics.scenario import Scenario
+    from porefill.physics.pore.wall_potential import potential_map
 
     hv.extension("bokeh")
     maps = []

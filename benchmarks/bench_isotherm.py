@@ -8,8 +8,8 @@ import json
 import statistics
 import time
 
-from physics.adsorption import compute_isotherm
-from physics.scenario import Scenario
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.scenario import Scenario
 
 
 
@@ -32,8 +32,8 @@ def main() -> None:
         print(json.dumps({"benchmark": f"isotherm_hexagon_{side:g}A_helium_1.5K_classical_300mu_both_branches",
                           "median_s": round(statistics.median(t), 3), "max_s": round(max(t), 3), "reps": reps,
                           "note": "new geometry each rep: wall potential, sites, both branches, steps"}))
-    from physics.kelvin import kjs_condensation_relative_pressure
-    from physics.steps import condensation_step
+    from porefill.physics.substances.kelvin import kjs_condensation_relative_pressure
+    from porefill.physics.lattice_gas.steps import condensation_step
 
     print("\nN2 at 77.35 K in silica cylinders: equilibrium condensation step vs Kruk–Jaroniec–Sayari (1997)")
     print(f"{'d (nm)':>7} {'model p/p0':>11} {'KJS p/p0':>9}  kind")

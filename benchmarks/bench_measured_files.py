@@ -13,7 +13,7 @@ import time
 
 import numpy as np
 
-from explorer.measured import LIMITS, MeasuredFileError, read_measured
+from porefill.explorer.files.measured import LIMITS, MeasuredFileError, read_measured
 
 _HEADER = ["P (Pa)", "n (mmol/g)", "p/p0", "T (K)", "time (s)", "dose", "p_dose (Pa)", "V_cell (cm3)",
            "T_bath (K)", "T_room (K)", "flow", "heater", "index"]

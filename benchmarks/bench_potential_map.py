@@ -11,9 +11,9 @@ import time
 
 import numpy as np
 
-from physics import wall_potential as wp
-from physics.geometry import HexagonPore
-from physics.materials import pair_parameters
+from porefill.physics.pore import wall_potential as wp
+from porefill.physics.pore.geometry import HexagonPore
+from porefill.physics.substances.materials import pair_parameters
 
 
 def timed(fn, reps):

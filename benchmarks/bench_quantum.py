@@ -8,8 +8,8 @@ import json
 import statistics
 import time
 
-from physics.adsorption import compute_isotherm
-from physics.scenario import Scenario
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.scenario import Scenario
 
 
 def main() -> None:

@@ -12,9 +12,9 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from explorer.figures import FIGURES, figure_job  # noqa: E402
-from explorer.report import build_report, default_sizes  # noqa: E402
-from explorer.scenario_file import demo_names, load_document, resolve_scenario  # noqa: E402
+from porefill.explorer.outputs.figures import FIGURES, figure_job  # noqa: E402
+from porefill.explorer.outputs.report import build_report, default_sizes  # noqa: E402
+from porefill.explorer.files.scenario_file import demo_names, load_document, resolve_scenario  # noqa: E402
 
 
 def main() -> None:

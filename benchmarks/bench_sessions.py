@@ -50,7 +50,7 @@ import numpy as np
 from playwright.async_api import async_playwright
 
 from bench_browser_redraw import ARGS, free_port
-from explorer.testing import serve_scenario
+from porefill.explorer.server.testing import serve_scenario
 
 ROOT = Path(__file__).resolve().parents[1]
 SCENARIO = ROOT / "scenarios" / "demo-nitrogen-invented-measured.toml"

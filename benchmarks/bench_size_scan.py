@@ -3,10 +3,10 @@
 - helium-4 at 1.5 K in a hexagonal array with 8 Å walls, side 12–40 Å in 0.25 Å steps: the pressure of the
   first-layer (face) step and of the step that fills the centre, per size;
 - nitrogen at 77.35 K in silica cylinders of 3–8 nm diameter, radius in 0.25 Å steps: the equilibrium
-  condensation p/p0 (`physics.steps.condensation_step`) and the Kelvin–KJS reference.
+  condensation p/p0 (`porefill.physics.lattice_gas.steps.condensation_step`) and the Kelvin–KJS reference.
 
 For each curve it prints the largest change between neighbouring sizes away from where a new row of sites
-enters (a real step in the sizing, `physics.placement`) and at those sizes, and for nitrogen
+enters (a real step in the sizing, `porefill.physics.sites.placement`) and at those sizes, and for nitrogen
 whether the condensation p/p0 rises with size. Classical site model (`--site-model quantum` for helium-4's
 default, much slower). Run: .venv/bin/python benchmarks/bench_size_scan.py [--site-model quantum]
 """
@@ -18,11 +18,11 @@ import time
 
 import numpy as np
 
-from physics.adsorption import compute_isotherm
-from physics.kelvin import kjs_condensation_relative_pressure
-from physics.scenario import Scenario
-from physics.stages import geometry_stage
-from physics.steps import condensation_step
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.substances.kelvin import kjs_condensation_relative_pressure
+from porefill.physics.scenario import Scenario
+from porefill.physics.lattice_gas.stages import geometry_stage
+from porefill.physics.lattice_gas.steps import condensation_step
 
 
 def _filling(step, name: str) -> bool:
@@ -30,7 +30,7 @@ def _filling(step, name: str) -> bool:
 
 
 def _rows(sc: Scenario) -> int:
-    """How many rows of sites the pore holds, from the wall to the centre (`physics.placement`)."""
+    """How many rows of sites the pore holds, from the wall to the centre (`porefill.physics.sites.placement`)."""
     return int(geometry_stage(sc).candidates.ring.max()) + 1
 
 

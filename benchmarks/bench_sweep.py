@@ -1,10 +1,10 @@
 """Sizing sweep: 40 side lengths 10–50 Å, helium-4 at 1.5 K, 8 Å walls, full isotherms (300 points).
 Prints JSON lines. The target (issue 9) is under 20 s on the development machine.
 
-- the classical site model: the whole sweep through `explorer.sweep_runner.SweepRunner` (worker processes,
+- the classical site model: the whole sweep through `porefill.explorer.jobs.sweep_runner.SweepRunner` (worker processes,
   one per core; pool start-up included), then the same sweep again from the cache;
 - the quantum site model (helium-4's default): by default a sample of sizes, one pore at a time in this
-  process, split into the one-atom states (`physics.quantum.cached_states`) and the rest of the isotherm,
+  process, split into the one-atom states (`porefill.physics.sites.quantum.cached_states`) and the rest of the isotherm,
   with the number of states and grid points per pore, and an estimate of the whole sweep (per-pore times
   interpolated over the 40 sizes, divided among the workers); ``--quantum-full`` runs the whole sweep.
 
@@ -19,9 +19,9 @@ import time
 
 import numpy as np
 
-from explorer.sweep_runner import SweepRunner
-from physics.scenario import Scenario
-from physics.sweep import SweepSpec, parse_range
+from porefill.explorer.jobs.sweep_runner import SweepRunner
+from porefill.physics.scenario import Scenario
+from porefill.physics.sweep import SweepSpec, parse_range
 
 SIZES = parse_range("10:50:40")
 
@@ -50,9 +50,9 @@ def full_sweep(model: str, workers: int) -> None:
 
 
 def quantum_sample(sizes: tuple[float, ...], workers: int) -> None:
-    from physics.adsorption import compute_isotherm
-    from physics.quantum import cached_states
-    from physics.stages import geometry_stage
+    from porefill.physics.lattice_gas.adsorption import compute_isotherm
+    from porefill.physics.sites.quantum import cached_states
+    from porefill.physics.lattice_gas.stages import geometry_stage
 
     base = _spec("quantum").base
     times = []

@@ -1,15 +1,15 @@
 """Calibrate nitrogen's wall-strength factor once, against the Kelvin–KJS condensation pressures (prints a table).
 
-The published N2–silica pair (ε, σ; `physics.materials`) sets the wall's shape; on porefill's wall-following
+The published N2–silica pair (ε, σ; `porefill.physics.substances.materials`) sets the wall's shape; on porefill's wall-following
 lattice the wall needs a stronger ε for the same adsorption, because the first row holds fewer contact sites
 than a continuum film. One factor f multiplies ε for every size and temperature. This script scans f, and for
 each value computes nitrogen at 77.35 K in cylinders of 3–8 nm diameter: the equilibrium condensation p/p0
-(the step that adds most), against `physics.kelvin.kjs_condensation_relative_pressure`, and the film at
+(the step that adds most), against `porefill.physics.substances.kelvin.kjs_condensation_relative_pressure`, and the film at
 p/p0 = 0.2 in close-packed monolayers (6.17 molecules/nm², IUPAC 1985). It prints one JSON line per f and the
 factor with the smallest rms miss among those that form at least 0.7 of a monolayer by p/p0 0.2 in every pore.
 
 Run: .venv/bin/python benchmarks/calibrate_wall_factor.py [--factors 1.0:1.2:11]
-The value found is stored in `physics.materials.WALL_FACTORS` with this script named as its source.
+The value found is stored in `porefill.physics.substances.materials.WALL_FACTORS` with this script named as its source.
 """
 from __future__ import annotations
 
@@ -18,11 +18,11 @@ import json
 
 import numpy as np
 
-from physics.adsorption import compute_isotherm
-from physics.kelvin import kjs_condensation_relative_pressure
-from physics.materials import PUBLISHED_PAIRS
-from physics.scenario import Scenario
-from physics.steps import condensation_step
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.substances.kelvin import kjs_condensation_relative_pressure
+from porefill.physics.substances.materials import PUBLISHED_PAIRS
+from porefill.physics.scenario import Scenario
+from porefill.physics.lattice_gas.steps import condensation_step
 
 DIAMETERS_NM = (3, 4, 5, 6, 7, 8)
 MONOLAYER_PER_NM2 = 6.17          # 0.162 nm² per N2 molecule (IUPAC, Sing et al. 1985)

@@ -1,7 +1,7 @@
 """porefill's dashboard, command line and files. In a notebook::
 
-    import explorer
-    explorer.app("demo-hexagon-helium")       # or a Scenario, a scenario file's path, a ScenarioDocument
+    from porefill.explorer import app
+    app("demo-hexagon-helium")       # or a Scenario, a scenario file's path, a ScenarioDocument
 
 Importing this package is cheap: Panel and the physics load when `app` is first called.
 """
@@ -9,6 +9,6 @@ Importing this package is cheap: Panel and the physics load when `app` is first 
 
 def app(scenario=None):
     """The dashboard as a Panel object (displays in Jupyter; `.servable()` or `pn.serve` serve it)."""
-    from .app import notebook_app
+    from porefill.explorer.views.dashboard import notebook_app
 
     return notebook_app(scenario)

@@ -10,6 +10,8 @@ import math
 
 import numpy as np
 
+from porefill.physics.choices import SIZE_NAMES
+
 __all__ = ["SIZE_RANGE_ANGSTROM", "MAX_WALL_ANGSTROM", "SPACING_RANGE_ANGSTROM", "MAX_SITES", "POINTS_RANGE",
            "GRID_RANGE", "check_number", "minimum_wall_angstrom", "check_geometry", "check_points",
            "check_grid", "check_pressure_range", "estimated_sites"]
@@ -59,7 +61,7 @@ def check_geometry(shape: str, size_angstrom, wall_angstrom, *, solid_density_pe
                    spacing_angstrom: float | None) -> None:
     """Size, wall and lattice spacing within the limits above; ValueError naming the one that is not."""
     lo, hi = SIZE_RANGE_ANGSTROM[shape]
-    what = {"hexagon": "side length", "cylinder": "radius", "slit": "width"}[shape]
+    what = SIZE_NAMES[shape]
     size = check_number(f"{shape} {what} (size_angstrom)", size_angstrom, low=lo, high=hi, unit="Å")
     if wall_angstrom is not None and shape != "cylinder":
         w_min = minimum_wall_angstrom(solid_density_per_a3)

@@ -2,16 +2,16 @@
 
 Everything the physics needs is here; the dashboard, the command line and saved files build one of
 these and hand it down, and caches and sweep workers take it as their only key. `to_dict` / `from_dict`
-round-trip through plain types (TOML, JSON, URLs). Limits are checked once, in `physics.limits`.
+round-trip through plain types (TOML, JSON, URLs). Limits are checked once, in `porefill.physics.limits`.
 """
 from __future__ import annotations
 
 from dataclasses import asdict, dataclass, fields
 
-from .geometry import PORE_SHAPES, Pore, make_pore
-from .limits import check_geometry, check_number
-from .materials import ADSORBATES, SOLIDS, PairParameters, pair_parameters
-from .site_models import SITE_MODEL_NAMES, default_site_model
+from porefill.physics.pore.geometry import PORE_SHAPES, Pore, make_pore
+from porefill.physics.limits import check_geometry, check_number
+from porefill.physics.substances.materials import ADSORBATES, SOLIDS, PairParameters, pair_parameters
+from porefill.physics.sites.site_models import SITE_MODEL_NAMES, default_site_model
 
 __all__ = ["Scenario"]
 
@@ -27,9 +27,9 @@ class Scenario:
     unbounded solid; the cylinder is always isolated. The three pair overrides, when set, replace the
     catalog's adsorbate–solid ε, σ and the solid's density. The lattice-gas model takes its site spacing
     (default: the bulk liquid's density), its bond energy ε_b (default: by ``bond_calibration``, see
-    `physics.bond`), the site model (how site free energies are computed; None: the adsorbate's default,
+    `porefill.physics.lattice_gas.bond`), the site model (how site free energies are computed; None: the adsorbate's default,
     `site_model_used`) and, for amounts per gram, the sample's specific pore volume. ``pore_ends`` says
-    which branch a measurement follows (`physics.branches`: "open" at both ends, the default; "closed-end";
+    which branch a measurement follows (`porefill.physics.lattice_gas.branches`: "open" at both ends, the default; "closed-end";
     "infinite").
     """
 
@@ -59,7 +59,7 @@ class Scenario:
                 continue
             if not isinstance(value, str) or value not in known:
                 raise ValueError(f"{name} must be one of {', '.join(known)}; got {value!r}")
-        from .branches import PORE_ENDS
+        from porefill.physics.lattice_gas.branches import PORE_ENDS
         if self.pore_ends not in PORE_ENDS:
             raise ValueError(f"pore_ends must be one of {', '.join(PORE_ENDS)}; got {self.pore_ends!r}")
         for name in ("title", "notes"):
@@ -71,7 +71,7 @@ class Scenario:
                 check_number(name, getattr(self, name), low=0.0, low_open=True)
         if self.bond_energy_k is not None:
             check_number("bond_energy_k", self.bond_energy_k, low=0.0, unit="K")
-        from .bond import BOND_RULES
+        from porefill.physics.lattice_gas.bond import BOND_RULES
         if self.bond_calibration is not None and self.bond_calibration not in BOND_RULES:
             raise ValueError(f"bond_calibration must be one of {', '.join(BOND_RULES)}; "
                              f"got {self.bond_calibration!r}")
@@ -88,7 +88,7 @@ class Scenario:
     @property
     def site_model_used(self) -> str:
         """The site model computed with: the one named, or the adsorbate's default ("quantum" for
-        helium-4, hydrogen and neon; `physics.site_models.default_site_model`)."""
+        helium-4, hydrogen and neon; `porefill.physics.sites.site_models.default_site_model`)."""
         return self.site_model if self.site_model is not None else default_site_model(self.adsorbate)
 
     def pore(self) -> Pore:

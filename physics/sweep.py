@@ -4,9 +4,9 @@ A `SweepSpec` is a base `Scenario` and the values to vary; `SweepSpec.scenarios`
 scenarios of its grid (temperature slowest, then wall, size fastest). `sweep_point` computes one of them
 into a plain dict (picklable, JSON-ready): its steps, what fills at each step and the occupancy profile
 that `meets` reads a `Target` from. Running a whole grid in parallel is the explorer's job
-(`explorer.sweep_runner`); nothing here prints, reads files or knows about workers.
+(`porefill.explorer.jobs.sweep_runner`); nothing here prints, reads files or knows about workers.
 
-Site groups (from the orbit labels of `physics.stages.ThermalStage.orbit_labels`, the same words a
+Site groups (from the orbit labels of `porefill.physics.lattice_gas.stages.ThermalStage.orbit_labels`, the same words a
 `Step.filling` uses):
 
 - **centre**: the central channel (label "centre");
@@ -24,11 +24,11 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass
-from typing import Callable
 
 import numpy as np
 
-from .scenario import Scenario
+from porefill.physics.choices import DEFAULT_POINTS
+from porefill.physics.scenario import Scenario
 
 __all__ = ["SweepSpec", "parse_range", "sweep_point", "fill_class", "step_fill_class", "occupancy_profile",
            "Target", "TARGET_KINDS", "meets", "holding_intervals", "wall_from_d100", "FILL_CLASSES",
@@ -118,7 +118,7 @@ class SweepSpec:
     sizes_angstrom: tuple = ()
     walls_angstrom: tuple = ()
     temperatures_k: tuple = ()
-    n_points: int = 300
+    n_points: int = DEFAULT_POINTS
     d100_angstrom: float | None = None
 
     def __post_init__(self) -> None:
@@ -126,7 +126,7 @@ class SweepSpec:
             raise ValueError(f"base must be a Scenario; got {type(self.base).__name__}")
         for name in ("sizes_angstrom", "walls_angstrom", "temperatures_k"):
             object.__setattr__(self, name, _values(name, getattr(self, name)))
-        from .limits import check_number, check_points
+        from porefill.physics.limits import check_number, check_points
         object.__setattr__(self, "n_points", check_points(self.n_points))
         if self.d100_angstrom is not None:
             check_number("X-ray spacing (d100_angstrom)", self.d100_angstrom, low=0.0, low_open=True, unit="Å")
@@ -223,19 +223,16 @@ def _plain(values) -> list:
     return [float(v) if math.isfinite(v) else None for v in np.asarray(values, float)]
 
 
-def sweep_point(scenario: Scenario, n_points: int = 300, *,
-                step_dict: Callable | None = None) -> dict:
-    """One pore of a sweep, computed (`physics.adsorption.compute_isotherm`) into plain types.
+def sweep_point(scenario: Scenario, n_points: int = DEFAULT_POINTS) -> dict:
+    """One pore of a sweep, computed (`porefill.physics.lattice_gas.adsorption.compute_isotherm`) into plain types.
 
     Keys: ``size_angstrom``, ``wall_angstrom``, ``temperature_k``, ``site_model`` (the one used),
-    ``n_points``, ``saturation_pressure_pa``, ``steps`` (``step_dict(isotherm, step)`` of each step; by
-    default `Step.to_dict`), ``step_fills`` (`step_fill_class` of each step, in the same order) and
+    ``n_points``, ``saturation_pressure_pa``, ``steps`` (`Isotherm.step_dict` of each step), ``step_fills`` (`step_fill_class` of each step, in the same order) and
     ``profile`` (`occupancy_profile` as lists; None for NaN).
     """
-    from .adsorption import compute_isotherm
+    from porefill.physics.lattice_gas.adsorption import compute_isotherm
 
     iso = compute_isotherm(scenario, n_points=n_points)
-    to_dict = step_dict or (lambda _iso, step: step.to_dict())
     return {
         "size_angstrom": scenario.size_angstrom,
         "wall_angstrom": scenario.effective_wall_angstrom,
@@ -243,7 +240,7 @@ def sweep_point(scenario: Scenario, n_points: int = 300, *,
         "site_model": scenario.site_model_used,
         "n_points": n_points,
         "saturation_pressure_pa": float(iso.stage.saturation_pressure_pa),
-        "steps": [to_dict(iso, s) for s in iso.steps],
+        "steps": [iso.step_dict(s) for s in iso.steps],
         "step_fills": [step_fill_class(s) for s in iso.steps],
         "profile": {k: _plain(v) for k, v in occupancy_profile(iso).items()},
     }
@@ -274,7 +271,7 @@ class Target:
     def __post_init__(self) -> None:
         if self.kind not in TARGET_KINDS:
             raise ValueError(f"target kind must be one of {', '.join(TARGET_KINDS)}; got {self.kind!r}")
-        from .limits import check_number
+        from porefill.physics.limits import check_number
         lo = check_number("target low pressure (low_pa)", self.low_pa, low=0.0, unit="Pa")
         if isinstance(self.high_pa, bool) or not isinstance(self.high_pa, (int, float)) or math.isnan(self.high_pa):
             raise ValueError(f"target high pressure (high_pa) must be a number in Pa; got {self.high_pa!r}")

@@ -24,11 +24,11 @@ import numpy as np
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent))
 
-from physics.adsorption import compute_isotherm  # noqa: E402
-from physics.fit_model import simulated_run  # noqa: E402
-from physics.materials import pair_parameters  # noqa: E402
-from physics.scenario import Scenario  # noqa: E402
-from physics.units import STP_CM3_PER_MMOL  # noqa: E402
+from porefill.physics.lattice_gas.adsorption import compute_isotherm  # noqa: E402
+from porefill.physics.fitting.model import simulated_run  # noqa: E402
+from porefill.physics.substances.materials import pair_parameters  # noqa: E402
+from porefill.physics.scenario import Scenario  # noqa: E402
+from porefill.physics.substances.units import STP_CM3_PER_MMOL  # noqa: E402
 
 SEED = 20240817
 SIDE, WALL, STRENGTH, PORE_VOLUME, MASS_G = 17.3, 8.0, 1.08, 0.62, 0.0500
@@ -93,8 +93,8 @@ def helium(rng) -> str:
 
 def refresh_demo_scenario() -> None:
     """Copy the nitrogen runs into demo-nitrogen-invented-measured.toml (the rest of that file is kept)."""
-    from explorer.measured.reader import read_measured
-    from explorer.scenario_file import dump_document, load_document
+    from porefill.explorer.files.measured.reader import read_measured
+    from porefill.explorer.files.scenario_file import dump_document, load_document
 
     path = HERE / "demo-nitrogen-invented-measured.toml"
     first = path.read_text(encoding="utf-8").splitlines()[0]

@@ -18,7 +18,7 @@ CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networki
 
 @pytest.fixture(scope="session")
 def helium_pair():
-    from physics.materials import pair_parameters
+    from porefill.physics.substances.materials import pair_parameters
     return pair_parameters("helium-4")
 
 

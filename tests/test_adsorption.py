@@ -5,13 +5,13 @@ import numpy as np
 import pytest
 from scipy import constants
 
-from physics.adsorption import compute_isotherm
-from physics.stages import thermal_stage
-from physics.geometry import HexagonPore
-from physics.lattice import build_lattice, default_spacing
-from physics.stages import geometry_stage
-from physics.meanfield import MeanFieldProblem, solve_state
-from physics.scenario import Scenario
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.lattice_gas.stages import thermal_stage
+from porefill.physics.pore.geometry import HexagonPore
+from porefill.physics.sites.lattice import build_lattice, default_spacing
+from porefill.physics.lattice_gas.stages import geometry_stage
+from porefill.physics.lattice_gas.meanfield import MeanFieldProblem, solve_state
+from porefill.physics.scenario import Scenario
 
 HELIUM = Scenario(shape="hexagon", size_angstrom=15.0, wall_angstrom=8.0, adsorbate="helium-4", temperature_k=1.5,
                   site_model="classical")   # the solver and lattice checks use the classical cell averages
@@ -30,7 +30,7 @@ class TestLattice:
 
     def test_triangular_lattice_has_coordination_8(self):
         # every site has the triangular lattice's 6 in-plane neighbours and 2 axial ones away from the wall
-        # (z = 8, the Bragg–Williams coordination of REFERENCES.md §5)
+        # (z = 8, the Bragg–Williams coordination of docs/REFERENCES.md §5)
         pore = HexagonPore(30.0, 5.0)
         lat = build_lattice(pore, 3.75, first_row_angstrom=2.5)
         counts = np.asarray(lat.neighbours.sum(axis=1)).ravel()
@@ -64,7 +64,7 @@ class TestHelium:
         assert helium_isotherm.adsorption.converged.all() and helium_isotherm.desorption.converged.all()
 
     def test_corners_then_faces_then_centre(self, helium_isotherm):
-        # order set by the potential's minima (REFERENCES.md §4: deepest in the corners): μ at half filling
+        # order set by the potential's minima (docs/REFERENCES.md §4: deepest in the corners): μ at half filling
         iso = helium_isotherm
         occ = iso.setup.full_occupancy(iso.adsorption.occupancy)
         kinds = iso.setup.lattice.kind
@@ -120,7 +120,7 @@ class TestHelium:
             assert s.desorption_jump_mu_k <= s.mu_k <= s.adsorption_jump_mu_k
 
     def test_henry_limit_is_exact_with_vapour_pressure_calibration(self, helium_pair):
-        # REFERENCES.md §5 (derived): with ε_b = −(2kT/z) ln(p0 v/kT), N/L -> (p/kT) Σ_cells A⟨e^{−V/kT}⟩
+        # docs/REFERENCES.md §5 (derived): with ε_b = −(2kT/z) ln(p0 v/kT), N/L -> (p/kT) Σ_cells A⟨e^{−V/kT}⟩
         sc = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=4.0, site_model="classical")
         setup = thermal_stage(sc)
         mu = float(setup.problem.site_free_energy.min()) - 25 * 4.0

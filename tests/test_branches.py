@@ -1,12 +1,12 @@
-"""Which branch a measurement follows, by the pore's ends (physics.branches), and what the page says about it."""
+"""Which branch a measurement follows, by the pore's ends (porefill.physics.lattice_gas.branches), and what the page says about it."""
 from __future__ import annotations
 
 import numpy as np
 import pytest
 
-from physics.adsorption import compute_isotherm
-from physics.branches import PORE_ENDS, branch_notes, measured_branches
-from physics.scenario import Scenario
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.lattice_gas.branches import PORE_ENDS, branch_notes, measured_branches
+from porefill.physics.scenario import Scenario
 
 # a 3 nm nitrogen cylinder at 77.35 K: condensation with a mean-field loop below the lower closure point
 SMALL = Scenario(shape="cylinder", size_angstrom=15.0, adsorbate="nitrogen", temperature_k=77.35)
@@ -40,7 +40,7 @@ def test_measured_desorption_never_lies_below_equilibrium_in_open_pores(small):
 
 
 def test_the_notes_say_when_mean_field_hysteresis_would_not_be_measured(small):
-    # lower closure point of N2 at 77 K, p/p0 ≈ 0.42 (REFERENCES.md §6, value from memory): a loop below it
+    # lower closure point of N2 at 77 K, p/p0 ≈ 0.42 (docs/REFERENCES.md §6, value from memory): a loop below it
     # is not seen in measurements, and the page says so rather than hide it
     open_notes = " ".join(branch_notes(small["open"]))
     assert "lower closure point" in open_notes and "limit only" in open_notes

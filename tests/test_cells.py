@@ -4,9 +4,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from physics.scenario import Scenario
-from physics.stages import geometry_stage, thermal_stage
-from physics.wall_potential import potential_map
+from porefill.physics.scenario import Scenario
+from porefill.physics.lattice_gas.stages import geometry_stage, thermal_stage
+from porefill.physics.pore.wall_potential import potential_map
 
 CASES = [
     (Scenario(size_angstrom=15.0, wall_angstrom=8.0, site_model="classical"), (0.5, 1.5, 4.0)),
@@ -56,8 +56,8 @@ def test_cells_tile_the_pore():
 def test_cell_integrals_converged_to_a_hundredth_of_a_kelvin():
     # the same cells with a tolerance 20 times tighter move no site's free energy by more than 0.01 K
     # (self-consistency of the adaptive quadrature; issue's requirement)
-    from physics.cells import site_cells
-    from physics.placement import first_row_distance, place_sites
+    from porefill.physics.sites.cells import site_cells
+    from porefill.physics.sites.placement import first_row_distance, place_sites
 
     sc = Scenario(size_angstrom=15.0, wall_angstrom=8.0, site_model="classical")
     geo = geometry_stage(sc)

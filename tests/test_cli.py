@@ -17,7 +17,7 @@ def run(*args):
 
 
 def naive_polygon_potential(px, py, vertices, eps, sig, rho, sign=1.0):
-    """The per-edge closed form exactly as published in REFERENCES.md §1, written independently:
+    """The per-edge closed form exactly as published in docs/REFERENCES.md §1, written independently:
     4ερ[(7π/256)σ^12 d^-9 (S9(φ2) − S9(φ1)) − (π/8)σ^6 d^-3 (S3(φ2) − S3(φ1))] summed over edges,
     each signed by the side of its line the point is on. Fine away from the edges' lines."""
     def s3(s):
@@ -123,7 +123,7 @@ def test_serve_rejects_missing_scenario_file(tmp_path):
 
 
 def test_vapour_pressure_command():
-    # ITS-90: p(2.0 K) = 3129.7 Pa (REFERENCES.md §3, recomputed)
+    # ITS-90: p(2.0 K) = 3129.7 Pa (docs/REFERENCES.md §3, recomputed)
     out = run("vapour-pressure", "--adsorbate", "helium-4", "--temperature", "2.0", "--json")
     assert out.returncode == 0
     assert json.loads(out.stdout)["pressure_pa"] == pytest.approx(3129.7, rel=1e-4)

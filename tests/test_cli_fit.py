@@ -1,4 +1,4 @@
-"""Tests of `porefill fit`, run in-process through explorer.cli.main: JSON shape and units, the text table,
+"""Tests of `porefill fit`, run in-process through porefill.explorer.cli.main.main: JSON shape and units, the text table,
 CSV output, and plain exit-2 messages for files and options that cannot be used."""
 from __future__ import annotations
 
@@ -8,10 +8,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from explorer.cli import main
-from physics.fit_model import simulated_run
-from physics.materials import pair_parameters
-from physics.scenario import Scenario
+from porefill.explorer.cli.main import main
+from porefill.physics.fitting.model import simulated_run
+from porefill.physics.substances.materials import pair_parameters
+from porefill.physics.scenario import Scenario
 
 TRUE = Scenario(shape="hexagon", size_angstrom=17.3, wall_angstrom=8.0, adsorbate="nitrogen", temperature_k=77.35,
                 pair_epsilon_k=1.08 * pair_parameters("nitrogen", "silica").epsilon_k, site_model="classical",
@@ -35,7 +35,7 @@ def data_file(tmp_path_factory) -> Path:
 
 def _fast(monkeypatch):
     """Small search budgets: the command's output is under test, not the search."""
-    import physics.fitting as fitting
+    import porefill.physics.fitting.solve as fitting
     real = fitting.FitRequest
 
     def small(*args, **kw):

@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from explorer.testing import readout_text
+from porefill.explorer.server.testing import readout_text
 
 pytestmark = pytest.mark.browser
 

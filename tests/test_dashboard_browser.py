@@ -5,7 +5,7 @@ import re
 
 import pytest
 
-from explorer.testing import drag_handle, readout_text, slider_handle, wait_for_readout_change
+from porefill.explorer.server.testing import drag_handle, readout_text, slider_handle, wait_for_readout_change
 
 pytestmark = pytest.mark.browser
 
@@ -55,7 +55,7 @@ OCCUPANCY = ".porefill-occupancy p"
 
 
 def test_temperature_slider_changes_isotherm_and_steps(page):
-    from explorer.testing import text_of, wait_for_text_change
+    from porefill.explorer.server.testing import text_of, wait_for_text_change
 
     page.locator(STEPS).first.wait_for(timeout=30_000)
     page.wait_for_timeout(800)
@@ -72,7 +72,7 @@ def test_temperature_slider_changes_isotherm_and_steps(page):
 
 
 def test_picking_a_pressure_changes_the_occupancy_map(page):
-    from explorer.testing import text_of, wait_for_text_change
+    from porefill.explorer.server.testing import text_of, wait_for_text_change
 
     page.locator(OCCUPANCY).first.wait_for(timeout=30_000)
     page.wait_for_timeout(800)
@@ -102,7 +102,7 @@ def _side(text: str) -> str:
 
 
 def test_clicking_the_isotherm_picks_a_pressure(page):
-    from explorer.testing import slider_title, text_of, wait_for_text_change
+    from porefill.explorer.server.testing import slider_title, text_of, wait_for_text_change
 
     page.locator(OCCUPANCY).first.wait_for(timeout=30_000)
     page.wait_for_timeout(800)
@@ -127,7 +127,7 @@ def _first(records, test, after: float = float("-inf"), clock: str = "t") -> flo
 
 
 def test_stale_isotherm_is_marked_loading_until_its_result_arrives(page):
-    from explorer.testing import (is_loading, readout_text, record_changes, recorded, text_of, wait_for_loading,
+    from porefill.explorer.server.testing import (is_loading, readout_text, record_changes, recorded, text_of, wait_for_loading,
                                   wait_for_text_change)
 
     page.locator(STEPS).first.wait_for(timeout=30_000)
@@ -158,7 +158,7 @@ def test_stale_isotherm_is_marked_loading_until_its_result_arrives(page):
 
 
 def test_other_sessions_stay_responsive_and_isolated(browser, served_app):
-    from explorer.testing import readout_text, record_changes, recorded, slider_title, text_of, wait_for_text_change
+    from porefill.explorer.server.testing import readout_text, record_changes, recorded, slider_title, text_of, wait_for_text_change
 
     pages = []
     for _ in range(2):
@@ -208,7 +208,7 @@ def test_other_sessions_stay_responsive_and_isolated(browser, served_app):
 
 
 def test_occupancy_pressure_follows_the_new_gas(page):
-    from explorer.testing import handle_fraction, slider_title, text_of, wait_for_text_change
+    from porefill.explorer.server.testing import handle_fraction, slider_title, text_of, wait_for_text_change
 
     page.locator(OCCUPANCY).first.wait_for(timeout=30_000)
     page.wait_for_timeout(800)
@@ -234,7 +234,7 @@ def test_occupancy_pressure_follows_the_new_gas(page):
 
 
 def _wall_disabled(page) -> bool:
-    from explorer.testing import slider_track
+    from porefill.explorer.server.testing import slider_track
 
     return slider_track(page, "Wall thickness").get_attribute("disabled") == "true"
 
@@ -283,7 +283,7 @@ HOSTILE = "<img src=x onerror=alert(1)><script>alert(2)</script>"
 def test_hostile_scenario_title_is_shown_as_text(browser, tmp_path):
     import socket
 
-    from explorer.testing import serve_scenario
+    from porefill.explorer.server.testing import serve_scenario
 
     scenario = tmp_path / "hostile.toml"
     scenario.write_text(f'[scenario]\ntitle = "{HOSTILE}"\nshape = "hexagon"\nsize_angstrom = 12.0\n'
@@ -313,7 +313,7 @@ def test_hostile_scenario_title_is_shown_as_text(browser, tmp_path):
 def test_quantum_tab_shows_states_both_models_and_step_shifts(page):
     # helium-4 at 1.5 K, 15 Å side, 8 Å walls (the demo scenario): the issue's independent check gives a
     # zero-point energy of 40.9 K and first-layer steps 10–31 K deeper in μ classically than with the states
-    from explorer.testing import text_of
+    from porefill.explorer.server.testing import text_of
 
     page.locator(STEPS).first.wait_for(timeout=60_000)
     page.get_by_text("Quantum states", exact=True).first.click()
@@ -340,9 +340,9 @@ def test_quantum_tab_shows_states_both_models_and_step_shifts(page):
 
 
 def test_pore_ends_and_the_relative_pressure_axis(page):
-    """Choosing how the pores end changes what the caption says is drawn as measured (physics.branches); the
+    """Choosing how the pores end changes what the caption says is drawn as measured (porefill.physics.lattice_gas.branches); the
     p/p0 axis shows a linear relative-pressure plot, what nitrogen users read isotherms on."""
-    from explorer.testing import text_of, wait_for_text_change
+    from porefill.explorer.server.testing import text_of, wait_for_text_change
 
     notes = ".porefill-branch-notes"
     page.locator(notes).first.wait_for(timeout=60_000)

@@ -3,8 +3,8 @@ from __future__ import annotations
 
 import dataclasses
 
-from explorer.state import ExplorerState
-from physics.scenario import Scenario
+from porefill.explorer.views.state import ExplorerState
+from porefill.physics.scenario import Scenario
 
 
 def test_every_scenario_field_survives_the_page():
@@ -26,9 +26,9 @@ def test_isolated_and_cylinder_scenarios_round_trip():
 
 
 def test_wall_slider_starts_at_the_thinnest_physical_wall():
-    # the scenario refuses walls thinner than one spacing of the solid's force centres (physics.limits)
-    from physics.limits import minimum_wall_angstrom
-    from physics.materials import SOLIDS
+    # the scenario refuses walls thinner than one spacing of the solid's force centres (porefill.physics.limits)
+    from porefill.physics.limits import minimum_wall_angstrom
+    from porefill.physics.substances.materials import SOLIDS
 
     low = ExplorerState.param.wall_angstrom.bounds[0]
     assert low >= minimum_wall_angstrom(SOLIDS["silica"].density_per_a3)

@@ -3,9 +3,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from explorer.state import ExplorerState
-from explorer.views.isotherm import IsothermView
-from physics.scenario import Scenario
+from porefill.explorer.views.state import ExplorerState
+from porefill.explorer.views.isotherm import IsothermView
+from porefill.physics.scenario import Scenario
 
 
 def test_csv_download_matches_the_current_isotherm():
@@ -31,9 +31,9 @@ def test_out_of_range_settings_show_a_message_and_keep_the_view_alive():
 def test_measured_runs_and_sample_of_a_scenario_file_reach_the_measured_tab():
     """A scenario file's [[measured]] runs and [sample] show in the Measured data tab as they were saved,
     each sample value with its source, and Save writes them back (scenario save → load round trip)."""
-    from explorer.scenario_file import load_document, resolve_scenario
-    from explorer.views.measured import MeasuredView
-    from explorer.views.scenario_io import ScenarioIO
+    from porefill.explorer.files.scenario_file import load_document, resolve_scenario
+    from porefill.explorer.views.measured import MeasuredView
+    from porefill.explorer.views.scenario_io import ScenarioIO
 
     doc = load_document(resolve_scenario("demo-nitrogen-invented-measured"))
     state = ExplorerState.from_scenario(doc.scenario)

@@ -4,12 +4,12 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from physics.adsorption import compute_isotherm
-from physics.energies import isotherm_energies, site_energies
-from physics.quantum import cached_states
-from physics.scenario import Scenario
-from physics.stages import thermal_stage
-from physics.wall_potential import potential_map
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.lattice_gas.energies import isotherm_energies, site_energies
+from porefill.physics.sites.quantum import cached_states
+from porefill.physics.scenario import Scenario
+from porefill.physics.lattice_gas.stages import thermal_stage
+from porefill.physics.pore.wall_potential import potential_map
 
 HELIUM = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5)
 NITROGEN = Scenario(shape="cylinder", size_angstrom=20.0, adsorbate="nitrogen", temperature_k=77.35)
@@ -62,7 +62,7 @@ def test_classical_wall_energy_at_low_coverage_against_quadrature():
 
 def test_fluid_energy_sum_rule():
     # −(ε_b/2) Σ_ij A_ij n_i n_j / N: zero without bonds, between −zε_b/2 and 0 with them, and near −zε_b/2 per
-    # atom in a full wide pore where most atoms have all z = 8 neighbours (Bragg–Williams, REFERENCES.md §5)
+    # atom in a full wide pore where most atoms have all z = 8 neighbours (Bragg–Williams, docs/REFERENCES.md §5)
     bare = isotherm_energies(compute_isotherm(HELIUM.replace(site_model="classical", bond_energy_k=0.0), n_points=30))
     assert np.all(bare.fluid_k == 0.0)
     iso = compute_isotherm(NITROGEN.replace(size_angstrom=40.0), n_points=80)

@@ -1,4 +1,4 @@
-"""Tests of physics.fitting: round trips on data the model itself makes (plus seeded noise) in several units
+"""Tests of porefill.physics.fitting.solve: round trips on data the model itself makes (plus seeded noise) in several units
 and layouts, read back through the file reader; error scaling; warnings; cancel; carry_to; equal coverage.
 
 Every fit here uses the classical site model explicitly and small search budgets (coarse grids), so the
@@ -9,14 +9,14 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from physics import fit_model as fm
-from physics.adsorption import compute_isotherm
-from physics.fitting import FitCancelled, FitRequest, carry_to, fit, fitted_curves, residual_table
-from physics.jumps import branch_curve
-from physics.materials import pair_parameters
-from physics.measured import MeasuredRun, Sample
-from physics.scenario import Scenario
-from physics.units import STP_CM3_PER_MMOL, from_pascal
+from porefill.physics.fitting import model as fm
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.fitting.solve import FitCancelled, FitRequest, carry_to, fit, fitted_curves, residual_table
+from porefill.physics.lattice_gas.jumps import branch_curve
+from porefill.physics.substances.materials import pair_parameters
+from porefill.physics.fitting.measured import MeasuredRun, Sample
+from porefill.physics.scenario import Scenario
+from porefill.physics.substances.units import STP_CM3_PER_MMOL, from_pascal
 
 N2_EPS = pair_parameters("nitrogen", "silica").epsilon_k
 HE_EPS = pair_parameters("helium-4", "silica").epsilon_k
@@ -55,7 +55,7 @@ def _csv(runs, p0, pressure_unit, amount_unit, scale=0.015) -> bytes:
 
 
 def _read(data: bytes, name: str, **columns):
-    reader = pytest.importorskip("explorer.measured")
+    reader = pytest.importorskip("porefill.explorer.files.measured")
     cmap = reader.ColumnMap(**columns) if columns else None
     result = reader.read_measured(name, data, columns=cmap)
     assert result.ok, [str(p) for p in result.problems]

@@ -4,7 +4,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from physics.geometry import CylinderPore, HexagonPore, SlitPore, make_pore
+from porefill.physics.pore.geometry import CylinderPore, HexagonPore, SlitPore, make_pore
 
 
 def test_hexagon_corner_on_x_axis_and_faces_at_30_degrees():

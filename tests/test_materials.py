@@ -4,12 +4,12 @@ from __future__ import annotations
 import pytest
 from scipy import constants
 
-from physics.materials import ADSORBATES, SOLIDS, get_adsorbate, pair_parameters
+from porefill.physics.substances.materials import ADSORBATES, SOLIDS, get_adsorbate, pair_parameters
 
 
 @pytest.mark.parametrize("name, eps, sigma", [
-    ("helium-4", 10.22, 2.556),    # de Boer & Michels, Physica 5, 945 (1938) (REFERENCES.md §2, published)
-    ("argon", 119.8, 3.405),       # Michels; Rahman (1964) — value from memory (REFERENCES.md §2)
+    ("helium-4", 10.22, 2.556),    # de Boer & Michels, Physica 5, 945 (1938) (docs/REFERENCES.md §2, published)
+    ("argon", 119.8, 3.405),       # Michels; Rahman (1964) — value from memory (docs/REFERENCES.md §2)
     ("nitrogen", 95.77, 3.572),    # Lastoskie, Gubbins & Quirke (1993) — value from memory
     ("neon", 35.6, 2.75),          # Hirschfelder, Curtiss & Bird (1954) — value from memory
     ("hydrogen", 34.2, 2.96),      # Buch (1994) — value from memory
@@ -21,7 +21,7 @@ def test_adsorbate_lj_parameters(name, eps, sigma):
 
 
 @pytest.mark.parametrize("name, value", [
-    # ħ²/(m k_B) in K·Å², CODATA via scipy.constants (REFERENCES.md §4, verified)
+    # ħ²/(m k_B) in K·Å², CODATA via scipy.constants (docs/REFERENCES.md §4, verified)
     # neon's 2.426 is for the isotope Ne-20 (19.99244 u, value from memory); the catalog holds natural neon
     ("helium-4", 12.1193), ("hydrogen", 24.066), ("neon", 2.426 * 19.99244 / 20.1797), ("nitrogen", 1.732),
     ("argon", 1.214),
@@ -34,20 +34,20 @@ def test_quantum_scale(name, value):
 
 
 def test_silica_oxygen_density():
-    # 2.20 g/cm³, 60.08 g/mol, two O per SiO2 -> 0.0441 Å^-3 (REFERENCES.md §2, verified arithmetic)
+    # 2.20 g/cm³, 60.08 g/mol, two O per SiO2 -> 0.0441 Å^-3 (docs/REFERENCES.md §2, verified arithmetic)
     assert SOLIDS["silica"].density_per_a3 == pytest.approx(0.0441, abs=1e-4)
     assert "derived" in SOLIDS["silica"].density_source
 
 
 def test_argon_uses_published_pair():
-    # Talu & Myers, Colloids Surf. A 187-188, 83 (2001): ε = 93.0 K, σ = 3.335 Å (REFERENCES.md §2)
+    # Talu & Myers, Colloids Surf. A 187-188, 83 (2001): ε = 93.0 K, σ = 3.335 Å (docs/REFERENCES.md §2)
     p = pair_parameters("argon")
     assert (p.epsilon_k, p.sigma_angstrom) == (93.0, 3.335)
     assert p.origin.startswith("published")
 
 
 def test_oxygen_backed_out_and_helium_mixed():
-    # REFERENCES.md §2: ε_O ≈ 72 K, σ_O ≈ 3.27 Å; He–O ≈ 27 K, 2.91 Å (derived, not published)
+    # docs/REFERENCES.md §2: ε_O ≈ 72 K, σ_O ≈ 3.27 Å; He–O ≈ 27 K, 2.91 Å (derived, not published)
     o = SOLIDS["silica"]
     assert o.epsilon_k == pytest.approx(72.2, abs=0.1)
     assert o.sigma_angstrom == pytest.approx(3.265, abs=1e-3)

@@ -7,7 +7,7 @@ from scipy import sparse
 from scipy.optimize import brentq
 from scipy.special import expit
 
-from physics.meanfield import MeanFieldProblem, grand_potential, solve_branch, solve_state
+from porefill.physics.lattice_gas.meanfield import MeanFieldProblem, grand_potential, solve_branch, solve_state
 
 Z = 8
 

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import pytest
 
-from explorer.testing import text_of
+from porefill.explorer.server.testing import text_of
 
 pytestmark = pytest.mark.browser
 
@@ -37,7 +37,7 @@ def _upload(page, path):
 @pytest.fixture(scope="module")
 def nitrogen_page(browser, tmp_path_factory):
     """The dashboard served on a nitrogen scenario of the demo file's pore shape (hexagon, 8 Å walls)."""
-    from explorer.testing import serve_scenario
+    from porefill.explorer.server.testing import serve_scenario
     from conftest import _free_port
 
     scenario = tmp_path_factory.mktemp("scenario") / "nitrogen.toml"

@@ -1,4 +1,4 @@
-"""The reader of lab isotherm files (explorer.measured): round trips through many layouts and units, units
+"""The reader of lab isotherm files (porefill.explorer.files.measured): round trips through many layouts and units, units
 read from headers, a gallery of bad and hostile files each answered by its own message, property-based tests.
 
 All data here is invented for the tests. Values are written with repr() so the text carries every digit;
@@ -16,7 +16,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from explorer.measured import (LIMITS, ColumnMap, FileProblem, MeasuredFileError, ReadResult, parse_unit_from_header,
+from porefill.explorer.files.measured import (LIMITS, ColumnMap, FileProblem, MeasuredFileError, ReadResult, parse_unit_from_header,
                                read_measured, read_measured_path)
 
 RTOL = 1e-12   # the text carries all 17 digits

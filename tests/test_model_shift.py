@@ -4,9 +4,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from physics.adsorption import compute_isotherm
-from physics.model_shift import step_shifts
-from physics.scenario import Scenario
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.lattice_gas.model_shift import step_shifts
+from porefill.physics.scenario import Scenario
 
 HELIUM = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5)
 

@@ -1,21 +1,21 @@
 """Nitrogen at 77.35 K in silica cylinders: a type IV isotherm whose condensation follows the Kelvin equation
-with a statistical film (Kruk, Jaroniec & Sayari 1997), with the pair and wall factor of physics.materials;
-and the bulk facts each calibration keeps (physics.bond.calibration_facts)."""
+with a statistical film (Kruk, Jaroniec & Sayari 1997), with the pair and wall factor of porefill.physics.substances.materials;
+and the bulk facts each calibration keeps (porefill.physics.lattice_gas.bond.calibration_facts)."""
 from __future__ import annotations
 
 import numpy as np
 import pytest
 from scipy import constants
 
-from physics.adsorption import compute_isotherm
-from physics.bond import calibration_facts
-from physics.kelvin import kelvin_length_nm, kjs_condensation_relative_pressure
-from physics.materials import PUBLISHED_PAIRS, WALL_FACTORS, pair_parameters
-from physics.scenario import Scenario
-from physics.steps import condensation_step
-from physics.vapour_pressure import p0_is_extrapolated, saturated_vapour_pressure
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.lattice_gas.bond import calibration_facts
+from porefill.physics.substances.kelvin import kelvin_length_nm, kjs_condensation_relative_pressure
+from porefill.physics.substances.materials import PUBLISHED_PAIRS, WALL_FACTORS, pair_parameters
+from porefill.physics.scenario import Scenario
+from porefill.physics.lattice_gas.steps import condensation_step
+from porefill.physics.substances.vapour_pressure import p0_is_extrapolated, saturated_vapour_pressure
 
-MONOLAYER_PER_NM2 = 6.17     # close-packed N2, 0.162 nm² per molecule (IUPAC, Sing et al. 1985; REFERENCES.md §6)
+MONOLAYER_PER_NM2 = 6.17     # close-packed N2, 0.162 nm² per molecule (IUPAC, Sing et al. 1985; docs/REFERENCES.md §6)
 
 
 def _cylinder(diameter_nm: float, **kw) -> Scenario:
@@ -38,14 +38,14 @@ def table():
 
 
 def test_kelvin_length_matches_the_handbook():
-    # 2γV_L/RT = 0.954 nm from γ = 8.85 mN/m, V_L = 34.68 cm³/mol at 77.35 K (REFERENCES.md §6, handbook values);
+    # 2γV_L/RT = 0.954 nm from γ = 8.85 mN/m, V_L = 34.68 cm³/mol at 77.35 K (docs/REFERENCES.md §6, handbook values);
     # CoolProp's γ and V_L differ by 0.3 % and 0.2 %, so 1 % covers both
     assert kelvin_length_nm(77.35) == pytest.approx(0.954, rel=0.01)
 
 
 @pytest.mark.parametrize("diameter_nm, expected", [(3, 0.21), (4, 0.38), (5, 0.51), (6, 0.59)])
 def test_kjs_relation_gives_the_tabulated_condensation(diameter_nm, expected):
-    # derived condensation pressures of REFERENCES.md §6 (Kruk, Jaroniec & Sayari, Langmuir 13, 6267 (1997);
+    # derived condensation pressures of docs/REFERENCES.md §6 (Kruk, Jaroniec & Sayari, Langmuir 13, 6267 (1997);
     # the t-curve from memory), quoted to two decimals
     assert kjs_condensation_relative_pressure(diameter_nm) == pytest.approx(expected, abs=0.006)
 
@@ -88,7 +88,7 @@ def test_stored_wall_factor_is_the_robust_optimum():
 
 def test_nitrogen_facts_kept_and_missed():
     # vapour-pressure rule: coexistence at p0 and the Henry limit by construction; T_c = zε_b/4 (Bragg–Williams,
-    # Hill 1960) misses CoolProp's 126.19 K by about +60 % (REFERENCES.md §5: 201 K, measured here)
+    # Hill 1960) misses CoolProp's 126.19 K by about +60 % (docs/REFERENCES.md §5: 201 K, measured here)
     iso = compute_isotherm(_cylinder(5), n_points=50)
     facts = {f["fact"]: f for f in calibration_facts(adsorbate="nitrogen", temperature_k=77.35, bond_k=iso.stage.bond_k,
                                                       rule="vapour-pressure",
@@ -103,7 +103,7 @@ def test_nitrogen_facts_kept_and_missed():
 
 
 def test_helium_keeps_its_critical_temperature():
-    # the vapour-pressure rule puts helium-4's Bragg–Williams T_c within 5 % of 5.195 K (REFERENCES.md §5)
+    # the vapour-pressure rule puts helium-4's Bragg–Williams T_c within 5 % of 5.195 K (docs/REFERENCES.md §5)
     iso = compute_isotherm(Scenario(site_model="classical"), n_points=50)
     facts = {f["fact"]: f for f in calibration_facts(adsorbate="helium-4", temperature_k=1.5, bond_k=iso.stage.bond_k,
                                                       rule="vapour-pressure",

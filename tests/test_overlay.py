@@ -4,11 +4,11 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from explorer.overlay import AXES, model_curves, overlay_run
-from physics.adsorption import compute_isotherm
-from physics.measured import MeasuredRun, Sample
-from physics.scenario import Scenario
-from physics.units import from_atoms_per_angstrom
+from porefill.explorer.views.overlay import AXES, model_curves, overlay_run
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.fitting.measured import MeasuredRun, Sample
+from porefill.physics.scenario import Scenario
+from porefill.physics.substances.units import from_atoms_per_angstrom
 
 NITROGEN = Scenario(shape="cylinder", size_angstrom=20.0, adsorbate="nitrogen", temperature_k=77.35)
 
@@ -33,7 +33,7 @@ def _run_from_model(iso, unit="per nm", leg="adsorption", sample=Sample(), every
 def test_model_points_have_zero_residual_on_every_pressure_axis(iso, axis, leg):
     run, k = _run_from_model(iso, leg=leg)
     o = overlay_run(iso, run, Sample(), axis)
-    # open pores (the default): desorption is compared with the equilibrium transition (physics.branches)
+    # open pores (the default): desorption is compared with the equilibrium transition (porefill.physics.lattice_gas.branches)
     assert o.branch == {"adsorption": "adsorption", "desorption": "equilibrium"}[leg]
     np.testing.assert_allclose(o.residual, 0.0, atol=1e-9 * iso.per_nm(o.branch).max())
     x_model, _ = model_curves(iso, axis)[leg]
@@ -41,10 +41,10 @@ def test_model_points_have_zero_residual_on_every_pressure_axis(iso, axis, leg):
 
 
 def test_axes_are_the_pressure_scale(iso):
-    # p/p0 divides by the model's p0; μ inverts p = p0 exp[(μ − μ_coex)/kT] (the pressure scale, physics.stages)
+    # p/p0 divides by the model's p0; μ inverts p = p0 exp[(μ − μ_coex)/kT] (the pressure scale, porefill.physics.lattice_gas.stages)
     run, k = _run_from_model(iso)
-    rel = overlay_run(iso, run, Sample(), "p/p0").x
-    mu = overlay_run(iso, run, Sample(), "chemical potential").x
+    rel = overlay_run(iso, run, Sample(), "relative-pressure").x
+    mu = overlay_run(iso, run, Sample(), "chemical-potential").x
     np.testing.assert_allclose(rel, iso.relative_pressure[k], rtol=1e-12)
     np.testing.assert_allclose(mu, iso.mu[k], atol=1e-9)
 
@@ -52,8 +52,8 @@ def test_axes_are_the_pressure_scale(iso):
 def test_amounts_per_gram_need_the_pore_volume_and_convert(iso):
     run, _ = _run_from_model(iso, unit="mmol/g", sample=Sample(pore_volume_cm3_g=0.7))
     with pytest.raises(ValueError, match="pore volume"):
-        overlay_run(iso, run, Sample(), "p/p0")
-    o = overlay_run(iso, run, Sample(pore_volume_cm3_g=0.7), "p/p0")
+        overlay_run(iso, run, Sample(), "relative-pressure")
+    o = overlay_run(iso, run, Sample(pore_volume_cm3_g=0.7), "relative-pressure")
     np.testing.assert_allclose(o.residual, 0.0, atol=1e-9 * iso.per_nm("adsorption").max())
 
 
@@ -63,7 +63,7 @@ def test_points_without_pressure_are_kept_on_the_coverage_axis(iso):
     pressure[:3] = np.nan                       # dosed points below the gauge
     dosed = MeasuredRun(name="dosed", source="dosed.csv", pressure=pressure, pressure_unit="Pa",
                         amount=run.amount, amount_unit="per nm")
-    on_p = overlay_run(iso, dosed, Sample(), "pressure (log)")
+    on_p = overlay_run(iso, dosed, Sample(), "pressure")
     assert on_p.x.size == run.amount.size - 3 and on_p.without_pressure == 3 and "without a usable pressure" in on_p.note
     on_n = overlay_run(iso, dosed, Sample(), "coverage")
     assert on_n.x.size == run.amount.size and np.all(np.isnan(on_n.residual[:3]))

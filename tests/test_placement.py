@@ -4,13 +4,13 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from physics.adsorption import compute_isotherm
-from physics.placement import first_row_distance, place_sites, row_change_sizes
-from physics.scenario import Scenario
-from physics.stages import geometry_stage
-from physics.steps import condensation_step
-from physics.lattice import default_spacing
-from physics.wall_potential import wall_potential
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.sites.placement import first_row_distance, place_sites, row_change_sizes
+from porefill.physics.scenario import Scenario
+from porefill.physics.lattice_gas.stages import geometry_stage
+from porefill.physics.lattice_gas.steps import condensation_step
+from porefill.physics.sites.lattice import default_spacing
+from porefill.physics.pore.wall_potential import wall_potential
 
 HELIUM_LIQUID_PER_A3 = 0.021837        # liquid helium-4 at T → 0 (Donnelly & Barenghi 1998)
 ell = default_spacing(HELIUM_LIQUID_PER_A3)

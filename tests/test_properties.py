@@ -8,9 +8,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from physics import units
-from physics.geometry import CylinderPore, HexagonPore, SlitPore
-from physics.scenario import Scenario
+from porefill.physics.substances import units
+from porefill.physics.pore.geometry import CylinderPore, HexagonPore, SlitPore
+from porefill.physics.scenario import Scenario
 
 finite_positive = st.floats(min_value=1e-30, max_value=1e30, allow_nan=False, allow_infinity=False)
 anything = st.one_of(st.floats(allow_nan=True, allow_infinity=True), st.integers(-10**6, 10**6), st.booleans(),
@@ -35,7 +35,7 @@ def test_amount_conversion_round_trips(value, unit, pore, volume):
 
 @given(value=finite_positive)
 def test_amounts_scale_linearly(value):
-    # every amount unit is a fixed factor of the internal amount (definitions in physics.units)
+    # every amount unit is a fixed factor of the internal amount (definitions in porefill.physics.substances.units)
     basis = units.AmountBasis.of(CylinderPore(20.0), pore_volume_cm3_g=1.0)
     for unit in units.AMOUNT_UNITS:
         one = float(units.from_atoms_per_angstrom(1.0, unit, basis))
@@ -66,7 +66,7 @@ def test_potential_command_exits_0_or_2_with_one_line(size, grid):
     import contextlib
     import io
 
-    from explorer.cli import main
+    from porefill.explorer.cli.main import main
 
     out, err = io.StringIO(), io.StringIO()
     with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):

@@ -5,12 +5,12 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from physics.adsorption import compute_isotherm
-from physics.materials import get_adsorbate
-from physics.quantum import (classical_boltzmann_area, grid_states, potential_grid, solve_states,
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.substances.materials import get_adsorbate
+from porefill.physics.sites.quantum import (classical_boltzmann_area, grid_states, potential_grid, solve_states,
                              thermal_wavelength_angstrom)
-from physics.scenario import Scenario
-from physics.stages import thermal_stage
+from porefill.physics.scenario import Scenario
+from porefill.physics.lattice_gas.stages import thermal_stage
 
 HB_HELIUM = get_adsorbate("helium-4").hbar2_over_mk
 J01 = 2.404825557695773           # first zero of J0 (Abramowitz & Stegun, Table 9.5)
@@ -18,9 +18,9 @@ HELIUM = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5)
 
 
 def test_hbar2_over_mk_of_helium():
-    # ħ²/(m k_B) for He-4 = 12.1193 K·Å² (CODATA via scipy.constants; REFERENCES.md §4)
+    # ħ²/(m k_B) for He-4 = 12.1193 K·Å² (CODATA via scipy.constants; docs/REFERENCES.md §4)
     assert HB_HELIUM == pytest.approx(12.1193, abs=1e-4)
-    # λ = 8.73/√T Å for He-4 (REFERENCES.md §4)
+    # λ = 8.73/√T Å for He-4 (docs/REFERENCES.md §4)
     assert thermal_wavelength_angstrom(HB_HELIUM, 1.5) == pytest.approx(8.73 / np.sqrt(1.5), rel=1e-3)
 
 
@@ -78,7 +78,7 @@ def test_quantum_henry_constant_of_the_independent_check(helium_states):
 
 def test_classical_boltzmann_area_against_a_fine_map():
     # trapezoid rule on a 1201 x 1201 map of the potential (converged: an 801 map agrees to 1e-4)
-    from physics.wall_potential import potential_map
+    from porefill.physics.pore.wall_potential import potential_map
     pore, pair = HELIUM.pore(), HELIUM.pair()
     for t in (1.5, 4.0):
         m = potential_map(pore=pore, pair=pair, n=1201)
@@ -116,7 +116,7 @@ def test_quantum_site_model_sum_rules():
 
 
 def test_quantum_isotherm_low_pressure_limit_is_the_quantum_henry_constant(helium_states):
-    # N/L -> (p λ²/kT) Σ exp(−E_n/kT) (REFERENCES.md §4), within the share of sites no state reaches
+    # N/L -> (p λ²/kT) Σ exp(−E_n/kT) (docs/REFERENCES.md §4), within the share of sites no state reaches
     iso = compute_isotherm(HELIUM.replace(site_model="quantum"), n_points=5,
                            pressure_range_pa=(1e-20, 1e-19))
     henry = helium_states.henry_per_nm_pa(1.5)

@@ -12,10 +12,10 @@ from pathlib import Path
 
 import pytest
 
-from explorer.figures import FIGURES, SLIDE_WIDTH_PX, figure_job
-from explorer.report import SECTIONS, build_report
-from explorer.scenario_file import ScenarioDocument, load_document, parse_document, resolve_scenario
-from physics.scenario import Scenario
+from porefill.explorer.outputs.figures import FIGURES, SLIDE_WIDTH_PX, figure_job
+from porefill.explorer.outputs.report import SECTIONS, build_report
+from porefill.explorer.files.scenario_file import ScenarioDocument, load_document, parse_document, resolve_scenario
+from porefill.physics.scenario import Scenario
 
 ROOT = Path(__file__).resolve().parents[1]
 FAST = Scenario(shape="slit", size_angstrom=12.0, wall_angstrom=10.0, adsorbate="argon", temperature_k=87.3)
@@ -66,7 +66,7 @@ def test_classical_gas_says_why_no_quantum_states():
 
 
 def test_step_table_matches_the_isotherm():
-    from physics.adsorption import compute_isotherm
+    from porefill.physics.lattice_gas.adsorption import compute_isotherm
 
     iso = compute_isotherm(FAST, n_points=300)
     text = build_report(ScenarioDocument(FAST), sizes=())
@@ -76,7 +76,7 @@ def test_step_table_matches_the_isotherm():
 
 
 def test_saved_fit_appears_with_its_numbers():
-    from explorer.saved_fit import FitParameter, SavedFit
+    from porefill.explorer.files.saved_fit import FitParameter, SavedFit
 
     fit = SavedFit(free=("size",), parameters=(FitParameter("size", 12.345, 0.067, "Å", 9.0, 15.0),),
                    statistics=(("chi2", 3.25), ("points", 12)), warnings=("size sits near a bound",))
@@ -132,7 +132,7 @@ def test_unknown_figure_or_format_is_refused():
 
 # notebooks and the dashboard's controls ---------------------------------------------------------------------
 def test_importing_explorer_is_cheap():
-    code = "import sys, explorer; print('panel' in sys.modules, 'numpy' in sys.modules, callable(explorer.app))"
+    code = "import sys, porefill.explorer as e; print('panel' in sys.modules, 'numpy' in sys.modules, callable(e.app))"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60).stdout
     assert out.split() == ["False", "False", "True"]
 
@@ -140,20 +140,21 @@ def test_importing_explorer_is_cheap():
 def test_explorer_app_returns_a_viewable_without_a_server():
     import panel as pn
 
-    import explorer
+    from porefill.explorer import app
 
-    page = explorer.app(FAST)
+    page = app(FAST)
     assert isinstance(page, pn.viewable.Viewable)
     root = page.get_root()                        # the Bokeh model a notebook displays
     assert root is not None
-    import explorer.app as module                 # the module and the function share the name
-    assert callable(explorer.app) and callable(module)
+    import porefill.explorer
+
+    assert porefill.explorer.app is app            # importing the page's module does not shadow the function
 
 
 def _io(scenario=FAST):
-    from explorer.state import ExplorerState
-    from explorer.views.isotherm import IsothermView
-    from explorer.views.scenario_io import ScenarioIO
+    from porefill.explorer.views.state import ExplorerState
+    from porefill.explorer.views.isotherm import IsothermView
+    from porefill.explorer.views.scenario_io import ScenarioIO
 
     state = ExplorerState.from_scenario(scenario)
     return ScenarioIO(state=state, isotherm=IsothermView(state=state)), state
@@ -162,7 +163,7 @@ def _io(scenario=FAST):
 def test_save_writes_what_the_controls_hold():
     io_view, state = _io()
     state.temperature_k = 90.0
-    io_view.isotherm.x_axis.value = "chemical potential"
+    io_view.isotherm.x_axis.value = "chemical-potential"
     doc = parse_document(io_view.toml_file().getvalue().decode("utf-8"))
     assert doc.scenario == state.scenario()
     assert doc.view.axis == "chemical-potential"
@@ -179,15 +180,16 @@ def test_open_applies_a_good_file_and_refuses_a_bad_one():
     assert state.scenario() == before
     assert io_view.message.visible and "bad.toml, line 3" in io_view.message.object
     assert "size_angstrom" in io_view.message.object and "Nothing was changed" in io_view.message.object
-    io_view.open.param.update(filename="big.toml", value=b"[scenario]\nsize_angstrom = 150.0\n")
-    assert state.scenario() == before and "cannot show" in io_view.message.object
+    io_view.open.param.update(filename="big.toml", value=b"[scenario]\nsize_angstrom = 250.0\n")
+    assert state.scenario() == before and "must be &gt;= 2 and &lt;= 200 Å" in io_view.message.object
     io_view.open.param.update(filename="bin.toml", value=b"\xff\xfe\x00")
     assert "not UTF-8" in io_view.message.object
 
 
 def test_a_link_refuses_bad_values_by_name_and_keeps_the_good():
     io_view, state = _io()
-    refused = io_view._apply_link({"size_angstrom": 999, "temperature_k": 88.0, "shape": "triangle",
+    refused = io_view._apply_link({"size_angstrom": 1500,   # past the slit's 1000 Å (physics/limits.py)
+                                   "temperature_k": 88.0, "shape": "triangle",
                                    "isolated": "perhaps"})
     assert set(refused) == {"size_angstrom", "shape", "isolated"}
     assert state.temperature_k == 88.0 and state.size_angstrom == FAST.size_angstrom and state.shape == "slit"

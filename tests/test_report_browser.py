@@ -9,9 +9,9 @@ from pathlib import Path
 
 import pytest
 
-from explorer.report import SECTIONS, build_report
-from explorer.scenario_file import load_document, parse_document, resolve_scenario
-from explorer.testing import serve_scenario, slider_title, wait_for_loading
+from porefill.explorer.outputs.report import SECTIONS, build_report
+from porefill.explorer.files.scenario_file import load_document, parse_document, resolve_scenario
+from porefill.explorer.server.testing import serve_scenario, slider_title, wait_for_loading
 
 pytestmark = pytest.mark.browser
 ROOT = Path(__file__).resolve().parents[1]
@@ -108,7 +108,7 @@ def _save(page) -> str:
 
 
 def test_saved_scenario_reopens_the_same_screen_from_file_and_link(argon, browser, argon_url, tmp_path):
-    from explorer.testing import drag_handle, slider_handle, text_of, wait_for_text_change
+    from porefill.explorer.server.testing import drag_handle, slider_handle, text_of, wait_for_text_change
 
     before = text_of(argon, STEPS)
     drag_handle(argon, slider_handle(argon, "Temperature"), 25)

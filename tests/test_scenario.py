@@ -5,8 +5,8 @@ from pathlib import Path
 
 import pytest
 
-from explorer.scenario_file import ScenarioFileError, dump_scenario, load_scenario
-from physics.scenario import Scenario
+from porefill.explorer.files.scenario_file import ScenarioFileError, dump_scenario, load_scenario
+from porefill.physics.scenario import Scenario
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -41,7 +41,7 @@ def test_bad_files_name_the_file_and_problem(tmp_path, body, word):
 
 @pytest.mark.parametrize("path", sorted((ROOT / "scenarios").glob("*.toml")), ids=lambda p: p.name)
 def test_every_shipped_scenario_loads_and_computes(path):
-    from physics.adsorption import compute_isotherm
+    from porefill.physics.lattice_gas.adsorption import compute_isotherm
 
     s = load_scenario(path)
     assert "invented" in s.title.lower()            # demo data is labelled as invented

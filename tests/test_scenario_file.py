@@ -11,12 +11,12 @@ import tomllib
 import numpy as np
 import pytest
 
-from explorer.saved_fit import FitParameter, SavedFit
-from explorer.scenario_file import (ScenarioDocument, ScenarioFileError, ViewChoices, demo_names, dump_document,
+from porefill.explorer.files.saved_fit import FitParameter, SavedFit
+from porefill.explorer.files.scenario_file import (ScenarioDocument, ScenarioFileError, ViewChoices, demo_names, dump_document,
                                     dump_scenario, line_of, load_document, parse_document, resolve_scenario)
-from explorer.toml_writer import dump_table, toml_value
-from physics.measured import MeasuredRun, Sample
-from physics.scenario import Scenario
+from porefill.explorer.files.toml_writer import dump_table, toml_value
+from porefill.physics.fitting.measured import MeasuredRun, Sample
+from porefill.physics.scenario import Scenario
 
 # floats whose shortest text is unusual: subnormal, extremes, 0.1 + 0.2, negative zero (IEEE 754 binary64)
 AWKWARD_FLOATS = [0.1 + 0.2, 5e-324, 2.2250738585072014e-308, 1.7976931348623157e308, -0.0, 1e16, 1e-5,
@@ -114,7 +114,7 @@ def test_the_file_says_it_is_copied_data_and_has_a_format():
 
 
 def test_isotherm_from_a_loaded_file_equals_the_original_to_the_bit(tmp_path):
-    from physics.adsorption import compute_isotherm
+    from porefill.physics.lattice_gas.adsorption import compute_isotherm
 
     sc = Scenario(shape="hexagon", size_angstrom=0.1 + 9.2, wall_angstrom=6.0 + 1e-9, adsorbate="argon",
                   temperature_k=87.0 + 1 / 3, site_model="classical")
@@ -131,9 +131,9 @@ def test_isotherm_from_a_loaded_file_equals_the_original_to_the_bit(tmp_path):
 def test_saved_fit_from_a_real_fit_result():
     """A fit with the pore volume alone free (solved in closed form) gives a result quickly; its record
     keeps values, stderr, bounds, statistics and the fitted scenario through a file."""
-    from physics.adsorption import compute_isotherm
-    from physics.fitting import FitRequest, fit
-    from physics.units import AmountBasis, from_atoms_per_angstrom
+    from porefill.physics.lattice_gas.adsorption import compute_isotherm
+    from porefill.physics.fitting.solve import FitRequest, fit
+    from porefill.physics.substances.units import AmountBasis, from_atoms_per_angstrom
 
     sc = Scenario(shape="cylinder", size_angstrom=12.0, adsorbate="argon", temperature_k=87.0,
                   site_model="classical", pore_volume_cm3_g=0.5)

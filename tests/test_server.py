@@ -38,7 +38,7 @@ def _free_port() -> int:
 
 
 def _start(*extra: str, env: dict | None = None, pythonpath: Path | None = None):
-    from explorer.testing import serve_scenario
+    from porefill.explorer.server.testing import serve_scenario
 
     port = _free_port()
     environment = {k: v for k, v in os.environ.items() if k != "POREFILL_PASSWORD"}
@@ -227,7 +227,7 @@ def test_foreign_null_origin_is_refused_own_form_post_is_not(server):
 
 # ----------------------------------------------------------------------------- /components/ and headers
 
-@pytest.mark.parametrize("path", ["/components/os/path/__css__/x", "/components/explorer.cli/main/__css__/x",
+@pytest.mark.parametrize("path", ["/components/os/path/__css__/x", "/components/porefill.explorer.cli.main/main/__css__/x",
                                   "/components/porefill_import_probe/Thing/__css__/x.css",
                                   "/components/panel.io.jupyter_server_extension/x/__css__/y"])
 def test_components_urls_import_nothing(server, path):
@@ -307,7 +307,7 @@ def test_tampered_cookie_is_refused(password_server):
 
 
 def test_password_from_environment():
-    from explorer.security import ServeError, read_password
+    from porefill.explorer.server.security import ServeError, read_password
 
     assert read_password(None, {"POREFILL_PASSWORD": "s3cret"}) == "s3cret"
     assert read_password(None, {}) is None
@@ -393,7 +393,7 @@ def test_bad_allow_origin_exits_2(origin):
 
 @pytest.mark.parametrize("args", [["--scenario", "missing.toml"], ["--address", "0.0.0.0"]])
 def test_failures_come_before_panel_is_imported(tmp_path, args):
-    code = ("import sys; from explorer.cli import main; rc = main(['serve', *sys.argv[1:]]); "
+    code = ("import sys; from porefill.explorer.cli.main import main; rc = main(['serve', *sys.argv[1:]]); "
             "print(rc, any(m.split('.')[0] in ('panel', 'bokeh') for m in sys.modules))")
     result = subprocess.run([sys.executable, "-c", code, *args], capture_output=True, text=True, cwd=tmp_path,
                             timeout=60)

@@ -1,11 +1,11 @@
-"""The last session out gives the caches back (explorer.session_memory); earlier ones leave them alone."""
+"""The last session out gives the caches back (porefill.explorer.server.session_memory); earlier ones leave them alone."""
 from __future__ import annotations
 
-from explorer import session_memory
-from explorer.compute import _pools, isotherm_pool
-from explorer.views.potential import cached_map
-from physics.scenario import Scenario
-from physics.stages import _geometry_stage, geometry_stage
+from porefill.explorer.server import session_memory
+from porefill.explorer.jobs.compute import _pools, isotherm_pool
+from porefill.explorer.views.potential import cached_map
+from porefill.physics.scenario import Scenario
+from porefill.physics.lattice_gas.stages import _geometry_stage, geometry_stage
 
 
 def test_caches_are_cleared_only_when_the_last_session_closes(monkeypatch):

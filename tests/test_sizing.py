@@ -5,10 +5,10 @@ import html
 
 import pytest
 
-from explorer.state import ExplorerState
-from explorer.views.sizing import SizingView, step_rows
-from physics.scenario import Scenario
-from physics.sweep import Target, meets
+from porefill.explorer.views.state import ExplorerState
+from porefill.explorer.views.sizing import SizingView, step_rows
+from porefill.physics.scenario import Scenario
+from porefill.physics.sweep import Target, meets
 
 
 @pytest.fixture()

@@ -20,9 +20,9 @@ FIRST = "complete first layer (every wall-contact site filled)"
 
 def _expected(kind: str, low: float, high: float) -> list[float]:
     """The sizes meeting the target, computed here through the physics (not through the page)."""
-    from explorer.scenario_file import load_scenario
-    from explorer.sweep_runner import point_job
-    from physics.sweep import Target, meets
+    from porefill.explorer.files.scenario_file import load_scenario
+    from porefill.explorer.jobs.sweep_runner import point_job
+    from porefill.physics.sweep import Target, meets
 
     base = load_scenario(ROOT / "scenarios" / "demo-hexagon-helium.toml").replace(site_model="classical",
                                                                                   title="", notes="")

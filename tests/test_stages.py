@@ -8,13 +8,13 @@ import numpy as np
 import pytest
 from scipy import constants
 
-from physics.adsorption import compute_isotherm
-from physics.bond import bond_energy
-from physics.geometry import CylinderPore, HexagonPore, SlitPore
-from physics.scenario import Scenario
-from physics.stages import geometry_stage, thermal_stage
-from physics.vapour_pressure import critical_temperature
-from physics.wall_potential import deepest_minimum, potential_map, wall_potential
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.lattice_gas.bond import bond_energy
+from porefill.physics.pore.geometry import CylinderPore, HexagonPore, SlitPore
+from porefill.physics.scenario import Scenario
+from porefill.physics.lattice_gas.stages import geometry_stage, thermal_stage
+from porefill.physics.substances.vapour_pressure import critical_temperature
+from porefill.physics.pore.wall_potential import deepest_minimum, potential_map, wall_potential
 
 
 def test_geometry_stage_is_shared_across_temperatures_and_words():
@@ -34,7 +34,7 @@ def test_results_are_frozen():
 
 
 def test_henry_limit_of_the_isotherm_against_direct_quadrature_of_the_map():
-    # at low pressure N/L = (p/kT) ∫ exp(−V/kT) dA (REFERENCES.md §4, classical limit; derived there), the
+    # at low pressure N/L = (p/kT) ∫ exp(−V/kT) dA (docs/REFERENCES.md §4, classical limit; derived there), the
     # integral here by the trapezoid rule on an 801 x 801 map (converged: 1601 agrees to 1e-4). Nitrogen at
     # 77.35 K: within 1e-3 (the converged cell integrals, tests/test_cells.py, for helium too).
     sc = Scenario(shape="cylinder", size_angstrom=30.0, adsorbate="nitrogen", temperature_k=77.35)
@@ -63,7 +63,7 @@ def test_bond_rules_by_their_definitions():
 
 @pytest.mark.parametrize("rule", ["critical-temperature", "binding-energy"])
 def test_other_bond_rules_give_isotherms_with_bulk_coexistence_at_p0(rule):
-    # with every rule μ_coex = −z ε_b/2 maps to p0 (Bragg–Williams particle–hole symmetry, REFERENCES.md §5)
+    # with every rule μ_coex = −z ε_b/2 maps to p0 (Bragg–Williams particle–hole symmetry, docs/REFERENCES.md §5)
     iso = compute_isotherm(Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5,
                                     bond_calibration=rule, site_model="classical"), n_points=150)
     st = iso.stage

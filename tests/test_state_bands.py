@@ -4,10 +4,10 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from physics.quantum import cached_states
-from physics.scenario import Scenario
-from physics.stages import geometry_stage, thermal_stage
-from physics.state_bands import band_density, site_labels, state_bands
+from porefill.physics.sites.quantum import cached_states
+from porefill.physics.scenario import Scenario
+from porefill.physics.lattice_gas.stages import geometry_stage, thermal_stage
+from porefill.physics.sites.state_bands import band_density, site_labels, state_bands
 
 HELIUM = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5, site_model="quantum")
 

@@ -6,9 +6,9 @@ from collections import Counter
 import numpy as np
 import pytest
 
-from physics.adsorption import compute_isotherm
-from physics.scenario import Scenario
-from physics.steps import find_steps
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.scenario import Scenario
+from porefill.physics.lattice_gas.steps import find_steps
 
 
 @pytest.fixture(scope="module", params=[

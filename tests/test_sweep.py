@@ -1,4 +1,4 @@
-"""Sweeps (physics.sweep, explorer.sweep_runner, porefill sweep): the grid, ranges, targets, the runner's
+"""Sweeps (porefill.physics.sweep, porefill.explorer.jobs.sweep_runner, porefill sweep): the grid, ranges, targets, the runner's
 cache and stop flag, the command's JSON and CSV, and a run on a local Dask cluster started here."""
 from __future__ import annotations
 
@@ -11,13 +11,13 @@ import threading
 import numpy as np
 import pytest
 
-from explorer.cli import main
-from explorer.isotherm_export import step_json
-from explorer.sweep_export import CSV_COLUMNS, sweep_csv, sweep_json
-from explorer.sweep_runner import ResultCache, SweepRunner, point_job
-from physics.adsorption import compute_isotherm
-from physics.scenario import Scenario
-from physics.sweep import (SweepSpec, Target, fill_class, holding_intervals, meets, parse_range, step_fill_class,
+from porefill.explorer.cli.main import main
+from porefill.explorer.outputs.isotherm_export import step_json
+from porefill.explorer.outputs.sweep_export import CSV_COLUMNS, sweep_csv, sweep_json
+from porefill.explorer.jobs.sweep_runner import ResultCache, SweepRunner, point_job
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.scenario import Scenario
+from porefill.physics.sweep import (SweepSpec, Target, fill_class, holding_intervals, meets, parse_range, step_fill_class,
                            wall_from_d100)
 
 POINTS = 60          # enough for the steps of small pores; the classical model keeps the tests quick
@@ -92,7 +92,7 @@ def test_spec_refuses_bad_values_by_name(kwargs, words):
 
 def test_wall_from_d100_matches_the_array_spacing():
     # hexagonal (p6mm) lattice: 1/d_hk² = 4(h² + hk + k²)/(3a²), so d100 = a0·√3/2 (common practice, no source)
-    from physics.geometry import HexagonPore
+    from porefill.physics.pore.geometry import HexagonPore
 
     side, wall = 20.0, 9.0
     a0 = HexagonPore(side, wall).lattice_spacing_angstrom
@@ -107,7 +107,7 @@ def test_fill_class(label, cls):
 
 
 def test_step_fill_class_takes_the_most_sites():
-    from physics.steps import Step
+    from porefill.physics.lattice_gas.steps import Step
 
     step = Step("continuous", 0.0, 1.0, 0.1, 1.0, 7.0, (("ring 2", 6.0), ("centre", 1.0)))
     assert step_fill_class(step) == "ring"
@@ -162,7 +162,7 @@ def iso14():
 
 
 def test_occupancies_read_by_targets_match_the_sites(iso14):
-    from physics.sweep import occupancy_profile
+    from porefill.physics.sweep import occupancy_profile
 
     prof, hand = occupancy_profile(iso14), _by_hand(iso14)
     for key, values in hand.items():

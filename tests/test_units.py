@@ -5,12 +5,12 @@ import numpy as np
 import pytest
 from scipy import constants
 
-from physics import units
-from physics.geometry import CylinderPore, HexagonPore, SlitPore
+from porefill.physics.substances import units
+from porefill.physics.pore.geometry import CylinderPore, HexagonPore, SlitPore
 
 
 def test_stp_molar_volume():
-    # IUPAC physisorption STP 273.15 K, 101.325 kPa: 1 mmol = 22.414 cm³(STP) (Sing et al. 1985; REFERENCES.md §7)
+    # IUPAC physisorption STP 273.15 K, 101.325 kPa: 1 mmol = 22.414 cm³(STP) (Sing et al. 1985; docs/REFERENCES.md §7)
     assert units.STP_CM3_PER_MMOL == pytest.approx(22.414, abs=1e-3)
     # and not the 100 kPa standard-pressure volume, 22.711 cm³ per mmol (IUPAC 1982 standard pressure)
     assert units.STP_CM3_PER_MMOL != pytest.approx(22.711, abs=1e-2)
@@ -27,7 +27,7 @@ def test_pressure_units_by_definition_and_round_trip(unit, pascal):
 
 
 def test_relative_pressure_needs_p0():
-    # p/p0 with p0 = 471.5 Pa (ITS-90 helium-4 at 1.5 K, REFERENCES.md §3)
+    # p/p0 with p0 = 471.5 Pa (ITS-90 helium-4 at 1.5 K, docs/REFERENCES.md §3)
     assert units.to_pascal(0.5, "p/p0", p0_pa=471.5) == pytest.approx(235.75, rel=1e-15)
     with pytest.raises(ValueError, match="p0"):
         units.to_pascal(0.5, "p/p0")
@@ -36,7 +36,7 @@ def test_relative_pressure_needs_p0():
 
 
 def test_pore_full_of_liquid_helium():
-    # REFERENCES.md §7: a pore volume V_p (cm³/g) full of liquid He-4 holds V_p × 36.26 mmol
+    # docs/REFERENCES.md §7: a pore volume V_p (cm³/g) full of liquid He-4 holds V_p × 36.26 mmol
     n_liquid = 0.021837                 # Å^-3, Donnelly & Barenghi (1998)
     area = 600.0                        # any cross-section, Å²
     full = n_liquid * area              # atoms per Å of pore

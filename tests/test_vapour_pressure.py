@@ -5,7 +5,7 @@ import numpy as np
 import pytest
 from scipy import constants
 
-from physics import vapour_pressure as vp
+from porefill.physics.substances import vapour_pressure as vp
 
 
 class TestITS90:
@@ -15,7 +15,7 @@ class TestITS90:
         assert vp.saturated_vapour_pressure("helium-4", 4.2221) == pytest.approx(101325.0, rel=3e-5)
 
     def test_lambda_point_from_both_ranges(self):
-        # lambda point 2.1768 K at about 5042 Pa; both ranges of the equation meet there (REFERENCES.md §3)
+        # lambda point 2.1768 K at about 5042 Pa; both ranges of the equation meet there (docs/REFERENCES.md §3)
         low = vp._its90(np.log(5041.8), vp._ITS90_LOW)
         high = vp._its90(np.log(5041.8), vp._ITS90_HIGH)
         assert low == pytest.approx(2.1768, abs=2e-4) and high == pytest.approx(2.1768, abs=2e-4)
@@ -23,7 +23,7 @@ class TestITS90:
 
     @pytest.mark.parametrize("t, p", [(1.25, 114.7), (2.0, 3129.7), (3.0, 24046.0)])
     def test_check_values(self, t, p):
-        # REFERENCES.md §3, recomputed from the ITS-90 coefficients; quoted to 4-5 digits
+        # docs/REFERENCES.md §3, recomputed from the ITS-90 coefficients; quoted to 4-5 digits
         assert vp.saturated_vapour_pressure("helium-4", t) == pytest.approx(p, rel=5e-4)
 
     @pytest.mark.parametrize("t", [2.2, 2.5, 3.0, 3.5, 4.0, 4.2, 4.5, 5.0])

@@ -7,9 +7,9 @@ import numpy as np
 import pytest
 from scipy import integrate
 
-from physics.geometry import CylinderPore, HexagonPore, RegularPolygonPore, SlitPore
-from physics.materials import PairParameters
-from physics import wall_potential as wp
+from porefill.physics.pore.geometry import CylinderPore, HexagonPore, RegularPolygonPore, SlitPore
+from porefill.physics.substances.materials import PairParameters
+from porefill.physics.pore import wall_potential as wp
 
 UNIT = PairParameters(1.0, 1.0, 1.0)
 
@@ -63,13 +63,13 @@ def vertex_angles(px, py, vertices):
 class TestKernels:
     @pytest.mark.parametrize("s", [0.9, 1.0, 1.3, 2.5, 6.0])
     def test_line_kernel_is_z_integral_of_lj(self, s):
-        # z-integration of the LJ pair potential by quadrature (REFERENCES.md §1, verified); rtol 1e-10
+        # z-integration of the LJ pair potential by quadrature (docs/REFERENCES.md §1, verified); rtol 1e-10
         pair = PairParameters(27.0, 2.9, 1.0)
         assert wp.line_kernel(s * 2.9, pair=pair) == pytest.approx(lj_z_integral(s * 2.9, 27.0, 2.9), rel=1e-10)
 
     @pytest.mark.parametrize("s", [2.0, 3.0, 5.0, 9.0])
     def test_radial_tail_is_integral_of_line_kernel(self, s):
-        # G(s) = ∫_s^∞ f(s') s' ds' (REFERENCES.md §1, verified), by quadrature; rtol 1e-10
+        # G(s) = ∫_s^∞ f(s') s' ds' (docs/REFERENCES.md §1, verified), by quadrature; rtol 1e-10
         pair = PairParameters(27.0, 2.9, 0.044)
         ref = integrate.quad(lambda r: wp.line_kernel(r, pair=pair) * r, s, np.inf, epsabs=0, epsrel=1e-13)[0]
         assert wp.radial_tail(s, pair=pair) == pytest.approx(ref, rel=1e-10)
@@ -80,7 +80,7 @@ class TestKernels:
         h_min = (2 / 5) ** (1 / 6) * 2.9
         scale = 2 * np.pi / 3 * 27.0 * 0.044 * 2.9**3
         assert wp.steele_93(h_min, pair=pair) == pytest.approx(-np.sqrt(10) / 3 * scale, rel=1e-12)
-        assert np.sqrt(10) / 3 == pytest.approx(1.0541, abs=1e-4)   # REFERENCES.md §1 depth factor
+        assert np.sqrt(10) / 3 == pytest.approx(1.0541, abs=1e-4)   # docs/REFERENCES.md §1 depth factor
         grad = (wp.steele_93(h_min * (1 + 1e-6), pair=pair) - wp.steele_93(h_min * (1 - 1e-6), pair=pair))
         assert abs(grad) < 1e-9 * scale
 
@@ -96,7 +96,7 @@ class TestPolygon:
         assert got == pytest.approx(ref, rel=1e-8)
 
     def test_hexagon_reference_centre_value(self):
-        # REFERENCES.md §1 [verified]: hexagon of apothem 3σ, ε=ρ=σ=1: V(0) = −0.319900
+        # docs/REFERENCES.md §1 [verified]: hexagon of apothem 3σ, ε=ρ=σ=1: V(0) = −0.319900
         pore = HexagonPore(3.0 / np.cos(np.pi / 6))
         assert wp.wall_potential(0.0, 0.0, pore=pore, pair=UNIT) == pytest.approx(-0.319900, abs=1e-6)
 
@@ -122,7 +122,7 @@ class TestPolygon:
 
 class TestCylinder:
     def test_reference_values(self):
-        # REFERENCES.md §1 [verified]: ε=ρ=σ=1, R=3: V(0) = −0.365431, V(1.9) = −2.047613
+        # docs/REFERENCES.md §1 [verified]: ε=ρ=σ=1, R=3: V(0) = −0.365431, V(1.9) = −2.047613
         got = wp.cylinder_potential(np.array([0.0, 1.9]), 0.0, 3.0, pair=UNIT)
         np.testing.assert_allclose(got, [-0.365431, -2.047613], atol=1e-6)
 

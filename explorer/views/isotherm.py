@@ -1,13 +1,12 @@
 """Isotherm, compressibility and the occupancy map of the cross-section at a chosen pressure.
 
-The isotherm is computed in a worker process (`explorer.compute`); until it arrives every part of this
+The isotherm is computed in a worker process (`porefill.explorer.jobs.compute`); until it arrives every part of this
 view that belongs to the previous inputs is marked as loading, and each part says which inputs it shows.
 """
 from __future__ import annotations
 
 import html
 import io
-from collections import OrderedDict
 
 import numpy as np
 import panel as pn
@@ -17,15 +16,17 @@ from bokeh.models import (ColorBar, ColumnDataSource, LabelSet, LinearColorMappe
 from bokeh.palettes import Cividis256
 from bokeh.plotting import figure
 
-from physics.adsorption import Isotherm
-from physics.branches import branch_notes
-from physics.lattice import slit_row_sites
-from physics.scenario import Scenario
+from porefill.physics.caching import BoundedCache
+from porefill.physics.choices import AXIS_LABELS, ISOTHERM_AXES
+from porefill.physics.lattice_gas.adsorption import Isotherm
+from porefill.physics.lattice_gas.branches import branch_notes
+from porefill.physics.sites.lattice import slit_row_sites
+from porefill.physics.scenario import Scenario
 
-from ..compute import LatestRunner, isotherm_job, short_error
-from ..isotherm_export import amount_labels, calibration_note, isotherm_csv
-from ..state import ExplorerState, describe
-from .potential import FRAME, outline
+from porefill.explorer.jobs.compute import LatestRunner, isotherm_job, short_error
+from porefill.explorer.outputs.isotherm_export import amount_labels, calibration_note, isotherm_csv
+from porefill.explorer.views.state import ExplorerState, describe
+from porefill.explorer.views.potential import FRAME, outline
 
 ADS_COLOUR, DES_COLOUR, EQ_COLOUR = "#1b6ca8", "#d1495b", "#333333"
 MODEL_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k", "pore_ends"]
@@ -33,7 +34,7 @@ MODEL_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate"
 RANGE_KEYS = ("shape", "adsorbate", "temperature_k")
 PICK_FRACTION = 0.8      # where in the log-pressure range the occupancy map starts: the upper layers
 
-_recent: OrderedDict[Scenario, Isotherm] = OrderedDict()   # isotherms this server has shown lately
+_recent = BoundedCache(16)       # isotherms this server has shown lately (porefill.physics.caching)
 
 
 def _key(scenario: Scenario) -> Scenario:
@@ -41,10 +42,7 @@ def _key(scenario: Scenario) -> Scenario:
 
 
 def _remember(scenario: Scenario, iso: Isotherm) -> None:
-    _recent[_key(scenario)] = iso
-    _recent.move_to_end(_key(scenario))
-    while len(_recent) > 16:
-        _recent.popitem(last=False)
+    _recent.put(_key(scenario), iso)
 
 
 def cached_isotherm(scenario: Scenario) -> Isotherm:
@@ -67,8 +65,8 @@ class IsothermView(pn.viewable.Viewer):
         self._steps = ColumnDataSource({k: [] for k in ("mu", "p", "rel", "n", "label")})
         self._sites = ColumnDataSource({k: [] for k in ("x", "y", "occ", "where")})
         self._outline = ColumnDataSource({"xs": [], "ys": []})
-        self.x_axis = pn.widgets.RadioButtonGroup(options=["pressure (log)", "p/p₀ (linear)", "chemical potential"],
-                                                  value="pressure (log)")
+        self.x_axis = pn.widgets.RadioButtonGroup(options={AXIS_LABELS[k]: k for k in ISOTHERM_AXES},
+                                                  value="pressure")
         self.branch = pn.widgets.RadioButtonGroup(options=["adsorption", "desorption", "equilibrium"],
                                                   value="equilibrium")
         self.pore_ends = pn.widgets.RadioButtonGroup.from_param(self.state.param.pore_ends, name="Pore ends")
@@ -289,7 +287,7 @@ class IsothermView(pn.viewable.Viewer):
     def _steps_table(self, iso: Isotherm, label: str) -> str:
         rows = []
         for i, s in enumerate(iso.steps, 1):
-            where = html.escape(", ".join(f"{n} ({c:g})" for n, c in s.filling) or "spread")
+            where = html.escape(s.where)
             loop = ""
             if s.kind == "first-order":
                 up = "—" if s.adsorption_jump_pressure_pa is None else f"{s.adsorption_jump_pressure_pa:.3g}"
@@ -318,7 +316,7 @@ class IsothermView(pn.viewable.Viewer):
     def _pick_index(self) -> int:
         iso = self._iso
         target = 10.0 ** self._pick_log10
-        return int(np.argmin(np.abs(np.log(iso.pressure_pa) - np.log(target))))
+        return iso.nearest_index(target)
 
     def _update_occupancy(self, *_):
         iso, sc = self._iso, self._shown
@@ -351,9 +349,9 @@ class IsothermView(pn.viewable.Viewer):
         iso = self._iso
         if iso is None or event.x is None:
             return
-        if self.x_axis.value.startswith("pressure"):
+        if self.x_axis.value == "pressure":
             p = event.x
-        elif self.x_axis.value.startswith("p/p"):
+        elif self.x_axis.value == "relative-pressure":
             p = event.x * iso.setup.saturation_pressure_pa
         else:
             p = float(iso.setup.pressure_pa(event.x))
@@ -363,9 +361,9 @@ class IsothermView(pn.viewable.Viewer):
             self._update_occupancy()
 
     def _swap_axis(self, event):
-        shown = {"pressure": self._fig_p, "p/p": self._fig_rel, "chemical": self._fig_mu}
-        for start, fig in shown.items():
-            fig.visible = event.new.startswith(start)
+        shown = {"pressure": self._fig_p, "relative-pressure": self._fig_rel, "chemical-potential": self._fig_mu}
+        for key, fig in shown.items():
+            fig.visible = event.new == key
 
     def __panel__(self):
         plots = pn.FlexBox(self._iso_box, self._occ_box, self._k_box, flex_wrap="wrap", gap="8px 16px",

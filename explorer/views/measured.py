@@ -1,8 +1,8 @@
 """Measured isotherms: drop the lab's files, map columns and units, see them over the model, fit.
 
-Files arrive in chunks (`pn.widgets.FileDropper`), are read in memory by `explorer.measured` (parsed, never
-executed or written to disk), and drawn over the isotherm the Pore tab shows (`explorer.overlay`). The fit
-runs in a process of its own (`explorer.fit_job`) with progress and cancel.
+Files arrive in chunks (`pn.widgets.FileDropper`), are read in memory by `porefill.explorer.files.measured` (parsed, never
+executed or written to disk), and drawn over the isotherm the Pore tab shows (`porefill.explorer.views.overlay`). The fit
+runs in a process of its own (`porefill.explorer.jobs.fit_job`) with progress and cancel.
 """
 from __future__ import annotations
 
@@ -16,15 +16,16 @@ import param
 from bokeh.models import ColumnDataSource, Range1d, Span
 from bokeh.plotting import figure
 
-from physics.fitting import FREE_PARAMETERS, PARAMETER_UNITS, FitRequest, carry_to, fitted_curves, residual_table
-from physics.measured import MEASURED_AMOUNT_UNITS, Sample
-from physics.units import PRESSURE_UNITS
+from porefill.physics.choices import AXIS_LABELS
+from porefill.physics.fitting.solve import FREE_PARAMETERS, PARAMETER_UNITS, FitRequest, carry_to, fitted_curves, residual_table
+from porefill.physics.fitting.measured import MEASURED_AMOUNT_UNITS, Sample
+from porefill.physics.substances.units import PRESSURE_UNITS
 
-from ..measured import ColumnMap, MeasuredFileError, read_measured
-from ..overlay import AXES, model_curves, overlay_run
-from ..state import ExplorerState, describe
-from .isotherm import ADS_COLOUR, DES_COLOUR
-from .potential import FRAME
+from porefill.explorer.files.measured import ColumnMap, MeasuredFileError, read_measured
+from porefill.explorer.views.overlay import AXES, model_curves, overlay_run
+from porefill.explorer.views.state import ExplorerState, describe
+from porefill.explorer.views.isotherm import ADS_COLOUR, DES_COLOUR
+from porefill.explorer.views.potential import FRAME
 
 ACCEPTED = [".csv", ".txt", ".tsv", ".dat", ".xlsx"]
 FROM_FILE = "(from the header)"
@@ -66,7 +67,7 @@ class MeasuredView(pn.viewable.Viewer):
         self.sample_inputs = {name: pn.widgets.FloatInput(name=label, value=None, start=0.0, width=150)
                               for name, label in SAMPLE_FIELDS}
         self.sample_note = pn.pane.HTML("", css_classes=["porefill-sample-note"], styles={"font-size": "12px"})
-        self.axis = pn.widgets.RadioButtonGroup(options=list(AXES), value="pressure (log)")
+        self.axis = pn.widgets.RadioButtonGroup(options={AXIS_LABELS[k]: k for k in AXES}, value="pressure")
         self.caption = pn.pane.HTML("", css_classes=["porefill-overlay-caption"], sizing_mode="stretch_width",
                                     styles={"font-size": "13px"})
         self.free = pn.widgets.CheckBoxGroup(options=list(FREE_PARAMETERS),
@@ -108,8 +109,8 @@ class MeasuredView(pn.viewable.Viewer):
     def _axis_for_gas(self, *_):
         """p/p0 on a linear axis is what nitrogen and argon users read; log p for the light gases, whose
         first layers form decades below p0."""
-        from physics.site_models import QUANTUM_BY_DEFAULT
-        self.axis.value = "pressure (log)" if self.state.adsorbate in QUANTUM_BY_DEFAULT else "p/p0"
+        from porefill.physics.sites.site_models import QUANTUM_BY_DEFAULT
+        self.axis.value = "pressure" if self.state.adsorbate in QUANTUM_BY_DEFAULT else "relative-pressure"
 
     # the model the Pore tab shows ----------------------------------------------------------------
     def model_arrived(self, scenario, iso) -> None:
@@ -313,8 +314,8 @@ class MeasuredView(pn.viewable.Viewer):
         self._sources.append(src)
 
     def _set_axes(self, axis: str) -> None:
-        x_label = {"pressure (log)": "pressure p (Pa)", "p/p0": "relative pressure p/p₀",
-                   "chemical potential": "chemical potential μ (K)", "coverage": "coverage (per nm)"}[axis]
+        x_label = {"pressure": "pressure p (Pa)", "relative-pressure": "relative pressure p/p₀",
+                   "chemical-potential": "chemical potential μ (K)", "coverage": "coverage (per nm)"}[axis]
         self._fig.xaxis.axis_label = x_label
         self._fig.yaxis.axis_label = "pressure p (Pa)" if axis == "coverage" else "coverage (per nm)"
         self._res_fig.yaxis.axis_label = "log₁₀(p/p_model)" if axis == "coverage" else "per nm"
@@ -325,9 +326,9 @@ class MeasuredView(pn.viewable.Viewer):
         x = np.concatenate([np.asarray(a, float).ravel() for a in xs])
         y = np.concatenate([np.asarray(a, float).ravel() for a in ys])
         x, y = x[np.isfinite(x)], y[np.isfinite(y)]
-        if axis == "pressure (log)":
+        if axis == "pressure":
             x = x[x > 0]
-        if axis == "p/p0":
+        if axis == "relative-pressure":
             x = x[(x >= 0) & (x <= 1.05)]
         if x.size:
             lo, hi = float(x.min()), float(x.max())
@@ -352,7 +353,7 @@ class MeasuredView(pn.viewable.Viewer):
         except ValueError as exc:
             self.fit_status.object = f"<p class='porefill-fit-error'>{html.escape(str(exc))}</p>"
             return
-        from ..fit_job import FitProcess
+        from porefill.explorer.jobs.fit_job import FitProcess
 
         self._job = FitProcess(request)
         self.fit_button.disabled, self.cancel_button.disabled = True, False

@@ -2,12 +2,11 @@
 
 These two plots redraw on every slider release, so they are plain Bokeh figures whose data sources are
 updated in place (one websocket patch per change) rather than rebuilt. The map, cuts and readout are
-computed in a worker thread (`explorer.compute`), never on the server's event loop.
+computed in a worker thread (`porefill.explorer.jobs.compute`), never on the server's event loop.
 """
 from __future__ import annotations
 
 import html
-from functools import lru_cache
 
 import contourpy
 import numpy as np
@@ -17,12 +16,14 @@ from bokeh.models import ColorBar, ColumnDataSource, HoverTool, LinearColorMappe
 from bokeh.palettes import Category10_10, Viridis256
 from bokeh.plotting import figure
 
-from physics.scenario import Scenario
-from physics.wall_potential import Minimum, PotentialMap, deepest_minimum, potential_map, wall_potential
+from porefill.physics.caching import memoize
+from porefill.physics.scenario import Scenario
+from porefill.physics.pore.line_cuts import line_cuts
+from porefill.physics.pore.wall_potential import Minimum, PotentialMap, deepest_minimum, potential_map, wall_potential
 
-from ..compute import LatestRunner, short_error
-from ..formatting import format_minimum
-from ..state import ExplorerState, describe
+from porefill.explorer.jobs.compute import LatestRunner, short_error
+from porefill.explorer.outputs.formatting import format_minimum
+from porefill.explorer.views.state import ExplorerState, describe
 
 MAP_POINTS = 200
 _STALE_AFTER_MS = 250
@@ -36,14 +37,14 @@ def geometry_only(scenario: Scenario) -> Scenario:
     return Scenario(**dict(scenario.geometry_key()))
 
 
-@lru_cache(maxsize=32)
+@memoize(maxsize=32)
 def cached_map(scenario: Scenario) -> PotentialMap:
     return potential_map(pore=scenario.pore(), pair=scenario.pair(), n=MAP_POINTS)
 
 
-@lru_cache(maxsize=32)
+@memoize(maxsize=32)
 def cached_minimum(scenario: Scenario) -> Minimum:
-    """The one deepest minimum (`physics.wall_potential.deepest_minimum`) the command line prints too."""
+    """The one deepest minimum (`porefill.physics.pore.wall_potential.deepest_minimum`) the command line prints too."""
     return deepest_minimum(pore=scenario.pore(), pair=scenario.pair())
 
 
@@ -82,10 +83,8 @@ def potential_result(scenario: Scenario) -> dict:
     width, height = m.x[-1] - m.x[0] + dx, m.y[-1] - m.y[0] + dy
     xs, ys = contour_lines(m, np.linspace(lo, hi, 11)[1:-1])
     cuts = []
-    for label, angle, length in pore.line_cuts():
-        r = np.linspace(0.0, length, CUT_POINTS)[:-1]
-        v = wall_potential(r * np.cos(angle), r * np.sin(angle), pore=pore, pair=pair)
-        cuts.append((label, r, np.where(np.isfinite(v), v, np.nan), length, float(np.min(v[np.isfinite(v)]))))
+    for cut in line_cuts(pore=pore, pair=pair, points=CUT_POINTS):
+        cuts.append((cut.label, cut.r_angstrom, cut.potential_k, cut.length_angstrom, cut.minimum_k))
     return {"scenario": scenario, "image": np.where(np.isfinite(m.values), m.values, np.nan),
             "x0": x0, "y0": y0, "width": width, "height": height, "colour": (lo, hi),
             "contours": (xs, ys), "outline": outline(scenario), "cuts": cuts,

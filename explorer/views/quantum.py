@@ -1,6 +1,6 @@
 """Quantum states of the cross-section, the two site models side by side, and energies along the isotherm.
 
-Computed on demand (one worker job, `explorer.model_comparison.comparison_job`): when this tab is opened with
+Computed on demand (one worker job, `porefill.explorer.views.model_comparison.comparison_job`): when this tab is opened with
 inputs it has not shown yet, or when its button is pressed. Until a result for the current inputs is here,
 what is on show says which inputs it belongs to.
 """
@@ -15,14 +15,14 @@ from bokeh.models import ColorBar, ColumnDataSource, LinearColorMapper, Range1d
 from bokeh.palettes import Cividis256
 from bokeh.plotting import figure
 
-from physics.scenario import Scenario
-from physics.site_models import QUANTUM_BY_DEFAULT
+from porefill.physics.scenario import Scenario
+from porefill.physics.sites.site_models import QUANTUM_BY_DEFAULT
 
-from ..compute import LatestRunner, short_error
-from ..model_comparison import ComparisonSummary, comparison_job
-from ..state import ExplorerState, describe
-from .isotherm import ADS_COLOUR, DES_COLOUR
-from .potential import FRAME, outline
+from porefill.explorer.jobs.compute import LatestRunner, short_error
+from porefill.explorer.views.model_comparison import ComparisonSummary, comparison_job
+from porefill.explorer.views.state import ExplorerState, describe
+from porefill.explorer.views.isotherm import ADS_COLOUR, DES_COLOUR
+from porefill.explorer.views.potential import FRAME, outline
 
 MODEL_COLOUR = {"classical": DES_COLOUR, "quantum": ADS_COLOUR}
 ENERGY_COLOURS = {"wall": "#1b6ca8", "kinetic": "#d1495b", "fluid": "#2e8540", "total": "#222222"}

@@ -1,6 +1,6 @@
 """Save and open scenario files, the link that reopens the page, the report, and figures for slides.
 
-- **Save scenario** writes the TOML of what is on screen (`explorer.scenario_file.dump_document`): the
+- **Save scenario** writes the TOML of what is on screen (`porefill.explorer.files.scenario_file.dump_document`): the
   inputs, the sample, measured runs and fit (from the Measured data tab, else as loaded), and the view
   choices (isotherm axis, branch, picked pressure, tab).
 - **Open scenario** reads a TOML file from the browser: parsed in memory, never executed or written to
@@ -9,7 +9,7 @@
   copied link reopens the same inputs; a link with values the dashboard refuses says so and keeps the
   scenario's values instead.
 - **Report** and **figures** (PNG 1920 px wide, SVG) are drawn on the server by matplotlib in a worker
-  process (`explorer.report`, `explorer.figures`); their buttons show a loading state meanwhile.
+  process (`porefill.explorer.outputs.report`, `porefill.explorer.outputs.figures`); their buttons show a loading state meanwhile.
 """
 from __future__ import annotations
 
@@ -22,10 +22,10 @@ from functools import partial
 import panel as pn
 import param
 
-from ..compute import isotherm_pool, short_error
-from ..figures import FIGURES, figure_job
-from ..scenario_file import TABS, ScenarioDocument, ScenarioFileError, ViewChoices, dump_document, parse_document
-from ..state import ExplorerState
+from porefill.explorer.jobs.compute import isotherm_pool, short_error
+from porefill.explorer.outputs.figures import FIGURES, figure_job
+from porefill.explorer.files.scenario_file import TABS, ScenarioDocument, ScenarioFileError, ViewChoices, dump_document, parse_document
+from porefill.explorer.views.state import ExplorerState
 
 __all__ = ["ScenarioIO", "URL_KEYS", "MAX_SCENARIO_BYTES", "report_job"]
 
@@ -33,15 +33,14 @@ log = logging.getLogger("porefill.explorer")
 URL_KEYS = ("shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k")
 _APPLY_ORDER = ("adsorbate", "shape", "isolated", "wall_angstrom", "size_angstrom", "temperature_k")
 MAX_SCENARIO_BYTES = 4 * 1024 * 1024      # a scenario with many measured runs is well under 1 MB
-_AXIS_LABEL = {"pressure": "pressure (log)", "relative-pressure": "p/p₀ (linear)",
-               "chemical-potential": "chemical potential"}
-_TAB_NAMES = {"pore": "Pore", "quantum": "Quantum", "measured": "Measured", "about": "About"}
+# the first word of each tab's title (explorer.views.dashboard), for every name in porefill.physics.choices.TABS
+_TAB_NAMES = {"pore": "Pore", "quantum": "Quantum", "measured": "Measured", "sizing": "Sizing", "about": "About"}
 WIDTH = 220
 
 
 def report_job(toml_text: str) -> bytes:
     """The report of a scenario file's text, as UTF-8 bytes (runs in a worker process)."""
-    from ..report import build_report
+    from porefill.explorer.outputs.report import build_report
 
     return build_report(parse_document(toml_text, name="the page's scenario")).encode("utf-8")
 
@@ -93,7 +92,7 @@ class ScenarioIO(pn.viewable.Viewer):
         axis, branch, pick, tab = "pressure", "equilibrium", None, "pore"
         iso = self.isotherm
         if iso is not None:
-            axis = {label: key for key, label in _AXIS_LABEL.items()}[iso.x_axis.value]
+            axis = iso.x_axis.value
             branch = iso.branch.value
             if getattr(iso, "_iso", None) is not None:
                 pick = float(iso.pick.value)
@@ -116,7 +115,7 @@ class ScenarioIO(pn.viewable.Viewer):
                 doc = doc.replace(sample=sample)
             result = getattr(m, "_fit", None)
             if result is not None:
-                from ..saved_fit import SavedFit
+                from porefill.explorer.files.saved_fit import SavedFit
                 doc = doc.replace(fit=SavedFit.from_result(result))
         return doc
 
@@ -216,7 +215,7 @@ class ScenarioIO(pn.viewable.Viewer):
     def apply_view(self, view: ViewChoices) -> None:
         iso = self.isotherm
         if iso is not None:
-            iso.x_axis.value = _AXIS_LABEL[view.axis]
+            iso.x_axis.value = view.axis
             iso.branch.value = view.branch
             self._pending_pick = view.pick_log10_pa
             if getattr(iso, "_iso", None) is not None:

@@ -2,7 +2,7 @@
 X-ray d100 spacing ties wall to side), coloured by what fills, the apparatus's pressure window shaded,
 and the pores that meet a stated target marked, in the plot and in a list beside it.
 
-Sweeps run off the event loop (`explorer.sweep_runner.SweepRunner`: worker processes shared by every
+Sweeps run off the event loop (`porefill.explorer.jobs.sweep_runner.SweepRunner`: worker processes shared by every
 session, or a Dask scheduler whose address is typed in), with a progress bar and a Stop button; results
 are cached per pore (`SWEEP_CACHE`), so going back to sizes already computed is instant. The HoloViews
 plots are made with the first result, when this tab is on show: Bokeh figures laid into a hidden tab
@@ -20,11 +20,12 @@ import panel as pn
 import param
 from panel.io.state import set_curdoc
 
-from physics.sweep import TARGET_KINDS, SweepSpec, Target, meets, parse_range, wall_from_d100
+from porefill.physics.choices import DEFAULT_POINTS
+from porefill.physics.sweep import TARGET_KINDS, SweepSpec, Target, meets, parse_range, wall_from_d100
 
-from ..compute import short_error
-from ..state import ExplorerState, describe
-from ..sweep_runner import SWEEP_CACHE, ClusterError, SweepRunner
+from porefill.explorer.jobs.compute import short_error
+from porefill.explorer.views.state import ExplorerState, describe
+from porefill.explorer.jobs.sweep_runner import SWEEP_CACHE, ClusterError, SweepRunner
 
 __all__ = ["SizingView", "FILL_COLOURS"]
 
@@ -97,7 +98,7 @@ class SizingView(pn.viewable.Viewer):
         self.d100 = pn.widgets.FloatInput(name="X-ray d100 spacing (Å)", value=40.0, start=1.0, step=0.5, width=290)
         self.model = pn.widgets.Select(name="Site model", options=["as the scenario", "classical", "quantum"],
                                        value="as the scenario", width=290, css_classes=["porefill-sizing-model"])
-        self.points = pn.widgets.IntInput(name="Points per isotherm", value=300, start=20, end=2000, step=50, width=290,
+        self.points = pn.widgets.IntInput(name="Points per isotherm", value=DEFAULT_POINTS, start=20, end=2000, step=50, width=290,
                                     css_classes=["porefill-sizing-points"])
         self.low = pn.widgets.FloatInput(name="Apparatus: lowest pressure (Pa)", value=1e-3, start=0.0, width=290,
                                          css_classes=["porefill-sizing-low"])

@@ -1,0 +1,271 @@
+"""Work off the event loop: executors shared by every session, and a per-view runner that applies only
+the result for the inputs that are still current.
+
+The Bokeh server runs every session's callbacks on one Tornado event loop, so a computation there freezes
+every open page. Isotherms (0.2 s to tens of seconds) go to a pool of worker *processes*: the solver is
+numpy on small arrays plus Python loops, so it holds the GIL most of the time, and in a thread it slows the
+other sessions' map redraws almost as much as on the loop itself (`benchmarks/bench_browser_redraw.py
+--contention` measures both). Wall-potential maps (50–150 ms, numpy that releases the GIL for most of
+its time) go to a small thread pool of their own, so they never queue behind an isotherm.
+
+``POREFILL_ISOTHERM_WORKERS=thread`` runs the isotherms in threads instead (for that measurement, or
+where processes cannot be started).
+"""
+from __future__ import annotations
+
+import logging
+import multiprocessing
+import os
+import threading
+from concurrent.futures import Executor, Future, ProcessPoolExecutor, ThreadPoolExecutor
+from functools import partial
+from typing import Any, Callable
+
+import panel as pn
+from panel.io.state import set_curdoc
+
+from porefill.physics.choices import DEFAULT_POINTS
+from porefill.physics.caching import memoize
+
+__all__ = ["TIME_LIMIT_S", "LatestRunner", "isotherm_pool", "map_pool", "retire_pools", "temperature_window", "short_error"]
+
+log = logging.getLogger("porefill.explorer")
+
+TIME_LIMIT_S = 60.0          # a request that takes longer ends in a message in its view
+ISOTHERM_POINTS = DEFAULT_POINTS
+ISOTHERM_WORKERS = 2
+
+_pools: dict[str, Executor] = {}
+_pools_lock = threading.Lock()
+
+
+def _pool(kind: str) -> Executor:
+    with _pools_lock:
+        pool = _pools.get(kind)
+        if pool is None:
+            if kind == "isotherm" and os.environ.get("POREFILL_ISOTHERM_WORKERS", "process") == "process":
+                # spawn, not fork: the server process has threads (Tornado, Bokeh), which fork would copy
+                # in whatever state they are in
+                pool = ProcessPoolExecutor(ISOTHERM_WORKERS, mp_context=multiprocessing.get_context("spawn"),
+                                           initializer=_warm_worker)
+            else:
+                pool = ThreadPoolExecutor(ISOTHERM_WORKERS, thread_name_prefix=f"porefill-{kind}")
+            _pools[kind] = pool
+        return pool
+
+
+def retire_pools() -> None:
+    """Shut the isotherm pool down (a later request starts a new one): its worker processes and what they
+    cache go with them. Jobs already given to it still run. Used when no session is open."""
+    with _pools_lock:
+        pool = _pools.pop("isotherm", None)
+    if pool is not None:
+        pool.shutdown(wait=False, cancel_futures=False)
+
+
+def isotherm_pool() -> Executor:
+    """Executor for isotherms (worker processes by default), created on first use."""
+    return _pool("isotherm")
+
+
+def map_pool() -> Executor:
+    """Executor for wall-potential maps, line cuts and readouts (threads), created on first use."""
+    return _pool("map")
+
+
+def _warm_worker() -> None:
+    # below the server's priority: on a small machine the event loop (and a browser on the same laptop)
+    # stays responsive while the workers are busy
+    try:
+        os.nice(5)
+    except OSError:
+        pass
+    threading.Thread(target=_exit_with_parent, args=(os.getppid(),), daemon=True).start()
+    import porefill.physics.lattice_gas.adsorption  # noqa: F401 - a worker's first isotherm should not pay for the imports
+
+
+def _exit_with_parent(parent: int) -> None:
+    """A worker whose server was killed (SIGTERM skips the pool's shutdown) ends itself, even mid-job."""
+    import time
+
+    while os.getppid() == parent:
+        time.sleep(1.0)
+    os._exit(0)
+
+
+# jobs: top-level functions, so that a process pool can pickle them ------------------------------------
+@memoize(maxsize=8)
+def isotherm_job(scenario):
+    """The dashboard's isotherm for ``scenario`` (title and notes dropped: they do not change it)."""
+    from porefill.physics.lattice_gas.adsorption import compute_isotherm
+
+    return compute_isotherm(scenario.replace(title="", notes=""), n_points=ISOTHERM_POINTS)
+
+
+def temperature_windows_job() -> dict[str, tuple[float, float, float]]:
+    """(lowest K, highest K, typical K) of every adsorbate's vapour-pressure equation.
+
+    The classical gases need CoolProp, whose first import takes seconds: done in a worker, once.
+    """
+    from porefill.physics.substances.materials import ADSORBATES
+    from porefill.physics.substances.vapour_pressure import temperature_range, typical_temperature
+
+    out = {}
+    for name in ADSORBATES:
+        lo, hi, _ = temperature_range(name)
+        out[name] = (float(lo), float(hi), float(typical_temperature(name)))
+    return out
+
+
+_windows: Future | None = None
+_windows_lock = threading.Lock()
+
+
+def start_temperature_windows() -> Future:
+    """Start (once per server) computing every adsorbate's temperature window in the isotherm pool."""
+    global _windows
+    with _windows_lock:
+        if _windows is None:
+            _windows = isotherm_pool().submit(temperature_windows_job)
+        return _windows
+
+
+def temperature_window(adsorbate: str) -> tuple[float, float, float]:
+    """(lowest K, highest K, typical K) for ``adsorbate``.
+
+    Waits for the worker only in the first seconds after the server started (CoolProp loading there).
+    """
+    try:
+        return start_temperature_windows().result(timeout=TIME_LIMIT_S)[adsorbate]
+    except Exception:          # a broken pool or a slow start: compute it here rather than fail
+        log.exception("temperature windows from the worker failed; computing here")
+        from porefill.physics.substances.vapour_pressure import temperature_range, typical_temperature
+        lo, hi, _ = temperature_range(adsorbate)
+        return float(lo), float(hi), float(typical_temperature(adsorbate))
+
+
+def short_error(exc: BaseException) -> str:
+    """One line for the page: a user-facing ValueError says what is wrong; anything else says only that
+    it failed (the server log keeps the traceback)."""
+    if isinstance(exc, TimeoutError):
+        return f"this took longer than {TIME_LIMIT_S:g} s and was given up; try a smaller pore"
+    if isinstance(exc, ValueError):
+        text = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+        return text[:300]
+    return "the calculation failed (details are in the server log)"
+
+
+class LatestRunner:
+    """Runs one view's computation in an executor and applies only the newest request's result.
+
+    Each request gets a generation number; a result (or error) arriving for an older generation is
+    dropped. At most one request per view is in the executor at a time, so one session dragging a slider
+    through slow pores occupies one worker, not all of them: while one runs, only the newest of the
+    waiting requests is kept and starts when the running one ends (or passes the time limit).
+
+    Outside a served page (tests, notebooks) the computation runs at once, in the caller's thread.
+    """
+
+    def __init__(self, kind: str, *, name: str, time_limit_s: float = TIME_LIMIT_S):
+        if kind not in ("isotherm", "map"):
+            raise ValueError(f"kind must be 'isotherm' or 'map'; got {kind!r}")
+        self.kind = kind
+        self.name = name
+        self.time_limit_s = time_limit_s
+        self.generation = 0
+        self._running: Future | None = None
+        self._queued: tuple | None = None
+
+    def submit(self, fn: Callable, args: tuple, on_result: Callable[[Any], None],
+               on_error: Callable[[BaseException], None]) -> int:
+        """Ask for ``fn(*args)``; ``on_result(value)`` or ``on_error(exc)`` runs on the session's thread
+        if this is still the newest request then. Returns the request's generation."""
+        self.generation += 1
+        gen = self.generation
+        doc = pn.state.curdoc
+        if doc is None or doc.session_context is None:
+            try:
+                value = fn(*args)
+            except Exception as exc:   # noqa: BLE001 - shown in the view, logged here
+                log.warning("%s failed for %r", self.name, args, exc_info=True)
+                on_error(exc)
+            else:
+                on_result(value)
+            return gen
+        job = (gen, fn, args, on_result, on_error, doc)
+        if self._running is not None and not self._running.done() and not self._running.cancel():
+            self._queued = job           # replaces an older queued request, which is never run
+        else:
+            self._start(job)
+        return gen
+
+    def _start(self, job) -> None:
+        gen, fn, args, on_result, on_error, doc = job
+        self._queued = None
+        try:
+            try:
+                future = _pool(self.kind).submit(fn, *args)
+            except RuntimeError:          # the pool was retired meanwhile (porefill.explorer.server.session_memory): a new one
+                with _pools_lock:
+                    _pools.pop(self.kind, None)
+                future = _pool(self.kind).submit(fn, *args)
+        except Exception as exc:          # noqa: BLE001 - e.g. a pool broken by a killed worker
+            log.exception("%s: could not start", self.name)
+            with _pools_lock:
+                _pools.pop(self.kind, None)      # the next request builds a fresh pool
+            on_error(exc)
+            return
+        self._running = future
+        state = {"settled": False}
+
+        def settle(callback, *values):
+            # on the session's thread, document locked
+            if state["settled"]:
+                return
+            state["settled"] = True
+            if self._running is future:
+                self._running = None
+            if gen == self.generation:
+                try:
+                    callback(*values)
+                except Exception:          # noqa: BLE001 - a bug in a view must not kill the session
+                    log.exception("%s: applying the result failed", self.name)
+            if self._queued is not None:
+                self._start(self._queued)
+
+        def done(f: Future):
+            # on a worker or executor thread: hand over to the session
+            if f.cancelled():
+                return
+            exc = f.exception()
+            if exc is not None:
+                log.error("%s failed for %r", self.name, args, exc_info=exc)
+                cb = partial(settle, on_error, exc)
+            else:
+                cb = partial(settle, on_result, f.result())
+            _on_session(doc, cb)
+
+        def timed_out():
+            if not state["settled"]:
+                log.error("%s for %r passed the time limit of %g s", self.name, args, self.time_limit_s)
+                settle(on_error, TimeoutError(self.time_limit_s))
+
+        future.add_done_callback(done)
+        try:
+            doc.add_timeout_callback(partial(_with_doc, doc, timed_out), int(self.time_limit_s * 1000))
+        except Exception:          # noqa: BLE001 - the session is gone
+            pass
+
+
+def _with_doc(doc, callback):
+    with set_curdoc(doc):
+        callback()
+
+
+def _on_session(doc, callback) -> None:
+    """Run ``callback`` on the session's event loop with its document as Panel's current one
+    (`Document.add_next_tick_callback` is the one document method safe to call from another thread)."""
+    try:
+        doc.add_next_tick_callback(partial(_with_doc, doc, callback))
+    except Exception:          # noqa: BLE001 - the session was closed meanwhile: nothing to show it to
+        log.debug("session closed before a result arrived", exc_info=True)

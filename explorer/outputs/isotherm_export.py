@@ -1,0 +1,176 @@
+"""Isotherm results as JSON, CSV and a text summary (used by the command line and the dashboard).
+
+The JSON and the CSV carry the same columns: one table of branch columns, built once here.
+"""
+from __future__ import annotations
+
+import csv
+import io
+import math
+
+import numpy as np
+
+from porefill.physics.lattice_gas.adsorption import Isotherm
+from porefill.physics.lattice_gas.bond import calibration_facts, default_bond_rule
+from porefill.physics.lattice_gas.branches import branch_notes, measured_branches
+from porefill.physics.substances.units import particle_word
+
+__all__ = ["calibration", "calibration_note", "isotherm_json", "step_json", "isotherm_csv", "isotherm_summary", "model_description", "amount_labels",
+           "branch_columns"]
+
+
+def _finite(values) -> list:
+    return [float(v) if math.isfinite(v) else None for v in np.asarray(values, float)]
+
+
+def amount_labels(iso: Isotherm) -> dict:
+    """Words for the amounts of this isotherm: atoms or molecules; per nm of pore, or per nm² for the slit."""
+    word = particle_word(iso.stage.scenario.adsorbate)
+    line = "per nm²" if iso.basis.per_area else "per nm of pore length"
+    return {"particles": word, "coverage": f"{word} {line}", "wall": f"{word} per nm² of wall",
+            "grand_potential": "K " + ("per nm²" if iso.basis.per_area else "per nm of pore length"),
+            "short": f"{word}/nm²" if iso.basis.per_area else f"{word}/nm"}
+
+
+def model_description(iso: Isotherm) -> dict:
+    s = iso.stage
+    sc = s.scenario
+    return {
+        "scenario": sc.to_dict(),
+        "site_model": sc.site_model_used,
+        "site_model_chosen": sc.site_model is not None,
+        "saturation_pressure_pa": s.saturation_pressure_pa,
+        "saturation_pressure_extrapolated": s.scale.p0_extrapolated,
+        "mu_coexistence_k": s.mu_coexistence_k,
+        "bond_energy_k": s.bond_k,
+        "bond_calibration": s.bond_note,
+        "lattice_spacing_angstrom": s.spacing_angstrom,
+        "lattice_spacing_rule": s.spacing_note,
+        "sites_per_slice": float(s.problem.weights.sum()),
+        "pair": s.geometry.pair.to_dict(),
+        "pressure_mapping": "p = p0(T) exp[(mu - mu_coex)/kT], mu_coex = -z eps_b / 2, z = 8",
+        "calibration": calibration(iso),
+        "pore_ends": sc.pore_ends,
+        "measured_branches": measured_branches(sc.pore_ends),
+        "branch_notes": branch_notes(iso),
+    }
+
+
+def calibration(iso: Isotherm) -> list[dict]:
+    """The bulk facts the lattice fluid keeps and how far it misses the others (`porefill.physics.lattice_gas.bond`)."""
+    s = iso.stage
+    sc = s.scenario
+    rule = None if sc.bond_energy_k is not None else (sc.bond_calibration or default_bond_rule(sc.adsorbate))
+    return calibration_facts(adsorbate=sc.adsorbate, temperature_k=sc.temperature_k, bond_k=s.bond_k, rule=rule,
+                             cell_volume_angstrom3=s.lattice.cell_volume_angstrom3)
+
+
+def calibration_note(iso: Isotherm) -> str:
+    """HTML paragraph: which bulk facts the lattice fluid keeps, and by how much it misses the others."""
+    import html
+
+    kept, missed = [], []
+    for f in calibration(iso):
+        if f["kept"]:
+            kept.append(html.escape(f["fact"]))
+        elif f["miss"] is not None:
+            missed.append(f"{html.escape(f['fact'])} {f['model']:.4g} {html.escape(f['unit'])} against "
+                          f"{f['reference']:.4g} ({f['miss']:+.0%}; {html.escape(f['source'])})")
+        else:
+            missed.append(html.escape(f["fact"]))
+    text = f"Lattice fluid keeps: {', '.join(kept) or 'none'}."
+    if missed:
+        text += f" Misses: {'; '.join(missed)}."
+    return f"<p class='porefill-calibration' style='font-size:90%'>{text}</p>"
+
+
+def branch_columns(iso: Isotherm, branch: str) -> dict[str, np.ndarray]:
+    """Every per-point quantity of one branch ('adsorption', 'desorption' or 'equilibrium'), by JSON key."""
+    cols = {
+        "coverage_per_nm": iso.amount(branch, "per nm"),
+        "coverage_per_nm2_wall": iso.amount(branch, "per nm2 wall"),
+        "fraction_of_full_pore": iso.fraction(branch),
+        "central_channel_occupancy": iso.central_channel_occupancy(branch),
+    }
+    if branch != "equilibrium":
+        b = getattr(iso, branch)
+        cols["grand_potential_k_per_nm"] = iso.grand_potential_per_nm(b)
+        cols["converged"] = b.converged.astype(float)
+    if iso.stage.scenario.pore_volume_cm3_g is not None:
+        cols["amount_mmol_per_g"] = iso.amount(branch, "mmol/g")
+        cols["amount_cm3_stp_per_g"] = iso.amount(branch, "cm3(STP)/g")
+    return cols
+
+
+def _branch(iso: Isotherm, branch: str) -> dict:
+    d = {"mu_k": _finite(iso.mu), "pressure_pa": _finite(iso.pressure_pa),
+         "relative_pressure": _finite(iso.relative_pressure)}
+    for key, values in branch_columns(iso, branch).items():
+        d[key] = [bool(v) for v in values] if key == "converged" else _finite(values)
+    return d
+
+
+def isotherm_json(iso: Isotherm) -> dict:
+    labels = amount_labels(iso)
+    return {
+        "units": {"mu": "K", "pressure": "Pa", "coverage": labels["coverage"], "wall_coverage": labels["wall"],
+                  "grand_potential": labels["grand_potential"],
+                  "amount_per_gram": "mmol/g and cm3(STP)/g, STP = 273.15 K and 101.325 kPa"},
+        "model": model_description(iso),
+        "adsorption": _branch(iso, "adsorption"),
+        "desorption": _branch(iso, "desorption"),
+        "equilibrium": _branch(iso, "equilibrium"),
+        "sites": _sites(iso),
+        "steps": [step_json(iso, s) for s in iso.steps],
+    }
+
+
+def _sites(iso: Isotherm) -> dict:
+    lat = iso.stage.lattice
+    return {"x_angstrom": _finite(lat.x), "y_angstrom": _finite(lat.y),
+            "where": [lat.label(i) for i in range(lat.size)],
+            "free_energy_k": _finite(iso.stage.site_free_energy)}
+
+
+def step_json(iso: Isotherm, step) -> dict:
+    """A step as the JSON holds it (`porefill.physics.lattice_gas.adsorption.Isotherm.step_dict`)."""
+    return iso.step_dict(step)
+
+
+def isotherm_csv(iso: Isotherm) -> str:
+    """Every column of the JSON's branches, one row per chemical potential; units in the column names
+    (coverage per nm of pore, or per nm² for the slit)."""
+    out = io.StringIO()
+    columns = {"mu_K": iso.mu, "pressure_Pa": iso.pressure_pa, "relative_pressure": iso.relative_pressure}
+    for branch in ("adsorption", "desorption", "equilibrium"):
+        for key, values in branch_columns(iso, branch).items():
+            columns[f"{branch}_{key}"] = values
+    w = csv.writer(out, lineterminator="\n")
+    w.writerow(columns)
+    for row in zip(*columns.values()):
+        w.writerow([f"{v:.10g}" for v in row])
+    return out.getvalue()
+
+
+def isotherm_summary(iso: Isotherm) -> str:
+    s = iso.stage
+    sc = s.scenario
+    labels = amount_labels(iso)
+    p0_note = " (extrapolated below the equation's range)" if s.scale.p0_extrapolated else ""
+    lines = [f"{sc.adsorbate} at {sc.temperature_k:g} K in a {sc.shape} pore of size {sc.size_angstrom:g} Å"
+             + ("" if sc.effective_wall_angstrom is None else f", walls {sc.wall_angstrom:g} Å"),
+             f"p0 = {s.saturation_pressure_pa:.6g} Pa{p0_note}; {s.bond_note}; lattice spacing "
+             f"{s.spacing_angstrom:.4g} Å ({s.problem.weights.sum():g} sites per slice); site model {sc.site_model_used}",
+             "", f"{'step':>4}  {'kind':<11} {'mu (K)':>9} {'p (Pa)':>11} {'p/p0':>10} "
+                 f"{'adds (' + labels['short'] + ')':>16}  {'hysteresis (Pa)':<21}  where"]
+    for i, st in enumerate(iso.steps, 1):
+        where = st.where
+        loop = ""
+        if st.kind == "first-order":
+            loop = f"{st.desorption_jump_pressure_pa:.3g} – {st.adsorption_jump_pressure_pa:.3g}"
+        lines.append(f"{i:>4}  {st.kind:<11} {st.mu_k:9.3f} {st.pressure_pa:11.4g} {st.relative_pressure:10.4g} "
+                     f"{st.added_per_nm:16.3f}  {loop:<21}  {where}")
+    if not iso.steps:
+        lines.append("      no steps in this range")
+    lines += ["", *branch_notes(iso)]
+    return "\n".join(lines)

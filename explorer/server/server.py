@@ -1,0 +1,89 @@
+"""Serving the dashboard with Panel's Bokeh server, behind the gate of `porefill.explorer.server.security`."""
+from __future__ import annotations
+
+import logging
+import os
+import secrets
+
+from porefill.physics.scenario import Scenario
+
+from porefill.explorer.server.security import AUTH_COOKIE, AccessPolicy, ServeError, install
+
+__all__ = ["serve", "start_server"]
+
+
+def _secret_key() -> str:
+    """Key that signs the Bokeh session ids: ``$BOKEH_SECRET_KEY`` if set, else random for this run."""
+    return os.environ.get("BOKEH_SECRET_KEY") or secrets.token_urlsafe(48)
+
+
+def start_server(scenario: Scenario | None, *, address: str, port: int, policy: AccessPolicy):
+    """Build the Bokeh server for the dashboard with the gate installed; the caller starts its loop.
+
+    Raises
+    ------
+    ServeError
+        When the address and port cannot be listened on.
+    """
+    import panel as pn
+
+    from porefill.explorer.views.dashboard import create_app
+
+    from porefill.explorer.server.session_memory import session_closed, session_opened
+
+    def page():
+        try:
+            pn.state.on_session_destroyed(session_closed)     # the last one out gives the caches back
+            session_opened()
+        except Exception:          # noqa: BLE001 - the page matters more than the memory bookkeeping
+            logging.getLogger("porefill.explorer").exception("cannot watch this session's end")
+        return create_app(scenario)
+
+    secret_key = _secret_key()
+    try:
+        server = pn.serve(
+            {"/": page}, address=address, port=port, show=False, start=False, title="porefill",
+            verbose=False, websocket_max_message_size=50 * 1024 * 1024,
+            websocket_origin=sorted(policy.hosts),
+            # session ids made and signed here, never taken from the client
+            sign_sessions=True, secret_key=secret_key, generate_session_ids=True,
+            # the session token sits in the page: keep the login cookie out of it
+            exclude_cookies=[AUTH_COOKIE], exclude_headers=["Cookie", "Authorization"],
+        )
+    except OSError as exc:
+        raise ServeError(f"cannot listen on {address} port {port}: {exc.strerror or exc}") from None
+    install(server._tornado, policy, session_secret=secret_key)  # noqa: SLF001 - Bokeh keeps its Tornado application there
+    return server
+
+
+def serve(scenario: Scenario | None, *, address: str = "127.0.0.1", port: int = 5006,
+          policy: AccessPolicy | None = None, show: bool = False) -> None:
+    """Serve the dashboard until interrupted.
+
+    Parameters
+    ----------
+    scenario
+        The scenario the page opens with (None: built-in defaults).
+    address, port
+        Where to listen.
+    policy
+        Accepted host names and the password; default: this address and port only, no password.
+    show
+        Open a browser window on the page.
+    """
+    policy = policy or AccessPolicy.for_server(address=address, port=port)
+    server = start_server(scenario, address=address, port=port, policy=policy)
+    shown = address if address not in ("0.0.0.0", "::", "") else "127.0.0.1"
+    if ":" in shown:
+        shown = f"[{shown}]"
+    login = " (sign in with the password)" if policy.password is not None else ""
+    print(f"porefill dashboard at http://{shown}:{server.port}/{login}  (Ctrl-C stops it)", flush=True)
+    server.start()
+    if show:
+        server.io_loop.add_callback(server.show, "/")
+    try:
+        server.io_loop.start()
+    except KeyboardInterrupt:
+        pass
+    finally:
+        server.stop()

@@ -1,0 +1,43 @@
+"""Every choice list and default that more than one edge shows, stated once.
+
+The command line (`choices=`), scenario files (what a key may hold), the dashboard's widgets (options and
+labels) and the report all read these; each edge may add its own words, never its own list. Numeric limits
+are in `porefill.physics.limits`; unit factors in `porefill.physics.substances.units`.
+"""
+from __future__ import annotations
+
+__all__ = ["SHAPES", "SIZE_NAMES", "size_label", "PORE_ENDS", "DEFAULT_PORE_ENDS", "SITE_MODELS", "LEGS",
+           "BRANCHES", "AXES", "ISOTHERM_AXES", "AXIS_LABELS", "TABS", "DEFAULT_POINTS"]
+
+# pore cross-sections, and what the one size number of each means
+SHAPES = ("hexagon", "cylinder", "slit")
+SIZE_NAMES = {"hexagon": "side length", "cylinder": "radius", "slit": "width"}
+
+# how a pore's ends are open decides the branch a measurement follows (porefill.physics.lattice_gas.branches)
+PORE_ENDS = ("open", "closed-end", "infinite")
+DEFAULT_PORE_ENDS = "open"
+
+# how a site's free energy is found (porefill.physics.sites.site_models)
+SITE_MODELS = ("classical", "quantum")
+
+# a measured run's legs, and the model branches a leg can be compared with
+LEGS = ("adsorption", "desorption")
+BRANCHES = ("adsorption", "desorption", "equilibrium")
+
+# x axes of the isotherm (the first three) and of the measured-data overlay (all four); one key each,
+# one label each, everywhere
+AXES = ("pressure", "relative-pressure", "chemical-potential", "coverage")
+ISOTHERM_AXES = AXES[:3]
+AXIS_LABELS = {"pressure": "pressure (log)", "relative-pressure": "p/p₀ (linear)",
+               "chemical-potential": "chemical potential", "coverage": "coverage"}
+
+# the dashboard's tabs a scenario file can reopen on, in the page's order
+TABS = ("pore", "quantum", "measured", "sizing", "about")
+
+# chemical potentials along an isotherm when nobody asks for another number
+DEFAULT_POINTS = 300
+
+
+def size_label(shape: str) -> str:
+    """What the size number of ``shape`` is ('side length', 'radius', 'width')."""
+    return SIZE_NAMES[shape]

@@ -1,0 +1,193 @@
+"""From the optimum of a fit to its report: Jacobian, covariance, goodness of fit, warnings; model curves.
+
+Covariance: cov = s² (JᵀJ)⁻¹, s² = χ²/(n − p), with J the Jacobian of the normalised residuals (Press et al.,
+Numerical Recipes, 3rd ed., §15.4–15.5 — value from memory). JᵀJ is inverted after scaling its columns to
+unit norm, through its eigenvalues, so a near-singular direction is seen (eigenvalue below 1e-10 of the
+largest) and reported rather than turned into digits. R² = 1 − Σr²/Σ((y − ȳ)/σ)² over the points with
+pressure, ȳ the σ-weighted mean of each run (common practice, no source).
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from porefill.physics.fitting import model as fm
+from porefill.physics.lattice_gas.adsorption import compute_isotherm
+from porefill.physics.fitting.params import FREE_PARAMETERS, PARAMETER_UNITS
+from porefill.physics.substances.units import from_pascal
+
+__all__ = ["build_result", "curves"]
+
+_SINGULAR = 1e-10          # eigenvalue of the column-scaled JᵀJ, relative to the largest
+_CORRELATED = 0.99         # |correlation| above which two parameters are reported as hard to tell apart
+
+
+def _fixed_v_residuals(obj, u, n_points: int, pore_volume: float) -> np.ndarray:
+    _, pred = obj.prediction(u, n_points, strict=True)
+    return np.concatenate(fm.residuals(pred, obj.data, pore_volume, obj.request.pressure_noise))
+
+
+def _jacobian(obj, u: np.ndarray, pred, pore_volume: float) -> np.ndarray:
+    """(n_all, p) Jacobian of the normalised residuals in the parameters' own units (``FREE_PARAMETERS``
+    order): central differences of ``error_step`` in the nonlinear ones with V_p held; the pore-volume column by a small
+    difference of V_p alone (it only scales the model curve, so no model evaluation is needed)."""
+    space, req = obj.space, obj.request
+    cols = []
+    for j, name in enumerate(space.nonlinear):
+        up, dn = u.copy(), u.copy()
+        up[j], dn[j] = min(u[j] + req.error_step, 1.0), max(u[j] - req.error_step, 0.0)
+        r_up = _fixed_v_residuals(obj, up, req.local_points, pore_volume)
+        r_dn = _fixed_v_residuals(obj, dn, req.local_points, pore_volume)
+        cols.append((r_up - r_dn) / ((up[j] - dn[j]) * space.width(name)))
+    if "pore-volume" in space.free:
+        h = 1e-6 * pore_volume
+        r_up, r_dn = (np.concatenate(fm.residuals(pred, obj.data, v, req.pressure_noise))
+                      for v in (pore_volume + h, pore_volume - h))
+        cols.append((r_up - r_dn) / (2.0 * h))
+    return np.column_stack(cols) if cols else np.zeros((obj.n, 0))
+
+
+def _covariance(jac: np.ndarray, s2: float) -> tuple[np.ndarray, np.ndarray]:
+    """cov = s² (JᵀJ)⁻¹ through the eigenvalues of the column-scaled JᵀJ; and the (p,) flags of parameters
+    in a direction the data do not determine (zero column or near-null eigenvector)."""
+    p = jac.shape[1]
+    norm = np.sqrt(np.sum(jac**2, axis=0))
+    undetermined = norm == 0
+    scale = np.where(undetermined, 1.0, norm)
+    a = (jac.T @ jac) / np.outer(scale, scale)
+    w, v = np.linalg.eigh(a)
+    small = w <= _SINGULAR * max(w.max(), 1e-300)
+    for k in np.flatnonzero(small):
+        undetermined |= np.abs(v[:, k]) > 0.3
+    inv = (v[:, ~small] / w[~small]) @ v[:, ~small].T
+    cov = s2 * inv / np.outer(scale, scale)
+    cov[undetermined, :] = np.nan
+    cov[:, undetermined] = np.nan
+    return cov.reshape(p, p), undetermined
+
+
+def _r_squared(obj, r_p: np.ndarray) -> float:
+    total = 0.0
+    for d in obj.data:
+        y, s = d.run.amount[d.has_pressure], d.sigma[d.has_pressure]
+        if y.size:
+            w = 1.0 / s**2
+            total += float(np.sum(((y - np.sum(w * y) / np.sum(w)) / s) ** 2))
+    return 1.0 - float(r_p @ r_p) / total if total > 0 else float("nan")
+
+
+def _warnings(space, values, names, stderr, corr, undetermined, n, n_violated, obj) -> list[str]:
+    out = []
+    p = len(names)
+    if n <= p:
+        out.append(f"{n} point{'s' if n != 1 else ''} with pressure for {p} parameter{'s' if p != 1 else ''}: "
+                   "the uncertainties cannot be estimated")
+    for i, name in enumerate(names):
+        lo, hi = space.bounds[name]
+        unit = PARAMETER_UNITS[name]
+        v = values[name]
+        tol = 1e-3 * (hi - lo)
+        if v - lo <= tol or hi - v <= tol:
+            side, edge = ("lower", lo) if v - lo <= tol else ("upper", hi)
+            out.append(f"{name} = {v:.4g}{' ' + unit if unit else ''} is at its {side} bound "
+                       f"({edge:g}{' ' + unit if unit else ''}): widen the bounds or fix it; its standard error "
+                       "does not hold there")
+        if undetermined[i]:
+            out.append(f"{name} is not determined by the data (the fit does not change when it moves)")
+        elif n > p and np.isfinite(stderr[i]) and (stderr[i] > abs(v) or stderr[i] > 0.25 * (hi - lo)):
+            out.append(f"{name} is not determined by the data: standard error {stderr[i]:.3g} against a value "
+                       f"of {v:.4g}{' ' + unit if unit else ''} (bounds {lo:g} to {hi:g})")
+    for i in range(p):
+        for j in range(i + 1, p):
+            if np.isfinite(corr[i, j]) and abs(corr[i, j]) > _CORRELATED:
+                out.append(f"{names[i]} and {names[j]} are strongly correlated ({corr[i, j]:+.3f}): the data "
+                           "hardly tell them apart")
+    if n_violated:
+        out.append(f"{n_violated} point{'s' if n_violated != 1 else ''} without pressure "
+                   f"{'are' if n_violated != 1 else 'is'} not reached by the model at equal coverage between the "
+                   "neighbouring recorded pressures")
+    if space.wall_clamped(values):
+        out.append(f"the wall a0 − √3·side fell below the thinnest physical wall and was held at "
+                   f"{space.wall_min:.2f} Å")
+    out.extend(obj.notes)
+    return out
+
+
+def _alternatives(space, names, values, stderr, chi2, s2, others) -> list[str]:
+    """A warning for each other local optimum within Δχ²/s² < 4 of the best whose parameters differ by more
+    than three standard errors: the data do not single out one parameter set."""
+    out = []
+    for c, u in others:
+        if not np.isfinite(s2) or (c - chi2) / s2 >= 4.0:
+            continue
+        alt = space.values_of(u)
+        far = [n for i, n in enumerate(names) if n != "pore-volume" and np.isfinite(stderr[i])
+               and abs(alt[n] - values[n]) > 3.0 * stderr[i]]
+        if far:
+            text = ", ".join(f"{n} {alt[n]:.4g} {PARAMETER_UNITS[n]}".rstrip() for n in far)
+            out.append(f"another parameter set fits about as well (χ² {c:.4g} against {chi2:.4g}): {text}; "
+                       "fix or bound one of them, or add data that tell them apart")
+    return out
+
+
+def build_result(obj, u: np.ndarray, others=()):
+    """The `porefill.physics.fitting.solve.FitResult` at the scaled optimum ``u`` of the objective ``obj``."""
+    from porefill.physics.fitting.solve import FitResult, RunResidual
+
+    space, req = obj.space, obj.request
+    values, pred = obj.prediction(u, req.local_points, strict=True)
+    v_p = space.pore_volume(values, pred, obj.data, req.pressure_noise)
+    values["pore-volume"] = v_p
+    r_p, r_c = fm.residuals(pred, obj.data, v_p, req.pressure_noise)
+    names = tuple(n for n in FREE_PARAMETERS if n in space.free)
+    jac = _jacobian(obj, u, pred, v_p)
+    n, p = r_p.size, len(names)
+    chi2 = float(r_p @ r_p + r_c @ r_c)
+    s2 = chi2 / (n - p) if (req.scale_covariance and n > p) else (1.0 if n > p else np.nan)
+    cov, undetermined = _covariance(jac, s2)
+    stderr = np.sqrt(np.clip(np.diag(cov), 0.0, None))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        corr = cov / np.outer(stderr, stderr)
+    warnings = _warnings(space, values, names, stderr, corr, undetermined, n, int(np.count_nonzero(r_c)), obj)
+    warnings += _alternatives(space, names, values, stderr, chi2, s2, others)
+
+    runs = []
+    for curve, d in zip(pred, obj.data):
+        known = d.has_pressure
+        rp, rc = fm.run_residuals(curve, d, v_p, req.pressure_noise)
+        a, b = curve.at(np.log(d.pressure_pa[known]))
+        model, resid = np.empty(known.size), np.empty(known.size)
+        model[known], resid[known], resid[~known] = v_p * a + b, rp, rc
+        model[~known] = d.run.amount[~known] + rc * d.sigma[~known]
+        runs.append(RunResidual(d.run, d.branch, d.temperature_k, d.pressure_pa, model, d.sigma, resid, ~known))
+
+    sample = req.sample
+    if "pore-volume" in space.free:
+        sample = sample.with_value("pore_volume_cm3_g", v_p, "fitted")
+    if "a0" in space.free:
+        sample = sample.with_value("d100_angstrom", values["a0"] * np.sqrt(3.0) / 2.0, "fitted")
+    scenario = space.scenario_for(values, v_p if space.needs_pore_volume else None)
+    return FitResult(req, {nm: (float(values[nm]), float(stderr[i])) for i, nm in enumerate(names)},
+                     {nm: space.bounds[nm] for nm in names}, names, cov, corr, tuple(runs), chi2, n, int(r_c.size),
+                     p, _r_squared(obj, r_p), tuple(warnings), scenario, sample, obj.evaluations)
+
+
+def curves(result, n_points: int):
+    """`porefill.physics.fitting.solve.fitted_curves`: the fitted model over each run's range, in the run's units."""
+    from porefill.physics.fitting.solve import FittedCurve
+
+    req = result.request
+    data = fm.prepare_runs(req.runs, scenario=req.scenario, sample=req.sample, branches=req.branches,
+                           noise_relative=req.noise_relative, noise_floor=req.noise_floor,
+                           gauge_floor_pa=req.gauge_floor_pa)
+    pore = result.scenario.pore()
+    v_p = result.scenario.pore_volume_cm3_g or result.sample.pore_volume_cm3_g or 1.0
+    out = []
+    for d in data:
+        (lo, hi), = fm.pressure_ranges((d,), adsorbate=req.scenario.adsorbate, margin=1.0 + 1e-9).values()
+        iso = compute_isotherm(result.scenario.replace(temperature_k=d.temperature_k), n_points=n_points,
+                               pressure_range_pa=(lo, hi))
+        amount = iso.per_angstrom(d.branch) * fm.unit_factor(d.run, pore, result.sample, v_p)
+        p = iso.pressure_pa
+        shown = from_pascal(p, d.run.pressure_unit, p0_pa=iso.stage.saturation_pressure_pa)
+        out.append(FittedCurve(d.run, d.branch, shown, p, amount))
+    return tuple(out)

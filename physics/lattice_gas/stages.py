@@ -1,0 +1,185 @@
+"""The model's stages, each a frozen result of the one before, all keyed by the scenario alone.
+
+    Scenario ──geometry_stage──▶ GeometryStage   pore, pair, adsorbate, candidate sites in rows that follow
+                                                  the wall, quadrature nodes of their cells and the wall
+                                                  potential there (no temperature; cached)
+             ──thermal_stage───▶ ThermalStage    site free energies (by the scenario's site model), bond ε_b,
+                                                  pressure scale p0 / μ_coex, kept sites reduced to orbits
+             ──compute_isotherm (porefill.physics.lattice_gas.adsorption)──▶ Isotherm, complete with its steps
+
+A temperature change reuses the geometry stage; nothing is patched after it is built.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from porefill.physics.caching import memoize
+from porefill.physics.lattice_gas.bond import bond_energy, default_bond_rule
+from porefill.physics.pore.geometry import Pore
+from porefill.physics.sites.cells import SiteCells, site_cells
+from porefill.physics.sites.lattice import (COORDINATION, SiteLattice, default_spacing, lattice_of, orbit_problem_matrices,
+                      symmetry_orbits)
+from porefill.physics.substances.materials import Adsorbate, PairParameters, get_adsorbate
+from porefill.physics.lattice_gas.meanfield import MeanFieldProblem
+from porefill.physics.scenario import Scenario
+from porefill.physics.sites.site_models import site_model
+from porefill.physics.sites.placement import first_row_distance, place_sites
+from porefill.physics.substances.vapour_pressure import (liquid_number_density, p0_is_extrapolated, saturated_vapour_pressure,
+                              temperature_range)
+
+__all__ = ["GeometryStage", "ThermalStage", "PressureScale", "geometry_stage", "thermal_stage"]
+
+# A site is kept when it could reach this occupancy at the top of the μ range with every neighbour full
+_DROP_LOGIT = -15.0
+
+
+@dataclass(frozen=True)
+class PressureScale:
+    """p = p0 exp[(μ − μ_coex)/kT]: the map between chemical potential (K) and pressure (Pa)."""
+
+    saturation_pressure_pa: float
+    mu_coexistence_k: float
+    temperature_k: float
+    p0_extrapolated: bool = False       # p0 from an extrapolation beyond its equation's range
+
+    def pressure_pa(self, mu_k) -> np.ndarray:
+        return self.saturation_pressure_pa * np.exp((np.asarray(mu_k, float) - self.mu_coexistence_k)
+                                                    / self.temperature_k)
+
+    def mu_k(self, pressure_pa) -> np.ndarray:
+        return self.mu_coexistence_k + self.temperature_k * np.log(np.asarray(pressure_pa, float)
+                                                                    / self.saturation_pressure_pa)
+
+    def relative_pressure(self, mu_k) -> np.ndarray:
+        return self.pressure_pa(mu_k) / self.saturation_pressure_pa
+
+    def pressure_from_relative(self, relative) -> np.ndarray:
+        return np.asarray(relative, float) * self.saturation_pressure_pa
+
+
+@dataclass(frozen=True, eq=False)
+class GeometryStage:
+    """Temperature-independent inputs: every candidate site and the quadrature of its cell."""
+
+    key: tuple
+    pore: Pore
+    pair: PairParameters
+    adsorbate: Adsorbate
+    candidates: SiteLattice
+    cells: SiteCells                    # nodes, weights and wall potential of every cell, converged over T
+    orbit: np.ndarray                   # (N,) symmetry orbit of each candidate
+    spacing_angstrom: float
+    spacing_note: str
+
+
+@memoize(maxsize=48)
+def _geometry_stage(key: tuple) -> GeometryStage:
+    scenario = Scenario(**dict(key))
+    pore, pair = scenario.pore(), scenario.pair()
+    if scenario.lattice_spacing_angstrom is not None:
+        spacing, note = scenario.lattice_spacing_angstrom, "set by the user"
+    else:
+        density, source = liquid_number_density(scenario.adsorbate)
+        spacing = default_spacing(density)
+        note = f"full lattice at the bulk liquid density {density:.5f} Å⁻³ ({source})"
+    placement = place_sites(pore, spacing, first_row_distance(pore, pair))
+    candidates = lattice_of(pore, placement, spacing)
+    orbit = symmetry_orbits(candidates, pore)
+    t_min, t_max, _ = temperature_range(scenario.adsorbate)
+    cells = site_cells(pore, pair, placement, orbit, temperature_range_k=(t_min, t_max))
+    if placement.area_scale != 1.0:
+        note += (f"; rows scaled by s = {np.sqrt(placement.area_scale):.4f} to fit the pore, axial spacing "
+                 f"ℓ/s² = {candidates.spacing_angstrom:.4f} Å keeps the cell volume")
+    return GeometryStage(key, pore, pair, get_adsorbate(scenario.adsorbate), candidates, cells, orbit,
+                         float(candidates.spacing_angstrom), note)
+
+
+def geometry_stage(scenario: Scenario) -> GeometryStage:
+    """The geometry stage of a scenario, cached on the inputs it depends on (`Scenario.geometry_key`)."""
+    return _geometry_stage(scenario.geometry_key())
+
+
+@dataclass(frozen=True, eq=False)
+class ThermalStage:
+    """Everything the solver needs at one temperature: kept sites, their free energies, ε_b, pressures."""
+
+    scenario: Scenario
+    geometry: GeometryStage
+    lattice: SiteLattice               # kept sites
+    site_free_energy: np.ndarray       # (N,) K, in the frame of `porefill.physics.sites.site_models`
+    orbit: np.ndarray                  # (N,) orbit index of each kept site
+    representative: np.ndarray         # (M,) a site of each orbit
+    problem: MeanFieldProblem          # reduced to orbits
+    bond_k: float
+    bond_note: str
+    scale: PressureScale
+
+    @property
+    def temperature_k(self) -> float:
+        return self.scenario.temperature_k
+
+    @property
+    def spacing_angstrom(self) -> float:
+        return self.geometry.spacing_angstrom
+
+    @property
+    def spacing_note(self) -> str:
+        return self.geometry.spacing_note
+
+    @property
+    def saturation_pressure_pa(self) -> float:
+        return self.scale.saturation_pressure_pa
+
+    @property
+    def mu_coexistence_k(self) -> float:
+        return self.scale.mu_coexistence_k
+
+    def pressure_pa(self, mu) -> np.ndarray:
+        return self.scale.pressure_pa(mu)
+
+    def full_occupancy(self, orbit_occupancy: np.ndarray) -> np.ndarray:
+        """Expand (..., M) orbit occupancies to (..., N) sites."""
+        return np.asarray(orbit_occupancy)[..., self.orbit]
+
+    def orbit_labels(self) -> list[str]:
+        return [self.lattice.label(i) for i in self.representative]
+
+
+def thermal_stage(scenario: Scenario, *, mu_max: float | None = None) -> ThermalStage:
+    """Site free energies, bond and pressure scale at the scenario's temperature, on its geometry stage.
+
+    ``mu_max`` (K) is the top of the μ range, which decides which sites can ever fill (default μ_coex).
+    """
+    geo = geometry_stage(scenario)
+    t = scenario.temperature_k
+    p0 = saturated_vapour_pressure(scenario.adsorbate, t)
+    cell_volume = geo.candidates.cell_volume_angstrom3
+    if scenario.bond_energy_k is not None:
+        bond, note = float(scenario.bond_energy_k), f"ε_b = {scenario.bond_energy_k:g} K, set by the user"
+    else:
+        rule = scenario.bond_calibration or default_bond_rule(scenario.adsorbate)
+        bond, note = bond_energy(rule, adsorbate=scenario.adsorbate, temperature_k=t,
+                                 cell_volume_angstrom3=cell_volume)
+    mu_coex = -COORDINATION * bond / 2.0
+    scale = PressureScale(p0, mu_coex, t, p0_is_extrapolated(scenario.adsorbate, t))
+    f = np.asarray(site_model(scenario.site_model_used)(geo, temperature_k=t), float)
+    top = mu_coex if mu_max is None else max(mu_max, mu_coex)
+    max_bonds = np.asarray(geo.candidates.neighbours.sum(axis=1)).ravel()
+    # keep whole orbits (rounding must not split one): by the orbit's lowest free energy
+    f_orbit = np.full(geo.orbit.max() + 1, np.inf)
+    np.minimum.at(f_orbit, geo.orbit, f)
+    keep = (top + bond * max_bonds - f_orbit[geo.orbit]) / t > _DROP_LOGIT
+    if not np.any(keep):
+        raise ValueError("no site of this pore can fill below the top of the pressure range "
+                         "(the pore is too small for the adsorbate)")
+    lattice = geo.candidates.subset(keep, geo.pore)
+    f = f[keep]
+    _, orbit = np.unique(geo.orbit[keep], return_inverse=True)     # whole orbits were kept
+    rep, weights, coupling = orbit_problem_matrices(lattice, orbit)
+    f_red = np.zeros(weights.size)
+    np.add.at(f_red, orbit, f)
+    f_red /= weights                    # members agree to rounding; average them
+    problem = MeanFieldProblem(f_red, coupling, bond, t, weights)
+    return ThermalStage(scenario, geo, lattice, f, orbit, rep, problem, float(bond), note, scale)

@@ -1,0 +1,349 @@
+"""One atom in the pore cross-section, exactly: the 2-D Schrödinger equation in the wall potential.
+
+    [−(ħ²/2m) ∇² + V(x, y)] ψ_n = E_n ψ_n,   free motion along the axis.
+
+The cross-section is covered by a triangular grid of spacing h with a point at the centre and rows along x,
+so the grid has the hexagon's full point group (C6v) and the states carry its degeneracies exactly. The
+Laplacian is fourth order, (4 L_h − L_2h)/3 with L_h f = (2/(3h²)) Σ_{6 nbrs at h} (f_j − f_0) and L_2h the
+same over the six collinear points at 2h (see `_hamiltonian`); points where V exceeds ``_WALL_CUT_K`` (deep in
+the repulsive wall, where every state kept has decayed) are left out, which is a hard wall there. The lowest
+states come from a shift-invert sparse eigensolver (ARPACK via scipy.sparse.linalg.eigsh, with a sparse LU).
+The energies' error is estimated from a second grid 2h as |E_h − E_2h|/15, and h is halved until the
+estimate is below the requested tolerance.
+
+The one-atom partition function per length L is Z₁/L = (1/λ) Σ_n exp(−E_n/kT), so at low pressure
+N/L = (p λ²/kT) Σ_n exp(−E_n/kT) (docs/REFERENCES.md §4); classically N/L = (p/kT) ∫ exp(−V/kT) dA.
+Energies in K (E/k_B), lengths in Å; ħ²/(m k_B) from the adsorbate (scipy.constants).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import constants, sparse
+from scipy.sparse.linalg import LinearOperator, eigsh, splu
+from scipy.spatial import cKDTree
+
+from porefill.physics.caching import BoundedCache
+from porefill.physics.sites.lattice import _cell_offsets, _triangular_sites
+from porefill.physics.pore.wall_potential import wall_potential
+
+__all__ = ["states_numbers", "CrossSectionStates", "solve_states", "thermal_wavelength_angstrom", "classical_boltzmann_area",
+           "grid_states", "potential_grid", "henry_constant", "assign_states", "state_homes", "quantum_site_free_energy", "cached_states"]
+
+_WALL_CUT_K = 2000.0          # grid points with V above this are outside the problem (hard wall; 400 K moves E0 by 0.1 K)
+_WEIGHT_FRACTION = 1e-6       # stop adding states once the next carries less Boltzmann weight than this
+_FIRST_STATES = 24
+_MAX_STATES = 240
+_FINE_STEP_ANGSTROM = 0.04    # sample spacing of the classical integral where exp(−V/kT) matters
+
+
+def thermal_wavelength_angstrom(hbar2_over_mk: float, temperature_k: float) -> float:
+    """λ = h/√(2π m k T) = √(2π ħ²/(m k T)) in Å, with ħ²/(m k_B) in K·Å²."""
+    return float(np.sqrt(2.0 * np.pi * hbar2_over_mk / temperature_k))
+
+
+def _grid(pore, pair, h: float, wall_cut_k: float = _WALL_CUT_K):
+    """Triangular grid points inside the pore where V < wall_cut_k, their potential, and the neighbour
+    pairs of the stencil: (nearest at h, collinear at 2h)."""
+    x0, x1, y0, y1 = pore.bounding_box()
+    return potential_grid(lambda x, y: wall_potential(x, y, pore=pore, pair=pair),
+                          np.hypot(max(abs(x0), x1), max(abs(y0), y1)) + h, h, wall_cut_k)
+
+
+def potential_grid(potential, radius: float, h: float, wall_cut_k: float = _WALL_CUT_K):
+    """The grid of any potential ``potential(x, y) -> K`` (+inf: outside) within ``radius`` of the origin."""
+    pts = _triangular_sites(radius, h)
+    v = potential(pts[:, 0], pts[:, 1])
+    keep = v < wall_cut_k
+    pts, v = pts[keep], v[keep]
+    pairs = cKDTree(pts).query_pairs(h * 2.001, output_type="ndarray")
+    d = np.hypot(*(pts[pairs[:, 0]] - pts[pairs[:, 1]]).T)
+    return pts, v, (pairs[d < 1.01 * h], pairs[d > 1.99 * h])
+
+
+def _hamiltonian(v: np.ndarray, pairs, h: float, hbar2_over_mk: float) -> sparse.csr_matrix:
+    """H = −(ħ²/2m) L + diag(V), L the fourth-order Laplacian of the triangular grid.
+
+    L_h f = (2/(3h²)) Σ_{6 at h} (f_j − f_0) = ∇²f + (h²/16)∇⁴f + O(h⁴), and the same over the 6 collinear
+    points at 2h has four times the h² term, so L = (4 L_h − L_2h)/3 = ∇²f + O(h⁴) (Richardson on the
+    operator; the 1-D analogue is the five-point second derivative). A missing neighbour is a node, ψ = 0.
+    """
+    near, far = pairs
+    t1 = hbar2_over_mk / 2.0 * (4.0 / 3.0) * 2.0 / (3.0 * h * h)
+    t2 = -hbar2_over_mk / 2.0 * (1.0 / 3.0) * 2.0 / (3.0 * 4.0 * h * h)
+    n = v.size
+    rows = np.concatenate([near[:, 0], near[:, 1], far[:, 0], far[:, 1], np.arange(n)])
+    cols = np.concatenate([near[:, 1], near[:, 0], far[:, 1], far[:, 0], np.arange(n)])
+    vals = np.concatenate([np.full(2 * len(near), -t1), np.full(2 * len(far), -t2), v + 6.0 * (t1 + t2)])
+    return sparse.csr_matrix((vals, (rows, cols)), shape=(n, n))
+
+
+def grid_states(v: np.ndarray, pairs, h: float, hbar2_over_mk: float, *, k: int,
+                shift: float) -> tuple[np.ndarray, np.ndarray]:
+    """The k eigenpairs of the grid Hamiltonian nearest above ``shift`` (energies ascending, vectors
+    normalised to Σ|ψ|² = 1), by shift-invert Lanczos with a sparse LU of H − σ."""
+    k = int(min(k, v.size - 2))
+    hamiltonian = _hamiltonian(v, pairs, h, hbar2_over_mk)
+    lu = splu((hamiltonian - shift * sparse.identity(v.size)).tocsc(), permc_spec="MMD_AT_PLUS_A")
+    inverse = LinearOperator(hamiltonian.shape, matvec=lu.solve, dtype=float)
+    e, vec = eigsh(hamiltonian, k=k, sigma=shift, OPinv=inverse, which="LM")
+    order = np.argsort(e)
+    return e[order], vec[:, order]
+
+
+@dataclass(frozen=True, eq=False)
+class CrossSectionStates:
+    """The lowest one-atom states of a pore cross-section.
+
+    ``energies_k`` (K,) ascending, Richardson-extrapolated; ``vectors`` (P, K) on ``points`` (P, 2), each
+    normalised so that Σ_p |ψ_p|² = 1 (a point stands for an area ``point_area_angstrom2``);
+    ``potential_k`` (P,) the wall potential there; ``error_k`` the estimated error of the energies.
+    """
+
+    energies_k: np.ndarray
+    vectors: np.ndarray
+    points: np.ndarray
+    potential_k: np.ndarray
+    spacing_angstrom: float
+    error_k: float
+    capped: bool
+    potential_minimum_k: float
+    hbar2_over_mk: float
+
+    @property
+    def point_area_angstrom2(self) -> float:
+        return float(np.sqrt(3.0) / 2.0 * self.spacing_angstrom**2)
+
+    @property
+    def ground_state_k(self) -> float:
+        return float(self.energies_k[0])
+
+    @property
+    def zero_point_energy_k(self) -> float:
+        """Depth of the ground state above the classical minimum of the potential."""
+        return float(self.energies_k[0] - self.potential_minimum_k)
+
+    def boltzmann_sum(self, temperature_k: float) -> float:
+        """Σ_n exp(−E_n/kT) over the computed states."""
+        return float(np.exp(-self.energies_k / temperature_k).sum())
+
+    def quantum_area_angstrom2(self, temperature_k: float) -> float:
+        """λ² Σ_n exp(−E_n/kT) (Å²): the quantum counterpart of ∫exp(−V/kT) dA."""
+        lam = thermal_wavelength_angstrom(self.hbar2_over_mk, temperature_k)
+        return lam * lam * self.boltzmann_sum(temperature_k)
+
+    def weights(self, temperature_k: float) -> np.ndarray:
+        """Boltzmann occupation of each computed state (sum 1)."""
+        w = np.exp(-(self.energies_k - self.energies_k[0]) / temperature_k)
+        return w / w.sum()
+
+    def thermal_density(self, temperature_k: float) -> np.ndarray:
+        """(P,) one-atom probability density at the grid points, per Å² (integrates to 1)."""
+        return (np.abs(self.vectors) ** 2 @ self.weights(temperature_k)) / self.point_area_angstrom2
+
+    def mean_potential_k(self, temperature_k: float) -> float:
+        """⟨V⟩ of one atom at temperature T (K)."""
+        per_state = self.potential_k @ np.abs(self.vectors) ** 2
+        return float(per_state @ self.weights(temperature_k))
+
+    def mean_kinetic_k(self, temperature_k: float) -> float:
+        """⟨kinetic⟩ of one atom: in-plane ⟨E − V⟩ plus kT/2 for the free motion along the axis (K)."""
+        in_plane = float(self.energies_k @ self.weights(temperature_k)) - self.mean_potential_k(temperature_k)
+        return in_plane + 0.5 * temperature_k
+
+    def henry_per_nm_pa(self, temperature_k: float) -> float:
+        """Quantum Henry constant: atoms per nm of pore per Pa, (λ²/kT) Σ_n exp(−E_n/kT)."""
+        return henry_constant(self.quantum_area_angstrom2(temperature_k), temperature_k)
+
+
+def henry_constant(area_angstrom2: float, temperature_k: float) -> float:
+    """Henry constant, atoms per nm of pore per Pa, of an effective area (Å²): N/L = p·area/kT."""
+    return area_angstrom2 * 1e-30 / (constants.k * temperature_k) * 10.0
+
+
+def classical_boltzmann_area(pore, pair, temperature_k: float, *, spacing_angstrom: float = 0.15) -> float:
+    """∫ exp(−V/kT) dA (Å²) over the cross-section.
+
+    A triangular grid of ``spacing_angstrom`` finds where the integrand matters (V within 40 kT of the
+    grid's lowest); there each grid cell is sampled again every ``_FINE_STEP_ANGSTROM`` (the Boltzmann factor of a
+    deep well is a spike a few hundredths of an Å wide at low temperature).
+    """
+    kt = float(temperature_k)
+    pts, v, _ = _grid(pore, pair, spacing_angstrom)
+    cell = np.sqrt(3.0) / 2.0 * spacing_angstrom**2
+    vmin = float(v.min())
+    near = v < vmin + 40.0 * kt                   # 30 kT of what matters, 10 kT for a bottom the grid missed
+    far_sum = float(np.exp(-(v[~near] - vmin) / kt).sum() * cell)
+    m = int(np.ceil(spacing_angstrom / _FINE_STEP_ANGSTROM))
+    offsets, w = _cell_offsets(spacing_angstrom, m, slit=False)
+    total = far_sum
+    chunk = max(1, 400_000 // len(w))
+    idx = np.flatnonzero(near)
+    for lo in range(0, idx.size, chunk):
+        sel = idx[lo:lo + chunk]
+        px = (pts[sel, 0][:, None] + offsets[None, :, 0]).ravel()
+        py = (pts[sel, 1][:, None] + offsets[None, :, 1]).ravel()
+        vf = wall_potential(px, py, pore=pore, pair=pair).reshape(sel.size, -1)
+        with np.errstate(over="ignore"):
+            total += float((np.exp(-(vf - vmin) / kt) @ w).sum() * cell)
+    return float(total * np.exp(-vmin / kt))
+
+
+def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_k: float = 0.05,
+                 spacing_angstrom: float = 0.25, weight_fraction: float = _WEIGHT_FRACTION,
+                 max_states: int = _MAX_STATES, min_spacing_angstrom: float = 0.05) -> CrossSectionStates:
+    """The lowest states, as many as the temperature needs (until the next carries less than
+    ``weight_fraction`` of the ground state's Boltzmann weight, or ``max_states``: then ``capped``), on a
+    grid fine enough that the estimated error of the one-atom free energy −kT ln Σ_n e^{−E_n/kT} — the
+    Boltzmann-weighted mean error of the levels — is below ``tol_k`` (K).
+
+    The estimate compares grids h and 2h: with a fourth-order scheme the error of the finer one is about
+    |E_h − E_2h| / 15 for each level.
+    """
+    h = float(spacing_angstrom)
+    kt = float(temperature_k)
+    while True:
+        pts, v, pairs = _grid(pore, pair, h)
+        _, vc, pc = _grid(pore, pair, 2.0 * h)
+        if vc.size < _FIRST_STATES + 2:
+            raise ValueError(f"the pore is too small for the adsorbate: only {v.size} points of a {h:g} Å grid "
+                             f"over its cross-section lie below {_WALL_CUT_K:g} K, too few for its states")
+        # how many states the temperature needs, found on the coarse grid (four times fewer points), then
+        # the fine grid solved once for that many and a few more
+        k = _FIRST_STATES
+        while True:
+            ec, _ = grid_states(vc, pc, 2.0 * h, hbar2_over_mk, k=min(k, vc.size - 2), shift=float(vc.min()) - 1.0)
+            if np.exp(-(ec[-1] - ec[0]) / kt) < weight_fraction or k >= max_states or k >= vc.size - 2:
+                break
+            k = min(2 * k, max_states)
+        above = ec[0] - kt * np.log(weight_fraction)
+        k = int(min(max(np.searchsorted(ec, above) + 6, _FIRST_STATES), k, v.size - 2))
+        # shift just below the ground state: the wanted eigenvalues of (H − σ)⁻¹ are then well apart
+        e, vec = grid_states(v, pairs, h, hbar2_over_mk, k=k, shift=float(ec[0]) - 2.0)
+        enough = bool(np.exp(-(e[-1] - e[0]) / kt) < weight_fraction)
+        n = min(len(e), len(ec))
+        # the error that reaches every result: that of the one-atom free energy −kT ln Σ e^{−E/kT}, i.e. the
+        # Boltzmann-weighted mean error of the levels (states far up the spectrum carry little weight)
+        w = np.exp(-(e[:n] - e[0]) / kt)
+        err = float((w @ np.abs(e[:n] - ec[:n])) / w.sum() / 15.0)
+        if err <= tol_k or h / 2.0 < min_spacing_angstrom:
+            break
+        h /= 2.0
+    return CrossSectionStates(e, vec, pts, v, h, err, not enough, float(min(v.min(), _deepest(pore, pair))),
+                              float(hbar2_over_mk))
+
+
+def _deepest(pore, pair) -> float:
+    from porefill.physics.pore.wall_potential import deepest_minimum
+    return deepest_minimum(pore=pore, pair=pair).depth_k
+
+
+# --- states assigned to sites -----------------------------------------------------------------------
+_CLUSTER_GAP_KT = 0.02        # states closer than this (in kT, at least 0.02 K) form one band
+
+
+def _clusters(energies: np.ndarray, temperature_k: float) -> np.ndarray:
+    """Band index of every state: a new band starts where the gap to the previous state is large."""
+    gap = max(0.02, _CLUSTER_GAP_KT * temperature_k)
+    return np.concatenate([[0], np.cumsum(np.diff(energies) > gap)])
+
+
+def state_homes(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, temperature_k: float) -> np.ndarray:
+    """(K,) the symmetry orbit each computed state is given to.
+
+    Each band of near-degenerate states goes, whole, to the orbit of sites that holds most of its
+    probability (the band's probability summed over the grid points nearest each site).
+    """
+    sites = np.column_stack([site_x, site_y])
+    nearest = cKDTree(sites).query(states.points)[1]                        # (P,) site of each grid point
+    n_orbits = int(orbit.max()) + 1
+    prob = np.abs(states.vectors) ** 2                                      # (P, K), columns sum to 1
+    per_orbit = np.zeros((n_orbits, prob.shape[1]))
+    np.add.at(per_orbit, orbit[nearest], prob)
+    band = _clusters(states.energies_k, float(temperature_k))
+    home = np.empty(band.size, int)
+    for b in range(band[-1] + 1):
+        members = band == b
+        home[members] = int(np.argmax(per_orbit[:, members].sum(axis=1)))
+    return home
+
+
+def assign_states(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, temperature_k: float):
+    """Σ_n exp(−E_n/kT) of the states given to each site (N,), and which sites got any.
+
+    Bands go whole to their home orbit (`state_homes`), shared evenly by the orbit's sites. A band's
+    evanescent tails in the next row are therefore never counted as binding there, and Σ_sites equals the
+    Boltzmann sum of the computed states exactly.
+    """
+    kt = float(temperature_k)
+    home = state_homes(states, site_x, site_y, orbit, kt)
+    n_orbits = int(orbit.max()) + 1
+    boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)      # relative to the ground state
+    per_orbit = np.bincount(home, weights=boltz, minlength=n_orbits)
+    size = np.bincount(orbit, minlength=n_orbits).astype(float)
+    z = per_orbit[orbit] / size[orbit]
+    return z, z > 0
+
+
+def quantum_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
+    """Site free energies (K) from the exact one-atom states, in the frame of `porefill.physics.sites.site_models`.
+
+    A site holding states of total Boltzmann sum S_i has Z_i = (ℓ/λ) S_i per slice, so
+    f_i = −kT ln(λ² S_i / A_cell). Sites that no computed state reaches (high in the spectrum) keep their
+    classical value. Σ_i exp(−f_i/kT) A_cell is then λ² Σ_n exp(−E_n/kT) plus those sites' classical share:
+    the low-pressure limit is the quantum Henry constant.
+    """
+    kt = float(temperature_k)
+    states = cached_states(geometry, kt)
+    lat = geometry.candidates
+    z_rel, reached = assign_states(states, lat.x, lat.y, geometry.orbit, kt)
+    lam = thermal_wavelength_angstrom(states.hbar2_over_mk, kt)
+    f = geometry.cells.free_energies(kt, lat.cell_area_angstrom2)
+    with np.errstate(divide="ignore"):
+        f_q = states.energies_k[0] - kt * np.log(lam * lam * z_rel / lat.cell_area_angstrom2)
+    return np.where(reached, f_q, f)
+
+
+_STATES = BoundedCache(16)    # geometry key -> (temperature the states were solved for, states)
+_REUSE_FRACTION = 1e-4      # held states serve a warmer temperature while their top carries less than this
+
+
+def cached_states(geometry, temperature_k: float) -> CrossSectionStates:
+    """The states of a geometry stage, computed once and reused for every temperature they cover: a lower
+    temperature needs fewer states, and a somewhat higher one is covered while the highest state held keeps
+    less than ``_REUSE_FRACTION`` of the ground state's Boltzmann weight there (so a temperature slider
+    nudged upwards does not solve again)."""
+    key = geometry.key
+    held = _STATES.get(key)
+    if held is not None:
+        e = held[1].energies_k
+        covered = held[0] >= temperature_k or np.exp(-(e[-1] - e[0]) / temperature_k) < _REUSE_FRACTION
+    if held is None or not covered:
+        states = solve_states(geometry.pore, geometry.pair, geometry.adsorbate.hbar2_over_mk,
+                              temperature_k=temperature_k)
+        held = (float(temperature_k), states)
+        _STATES.put(key, held)
+    return held[1]
+
+
+def states_numbers(states, geometry, temperature_k: float) -> dict:
+    """The states readout: what `porefill states --json` prints and the Quantum states tab shows, for one set of
+    states (K, Å, atoms per nm per Pa)."""
+    t = float(temperature_k)
+    classical = classical_boltzmann_area(geometry.pore, geometry.pair, t)
+    return {
+        "energies_k": [float(e) for e in states.energies_k],
+        "ground_state_k": states.ground_state_k,
+        "potential_minimum_k": states.potential_minimum_k,
+        "zero_point_energy_k": states.zero_point_energy_k,
+        "excitation_energies_k": [float(e - states.energies_k[0]) for e in states.energies_k],
+        "henry_quantum": states.henry_per_nm_pa(t),
+        "henry_classical": henry_constant(classical, t),
+        "mean_kinetic_energy_k": states.mean_kinetic_k(t),
+        "mean_potential_energy_k": states.mean_potential_k(t),
+        "grid": {"spacing_angstrom": states.spacing_angstrom, "points": int(states.points.shape[0]),
+                 "energy_error_estimate_k": states.error_k},
+        "states_used": int(states.energies_k.size),
+        "states_capped": bool(states.capped),
+    }
