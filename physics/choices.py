@@ -7,7 +7,8 @@ are in `porefill.physics.limits`; unit factors in `porefill.physics.substances.u
 from __future__ import annotations
 
 __all__ = ["SHAPES", "SIZE_NAMES", "size_label", "PORE_ENDS", "DEFAULT_PORE_ENDS", "SITE_MODELS", "LEGS",
-           "BRANCHES", "AXES", "ISOTHERM_AXES", "AXIS_LABELS", "TABS", "DEFAULT_POINTS"]
+           "BRANCHES", "AXES", "ISOTHERM_AXES", "AXIS_LABELS", "TABS", "DEFAULT_POINTS", "FREE_PARAMETERS",
+           "MEASURED_AMOUNT_UNITS", "TARGET_KINDS", "BOND_RULES"]
 
 # pore cross-sections, and what the one size number of each means
 SHAPES = ("hexagon", "cylinder", "slit")
@@ -36,6 +37,21 @@ TABS = ("pore", "quantum", "measured", "sizing", "about")
 
 # chemical potentials along an isotherm when nobody asks for another number
 DEFAULT_POINTS = 300
+
+# the parameters a fit may free (porefill.physics.fitting.params), and the amount units a measured run may
+# be in (porefill.physics.fitting.measured)
+FREE_PARAMETERS = ("wall-strength", "size", "wall", "a0", "pore-volume")
+MEASURED_AMOUNT_UNITS = ("mmol/g", "mol/g", "cm3(STP)/g", "per nm2 wall", "per nm", "mol", "cm3(STP)")
+
+# how the fluid bond ε_b is calibrated (porefill.physics.lattice_gas.bond)
+BOND_RULES = ("vapour-pressure", "critical-temperature", "binding-energy")
+
+# what a pore size can be chosen for (porefill.physics.sweep.Target)
+TARGET_KINDS = {
+    "single-channel": "central channel occupied, next ring empty",
+    "first-layer": "complete first layer (every wall-contact site filled)",
+    "full-pore": "pore filled (every site)",
+}
 
 
 def size_label(shape: str) -> str:

@@ -71,7 +71,7 @@ class Scenario:
                 check_number(name, getattr(self, name), low=0.0, low_open=True)
         if self.bond_energy_k is not None:
             check_number("bond_energy_k", self.bond_energy_k, low=0.0, unit="K")
-        from porefill.physics.lattice_gas.bond import BOND_RULES
+        from porefill.physics.choices import BOND_RULES
         if self.bond_calibration is not None and self.bond_calibration not in BOND_RULES:
             raise ValueError(f"bond_calibration must be one of {', '.join(BOND_RULES)}; "
                              f"got {self.bond_calibration!r}")

@@ -27,7 +27,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from porefill.physics.choices import DEFAULT_POINTS
+from porefill.physics.choices import DEFAULT_POINTS, TARGET_KINDS
 from porefill.physics.scenario import Scenario
 
 __all__ = ["SweepSpec", "parse_range", "sweep_point", "fill_class", "step_fill_class", "occupancy_profile",
@@ -247,11 +247,6 @@ def sweep_point(scenario: Scenario, n_points: int = DEFAULT_POINTS) -> dict:
 
 
 # targets --------------------------------------------------------------------------------------------
-TARGET_KINDS = {
-    "single-channel": "central channel occupied, next ring empty",
-    "first-layer": "complete first layer (every wall-contact site filled)",
-    "full-pore": "pore filled (every site)",
-}
 
 
 @dataclass(frozen=True)

@@ -75,3 +75,19 @@ def test_liquid_density_of_helium():
     # Donnelly & Barenghi (1998): 0.14514 g/cm³ at T -> 0 = 0.021837 Å^-3
     n, _ = vp.liquid_number_density("helium-4")
     assert n == pytest.approx(0.14514 / 4.002602 * constants.Avogadro * 1e-24, rel=1e-4)
+
+
+def test_helium_critical_temperature_is_coolprops_without_loading_it():
+    import subprocess
+    import sys
+
+    from porefill.physics.substances.vapour_pressure import HELIUM4_CRITICAL_K
+    CP = pytest.importorskip("CoolProp.CoolProp")
+    # the held constant is CoolProp's own value (reference library from the registry), to its 5 digits
+    assert HELIUM4_CRITICAL_K == pytest.approx(CP.PropsSI("Tcrit", "Helium"), abs=5e-5)
+    code = ("import sys, io, contextlib; from porefill.explorer.cli.main import main\n"
+            "with contextlib.redirect_stdout(io.StringIO()):\n"
+            "    main(['isotherm', '--temperature', '1.5', '--site-model', 'classical', '--json'])\n"
+            "print('CoolProp' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
+    assert out.strip() == "False"

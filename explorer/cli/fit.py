@@ -33,8 +33,7 @@ def _bounds(texts: list[str] | None) -> dict:
 
 
 def register(sub) -> None:
-    from porefill.physics.fitting.solve import FREE_PARAMETERS
-    from porefill.physics.fitting.measured import MEASURED_AMOUNT_UNITS
+    from porefill.physics.choices import FREE_PARAMETERS, MEASURED_AMOUNT_UNITS
     from porefill.physics.substances.units import PRESSURE_UNITS
 
     p = sub.add_parser("fit", help="fit wall strength, pore size and pore volume to measured isotherms")

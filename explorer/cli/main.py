@@ -140,8 +140,7 @@ def _cmd_potential(args) -> int:
 
 def add_model_options(p: argparse.ArgumentParser) -> None:
     """Options of the lattice-gas model beside the pore's: bond, spacing, site model, pore volume."""
-    from porefill.physics.lattice_gas.bond import BOND_RULES
-    from porefill.physics.choices import PORE_ENDS, SITE_MODELS
+    from porefill.physics.choices import BOND_RULES, PORE_ENDS, SITE_MODELS
 
     p.add_argument("--bond", type=float, metavar="K", help="fluid–fluid bond energy ε_b, K (overrides the rule)")
     p.add_argument("--bond-rule", choices=BOND_RULES, help="calibration of ε_b (default vapour-pressure)")
@@ -394,6 +393,9 @@ def _glue_negative_points(argv: list[str]) -> list[str]:
 
 
 def main(argv: list[str] | None = None) -> int:
+    from porefill.explorer.jobs.threads import one_blas_thread_environment
+
+    one_blas_thread_environment()      # before NumPy loads; sweep workers inherit it (explorer/jobs/threads.py)
     argv = _glue_negative_points(list(sys.argv[1:] if argv is None else argv))
     parser = build_parser(serve_only=bool(argv) and argv[0] == "serve")
 

@@ -18,7 +18,7 @@ __all__ = ["register"]
 
 def register(sub) -> None:
     from porefill.physics.choices import DEFAULT_POINTS
-    from porefill.physics.sweep import TARGET_KINDS
+    from porefill.physics.choices import TARGET_KINDS
 
     p = sub.add_parser("sweep", help="layer steps across pore sizes, walls and temperatures (in parallel)")
     add_pore_options(p)

@@ -81,6 +81,9 @@ def _warm_worker() -> None:
     except OSError:
         pass
     threading.Thread(target=_exit_with_parent, args=(os.getppid(),), daemon=True).start()
+    from porefill.explorer.jobs.threads import one_blas_thread
+
+    one_blas_thread()          # parallelism comes from the worker processes (explorer/jobs/threads.py)
     import porefill.physics.lattice_gas.adsorption  # noqa: F401 - a worker's first isotherm should not pay for the imports
 
 

@@ -14,6 +14,9 @@ __all__ = ["FitProcess"]
 
 
 def _run(request, messages, stop) -> None:
+    from porefill.explorer.jobs.threads import one_blas_thread
+
+    one_blas_thread()          # one fit process beside the isotherm workers (explorer/jobs/threads.py)
     from porefill.physics.fitting.solve import FitCancelled, fit
 
     last = [0.0]

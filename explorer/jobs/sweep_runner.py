@@ -145,6 +145,9 @@ def _init_worker() -> None:
 
     # Ctrl-C in a terminal reaches the whole process group: the parent stops the sweep and ends the workers
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    from porefill.explorer.jobs.threads import one_blas_thread
+
+    one_blas_thread()          # parallelism comes from the worker processes (explorer/jobs/threads.py)
     import porefill.physics.lattice_gas.adsorption  # noqa: F401 - a worker's first pore should not pay for the imports
 
 

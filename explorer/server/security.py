@@ -452,6 +452,7 @@ def install(app, policy: AccessPolicy, *, session_secret: str) -> None:
         rules += [Rule(PathMatches(re.escape(LOGIN_PATH) + "$"), Login),
                   Rule(PathMatches(re.escape(LOGOUT_PATH) + "$"), Logout),
                   Rule(NotLoggedIn(), LoginRequired)]
-    # Tornado tries the rules in order; Bokeh's routes sit behind these in the same router.
-    app.default_router.rules[0:0] = [app.default_router.process_rule(rule) for rule in rules]
-    app.transforms.append(Headers)
+    # Tornado's public extension point: host handlers added to the application are tried before its own
+    # routes (Bokeh's), and a request none of these rules takes falls through to them.
+    app.add_handlers(r".*$", rules)
+    app.add_transform(Headers)

@@ -22,11 +22,10 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from porefill.physics.substances.units import PRESSURE_UNITS, AmountBasis, STP_CM3_PER_MMOL, to_atoms_per_angstrom, to_pascal
-from porefill.physics.choices import LEGS
+from porefill.physics.choices import LEGS, MEASURED_AMOUNT_UNITS
 
 __all__ = ["MEASURED_AMOUNT_UNITS", "LEGS", "Sample", "MeasuredRun", "amount_to_model"]
 
-MEASURED_AMOUNT_UNITS = ("mmol/g", "mol/g", "cm3(STP)/g", "per nm2 wall", "per nm", "mol", "cm3(STP)")
 DOSED_UNITS = ("mol", "cm3(STP)")
 SOURCES = ("typed", "fitted", "default", "file")
 

@@ -11,6 +11,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from porefill.physics.choices import FREE_PARAMETERS
 from porefill.physics.limits import MAX_WALL_ANGSTROM, SIZE_RANGE_ANGSTROM, minimum_wall_angstrom
 from porefill.physics.substances.materials import pair_parameters
 from porefill.physics.fitting.measured import Sample
@@ -18,7 +19,6 @@ from porefill.physics.scenario import Scenario
 
 __all__ = ["FREE_PARAMETERS", "PARAMETER_UNITS", "ParameterSpace"]
 
-FREE_PARAMETERS = ("wall-strength", "size", "wall", "a0", "pore-volume")
 PARAMETER_UNITS = {"wall-strength": "", "size": "Å", "wall": "Å", "a0": "Å", "pore-volume": "cm³/g"}
 DEFAULT_PORE_VOLUME_BOUNDS = (0.01, 5.0)      # cm³/g: from a poorly porous solid to an aerogel-like one
 _SQRT3 = float(np.sqrt(3.0))

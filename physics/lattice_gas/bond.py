@@ -24,10 +24,10 @@ from scipy import constants
 
 from porefill.physics.sites.lattice import COORDINATION
 from porefill.physics.substances.vapour_pressure import HELIUM4_BINDING_0K_K, critical_temperature, saturated_vapour_pressure
+from porefill.physics.choices import BOND_RULES
 
 __all__ = ["BOND_RULES", "default_bond_rule", "bond_energy", "calibration_facts"]
 
-BOND_RULES = ("vapour-pressure", "critical-temperature", "binding-energy")
 
 
 def default_bond_rule(adsorbate: str) -> str:

@@ -159,9 +159,16 @@ def liquid_number_density(adsorbate: str) -> tuple[float, str]:
     return mol_m3 * constants.Avogadro * 1e-30, f"saturated liquid at the normal boiling point {t_nbp:.2f} K (CoolProp)"
 
 
+HELIUM4_CRITICAL_K = 5.1953       # K, CoolProp's helium-4 equation of state (Tcrit)
+
+
 @lru_cache(maxsize=None)
 def critical_temperature(adsorbate: str) -> float:
-    """Bulk critical temperature (K): CoolProp (helium: 5.1953 K, the same source)."""
+    """Bulk critical temperature (K): CoolProp's reference equation of state. Helium-4's value is held here
+    (5.1953 K, CoolProp's helium-4 equation of state; tests/test_vapour_pressure.py checks it against CoolProp)
+    so that helium, whose vapour pressure is ITS-90's, never loads CoolProp (seconds to import)."""
+    if adsorbate == "helium-4":
+        return HELIUM4_CRITICAL_K
     from porefill.physics.substances.materials import get_adsorbate
     return float(_coolprop().PropsSI("Tcrit", get_adsorbate(adsorbate).coolprop_name))
 
