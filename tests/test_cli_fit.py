@@ -95,3 +95,12 @@ def test_unusable_input_exits_2_with_plain_lines(tmp_path, data_file, capsys, co
 def test_missing_file_exits_2(tmp_path, capsys):
     assert main(["fit", str(tmp_path / "none.csv"), *BASE_ARGS]) == 2
     assert "no such file" in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("text, cell", [("=2+3.csv", "'=2+3.csv"), ("+1", "'+1"), ("-x", "'-x"), ("@SUM(A1)", "'@SUM(A1)"),
+                                        ("run 1", "run 1"), (-1.5, -1.5), (None, None)])
+def test_csv_cells_from_user_text_never_start_like_a_formula(text, cell):
+    # OWASP's CSV injection advice: prefix = + - @ (tab, CR) with an apostrophe (common practice, no source)
+    from porefill.explorer.outputs.formatting import spreadsheet_safe
+
+    assert spreadsheet_safe(text) == cell

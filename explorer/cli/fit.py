@@ -152,11 +152,14 @@ def result_csv(result) -> str:
               "amount", "model", "amount_unit", "sigma", "residual", "compared"]
     writer = csv.DictWriter(out, fieldnames=fields, lineterminator="\n")
     writer.writeheader()
+    from porefill.explorer.outputs.formatting import spreadsheet_safe
+
     for row in residual_table(result):
-        writer.writerow({"kind": "point", **row})
+        writer.writerow({k: spreadsheet_safe(v) for k, v in {"kind": "point", **row}.items()})
     for curve in fitted_curves(result):
         for p, a in zip(curve.pressure, curve.amount):
-            writer.writerow({"kind": "model", "run": curve.run.name, "source": curve.run.source,
+            writer.writerow({"kind": "model", "run": spreadsheet_safe(curve.run.name),
+                             "source": spreadsheet_safe(curve.run.source),
                              "leg": curve.run.leg, "branch": curve.branch,
                              "temperature_k": curve.run.temperature_k, "pressure": f"{p:.8g}",
                              "pressure_unit": curve.run.pressure_unit, "model": f"{a:.8g}",

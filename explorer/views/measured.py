@@ -16,6 +16,7 @@ import param
 from bokeh.models import ColumnDataSource, Range1d, Span
 from bokeh.plotting import figure
 
+from porefill.explorer.outputs.formatting import spreadsheet_safe
 from porefill.physics.choices import AXIS_LABELS
 from porefill.physics.fitting.solve import FREE_PARAMETERS, PARAMETER_UNITS, FitRequest, carry_to, fitted_curves, residual_table
 from porefill.physics.fitting.measured import MEASURED_AMOUNT_UNITS, Sample
@@ -35,12 +36,7 @@ SAMPLE_FIELDS = (("mass_g", "Sample mass (g)"), ("pore_volume_cm3_g", "Pore volu
                  ("surface_area_m2_g", "Surface area (m²/g)"), ("d100_angstrom", "X-ray d₁₀₀ (Å)"))
 
 
-def _cell(value):
-    """A CSV cell that a spreadsheet will not run: text from an upload (run names, file names) that starts
-    like a formula gets a leading apostrophe (common practice, no source)."""
-    if isinstance(value, str) and value[:1] in ("=", "+", "-", "@", "\t", "\r"):
-        return "'" + value
-    return value
+_cell = spreadsheet_safe         # porefill.explorer.outputs.formatting
 
 
 class MeasuredView(pn.viewable.Viewer):

@@ -184,7 +184,7 @@ class ScenarioIO(pn.viewable.Viewer):
             self._say(f"{exc} Nothing was changed.")
             return
         self._say("")
-        pn.state.notifications and pn.state.notifications.success(f"Opened {name}", duration=3000)
+        pn.state.notifications and pn.state.notifications.success(f"Opened {html.escape(name)}", duration=3000)   # shown as HTML
 
     def apply_document(self, doc: ScenarioDocument) -> None:
         """Show ``doc``: its inputs in the controls, its view choices; ValueError (and nothing changed) when
