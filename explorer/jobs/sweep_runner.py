@@ -24,13 +24,12 @@ import multiprocessing
 import os
 import threading
 import time
-from collections import OrderedDict
 from concurrent.futures import FIRST_COMPLETED, Executor, ProcessPoolExecutor
 from concurrent.futures import wait as wait_futures
 from dataclasses import dataclass, field
 from typing import Callable
 
-from porefill.physics.caching import register
+from porefill.physics.caching import BoundedCache
 from porefill.physics.limits import estimated_sites
 from porefill.physics.scenario import Scenario
 from porefill.physics.sweep import SweepSpec
@@ -67,39 +66,26 @@ def _key(scenario: Scenario, n_points: int) -> tuple:
 
 class ResultCache:
     """Sweep points by (scenario less its words, n_points); at most ``maxsize``, least recently used out
-    first. Safe to share between threads (the dashboard's sessions)."""
+    first. Safe to share between threads (the dashboard's sessions); under porefill's one cache policy
+    (`porefill.physics.caching.BoundedCache`, cleared with every other cache)."""
 
     def __init__(self, maxsize: int = 256):
         if not (isinstance(maxsize, int) and maxsize >= 1):
             raise ValueError(f"maxsize must be a whole number >= 1; got {maxsize!r}")
         self.maxsize = maxsize
-        self._data: OrderedDict = OrderedDict()
-        self._lock = threading.Lock()
-        register(self)               # porefill.physics.caching: cleared with every other cache
+        self._store = BoundedCache(maxsize)
 
     def get(self, scenario: Scenario, n_points: int) -> dict | None:
-        k = _key(scenario, n_points)
-        with self._lock:
-            value = self._data.get(k)
-            if value is not None:
-                self._data.move_to_end(k)
-            return value
+        return self._store.get(_key(scenario, n_points))
 
     def put(self, scenario: Scenario, n_points: int, value: dict) -> None:
-        k = _key(scenario, n_points)
-        with self._lock:
-            self._data[k] = value
-            self._data.move_to_end(k)
-            while len(self._data) > self.maxsize:
-                self._data.popitem(last=False)
+        self._store.put(_key(scenario, n_points), value)
 
     def __len__(self) -> int:
-        with self._lock:
-            return len(self._data)
+        return len(self._store)
 
     def clear(self) -> None:
-        with self._lock:
-            self._data.clear()
+        self._store.clear()
 
 
 SWEEP_CACHE = ResultCache(256)         # shared by the dashboard's sessions (results depend only on the key)
