@@ -25,9 +25,10 @@ import panel as pn
 from panel.io.state import set_curdoc
 
 from porefill.physics.choices import DEFAULT_POINTS
+from porefill.explorer.jobs.background import PoolJob
 from porefill.physics.caching import memoize
 
-__all__ = ["TIME_LIMIT_S", "LatestRunner", "isotherm_pool", "map_pool", "retire_pools", "temperature_window", "short_error"]
+__all__ = ["TIME_LIMIT_S", "LatestRunner", "on_session", "isotherm_pool", "map_pool", "retire_pools", "temperature_window", "short_error"]
 
 log = logging.getLogger("porefill.explorer")
 
@@ -176,7 +177,7 @@ class LatestRunner:
         self.name = name
         self.time_limit_s = time_limit_s
         self.generation = 0
-        self._running: Future | None = None
+        self._running: PoolJob | None = None
         self._queued: tuple | None = None
 
     def submit(self, fn: Callable, args: tuple, on_result: Callable[[Any], None],
@@ -196,7 +197,7 @@ class LatestRunner:
                 on_result(value)
             return gen
         job = (gen, fn, args, on_result, on_error, doc)
-        if self._running is not None and not self._running.done() and not self._running.cancel():
+        if self._running is not None and not self._running.future.done() and not self._running.future.cancel():
             self._queued = job           # replaces an older queued request, which is never run
         else:
             self._start(job)
@@ -207,57 +208,42 @@ class LatestRunner:
         self._queued = None
         try:
             try:
-                future = _pool(self.kind).submit(fn, *args)
-            except RuntimeError:          # the pool was retired meanwhile (porefill.explorer.server.session_memory): a new one
+                work = PoolJob(_pool(self.kind), fn, args, name=self.name, time_limit_s=self.time_limit_s)
+            except RuntimeError:          # the pool was retired meanwhile (session_memory): a new one
                 with _pools_lock:
                     _pools.pop(self.kind, None)
-                future = _pool(self.kind).submit(fn, *args)
+                work = PoolJob(_pool(self.kind), fn, args, name=self.name, time_limit_s=self.time_limit_s)
         except Exception as exc:          # noqa: BLE001 - e.g. a pool broken by a killed worker
             log.exception("%s: could not start", self.name)
             with _pools_lock:
                 _pools.pop(self.kind, None)      # the next request builds a fresh pool
             on_error(exc)
             return
-        self._running = future
-        state = {"settled": False}
+        self._running = work
+        settled = {"done": False}
 
-        def settle(callback, *values):
+        def settle(event):
             # on the session's thread, document locked
-            if state["settled"]:
+            if settled["done"] or event[0] == "progress":
                 return
-            state["settled"] = True
-            if self._running is future:
+            settled["done"] = True
+            if self._running is work:
                 self._running = None
+            if event[0] == "cancelled":            # replaced by a newer request, which has started already
+                return
             if gen == self.generation:
                 try:
-                    callback(*values)
+                    if event[0] == "done":
+                        on_result(event[1])
+                    else:
+                        on_error(event[2] if len(event) > 2 else TimeoutError(self.time_limit_s))
                 except Exception:          # noqa: BLE001 - a bug in a view must not kill the session
                     log.exception("%s: applying the result failed", self.name)
             if self._queued is not None:
                 self._start(self._queued)
 
-        def done(f: Future):
-            # on a worker or executor thread: hand over to the session
-            if f.cancelled():
-                return
-            exc = f.exception()
-            if exc is not None:
-                log.error("%s failed for %r", self.name, args, exc_info=exc)
-                cb = partial(settle, on_error, exc)
-            else:
-                cb = partial(settle, on_result, f.result())
-            _on_session(doc, cb)
-
-        def timed_out():
-            if not state["settled"]:
-                log.error("%s for %r passed the time limit of %g s", self.name, args, self.time_limit_s)
-                settle(on_error, TimeoutError(self.time_limit_s))
-
-        future.add_done_callback(done)
-        try:
-            doc.add_timeout_callback(partial(_with_doc, doc, timed_out), int(self.time_limit_s * 1000))
-        except Exception:          # noqa: BLE001 - the session is gone
-            pass
+        # events arrive on a worker or timer thread: hand each over to the session
+        work.watch(lambda event: on_session(doc, partial(settle, event)))
 
 
 def _with_doc(doc, callback):
@@ -265,7 +251,7 @@ def _with_doc(doc, callback):
         callback()
 
 
-def _on_session(doc, callback) -> None:
+def on_session(doc, callback) -> None:
     """Run ``callback`` on the session's event loop with its document as Panel's current one
     (`Document.add_next_tick_callback` is the one document method safe to call from another thread)."""
     try:

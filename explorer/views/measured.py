@@ -2,7 +2,7 @@
 
 Files arrive in chunks (`pn.widgets.FileDropper`), are read in memory by `porefill.explorer.files.measured` (parsed, never
 executed or written to disk), and drawn over the isotherm the Pore tab shows (`porefill.explorer.views.overlay`). The fit
-runs in a process of its own (`porefill.explorer.jobs.fit_job`) with progress and cancel.
+runs in a process of its own (`porefill.explorer.jobs.fit_job`, a background `ProcessJob`) with progress and cancel.
 """
 from __future__ import annotations
 
@@ -349,9 +349,9 @@ class MeasuredView(pn.viewable.Viewer):
         except ValueError as exc:
             self.fit_status.object = f"<p class='porefill-fit-error'>{html.escape(str(exc))}</p>"
             return
-        from porefill.explorer.jobs.fit_job import FitProcess
+        from porefill.explorer.jobs.fit_job import start_fit
 
-        self._job = FitProcess(request)
+        self._job = start_fit(request)
         self.fit_button.disabled, self.cancel_button.disabled = True, False
         self.progress.value, self.progress.visible = 0, True
         self.fit_status.object = "<p>Starting the fit …</p>"

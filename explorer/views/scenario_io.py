@@ -22,7 +22,8 @@ from functools import partial
 import panel as pn
 import param
 
-from porefill.explorer.jobs.compute import isotherm_pool, short_error
+from porefill.explorer.jobs.background import PoolJob
+from porefill.explorer.jobs.compute import TIME_LIMIT_S, isotherm_pool, short_error
 from porefill.explorer.outputs.figures import FIGURES, figure_job
 from porefill.explorer.files.scenario_file import TABS, ScenarioDocument, ScenarioFileError, ViewChoices, dump_document, parse_document
 from porefill.explorer.views.state import ExplorerState
@@ -46,7 +47,13 @@ def report_job(toml_text: str) -> bytes:
 
 
 async def _in_worker(fn, *args):
-    return await asyncio.wrap_future(isotherm_pool().submit(fn, *args))
+    """``fn(*args)`` as a background job in the shared worker pool (`PoolJob`), awaited within the time limit."""
+    job = PoolJob(isotherm_pool(), fn, args, name=getattr(fn, "__name__", "job"))
+    try:
+        return await asyncio.wait_for(asyncio.wrap_future(job.future), timeout=TIME_LIMIT_S)
+    except asyncio.TimeoutError:
+        job.cancel()
+        raise TimeoutError(TIME_LIMIT_S) from None
 
 
 class ScenarioIO(pn.viewable.Viewer):

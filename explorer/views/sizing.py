@@ -18,12 +18,12 @@ from functools import partial
 import numpy as np
 import panel as pn
 import param
-from panel.io.state import set_curdoc
 
+from porefill.explorer.jobs.background import ThreadJob
 from porefill.physics.choices import DEFAULT_POINTS
 from porefill.physics.sweep import TARGET_KINDS, SweepSpec, Target, meets, parse_range, wall_from_d100
 
-from porefill.explorer.jobs.compute import short_error
+from porefill.explorer.jobs.compute import on_session, short_error
 from porefill.explorer.views.state import ExplorerState, describe
 from porefill.explorer.jobs.sweep_runner import SWEEP_CACHE, ClusterError, SweepRunner
 
@@ -56,14 +56,11 @@ def close_runners() -> None:
         r.close(terminate=True)
 
 
-def _on_session(doc, callback) -> None:
-    def run():
-        with set_curdoc(doc):
-            callback()
-    try:
-        doc.add_next_tick_callback(run)
-    except Exception:          # noqa: BLE001 - the session closed meanwhile
-        pass
+def sweep_work(runner: SweepRunner, spec, *, progress, should_stop):
+    """A sweep in the background protocol (`porefill.explorer.jobs.background`): progress after each pore;
+    a stop returns the pores done so far, marked stopped."""
+    return runner.run(spec, progress=lambda done, total: progress(done / max(total, 1), f"{done} of {total} pores"),
+                      stop=should_stop)
 
 
 def step_rows(result, x_key: str) -> dict[str, list]:
@@ -121,7 +118,7 @@ class SizingView(pn.viewable.Viewer):
         self._body = pn.Column(css_classes=["porefill-sizing-body"], min_height=40)
         self._result = None
         self._mode_shown = "size"
-        self._stop: threading.Event | None = None
+        self._job: ThreadJob | None = None        # the sweep under way (porefill.explorer.jobs.background)
         self.compute_button.on_click(self.compute)
         self.stop_button.on_click(self.stop)
         for w in (self.low, self.high, self.target):
@@ -174,11 +171,10 @@ class SizingView(pn.viewable.Viewer):
             return
         runner = _runner(self.scheduler.value.strip())
         mode = MODES[self.mode.value]
-        stop = self._stop = threading.Event()
         doc = pn.state.curdoc
         if doc is None or doc.session_context is None:           # tests, notebooks
             try:
-                self._apply(mode, runner.run(spec, stop=stop))
+                self._apply(mode, runner.run(spec))
             except (ClusterError, ValueError) as exc:
                 self._fail(exc)
             return
@@ -187,23 +183,25 @@ class SizingView(pn.viewable.Viewer):
         where = "this machine" if runner.cluster is None else html.escape(runner.cluster)
         self.status.object = f"<p>Computing {spec.size} pores on {where} …</p>"
 
-        def progress(done, total):
-            _on_session(doc, partial(self._show_progress, done, total))
+        total = spec.size
 
-        def work():
-            try:
-                result = runner.run(spec, progress=progress, stop=stop)
-            except Exception as exc:       # noqa: BLE001 - shown in the view; a ClusterError says why
-                _on_session(doc, partial(self._fail, exc))
+        def on_event(event):
+            # on the sweep's thread: hand it to the session
+            if event[0] == "progress":
+                update = partial(self._show_progress, round(event[1] * total), total)
+            elif event[0] == "done":
+                update = partial(self._apply, mode, event[1])
             else:
-                _on_session(doc, partial(self._apply, mode, result))
+                update = partial(self._fail, RuntimeError(event[1]))
+            on_session(doc, update)
 
-        threading.Thread(target=work, name="porefill-sweep", daemon=True).start()
+        self._job = ThreadJob(sweep_work, (runner, spec), name="porefill-sweep")
+        self._job.watch(on_event)
 
     def stop(self, *_) -> None:
         """Stop the running sweep: pores not started are cancelled, those done are shown."""
-        if self._stop is not None:
-            self._stop.set()
+        if self._job is not None and self._job.outcome is None:
+            self._job.cancel()
             self.status.object = "<p>Stopping: the pores under way finish, the rest are cancelled …</p>"
 
     def _show_progress(self, done: int, total: int) -> None:
@@ -212,7 +210,7 @@ class SizingView(pn.viewable.Viewer):
     def _fail(self, exc: BaseException) -> None:
         self.compute_button.disabled, self.stop_button.disabled = False, True
         self.progress.visible = False
-        text = str(exc) if isinstance(exc, ClusterError) else short_error(exc)
+        text = str(exc) if isinstance(exc, (ClusterError, RuntimeError)) else short_error(exc)
         self.status.object = f"<p style='color:#8a4b00'><b>The sweep failed:</b> {html.escape(text)}</p>"
 
     def _apply(self, mode: str, result) -> None:

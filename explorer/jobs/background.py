@@ -1,0 +1,228 @@
+"""One way to run work in the background: a `Job` with progress, cancel, a time limit and one outcome.
+
+Every piece of the dashboard's work that must not run on the server's event loop is a Job: isotherms, maps,
+the quantum comparison, figures and reports (`PoolJob`: a task in a pool shared by every session, see
+`porefill.explorer.jobs.compute`), a fit (`ProcessJob`: a spawned process of its own, which can be ended at
+once), and a sweep (`ThreadJob`: a thread that hands the pores to worker processes or a Dask cluster,
+`porefill.explorer.jobs.sweep_runner`).
+
+A job speaks in events, the same for all three: ``("progress", fraction, text)`` any number of times, then
+exactly one of ``("done", value)``, ``("cancelled", text)`` or ``("error", text)``. A session either polls
+(`Job.poll`, from a periodic callback) or is called (`Job.watch`, from whichever thread the event happens on:
+hand it to the session with `Document.add_next_tick_callback`). `Job.cancel` asks the work to stop at its
+next check (``should_stop()``); a job past its time limit ends in an error that says so, and is cancelled.
+
+Work that reports progress or can stop is a function ``fn(*args, progress, should_stop)``; raising
+`Cancelled` means it stopped when asked. No Panel here.
+"""
+from __future__ import annotations
+
+import logging
+import multiprocessing
+import queue as queue_module
+import threading
+import time
+from concurrent.futures import Executor, Future
+from typing import Any, Callable
+
+__all__ = ["Cancelled", "Job", "PoolJob", "ProcessJob", "ThreadJob", "time_limit_text", "error_text"]
+
+log = logging.getLogger("porefill.explorer")
+FINAL = ("done", "cancelled", "error")
+
+
+class Cancelled(Exception):
+    """The work stopped because it was asked to (`Job.cancel`); the message says how far it got."""
+
+
+def time_limit_text(seconds: float) -> str:
+    return f"this took longer than {seconds:g} s and was given up; try a smaller pore"
+
+
+def error_text(exc: BaseException) -> str:
+    """One line for a person: a ValueError says what is wrong; anything else only that it failed (the log
+    keeps the traceback)."""
+    if isinstance(exc, ValueError):
+        return (str(exc).splitlines()[0] if str(exc) else type(exc).__name__)[:300]
+    return f"the calculation failed: {type(exc).__name__}"
+
+
+class Job:
+    """Background work with progress, cancel, a time limit and one outcome (module docstring)."""
+
+    def __init__(self, *, name: str, time_limit_s: float | None = None):
+        self.name = name
+        self.time_limit_s = time_limit_s
+        self.started = time.monotonic()
+        self.finished = False              # the final event has been handed out (poll) or sent (watch)
+        self.outcome: tuple | None = None
+        self._events: list[tuple] = []
+        self._watchers: list[Callable[[tuple], None]] = []
+        self._lock = threading.Lock()
+        self._timer: threading.Timer | None = None
+        if time_limit_s is not None:
+            self._timer = threading.Timer(time_limit_s, self._time_out)
+            self._timer.daemon = True
+            self._timer.start()
+
+    # what the work side calls -----------------------------------------------------------------------
+    def _emit(self, event: tuple) -> None:
+        with self._lock:
+            if self.outcome is not None:
+                return                     # one outcome only: later events (a result after a time-out) are dropped
+            if event[0] in FINAL:
+                self.outcome = event
+                if self._timer is not None:
+                    self._timer.cancel()
+            watchers = list(self._watchers)
+            if not watchers:
+                self._events.append(event)
+        for watch in watchers:
+            try:
+                watch(event)
+            except Exception:          # noqa: BLE001 - a watcher's bug must not stop the work
+                log.exception("%s: a watcher failed", self.name)
+        if event[0] in FINAL and watchers:
+            self.finished = True
+
+    def _time_out(self) -> None:
+        if self.outcome is None:
+            log.error("%s passed the time limit of %g s", self.name, self.time_limit_s)
+            self._emit(("error", time_limit_text(self.time_limit_s)))
+            self.kill()
+
+    # what the session calls --------------------------------------------------------------------------
+    def poll(self) -> list[tuple]:
+        """The events since the last poll (progress, then the outcome)."""
+        self._collect()
+        with self._lock:
+            out, self._events = self._events, []
+        if any(e[0] in FINAL for e in out):
+            self.finished = True
+        return out
+
+    def watch(self, callback: Callable[[tuple], None]) -> None:
+        """Call ``callback(event)`` for every event from now on (and at once for those not yet polled)."""
+        with self._lock:
+            pending, self._events = self._events, []
+            self._watchers.append(callback)
+        for event in pending:
+            callback(event)
+        if any(e[0] in FINAL for e in pending):
+            self.finished = True
+
+    def cancel(self) -> None:
+        """Ask the work to stop at its next check."""
+
+    def kill(self) -> None:
+        """End the work now where that is possible (a process); else ask it to stop."""
+        self.cancel()
+
+    def _collect(self) -> None:
+        """Move what the work reported into the event list (for jobs whose work reports through a pipe)."""
+
+    def elapsed_s(self) -> float:
+        return time.monotonic() - self.started
+
+
+class PoolJob(Job):
+    """``fn(*args)`` as one task of a shared executor (no progress; cancel drops it while it waits)."""
+
+    def __init__(self, executor: Executor, fn: Callable, args: tuple = (), *, name: str,
+                 time_limit_s: float | None = None):
+        self.future: Future = executor.submit(fn, *args)     # raises at once if the executor is shut down
+        super().__init__(name=name, time_limit_s=time_limit_s)
+        self.future.add_done_callback(self._settle)
+
+    def _settle(self, future: Future) -> None:
+        if future.cancelled():
+            self._emit(("cancelled", "cancelled before it started"))
+            return
+        exc = future.exception()
+        if exc is not None:
+            log.error("%s failed", self.name, exc_info=exc)
+            self._emit(("error", error_text(exc), exc))
+        else:
+            self._emit(("done", future.result()))
+
+    def cancel(self) -> None:
+        self.future.cancel()
+
+
+def _report_to(put: Callable[[tuple], None], fn: Callable, args: tuple, should_stop: Callable[[], bool]) -> None:
+    last = [-1.0]
+
+    def progress(fraction: float, text: str = "") -> None:
+        if fraction - last[0] >= 0.01 or fraction >= 1.0:        # a few hundred events at most
+            last[0] = fraction
+            put(("progress", float(fraction), str(text)))
+
+    try:
+        value = fn(*args, progress=progress, should_stop=should_stop)
+    except Cancelled as exc:
+        put(("cancelled", str(exc) or "cancelled"))
+    except Exception as exc:                    # noqa: BLE001 - reported, never raised into the server
+        log.debug("background work failed", exc_info=True)
+        put(("error", error_text(exc) if isinstance(exc, ValueError) else
+             f"the calculation failed: {type(exc).__name__}: {str(exc)[:200]}"))
+    else:
+        put(("done", value))
+
+
+class ThreadJob(Job):
+    """``fn(*args, progress=, should_stop=)`` in a thread of this process (for work that itself hands its
+    pieces to worker processes, such as a sweep)."""
+
+    def __init__(self, fn: Callable, args: tuple = (), *, name: str, time_limit_s: float | None = None):
+        super().__init__(name=name, time_limit_s=time_limit_s)
+        self._stop = threading.Event()
+        self.thread = threading.Thread(target=_report_to, args=(self._emit, fn, args, self._stop.is_set),
+                                       name=name, daemon=True)
+        self.thread.start()
+
+    def cancel(self) -> None:
+        self._stop.set()
+
+
+def _process_main(fn, args, messages, stop) -> None:
+    from porefill.explorer.jobs.threads import one_blas_thread
+
+    one_blas_thread()          # one process beside the shared workers (explorer/jobs/threads.py)
+    _report_to(messages.put, fn, args, stop.is_set)
+
+
+class ProcessJob(Job):
+    """``fn(*args, progress=, should_stop=)`` in a spawned process of its own (spawn, not fork: the server
+    has threads), talking through a queue; `kill` ends it at once. ``fn`` must be importable by name."""
+
+    def __init__(self, fn: Callable, args: tuple = (), *, name: str, time_limit_s: float | None = None):
+        ctx = multiprocessing.get_context("spawn")
+        self._messages = ctx.Queue()
+        self._stop = ctx.Event()
+        self.process = ctx.Process(target=_process_main, args=(fn, args, self._messages, self._stop),
+                                   daemon=True, name=name)
+        super().__init__(name=name, time_limit_s=time_limit_s)
+        self.process.start()
+
+    def _collect(self) -> None:
+        while True:
+            try:
+                message = self._messages.get_nowait()
+            except queue_module.Empty:
+                break
+            self._emit(message)
+            if message[0] in FINAL:
+                self.process.join(timeout=5)
+        if self.outcome is None and not self.process.is_alive() and self._messages.empty():
+            self._emit(("error", f"the process ended without a result (exit code {self.process.exitcode})"))
+
+    def cancel(self) -> None:
+        self._stop.set()
+
+    def kill(self) -> None:
+        if self.process.is_alive():
+            self.process.terminate()
+            self.process.join(timeout=5)
+        self._collect()
+        if self.outcome is None:
+            self._emit(("cancelled", "ended"))
