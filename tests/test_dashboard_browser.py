@@ -5,6 +5,7 @@ import re
 
 import pytest
 
+from porefill.physics.limits import SIZE_RANGE_ANGSTROM
 from porefill.explorer.server.testing import drag_handle, readout_text, slider_handle, wait_for_readout_change
 
 pytestmark = pytest.mark.browser
@@ -97,8 +98,8 @@ CAPTION = ".porefill-isotherm-caption p"
 
 
 def _side(text: str) -> str:
-    """The side length a caption or readout names ('side 15 Å' → '15')."""
-    return re.search(r"side(?: / radius / width)? ([\d.]+) Å", text).group(1)
+    """The side length a caption or readout names ('side length 15 Å' → '15')."""
+    return re.search(r"side(?: length)?(?: / radius / width)? ([\d.]+) Å", text).group(1)
 
 
 def test_clicking_the_isotherm_picks_a_pressure(page):
@@ -173,7 +174,7 @@ def test_other_sessions_stay_responsive_and_isolated(browser, served_app):
         steps_a = text_of(a, STEPS)
         record_changes(a, ISOTHERM, "iso")
         record_changes(b, ".porefill-readout", "readout")
-        drag_handle(a, slider_handle(a, "Side length"), 600)          # to the end of the range: 100 Å
+        drag_handle(a, slider_handle(a, "Side length"), 600)          # to the end of the range (limits.py)
         for _ in range(600):
             if _first(recorded(a, "iso"), lambda r: r["loading"]) is not None:
                 break
@@ -191,7 +192,7 @@ def test_other_sessions_stay_responsive_and_isolated(browser, served_app):
         assert t_a_stale is not None and t_a_done is not None and t_b is not None
         assert t_b < t_a_done
         side_a, side_b = _side(text_of(a, CAPTION)), _side(readout_text(b))
-        assert side_a == "100" and side_b != side_a
+        assert side_a == f"{SIZE_RANGE_ANGSTROM['hexagon'][1]:g}" and side_b != side_a
         # nothing of A's state shows up in B
         b.locator(STEPS).first.wait_for(timeout=30_000)
         wait_for_text_change(b, CAPTION, "", timeout_s=60)

@@ -279,3 +279,26 @@ class TestOutside:
         assert np.all(np.isposinf(v[outside]))
         assert np.all(np.isfinite(v[~outside]))
         assert np.isposinf(m.values[0, 0]) or isinstance(pore, SlitPore)
+
+
+@pytest.mark.parametrize("fields", [dict(size_angstrom=20.0, wall_angstrom=6.0), dict(size_angstrom=9.0, wall_angstrom=3.0),
+                                    dict(size_angstrom=15.0, wall_angstrom=None)])
+def test_compiled_edge_sum_equals_the_numpy_reference(fields, monkeypatch):
+    # the same closed form (docs/REFERENCES.md §1) evaluated two ways: round-off only, so 1e-12 relative
+    from porefill.physics.pore import compiled
+    from porefill.physics.scenario import Scenario
+
+    if not compiled.available():
+        pytest.skip("numba is not installed here: only the numpy path exists")
+    sc = Scenario(**fields)
+    pore, pair = sc.pore(), sc.pair()
+    rng = np.random.default_rng(3)
+    x, y = rng.uniform(-fields["size_angstrom"], fields["size_angstrom"], (2, 5000))
+    x = np.concatenate([x, [0.0, fields["size_angstrom"], 0.5 * fields["size_angstrom"]]])   # centre, a corner, inside
+    y = np.concatenate([y, [0.0, 0.0, 0.0]])
+    fast = wp.wall_potential(x, y, pore=pore, pair=pair)
+    monkeypatch.setenv("POREFILL_NUMBA", "0")
+    reference = wp.wall_potential(x, y, pore=pore, pair=pair)
+    assert np.array_equal(np.isfinite(fast), np.isfinite(reference))
+    ok = np.isfinite(reference)
+    np.testing.assert_allclose(fast[ok], reference[ok], rtol=1e-12, atol=1e-12)

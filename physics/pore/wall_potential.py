@@ -24,6 +24,7 @@ from numpy.polynomial import chebyshev
 from scipy.special import hyp2f1
 
 from porefill.physics.caching import memoize
+from porefill.physics.pore import compiled
 from porefill.physics.pore.geometry import HexagonPore, Pore, RegularPolygonPore
 from porefill.physics.substances.materials import PairParameters
 
@@ -151,6 +152,13 @@ def _sum_over_edges(x, y, edges: _Edges, pair: PairParameters, chunk: int = 2_00
     face minus far face along every ray), which is the same sum with the same sign rule.
     """
     c9, c3 = _tail_coefficients(pair)
+    if compiled.available():
+        return compiled.sum_over_edges(x, y, edges.start, edges.tangent, edges.normal, edges.length, c9, c3)
+    return _sum_over_edges_numpy(x, y, edges, c9, c3, chunk)
+
+
+def _sum_over_edges_numpy(x, y, edges: _Edges, c9: float, c3: float, chunk: int = 2_000_000) -> np.ndarray:
+    """`_sum_over_edges` in numpy, chunked over points (the reference the compiled kernel is tested against)."""
     out = np.zeros(x.shape)
     n_edges = len(edges.length)
     step = max(1, chunk // max(n_edges, 1))
