@@ -92,3 +92,34 @@ def test_a_pool_task_is_watched_and_a_late_result_after_the_time_limit_is_droppe
         slow.future.result(timeout=10)
         assert late == [("error", "this took longer than 0.2 s and was given up; try a smaller pore")]
         assert waiting.poll() == [("cancelled", "cancelled before it started")]
+
+
+def test_workers_end_when_their_parent_is_killed(tmp_path):
+    # a server killed outright (SIGKILL skips every shutdown) must not leave its workers computing
+    import os
+    import subprocess
+    import sys
+
+    code = (
+        "import os, sys, time, multiprocessing\n"
+        "from concurrent.futures import ProcessPoolExecutor\n"
+        "from porefill.explorer.jobs.sweep_runner import _init_worker\n"
+        "if __name__ == '__main__':\n"
+        "    pool = ProcessPoolExecutor(1, mp_context=multiprocessing.get_context('spawn'), initializer=_init_worker)\n"
+        "    print(pool.submit(os.getpid).result(), flush=True)\n"
+        "    pool.submit(time.sleep, 600)\n"
+        "    time.sleep(0.5)\n"
+        "    os._exit(0)\n")
+    script = tmp_path / "server.py"
+    script.write_text(code)
+    out = subprocess.run([sys.executable, str(script)], capture_output=True, text=True, timeout=120)
+    worker = int(out.stdout.split()[0])
+    for _ in range(100):
+        try:
+            os.kill(worker, 0)
+        except ProcessLookupError:
+            break
+        time.sleep(0.1)
+    else:
+        os.kill(worker, 9)
+        raise AssertionError(f"worker {worker} outlived its parent by 10 s")

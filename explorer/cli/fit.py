@@ -12,7 +12,8 @@ import json
 import math
 import sys
 
-from porefill.explorer.cli.main import UsageError, add_model_options, add_pore_options, base_scenario, model_scenario
+from porefill.explorer.cli.main import (UsageError, add_model_options, add_pore_options, base_scenario, model_scenario,
+                                         output_place, write_output)
 
 __all__ = ["register"]
 
@@ -67,6 +68,7 @@ def register(sub) -> None:
     p.add_argument("--seed", type=int, default=0, help="seed of the global search (default 0)")
     p.add_argument("--json", action="store_true", help="print JSON")
     p.add_argument("--csv", metavar="FILE", help="also write the fitted model curves and the residuals as CSV")
+    p.add_argument("--force", action="store_true", help="replace an existing --csv file")
     p.set_defaults(func=_cmd_fit)
 
 
@@ -187,8 +189,7 @@ def _table(data: dict) -> str:
 def _cmd_fit(args) -> int:
     from porefill.physics.fitting.solve import fit
 
-    if args.csv is not None and not args.csv.strip():
-        raise UsageError("--csv needs a file name")
+    csv_path = output_place(args, "csv", "--csv", inputs=args.files)
     runs, notes = _read_runs(args)
     request = _request(args, runs)
     try:
@@ -196,12 +197,8 @@ def _cmd_fit(args) -> int:
     except ValueError as exc:
         raise UsageError(str(exc)) from None
     data = result_json(result, notes)
-    if args.csv:
-        try:
-            with open(args.csv, "w", encoding="utf-8", newline="") as fh:
-                fh.write(result_csv(result))
-        except OSError as exc:
-            raise UsageError(f"cannot write {args.csv}: {exc.strerror}") from None
+    if csv_path is not None:
+        write_output(csv_path, result_csv(result))
     if args.json:
         json.dump(data, sys.stdout)
         sys.stdout.write("\n")

@@ -95,6 +95,32 @@ def scenario_from_args(args, **extra):
         raise UsageError(str(exc)) from None
 
 
+def output_place(args, attribute: str, option: str, inputs=()):
+    """The checked place of an output option (`porefill.explorer.outputs.writing.check_output`), before any
+    computing; None when the option was not given."""
+    name = getattr(args, attribute, None)
+    if name is None:
+        return None
+    from porefill.explorer.outputs.writing import OutputRefused, check_output
+
+    scenario = getattr(args, "scenario", None)
+    try:
+        return check_output(name, option=option, force=getattr(args, "force", False),
+                            inputs=[*inputs, *([scenario] if scenario else [])])
+    except OutputRefused as exc:
+        raise UsageError(str(exc)) from None
+
+
+def write_output(path, text: str) -> None:
+    """Write an output atomically (the old file stays whole if this fails); UsageError names the problem."""
+    from porefill.explorer.outputs.writing import write_atomic
+
+    try:
+        write_atomic(path, text)
+    except OSError as exc:
+        raise UsageError(f"cannot write {path}: {exc.strerror or exc}") from None
+
+
 def _json_number(v: float):
     return float(v) if math.isfinite(v) else None
 
@@ -173,8 +199,7 @@ def _cmd_isotherm(args) -> int:
     from porefill.explorer.outputs.isotherm_export import isotherm_csv, isotherm_json, isotherm_summary
 
     scenario = model_scenario(args)
-    if args.csv is not None and not args.csv.strip():
-        raise UsageError("--csv needs a file name")
+    csv_path = output_place(args, "csv", "--csv")
     try:
         iso = compute_isotherm(
             scenario, n_points=args.points,
@@ -187,12 +212,8 @@ def _cmd_isotherm(args) -> int:
         if message.startswith("number of points"):
             message = f"--points: {message}"
         raise UsageError(message) from None
-    if args.csv:
-        try:
-            with open(args.csv, "w", encoding="utf-8", newline="") as fh:
-                fh.write(isotherm_csv(iso))
-        except OSError as exc:
-            raise UsageError(f"cannot write {args.csv}: {exc.strerror}") from None
+    if csv_path is not None:
+        write_output(csv_path, isotherm_csv(iso))
     if args.json:
         json.dump(isotherm_json(iso), sys.stdout)
         sys.stdout.write("\n")
@@ -350,6 +371,7 @@ def build_parser(*, serve_only: bool = False) -> argparse.ArgumentParser:
     add_model_options(p)
     p.add_argument("--json", action="store_true", help="print JSON")
     p.add_argument("--csv", metavar="FILE", help="also write the branches as CSV")
+    p.add_argument("--force", action="store_true", help="replace an existing --csv file")
     p.set_defaults(func=_cmd_isotherm)
 
     p = sub.add_parser("states", help="exact one-atom quantum states of the pore cross-section, K")

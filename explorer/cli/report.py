@@ -7,15 +7,10 @@ __all__ = ["register"]
 
 
 def _cmd_report(args) -> int:
-    from porefill.explorer.cli.main import UsageError
+    from porefill.explorer.cli.main import UsageError, output_place, write_output
     from porefill.explorer.files.scenario_file import ScenarioFileError, load_document, resolve_scenario
 
-    if not args.out.strip():
-        raise UsageError("--out needs a file name")
-    from pathlib import Path
-    folder = Path(args.out).resolve().parent
-    if not folder.is_dir():          # said before a minute of computing, not after
-        raise UsageError(f"cannot write {args.out}: no folder {folder}")
+    out_path = output_place(args, "out", "--out")        # said before a minute of computing, not after
     try:
         doc = load_document(resolve_scenario(args.scenario))
     except ScenarioFileError as exc:
@@ -40,11 +35,7 @@ def _cmd_report(args) -> int:
         text = build_report(doc, sizes=sizes, progress=progress)
     except ValueError as exc:
         raise UsageError(str(exc)) from None
-    try:
-        with open(args.out, "w", encoding="utf-8") as fh:
-            fh.write(text)
-    except OSError as exc:
-        raise UsageError(f"cannot write {args.out}: {exc.strerror}") from None
+    write_output(out_path, text)
     if not args.quiet:
         sys.stderr.write(f"porefill: wrote {args.out} ({len(text.encode('utf-8')) / 1e6:.1f} MB; opens offline)\n")
     return 0
@@ -57,5 +48,6 @@ def register(sub) -> None:
     p.add_argument("--sizes", metavar="START:STOP:COUNT",
                    help="pore sizes of the sizing map, Å (default: 5 from 0.8 to 1.2 × the scenario's; "
                         "'none' leaves it out)")
+    p.add_argument("--force", action="store_true", help="replace an existing --out file")
     p.add_argument("--quiet", action="store_true", help="print nothing but errors")
     p.set_defaults(func=_cmd_report)

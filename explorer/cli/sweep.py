@@ -11,7 +11,8 @@ import json
 import sys
 import threading
 
-from porefill.explorer.cli.main import UsageError, add_model_options, add_pore_options, base_scenario, model_scenario
+from porefill.explorer.cli.main import (UsageError, add_model_options, add_pore_options, base_scenario, model_scenario,
+                                         output_place, write_output)
 
 __all__ = ["register"]
 
@@ -33,6 +34,7 @@ def register(sub) -> None:
     add_model_options(p)
     p.add_argument("--json", action="store_true", help="print JSON: one entry per pore under \"pores\"")
     p.add_argument("--csv", metavar="FILE", help="also write one row per step to FILE")
+    p.add_argument("--force", action="store_true", help="replace an existing --csv file")
     p.add_argument("--target", choices=list(TARGET_KINDS),
                    help="mark the pores that meet a target: " + "; ".join(f"{k}: {v}" for k, v in TARGET_KINDS.items()))
     p.add_argument("--window", type=float, nargs=2, metavar=("LOW", "HIGH"),
@@ -134,8 +136,7 @@ def _cmd_sweep(args) -> int:
     from porefill.explorer.outputs.sweep_export import sweep_csv, sweep_json
     from porefill.explorer.jobs.sweep_runner import ClusterError, SweepRunner
 
-    if args.csv is not None and not args.csv.strip():
-        raise UsageError("--csv needs a file name")
+    csv_path = output_place(args, "csv", "--csv")
     if args.workers is not None and args.workers < 1:
         raise UsageError(f"--workers must be at least 1; got {args.workers}")
     spec, target = _spec(args), _target(args)
@@ -151,12 +152,8 @@ def _cmd_sweep(args) -> int:
         raise UsageError(str(exc)) from None
     finally:
         runner.close(terminate=stop.is_set())
-    if args.csv:
-        try:
-            with open(args.csv, "w", encoding="utf-8", newline="") as fh:
-                fh.write(sweep_csv(result))
-        except OSError as exc:
-            raise UsageError(f"cannot write {args.csv}: {exc.strerror}") from None
+    if csv_path is not None:
+        write_output(csv_path, sweep_csv(result))       # a stopped sweep's CSV says so in its first line
     if args.json:
         json.dump(sweep_json(result, target=target), sys.stdout)
         sys.stdout.write("\n")

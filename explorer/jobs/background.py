@@ -25,10 +25,41 @@ import time
 from concurrent.futures import Executor, Future
 from typing import Any, Callable
 
-__all__ = ["Cancelled", "Job", "PoolJob", "ProcessJob", "ThreadJob", "time_limit_text", "error_text"]
+__all__ = ["start_worker", "Cancelled", "Job", "PoolJob", "ProcessJob", "ThreadJob", "time_limit_text", "error_text"]
 
 log = logging.getLogger("porefill.explorer")
 FINAL = ("done", "cancelled", "error")
+
+
+def start_worker(*, nice: int = 5, ignore_interrupt: bool = False) -> None:
+    """What every background process does first (pool workers, sweep workers, a fit's process): run below
+    the server's priority (the event loop and a browser on the same laptop stay responsive), end itself
+    when its parent is gone (a killed server's SIGTERM skips the pool's shutdown; no orphan keeps
+    computing), use one BLAS thread (`porefill.explorer.jobs.threads`) and, for a sweep on a terminal,
+    leave Ctrl-C to the parent, which stops the sweep and ends its workers."""
+    import os
+    import signal
+
+    if nice:
+        try:
+            os.nice(nice)
+        except OSError:
+            pass
+    if ignore_interrupt:
+        signal.signal(signal.SIGINT, signal.SIG_IGN)
+    threading.Thread(target=_exit_with_parent, args=(os.getppid(),), daemon=True,
+                     name="porefill-parent-watch").start()
+    from porefill.explorer.jobs.threads import one_blas_thread
+
+    one_blas_thread()
+
+
+def _exit_with_parent(parent: int) -> None:
+    import os
+
+    while os.getppid() == parent:
+        time.sleep(1.0)
+    os._exit(0)
 
 
 class Cancelled(Exception):
@@ -185,9 +216,7 @@ class ThreadJob(Job):
 
 
 def _process_main(fn, args, messages, stop) -> None:
-    from porefill.explorer.jobs.threads import one_blas_thread
-
-    one_blas_thread()          # one process beside the shared workers (explorer/jobs/threads.py)
+    start_worker()
     _report_to(messages.put, fn, args, stop.is_set)
 
 

@@ -25,7 +25,7 @@ import panel as pn
 from panel.io.state import set_curdoc
 
 from porefill.physics.choices import DEFAULT_POINTS
-from porefill.explorer.jobs.background import PoolJob
+from porefill.explorer.jobs.background import PoolJob, start_worker
 from porefill.physics.caching import memoize
 
 __all__ = ["TIME_LIMIT_S", "LatestRunner", "on_session", "isotherm_pool", "map_pool", "retire_pools", "temperature_window", "short_error"]
@@ -75,26 +75,8 @@ def map_pool() -> Executor:
 
 
 def _warm_worker() -> None:
-    # below the server's priority: on a small machine the event loop (and a browser on the same laptop)
-    # stays responsive while the workers are busy
-    try:
-        os.nice(5)
-    except OSError:
-        pass
-    threading.Thread(target=_exit_with_parent, args=(os.getppid(),), daemon=True).start()
-    from porefill.explorer.jobs.threads import one_blas_thread
-
-    one_blas_thread()          # parallelism comes from the worker processes (explorer/jobs/threads.py)
+    start_worker()             # priority, parent watch, one BLAS thread (explorer/jobs/background.py)
     import porefill.physics.lattice_gas.adsorption  # noqa: F401 - a worker's first isotherm should not pay for the imports
-
-
-def _exit_with_parent(parent: int) -> None:
-    """A worker whose server was killed (SIGTERM skips the pool's shutdown) ends itself, even mid-job."""
-    import time
-
-    while os.getppid() == parent:
-        time.sleep(1.0)
-    os._exit(0)
 
 
 # jobs: top-level functions, so that a process pool can pickle them ------------------------------------

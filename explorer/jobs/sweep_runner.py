@@ -127,13 +127,11 @@ def _cost(scenario: Scenario) -> float:
 
 
 def _init_worker() -> None:
-    import signal
+    from porefill.explorer.jobs.background import start_worker
 
-    # Ctrl-C in a terminal reaches the whole process group: the parent stops the sweep and ends the workers
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-    from porefill.explorer.jobs.threads import one_blas_thread
-
-    one_blas_thread()          # parallelism comes from the worker processes (explorer/jobs/threads.py)
+    # Ctrl-C in a terminal reaches the whole process group: the parent stops the sweep and ends the workers;
+    # a worker whose parent is gone ends itself (no orphans)
+    start_worker(ignore_interrupt=True)
     import porefill.physics.lattice_gas.adsorption  # noqa: F401 - a worker's first pore should not pay for the imports
 
 

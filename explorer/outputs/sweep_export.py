@@ -63,9 +63,13 @@ def _g(v) -> str:
 
 
 def sweep_csv(result: SweepResult) -> str:
-    """One row per step of every computed pore (`CSV_COLUMNS`; units in the names, pressures in Pa)."""
+    """One row per step of every computed pore (`CSV_COLUMNS`; units in the names, pressures in Pa). A sweep
+    that was stopped says so in a first comment line ('# stopped: …'), so a partial file is never mistaken
+    for a whole one."""
     out = io.StringIO()
     w = csv.writer(out, lineterminator="\n")
+    if result.stopped:
+        out.write(f"# stopped: {len(result.done)} of {len(result.points)} pores computed\n")
     w.writerow(CSV_COLUMNS)
     for p in result.done:
         head = [_g(p["size_angstrom"]), _g(p["wall_angstrom"]), _g(p["temperature_k"]), p["site_model"]]
