@@ -1,11 +1,13 @@
-"""Quantum states and the quantum isotherm: helium-4, 15 Å side, 8 Å walls, 1.5 K. Prints JSON lines.
+"""Quantum states and the quantum isotherm: helium-4, 15 Å side, 8 Å walls, 1.5 K; then a new geometry at
+15, 30 and 50 Å side, and hydrogen (20 K) and neon (25 K) at 15 Å. Prints JSON lines.
 
-Run: .venv/bin/python benchmarks/bench_quantum.py
+Run: .venv/bin/python benchmarks/bench_quantum.py [--quick]   (--quick: leaves out 50 Å, hydrogen and neon)
 """
 from __future__ import annotations
 
 import json
 import statistics
+import sys
 import time
 
 from porefill.physics.lattice_gas.adsorption import compute_isotherm
@@ -41,5 +43,24 @@ def main() -> None:
                               "pressure_factor": float(f"{s.pressure_pa / c.pressure_pa:.3g}")}))
 
 
+def sizes_and_gases(quick: bool) -> None:
+    """One new geometry each (nothing cached): the speed issue's rows."""
+    cases = [("helium-4", 1.5, 15.0), ("helium-4", 1.5, 30.0)]
+    if not quick:
+        cases += [("helium-4", 1.5, 50.0), ("hydrogen", 20.0, 15.0), ("neon", 25.0, 15.0)]
+    for gas, t, side in cases:
+        sc = Scenario(size_angstrom=side + 0.003, wall_angstrom=8.0, adsorbate=gas, temperature_k=t,
+                      site_model="quantum")
+        t0 = time.perf_counter()
+        try:
+            iso = compute_isotherm(sc, n_points=300)
+        except ValueError as exc:
+            print(json.dumps({"benchmark": f"quantum_isotherm_{gas}_{t:g}K_hexagon_{side:g}A", "error": str(exc)}))
+            continue
+        print(json.dumps({"benchmark": f"quantum_isotherm_{gas}_{t:g}K_hexagon_{side:g}A_new_geometry",
+                          "seconds": round(time.perf_counter() - t0, 2), "steps": len(iso.steps)}), flush=True)
+
+
 if __name__ == "__main__":
     main()
+    sizes_and_gases("--quick" in sys.argv)

@@ -606,3 +606,15 @@ def test_problems_are_plain_values_for_json():
     result = read_measured("book.xlsx", data)
     text = json.dumps([dataclasses.asdict(p) for p in result.problems])
     assert '"row": 3' in text and '"value": "x"' in text
+
+
+@settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(spaces=st.integers(min_value=1_000, max_value=90_000), word=st.sampled_from(["T", "temp", "temperature"]))
+def test_a_long_comment_line_is_read_in_one_pass(spaces, word):
+    # a comment of a temperature word and a long run of spaces once backtracked quadratically (seconds per
+    # 16 000 characters, every session frozen); the file still reads, with the temperature of its real line
+    # (common practice, no source: a regex without nested unbounded repeats is linear)
+    text = f"# {word}{' ' * spaces}\n# T = 77.35 K\npressure (Pa),n (mmol/g)\n100,1\n200,2\n300,3\n"
+    result = read_measured("long.csv", text.encode())
+    run = _one_run(result)
+    assert run.temperature_k == 77.35 and run.pressure.size == 3

@@ -41,8 +41,11 @@ def _odd_spaces(text: str) -> bool:
 
 
 _DELIMITER_NAMES = {"\t": "tab", ";": "';'", ",": "','", "|": "'|'", " ": "spaces"}
-_TEMPERATURE = re.compile(r"(?i)(?:^|[^a-z])(?:t|temp\.?|temperature)\s*(?:\(k\)|\[k\])?\s*[=:]\s*"
-                          r"([+-]?\d+(?:[.,]\d+)?(?:[eE][+-]?\d+)?)\s*(k\b|kelvin)?")
+# possessive quantifiers (no backtracking into a run of spaces): linear in the line's length; a long comment
+# line of spaces once took seconds per 16 000 characters and froze every session
+_TEMPERATURE = re.compile(r"(?i)(?:^|[^a-z])(?:t|temp\.?|temperature)\s*+(?:\(k\)|\[k\])?\s*+[=:]\s*+"
+                          r"([+-]?\d++(?:[.,]\d++)?(?:[eE][+-]?\d++)?)\s*+(k\b|kelvin)?")
+_TEMPERATURE_SCAN = 400        # characters of a comment line searched for a temperature
 
 
 @dataclass
@@ -155,6 +158,7 @@ def _temperature_in(lines: list[tuple[int, str]], problems: Problems) -> float |
     """A temperature in K written in comment or preamble lines ("# T = 77.35 K"); the first if several."""
     found: list[tuple[int, float]] = []
     for row, line in lines:
+        line = line[:_TEMPERATURE_SCAN]
         m = _TEMPERATURE.search(line)
         if m and (m.group(2) or "(k)" in line.lower() or "[k]" in line.lower()):
             value = float(m.group(1).replace(",", "."))
