@@ -23,13 +23,20 @@ _ROUND = 1e-6          # Å: grid coordinates are multiples of h/2 and h√3/2; 
 def mirror_permutations(points: np.ndarray, potential_k: np.ndarray) -> list[np.ndarray]:
     """For each of the mirrors x → −x and y → −y that maps the grid onto itself with the same potential,
     the permutation taking point i to its mirror image."""
-    key = {tuple(k): i for i, k in enumerate(np.round(points / _ROUND).astype(np.int64))}
+    ints = np.round(points / _ROUND).astype(np.int64)
+    span = int(np.abs(ints[:, 1]).max()) * 2 + 1          # one integer key per point: x·span + y
+    keys = ints[:, 0] * span + ints[:, 1]
+    order = np.argsort(keys)
+    sorted_keys = keys[order]
     scale = max(1.0, float(np.abs(potential_k).max()))
     out = []
-    for flip in (np.array([-1.0, 1.0]), np.array([1.0, -1.0])):
-        mirrored = np.round(points * flip / _ROUND).astype(np.int64)
-        perm = np.array([key.get(tuple(k), -1) for k in mirrored])
-        if (perm >= 0).all() and np.allclose(potential_k[perm], potential_k, rtol=0.0, atol=1e-9 * scale):
+    for flip in (np.array([-1, 1]), np.array([1, -1])):
+        mirrored = ints * flip
+        wanted = mirrored[:, 0] * span + mirrored[:, 1]
+        at = np.minimum(np.searchsorted(sorted_keys, wanted), keys.size - 1)
+        found = sorted_keys[at] == wanted
+        perm = np.where(found, order[at], -1)
+        if found.all() and np.allclose(potential_k[perm], potential_k, rtol=0.0, atol=1e-9 * scale):
             out.append(perm)
     return out
 
