@@ -24,6 +24,8 @@ from scipy import sparse
 from scipy.sparse.linalg import splu
 from scipy.special import expit
 
+from porefill.physics.lattice_gas import compiled
+
 __all__ = ["grand_potential", "solve_state", "solve_branch", "Branch", "MeanFieldProblem"]
 
 _DENSE_MAX_SITES = 160
@@ -134,6 +136,8 @@ def solve_state(x0: np.ndarray, mu: float, problem: MeanFieldProblem, *, max_ite
     omega : float, Ω at the state (K)
     """
     a_dense = _dense_neighbours(problem)
+    if a_dense is not None and compiled.available():
+        return compiled.solve_state_dense(x0, mu, problem, a_dense, max_iter=max_iter, tol=tol)
     x = np.array(x0, float)
     damping = 0.0
     omega, flat, g, n = _evaluate(x, mu, problem)   # flat: Ω changes below this are rounding
