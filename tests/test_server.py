@@ -444,3 +444,44 @@ def test_browser_signs_in_and_sees_the_plots(browser, password_server):
         assert errors == []
     finally:
         context.close()
+
+
+def test_guessing_is_slowed_down_and_a_success_resets_it():
+    # backoff after failed sign-ins (common practice, no source: OWASP's authentication advice)
+    from porefill.explorer.server.security import AccessPolicy, LoginSessions
+
+    now = [1000.0]
+    sessions = LoginSessions(AccessPolicy.for_server(address="127.0.0.1", port=1, password="pw"),
+                             free_failures=5, max_wait_s=300.0, clock=lambda: now[0])
+    for _ in range(5):
+        assert sessions.wait_s("a") == 0
+        sessions.failed("a")
+    assert sessions.wait_s("a") == 1.0 and sessions.wait_s("b") == 0          # only that address waits
+    now[0] += 1.0
+    sessions.failed("a")
+    assert sessions.wait_s("a") == 2.0
+    for _ in range(20):
+        sessions.failed("a")
+    assert sessions.wait_s("a") == 300.0                                        # capped
+    sessions.succeeded("a")
+    assert sessions.wait_s("a") == 0
+
+
+def test_sign_out_ends_the_session_on_the_server(password_server):
+    port = password_server
+    cookie = _login(port, PASSWORD)[1]["set-cookie"].split(";", 1)[0]
+    jar = {"Cookie": cookie}
+    assert _request(port, "/", headers=jar)[0] == 200
+    # a GET (a link, a foreign page's navigation) signs nobody out: it shows the button
+    status, _, body = _request(port, "/logout", headers=jar)
+    assert status == 200 and 'name="form_token"' in body
+    assert _request(port, "/", headers=jar)[0] == 200
+    form_token = re.search(r'name="form_token" value="([0-9a-f]+)"', body).group(1)
+    forged = _request(port, "/logout", method="POST", body="form_token=" + "0" * 64,
+                      headers={"Content-Type": "application/x-www-form-urlencoded", **_same_origin(port), **jar})
+    assert forged[0] == 403 and _request(port, "/", headers=jar)[0] == 200
+    status, headers, _ = _request(port, "/logout", method="POST", body=f"form_token={form_token}",
+                                  headers={"Content-Type": "application/x-www-form-urlencoded",
+                                           **_same_origin(port), **jar})
+    assert status == 303 and headers["location"] == "/login"
+    assert _request(port, "/", headers=jar)[0] == 302          # the old cookie no longer opens the page

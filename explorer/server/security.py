@@ -23,11 +23,14 @@ import hashlib
 import hmac
 import html
 import ipaddress
+import math
 import os
 import re
 import secrets
 import socket
 import sys
+import threading
+import time
 from dataclasses import dataclass
 from pathlib import Path
 from urllib.parse import urlsplit
@@ -315,15 +318,76 @@ def _refusal(policy: AccessPolicy, request) -> tuple[int, str] | None:
     return None
 
 
-def _logged_in(policy: AccessPolicy, request) -> bool:
-    from tornado.web import decode_signed_value
+class LoginSessions:
+    """Who is signed in, kept on the server: each sign-in gets a random token (carried by the signed,
+    HttpOnly, SameSite=Strict cookie), and signing out forgets it, so a copied cookie stops working at once.
+    Failed attempts from one address are slowed down: after ``free_failures`` in a row, each further try
+    waits twice as long as the last (1 s, 2 s, 4 s, ... at most ``max_wait_s``), answered 429 until then."""
 
-    morsel = request.cookies.get(AUTH_COOKIE)
-    if morsel is None:
-        return False
-    value = decode_signed_value(policy.cookie_secret, AUTH_COOKIE, morsel.value,
-                                max_age_days=_COOKIE_MAX_AGE_DAYS)
-    return value == b"yes"
+    def __init__(self, policy: "AccessPolicy", *, free_failures: int = 5, max_wait_s: float = 300.0,
+                 clock=time.monotonic):
+        self.policy = policy
+        self.free_failures = free_failures
+        self.max_wait_s = max_wait_s
+        self.clock = clock
+        self._tokens: dict[str, float] = {}            # token -> when it was issued
+        self._failures: dict[str, tuple[int, float]] = {}   # address -> (failures in a row, next try allowed at)
+        self._lock = threading.Lock()
+
+    # signing in and out ----------------------------------------------------------------------------
+    def open(self) -> str:
+        token = secrets.token_urlsafe(32)
+        with self._lock:
+            self._tokens[token] = self.clock()
+        return token
+
+    def close(self, token: str | None) -> None:
+        with self._lock:
+            self._tokens.pop(token or "", None)
+
+    def token_of(self, request) -> str | None:
+        """The valid session token of a request's cookie, or None."""
+        from tornado.web import decode_signed_value
+
+        morsel = request.cookies.get(AUTH_COOKIE)
+        if morsel is None:
+            return None
+        value = decode_signed_value(self.policy.cookie_secret, AUTH_COOKIE, morsel.value,
+                                    max_age_days=_COOKIE_MAX_AGE_DAYS)
+        if value is None:
+            return None
+        token = value.decode("ascii", "replace")
+        with self._lock:
+            issued = self._tokens.get(token)
+        if issued is None or self.clock() - issued > _COOKIE_MAX_AGE_DAYS * 86400.0:
+            return None
+        return token
+
+    def form_token(self, token: str) -> str:
+        """The sign-out form's token: tied to the session, so no other page can post it."""
+        return hmac.new(self.policy.cookie_secret, b"logout:" + token.encode(), hashlib.sha256).hexdigest()
+
+    # slowing down guesses ---------------------------------------------------------------------------
+    def wait_s(self, address: str) -> float:
+        """Seconds before ``address`` may try a password again (0: now)."""
+        with self._lock:
+            _, allowed_at = self._failures.get(address, (0, 0.0))
+        return max(0.0, allowed_at - self.clock())
+
+    def failed(self, address: str) -> None:
+        with self._lock:
+            count, _ = self._failures.get(address, (0, 0.0))
+            count += 1
+            extra = count - self.free_failures
+            wait = 0.0 if extra < 0 else min(self.max_wait_s, 2.0 ** extra)
+            self._failures[address] = (count, self.clock() + wait)
+            if len(self._failures) > 10_000:           # bounded: the oldest addresses are forgotten
+                for key in list(self._failures)[:1000]:
+                    del self._failures[key]
+
+    def succeeded(self, address: str) -> None:
+        with self._lock:
+            self._failures.pop(address, None)
 
 
 _LOGIN_PAGE = """<!DOCTYPE html>
@@ -337,6 +401,23 @@ _LOGIN_PAGE = """<!DOCTYPE html>
 </form>
 </body></html>
 """
+
+
+_LOGOUT_PAGE = """<!DOCTYPE html>
+<html lang="en"><head><meta charset="utf-8"><title>porefill: sign out</title>
+<meta name="viewport" content="width=device-width, initial-scale=1"></head>
+<body>
+<h1>porefill</h1>
+<form method="post" action="{action}"><input type="hidden" name="form_token" value="{token}">
+<p><button type="submit">Sign out</button></p>
+</form>
+</body></html>
+"""
+
+
+def logout_page(form_token: str) -> str:
+    """The sign-out form, carrying the session's form token."""
+    return _LOGOUT_PAGE.format(action=html.escape(LOGOUT_PATH, quote=True), token=html.escape(form_token, quote=True))
 
 
 def login_page(message: str = "") -> str:
@@ -401,9 +482,11 @@ def install(app, policy: AccessPolicy, *, session_secret: str) -> None:
                 return None
             return {"target_kwargs": {"status": verdict[0], "message": verdict[1]}}
 
+    sessions = LoginSessions(policy)
+
     class NotLoggedIn(Matcher):
         def match(self, request):
-            return None if _logged_in(policy, request) else {}
+            return None if sessions.token_of(request) is not None else {}
 
     class LoginRequired(RequestHandler):
         def prepare(self) -> None:
@@ -420,12 +503,20 @@ def install(app, policy: AccessPolicy, *, session_secret: str) -> None:
             self._form(200)
 
         def post(self) -> None:
+            address = self.request.remote_ip or "?"
+            wait = sessions.wait_s(address)
+            if wait > 0:
+                self.set_header("Retry-After", str(math.ceil(wait)))
+                self._form(429, f"Too many wrong passwords: try again in {math.ceil(wait)} s.")
+                return
             if policy.password_matches(self.get_body_argument("password", default="")):
-                value = create_signed_value(policy.cookie_secret, AUTH_COOKIE, "yes")
+                sessions.succeeded(address)
+                value = create_signed_value(policy.cookie_secret, AUTH_COOKIE, sessions.open())
                 self.set_cookie(AUTH_COOKIE, value.decode(), path="/", httponly=True, samesite="Strict",
                                 secure=self.request.protocol == "https")
                 self.redirect("/", status=303)
             else:
+                sessions.failed(address)
                 self._form(403, "Wrong password.")
 
         def _form(self, status: int, message: str = "") -> None:
@@ -435,10 +526,30 @@ def install(app, policy: AccessPolicy, *, session_secret: str) -> None:
             self.finish(login_page(message))
 
     class Logout(RequestHandler):
+        """GET shows a sign-out button (a link or a foreign page cannot sign anyone out); POST with the
+        session's form token ends the session on the server and clears the cookie."""
+
         def get(self) -> None:
-            self.clear_cookie(AUTH_COOKIE, path="/")
+            token = sessions.token_of(self.request)
             self.set_header("Cache-Control", "no-store")
-            self.redirect(LOGIN_PATH)
+            if token is None:
+                self.redirect(LOGIN_PATH)
+                return
+            self.set_header("Content-Type", "text/html; charset=utf-8")
+            self.finish(logout_page(sessions.form_token(token)))
+
+        def post(self) -> None:
+            token = sessions.token_of(self.request)
+            self.set_header("Cache-Control", "no-store")
+            given = self.get_body_argument("form_token", default="")
+            if token is None or not hmac.compare_digest(given, sessions.form_token(token)):
+                self.set_status(403)
+                self.set_header("Content-Type", "text/plain; charset=utf-8")
+                self.finish("Sign out from porefill's own sign-out page.\n")
+                return
+            sessions.close(token)
+            self.clear_cookie(AUTH_COOKIE, path="/")
+            self.redirect(LOGIN_PATH, status=303)
 
     class Headers(OutputTransform):
         def transform_first_chunk(self, status_code, headers, chunk, finishing):
