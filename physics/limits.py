@@ -31,9 +31,13 @@ def check_number(name: str, value, *, low: float | None = None, high: float | No
     unit_text = f" {unit}" if unit else ""
     if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)):
         raise ValueError(f"{name} must be a number{unit_text}; got {value!r}")
-    v = float(value)
+    try:
+        v = float(value)
+    except OverflowError:                 # a whole number with hundreds of digits
+        v = math.inf if value > 0 else -math.inf
     if not math.isfinite(v):
-        raise ValueError(f"{name} must be finite; got {value!r}")
+        shown = repr(value) if len(repr(value)) <= 40 else f"a number of {len(str(value))} characters"
+        raise ValueError(f"{name} must be finite; got {shown}")
     below = low is not None and (v <= low if low_open else v < low)
     if below or (high is not None and v > high):
         lo = "" if low is None else (f"> {low:g}" if low_open else f">= {low:g}")

@@ -234,3 +234,25 @@ def test_shipped_scenarios_open_by_name():
 def test_unknown_name_lists_the_shipped_ones():
     with pytest.raises(ScenarioFileError, match="shipped: .*demo-hexagon-helium"):
         resolve_scenario("no-such-demo")
+
+
+_RUN = ('[[measured]]\nname = "a"\nsource = "f.csv"\nleg = "adsorption"\npressure_unit = "Pa"\n'
+        'amount_unit = "per nm"\npressure = [1.0]\namount = [1.0]\n')
+
+
+@pytest.mark.parametrize("text, words", [
+    ("[scenario]\nx = " + "[" * 1000 + "1" + "]" * 1000 + "\n", "nested too deeply"),
+    ("measured = [1, 2]\n[scenario]\nsize_angstrom = 15.0\n", "array of tables"),
+    ("[scenario]\nsize_angstrom = 15.0\n[sample]\nsources = 5\n", "wrong type"),
+    ("[scenario]\nsize_angstrom = 15.0\n" + _RUN + "rows = [99999999999999999999]\n", "row numbers"),
+    ("[scenario]\nsize_angstrom = 1" + "0" * 400 + "\n", "must be finite; got a number of 401 characters"),
+    ("[scenario]\nsize_angstrom = 1" + "0" * 5000 + "\n", "cannot be read"),
+    ("[scenario]\nsize_angstrom = 15.0\n[fit]\nfree = 5\n", "[fit]"),
+    ("[scenario]\nsize_angstrom = 15.0\n" + _RUN.replace('name = "a"', "name = 5"), "must be text"),
+])
+def test_a_bad_file_is_one_line_naming_the_problem(text, words):
+    # every bad value answered by a ScenarioFileError (one line, the file named), never a traceback
+    with pytest.raises(ScenarioFileError) as info:
+        parse_document(text, name="bad.toml")
+    message = str(info.value)
+    assert message.startswith("bad.toml") and words in message and "\n" not in message

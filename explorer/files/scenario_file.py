@@ -151,7 +151,18 @@ def _table(path, text, data, name) -> dict:
     return dict(value)
 
 
+_RUN_TEXT_KEYS = ("name", "source", "leg", "pressure_unit", "amount_unit")
+_MAX_ROW = 10**9          # a row number a file can have
+
+
 def _check_numbers(path, text, index, run: dict) -> None:
+    for key in _RUN_TEXT_KEYS:
+        if key in run and not isinstance(run[key], str):
+            _fail(path, text, "measured", f"must be text; got {run[key]!r}"[:200], index=index, key=key)
+    rows = run.get("rows", [])
+    if isinstance(rows, list) and any(isinstance(r, int) and not isinstance(r, bool) and not 0 <= r <= _MAX_ROW
+                                      for r in rows):
+        _fail(path, text, "measured", f"must hold row numbers from 0 to {_MAX_ROW:,}", index=index, key="rows")
     for key, kinds in (("pressure", (int, float)), ("amount", (int, float)), ("rows", (int,))):
         values = run.get(key, [])
         if not isinstance(values, list):
@@ -167,6 +178,9 @@ def parse_document(text: str, *, name: str = "scenario.toml") -> ScenarioDocumen
     """The `ScenarioDocument` in TOML ``text`` (``name``: the file, for messages). Raises ScenarioFileError."""
     try:
         data = tomllib.loads(text)
+    except RecursionError:
+        raise ScenarioFileError(f"{name}: arrays or tables are nested too deeply for a scenario file",
+                                path=name) from None
     except tomllib.TOMLDecodeError as exc:
         # "... (at line 3, column 7)": tomllib's position (a `lineno` attribute only from Python 3.14)
         m = re.search(r"\(at line (\d+), column (\d+)\)", str(exc))
@@ -177,6 +191,21 @@ def parse_document(text: str, *, name: str = "scenario.toml") -> ScenarioDocumen
             at = f", line {line} (the end of the file)"
         what = re.sub(r"\s*\(at (line \d+, column \d+|end of document)\)", "", str(exc))
         raise ScenarioFileError(f"{name}{at}: not valid TOML ({what})", path=name, line=line) from None
+    except ValueError as exc:             # e.g. an integer past Python's digit limit
+        raise ScenarioFileError(f"{name}: a value cannot be read ({str(exc).splitlines()[0][:120]})",
+                                path=name) from None
+    try:
+        return _document(name, text, data)
+    except ScenarioFileError:
+        raise
+    except (TypeError, ValueError, AttributeError, KeyError, OverflowError, RecursionError) as exc:
+        # a value of a type no check above foresaw: one line, never a traceback
+        raise ScenarioFileError(f"{name}: a table or value has the wrong type or size "
+                                f"({type(exc).__name__}: {str(exc).splitlines()[0][:160] if str(exc) else ''})",
+                                path=name) from None
+
+
+def _document(name: str, text: str, data: dict) -> ScenarioDocument:
     unknown = sorted(set(data) - set(TABLES))
     if unknown:
         _fail(name, text, "", f"unknown table(s) or key(s) {', '.join(unknown)}; expected {', '.join(TABLES)}",
@@ -209,6 +238,8 @@ def parse_document(text: str, *, name: str = "scenario.toml") -> ScenarioDocumen
         _fail(name, text, "", "measured must be an array of tables [[measured]]", key="measured")
     measured = []
     for i, run in enumerate(runs):
+        if not isinstance(run, dict):
+            _fail(name, text, "", "measured must be an array of tables [[measured]]", key="measured")
         _check_numbers(name, text, i, run)
         try:
             measured.append(MeasuredRun.from_dict(run))
