@@ -112,6 +112,12 @@ class FitRequest:
         free = tuple(dict.fromkeys(str(f).strip() for f in ([self.free] if isinstance(self.free, str)
                                                             else self.free)))
         object.__setattr__(self, "free", free)
+        points = sum(int(np.isfinite(r.amount).sum()) for r in runs)
+        if points <= len(free):
+            raise ValueError(f"the measured runs hold {points} usable point{'s' if points != 1 else ''}, not more "
+                             f"than the {len(free)} free parameter{'s' if len(free) != 1 else ''} "
+                             f"({', '.join(free)}): a fit needs more points than parameters (check the file's "
+                             "columns and decimal marks, or free fewer parameters)")
         branches = {**measured_branches(self.scenario.pore_ends), **dict(self.branches)}
         for leg, branch in branches.items():
             if leg not in LEGS or branch not in BRANCHES:
