@@ -284,7 +284,7 @@ def test_pressure_less_point_is_compared_at_equal_coverage(amount, expected):
     assert r_c[0] == pytest.approx(expected, abs=1e-12)
 
 
-def test_a_fit_with_no_more_points_than_parameters_is_refused_at_once():
+def test_a_fit_with_fewer_points_than_parameters_is_refused_at_once():
     # a χ² fit needs more points than free parameters (common practice, no source): refused before any search
     from porefill.physics.fitting.measured import MeasuredRun
     from porefill.physics.fitting.solve import FitRequest
@@ -293,6 +293,6 @@ def test_a_fit_with_no_more_points_than_parameters_is_refused_at_once():
     run = MeasuredRun(name="two rows", source="ragged.csv", leg="adsorption", temperature_k=77.35,
                       pressure_unit="p/p0", amount_unit="mmol/g", pressure=np.array([0.1, 0.2]),
                       amount=np.array([1.0, 2.0]), rows=np.array([2, 3]))
-    with pytest.raises(ValueError, match="2 usable points, not more than the 3 free parameters"):
+    with pytest.raises(ValueError, match="2 usable points, fewer than the 3 free parameters"):
         FitRequest(Scenario(shape="cylinder", size_angstrom=25.0, adsorbate="nitrogen", temperature_k=77.35),
                    (run,), free=("wall-strength", "size", "pore-volume"))

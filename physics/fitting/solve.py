@@ -113,11 +113,11 @@ class FitRequest:
                                                             else self.free)))
         object.__setattr__(self, "free", free)
         points = sum(int(np.isfinite(r.amount).sum()) for r in runs)
-        if points <= len(free):
-            raise ValueError(f"the measured runs hold {points} usable point{'s' if points != 1 else ''}, not more "
-                             f"than the {len(free)} free parameter{'s' if len(free) != 1 else ''} "
-                             f"({', '.join(free)}): a fit needs more points than parameters (check the file's "
-                             "columns and decimal marks, or free fewer parameters)")
+        if points < len(free):           # as many as parameters still fits, with a warning that errors are undefined
+            raise ValueError(f"the measured runs hold {points} usable point{'s' if points != 1 else ''}, fewer "
+                             f"than the {len(free)} free parameters ({', '.join(free)}): a fit needs at least as "
+                             "many points as parameters (check the file's columns and decimal marks, or free "
+                             "fewer parameters)")
         branches = {**measured_branches(self.scenario.pore_ends), **dict(self.branches)}
         for leg, branch in branches.items():
             if leg not in LEGS or branch not in BRANCHES:
