@@ -62,7 +62,8 @@ def calibration(iso: Isotherm) -> list[dict]:
     sc = s.scenario
     rule = None if sc.bond_energy_k is not None else (sc.bond_calibration or default_bond_rule(sc.adsorbate))
     return calibration_facts(adsorbate=sc.adsorbate, temperature_k=sc.temperature_k, bond_k=s.bond_k, rule=rule,
-                             cell_volume_angstrom3=s.lattice.cell_volume_angstrom3)
+                             cell_volume_angstrom3=s.lattice.cell_volume_angstrom3,
+                             atom_volume_angstrom3=s.lattice.atom_volume_angstrom3)
 
 
 def calibration_note(iso: Isotherm) -> str:

@@ -62,7 +62,8 @@ def bond_energy(rule: str, *, adsorbate: str, temperature_k: float, cell_volume_
 
 
 def calibration_facts(*, adsorbate: str, temperature_k: float, bond_k: float, rule: str | None,
-                      cell_volume_angstrom3: float, coordination: int = COORDINATION) -> list[dict]:
+                      cell_volume_angstrom3: float, atom_volume_angstrom3: float | None = None,
+                      coordination: int = COORDINATION) -> list[dict]:
     """Which bulk facts the lattice fluid keeps at this temperature and by how much it misses the others.
 
     One dict per fact: ``fact``, ``kept`` (True when the calibration holds it by construction), ``model``,
@@ -87,7 +88,8 @@ def calibration_facts(*, adsorbate: str, temperature_k: float, bond_k: float, ru
          "reference": tc_real, "unit": "K", "source": "CoolProp critical constants",
          "miss": tc_model / tc_real - 1.0},
     ]
-    liquid = 1.0 / cell_volume_angstrom3
+    # the lattice liquid: one atom per atom volume (the cell volume, except the slit's per-row sites)
+    liquid = 1.0 / (atom_volume_angstrom3 if atom_volume_angstrom3 is not None else cell_volume_angstrom3)
     if adsorbate == "helium-4":
         ref, source = liquid_number_density(adsorbate)
     else:

@@ -67,7 +67,17 @@ class SiteLattice:
 
     @property
     def cell_volume_angstrom3(self) -> float:
+        """Cell area × axial spacing: the volume of one site in the lattice gas's own units (the bond rules'
+        v; for the slit a site is per Å of x, see ``cell_area_angstrom2``)."""
         return self.cell_area_angstrom2 * self.spacing_angstrom
+
+    @property
+    def atom_volume_angstrom3(self) -> float:
+        """Volume one atom of the full lattice stands for, Å³ (its liquid density is the inverse): the cell
+        volume, and for the slit, whose site stands for a whole row along x with atoms at the lattice spacing
+        (`slit_row_sites`), that volume times the spacing."""
+        volume = self.cell_volume_angstrom3
+        return volume * self.spacing_angstrom if self.shape == "slit" else volume
 
     def label(self, i: int) -> str:
         k = self.kind[i]
