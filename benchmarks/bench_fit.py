@@ -21,6 +21,9 @@ from porefill.physics.scenario import Scenario  # noqa: E402
 
 
 def main() -> None:
+    from porefill.physics.pore import compiled
+
+    compiled.enable()          # as the dashboard's workers, fits and sweeps run (POREFILL_NUMBA=0: the numpy path)
     parser = argparse.ArgumentParser()
     parser.add_argument("--site-model", default="classical")
     args = parser.parse_args()

@@ -26,6 +26,9 @@ def time_isotherm(side: float, reps: int) -> list[float]:
 
 
 def main() -> None:
+    from porefill.physics.pore import compiled
+
+    compiled.enable()          # as the dashboard's workers, fits and sweeps run (POREFILL_NUMBA=0: the numpy path)
     compute_isotherm(Scenario(size_angstrom=10.0, wall_angstrom=8.0, site_model="classical"), n_points=30)   # imports, caches
     for side, reps in ((15.0, 10), (50.0, 5), (100.0, 3)):
         t = time_isotherm(side, reps)

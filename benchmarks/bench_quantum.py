@@ -15,6 +15,9 @@ from porefill.physics.scenario import Scenario
 
 
 def main() -> None:
+    from porefill.physics.pore import compiled
+
+    compiled.enable()          # as the dashboard's workers, fits and sweeps run (POREFILL_NUMBA=0: the numpy path)
     cold, warm, warmer = [], [], []
     for i in range(3):
         sc = Scenario(size_angstrom=15.0 + 0.01 * i, wall_angstrom=8.0, temperature_k=1.5, site_model="quantum")

@@ -35,6 +35,9 @@ def _states(side: float) -> float:
 
 def _worker(args) -> float:
     kind, side, one_thread = args
+    from porefill.physics.pore import compiled
+
+    compiled.enable()
     if one_thread:
         from porefill.explorer.jobs.threads import one_blas_thread
         one_blas_thread()

@@ -118,6 +118,9 @@ def test_compiled_descent_matches_the_python_reference(seed, monkeypatch):
     from porefill.physics.lattice_gas import compiled
     from porefill.physics.lattice_gas.meanfield import MeanFieldProblem, solve_state
 
+    from porefill.physics.pore import compiled as kernels
+
+    monkeypatch.setattr(kernels, "_enabled", True)
     if not compiled.available():
         pytest.skip("numba is not installed here: only the Python path exists")
     rng = np.random.default_rng(seed)

@@ -188,6 +188,9 @@ def _table(data: dict) -> str:
 
 def _cmd_fit(args) -> int:
     from porefill.physics.fitting.solve import fit
+    from porefill.physics.pore import compiled
+
+    compiled.enable()          # hundreds of isotherms: loading the compiled kernels pays
 
     csv_path = output_place(args, "csv", "--csv", inputs=args.files)
     runs, notes = _read_runs(args)

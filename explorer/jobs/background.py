@@ -50,8 +50,10 @@ def start_worker(*, nice: int = 5, ignore_interrupt: bool = False) -> None:
     threading.Thread(target=_exit_with_parent, args=(os.getppid(),), daemon=True,
                      name="porefill-parent-watch").start()
     from porefill.explorer.jobs.threads import one_blas_thread
+    from porefill.physics.pore import compiled
 
     one_blas_thread()
+    compiled.enable()          # a worker lives long enough to repay loading the compiled kernels
 
 
 def _exit_with_parent(parent: int) -> None:

@@ -27,6 +27,10 @@ def start_server(scenario: Scenario | None, *, address: str, port: int, policy: 
     """
     import panel as pn
 
+    from porefill.physics.pore import compiled
+
+    compiled.enable()          # potential maps run in the server's threads: the compiled edge sum pays here
+
     from porefill.explorer.views.dashboard import create_app
 
     from porefill.explorer.server.session_memory import session_closed, session_opened
