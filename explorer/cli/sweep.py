@@ -133,9 +133,6 @@ def _summary(result, target) -> str:
 
 
 def _cmd_sweep(args) -> int:
-    from porefill.physics.pore import compiled
-
-    compiled.enable()          # many isotherms (here with --workers 1, in the workers otherwise)
     from porefill.explorer.outputs.sweep_export import sweep_csv, sweep_json
     from porefill.explorer.jobs.sweep_runner import ClusterError, SweepRunner
 

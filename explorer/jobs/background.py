@@ -23,7 +23,7 @@ import queue as queue_module
 import threading
 import time
 from concurrent.futures import Executor, Future
-from typing import Any, Callable
+from typing import Callable
 
 __all__ = ["start_worker", "Cancelled", "Job", "PoolJob", "ProcessJob", "ThreadJob", "time_limit_text", "error_text"]
 

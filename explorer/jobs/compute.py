@@ -25,7 +25,7 @@ import panel as pn
 from panel.io.state import set_curdoc
 
 from porefill.physics.choices import DEFAULT_POINTS
-from porefill.explorer.jobs.background import PoolJob, start_worker
+from porefill.explorer.jobs.background import PoolJob, start_worker, time_limit_text
 from porefill.physics.caching import memoize
 
 __all__ = ["TIME_LIMIT_S", "LatestRunner", "on_session", "isotherm_pool", "map_pool", "retire_pools", "temperature_window", "short_error"]
@@ -133,8 +133,9 @@ def temperature_window(adsorbate: str) -> tuple[float, float, float]:
 def short_error(exc: BaseException) -> str:
     """One line for the page: a user-facing ValueError says what is wrong; anything else says only that
     it failed (the server log keeps the traceback)."""
-    if isinstance(exc, TimeoutError):
-        return f"this took longer than {TIME_LIMIT_S:g} s and was given up; try a smaller pore"
+    if isinstance(exc, TimeoutError):        # carries the limit that was passed (a view may have its own)
+        limit = exc.args[0] if exc.args and isinstance(exc.args[0], (int, float)) else TIME_LIMIT_S
+        return time_limit_text(limit)
     if isinstance(exc, ValueError):
         text = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
         return text[:300]

@@ -19,7 +19,6 @@ This module imports no GUI, so command-line sweeps and Dask workers stay light.
 """
 from __future__ import annotations
 
-import math
 import multiprocessing
 import os
 import threading
@@ -219,6 +218,9 @@ class SweepRunner:
         """Every pore of ``spec``; ``progress(done, total)`` after each (and once at the start, with the
         cached ones counted); ``stop`` a `threading.Event` or a callable returning True to stop."""
         start = time.perf_counter()
+        from porefill.physics.pore import compiled
+
+        compiled.enable()      # as in the workers: a sweep gives the same numbers wherever its pores run
         scenarios = spec.scenarios()
         n = spec.n_points
         points: list = [self.cache.get(sc, n) for sc in scenarios]

@@ -8,14 +8,13 @@ edges with no temporaries (`_edge_kernel`). Results agree with the numpy path to
 
 Importing numba and loading a compiled kernel costs about half a second, which a long-lived process repays
 many times and a one-shot command does not. So the compiled kernels are used once `enable` was called (every
-worker process does at start, and the server, `porefill fit` and `porefill sweep`) or numba is loaded anyway;
-the numpy path is the reference, used otherwise and always with ``POREFILL_NUMBA=0``.
+worker process does at start, and the server, `porefill fit` and every sweep, in workers or not); the numpy
+path is the reference, used otherwise and always with ``POREFILL_NUMBA=0``.
 """
 from __future__ import annotations
 
 import importlib.util
 import os
-import sys
 
 import numpy as np
 
@@ -34,7 +33,7 @@ def available() -> bool:
     """Whether the compiled kernels are in use here (module docstring)."""
     if os.environ.get("POREFILL_NUMBA", "1") == "0":
         return False
-    if not (_enabled or "numba" in sys.modules):
+    if not _enabled:              # a process's choice, never its import history: results must not depend on it
         return False
     return importlib.util.find_spec("numba") is not None
 
