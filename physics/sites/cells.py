@@ -134,6 +134,10 @@ def _adaptive(evaluate, extents: np.ndarray, dim: int, temperatures: np.ndarray,
     kt = temperatures[:, None, None]
     v, w = boxes(piece, lower, size)
     done_p, done_w, done_v = [], [], []
+    # the accepted boxes' integrals, kept as ln Σ w e^{−V/kT} per (temperature, piece), and their lowest V:
+    # each accepted box is integrated once, not again at every later level
+    done_log = np.full((n_t, n_pieces), -np.inf)
+    done_min = np.full(n_pieces, np.inf)
     for level in range(dim * _MAX_LEVEL + 1):
         if not piece.size:
             break
@@ -145,9 +149,9 @@ def _adaptive(evaluate, extents: np.ndarray, dim: int, temperatures: np.ndarray,
             upper[:, d] += half[:, d]
             cv, cw = boxes(np.concatenate([piece, piece]), np.vstack([lower, upper]), np.vstack([half, half]))
             halves.append((np.vstack([lower, upper]), np.vstack([half, half]), cv, cw))
-        ref = np.full(n_pieces, np.inf)
-        for vv, pp in [(h[2], np.concatenate([piece, piece])) for h in halves] + list(zip(done_v, done_p)):
-            np.minimum.at(ref, pp, np.where(np.isfinite(vv), vv, np.inf).min(axis=1))
+        ref = done_min.copy()
+        for vv in (h[2] for h in halves):
+            np.minimum.at(ref, np.concatenate([piece, piece]), np.where(np.isfinite(vv), vv, np.inf).min(axis=1))
         ref = np.where(np.isfinite(ref), ref, 0.0)
 
         def integral(vv, ww, pp):      # (T, boxes)
@@ -163,10 +167,10 @@ def _adaptive(evaluate, extents: np.ndarray, dim: int, temperatures: np.ndarray,
         total = np.zeros((n_t, n_pieces))
         best = np.argmin(err.max(axis=1), axis=0)                                # (K,)
         best_children = children[best, :, np.arange(k)].T                      # (T, K)
+        with np.errstate(over="ignore"):
+            done = np.exp(done_log + ref[None, :] / kt[:, :, 0])                # accepted boxes, same frame
         for t in range(n_t):
-            total[t] = np.bincount(piece, best_children[t], minlength=n_pieces)
-            for dp, dv, dw in zip(done_p, done_v, done_w):
-                total[t] += np.bincount(dp, integral(dv, dw, dp)[t], minlength=n_pieces)
+            total[t] = np.bincount(piece, best_children[t], minlength=n_pieces) + done[t]
         budget = rtol[:, None] * total[:, piece] * np.prod(size, axis=1)[None, :] + 1e-300
         ratio = (err / budget[None]).max(axis=1)                                # (dim, K)
         ok = (ratio.max(axis=0) <= 1.0) | (level >= dim * _MAX_LEVEL)
@@ -178,9 +182,11 @@ def _adaptive(evaluate, extents: np.ndarray, dim: int, temperatures: np.ndarray,
                 if not np.any(sel):
                     continue
                 if store:
-                    done_p.append(np.concatenate([piece, piece])[sel])
-                    done_v.append(cv[sel])
-                    done_w.append(cw[sel])
+                    dp, dv, dw = np.concatenate([piece, piece])[sel], cv[sel], cw[sel]
+                    done_p.append(dp)
+                    done_v.append(dv)
+                    done_w.append(dw)
+                    _accumulate(done_log, done_min, dp, dv, dw, kt[:, :, 0])
                 else:
                     nxt_p.append(np.concatenate([piece, piece])[sel])
                     nxt_lower.append(c_lower[sel])
@@ -194,6 +200,22 @@ def _adaptive(evaluate, extents: np.ndarray, dim: int, temperatures: np.ndarray,
     q = len(gw)
     return (np.concatenate([np.repeat(p, q) for p in done_p]), np.concatenate([x.ravel() for x in done_w]),
             np.concatenate([x.ravel() for x in done_v]))
+
+
+def _accumulate(done_log: np.ndarray, done_min: np.ndarray, piece: np.ndarray, v: np.ndarray, w: np.ndarray,
+                kt: np.ndarray) -> None:
+    """Add accepted boxes (piece (B,), V and weights (B, q)) to ``done_log`` (T, pieces) = ln Σ w e^{−V/kT},
+    in place, each piece's sum taken relative to its own lowest V (no overflow), and lower ``done_min``."""
+    finite = np.isfinite(v)
+    low = np.full(done_min.size, np.inf)
+    np.minimum.at(low, piece, np.where(finite, v, np.inf).min(axis=1))
+    np.minimum(done_min, low, out=done_min)
+    low = np.where(np.isfinite(low), low, 0.0)
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        for t in range(kt.shape[0]):
+            e = np.where(finite, w * np.exp(-(v - low[piece][:, None]) / kt[t, 0]), 0.0).sum(axis=1)
+            s = np.bincount(piece, e, minlength=done_min.size)
+            done_log[t] = np.logaddexp(done_log[t], np.log(s) - low / kt[t, 0])
 
 
 def _hexagon_pieces(pore, placement: Placement) -> np.ndarray:
