@@ -87,3 +87,18 @@ def page(browser, served_app):
     pg.goto(served_app, timeout=90_000)
     yield pg
     context.close()
+
+
+@pytest.fixture
+def smooth_wall(monkeypatch):
+    """Nitrogen and argon on the smooth continuum wall: their spread of site energies
+    (`porefill.physics.substances.materials.WALL_SPREADS`) removed for one test, caches cleared around it."""
+    from porefill.physics.caching import clear_caches
+    from porefill.physics.substances import materials
+
+    for key in list(materials.WALL_SPREADS):
+        monkeypatch.delitem(materials.WALL_SPREADS, key)
+    clear_caches()
+    yield
+    monkeypatch.undo()
+    clear_caches()

@@ -21,6 +21,12 @@ def test_open_pores_desorb_at_equilibrium_and_closed_ones_have_no_loop():
     # common practice, no source: open ends empty by a receding meniscus (equilibrium); a closed end holds a
     # hemispherical meniscus, so filling and emptying are both at equilibrium (Cohan 1938)
     assert measured_branches("open") == {"adsorption": "adsorption", "desorption": "equilibrium"}
+    assert measured_branches("open", "helium-4") == {"adsorption": "adsorption", "desorption": "equilibrium"}
+    # nitrogen and argon at their boiling points fill open pores at the equilibrium transition: the KJS relation
+    # (Kruk, Jaroniec & Sayari 1997), calibrated on MCM-41 adsorption branches, is what it reproduces
+    # (tests/test_wall_spread.py)
+    for gas in ("nitrogen", "argon"):
+        assert measured_branches("open", gas) == {"adsorption": "equilibrium", "desorption": "equilibrium"}
     assert measured_branches("closed-end") == {"adsorption": "equilibrium", "desorption": "equilibrium"}
     assert measured_branches("infinite") == {"adsorption": "adsorption", "desorption": "desorption"}
     with pytest.raises(ValueError, match="pore_ends"):

@@ -10,6 +10,7 @@ import math
 
 import numpy as np
 
+from porefill.physics.lattice_gas.wall_spread import spread_description
 from porefill.physics.lattice_gas.adsorption import Isotherm
 from porefill.physics.lattice_gas.bond import calibration_facts, default_bond_rule
 from porefill.physics.lattice_gas.branches import branch_notes, measured_branches
@@ -48,10 +49,11 @@ def model_description(iso: Isotherm) -> dict:
         "lattice_spacing_rule": s.spacing_note,
         "sites_per_slice": float(s.problem.weights.sum()),
         "pair": s.geometry.pair.to_dict(),
+        "wall_spread": spread_description(sc.adsorbate, sc.solid),
         "pressure_mapping": "p = p0(T) exp[(mu - mu_coex)/kT], mu_coex = -z eps_b / 2, z = 8",
         "calibration": calibration(iso),
         "pore_ends": sc.pore_ends,
-        "measured_branches": measured_branches(sc.pore_ends),
+        "measured_branches": measured_branches(sc.pore_ends, sc.adsorbate),
         "branch_notes": branch_notes(iso),
     }
 

@@ -29,10 +29,14 @@ the origin, one corner of the hexagon on the +x axis.
 
 The adsorbate–solid pair parameters come from a published pair where one is known (argon, nitrogen); otherwise
 they are **derived** with the Lorentz–Berthelot rules, and the page says so. Nitrogen's published ε carries one
-wall-strength factor (1.08) for this lattice, calibrated once against the Kelvin equation with a statistical film
-(Kruk, Jaroniec & Sayari 1997) in 3–8 nm silica cylinders at 77.35 K and then held fixed for every size and
-temperature: nitrogen gives a type IV isotherm with a monolayer by p/p₀ 0.2 and condensation within 0.02 of that
-relation at 4–8 nm (0.15 against 0.21 at 3 nm). Fits to measured isotherms are where such parameters get pinned.
+wall-strength factor (1.08) and argon's another (1.45) for this lattice, calibrated once against the Kelvin equation
+with a statistical film (Kruk, Jaroniec & Sayari 1997) in 3–8 nm silica cylinders and then held fixed for every size
+and temperature. Real silica is rough and carries silanol groups, so on silica nitrogen and argon also get a
+**spread of site energies** on the three rows next to the wall (Gaussian, wider and deeper at contact; calibrated
+once against the KJS film and the BET C of silicas): their first layer forms continuously with a knee, as a
+sample's does, and open pores fill at the equilibrium transition, where KJS puts measured adsorption (condensation
+within 0.03 of it at 3.4–7.4 nm; hysteresis loops of wide pores are not predicted). Helium, hydrogen and neon keep
+the smooth wall. Fits to measured isotherms are where such parameters get pinned.
 
 ### The adsorption model
 

@@ -118,7 +118,7 @@ class FitRequest:
                              f"than the {len(free)} free parameters ({', '.join(free)}): a fit needs at least as "
                              "many points as parameters (check the file's columns and decimal marks, or free "
                              "fewer parameters)")
-        branches = {**measured_branches(self.scenario.pore_ends), **dict(self.branches)}
+        branches = {**measured_branches(self.scenario.pore_ends, self.scenario.adsorbate), **dict(self.branches)}
         for leg, branch in branches.items():
             if leg not in LEGS or branch not in BRANCHES:
                 raise ValueError(f"branches maps a leg ({', '.join(LEGS)}) to a branch ({', '.join(BRANCHES)}); "

@@ -16,7 +16,6 @@ import numpy as np
 
 from porefill.physics.choices import DEFAULT_POINTS
 from porefill.physics.limits import check_points, check_pressure_range
-from scipy.special import expit
 
 from porefill.physics.lattice_gas.meanfield import Branch, solve_branch, solve_state
 from porefill.physics.scenario import Scenario
@@ -67,7 +66,7 @@ class Isotherm:
         """The branch ('adsorption', 'desorption' or 'equilibrium') a measured ``leg`` follows, by the
         scenario's pore ends (`porefill.physics.lattice_gas.branches`)."""
         from porefill.physics.lattice_gas.branches import measured_branches
-        return measured_branches(self.stage.scenario.pore_ends)[leg]
+        return measured_branches(self.stage.scenario.pore_ends, self.stage.scenario.adsorbate)[leg]
 
     def _occupancy(self, branch) -> np.ndarray:
         return self.branch(branch) if isinstance(branch, str) else branch.occupancy
@@ -159,15 +158,16 @@ def equilibrium_transition(problem, mu_low: float, x_low: np.ndarray, mu_high: f
     w = problem.weights
     lo, hi = float(mu_low), float(mu_high)
     xl, xh = np.array(x_low, float), np.array(x_high, float)
-    n_gap = float(w @ (expit(xh) - expit(xl)))
+    occ = problem.occupancy
+    n_gap = float(w @ (occ(xh) - occ(xl)))
     merged = 1e-3 * max(n_gap, 1e-12)
     while hi - lo > tol_k:
         mid = 0.5 * (lo + hi)
         yl, _, _, om_l = solve_state(xl, mid, problem)
         yh, _, _, om_h = solve_state(xh, mid, problem)
-        n_l, n_h = float(w @ expit(yl)), float(w @ expit(yh))
+        n_l, n_h = float(w @ occ(yl)), float(w @ occ(yh))
         if n_h - n_l < merged:         # one state slid onto the other: which one tells the side
-            if abs(n_l - float(w @ expit(xl))) > abs(n_h - float(w @ expit(xh))):
+            if abs(n_l - float(w @ occ(xl))) > abs(n_h - float(w @ occ(xh))):
                 hi, xh = mid, yh       # the low state jumped up: the crossing lies below
             else:
                 lo, xl = mid, yl       # the high state fell: the crossing lies above
@@ -179,7 +179,7 @@ def equilibrium_transition(problem, mu_low: float, x_low: np.ndarray, mu_high: f
     mid = 0.5 * (lo + hi)
     yl = solve_state(xl, mid, problem)[0]
     yh = solve_state(xh, mid, problem)[0]
-    rise = expit(yh) - expit(yl)
+    rise = occ(yh) - occ(yl)
     return mid, float(w @ rise), rise
 
 
@@ -192,8 +192,7 @@ def _equilibrium_logits(ads: Branch, des: Branch) -> np.ndarray:
 def compressibility(problem, x: np.ndarray, solve) -> float:
     """dN/dμ (sites per K) of a solved state: n_i(1−n_i) (J⁻¹·1)_i summed with the orbit weights, J the
     Jacobian of the mean-field equations at the state (``solve`` applies J⁻¹, from `solve_state`)."""
-    n = expit(x)
-    return float(problem.weights @ (n * (1.0 - n) * solve(np.ones_like(x))))
+    return float(problem.weights @ (problem.occupancy_slope(x) * solve(np.ones_like(x))))
 
 
 def compressibility_peak(problem, mu: np.ndarray, logits: np.ndarray, k0: int, k1: int, *,
@@ -263,7 +262,7 @@ def compute_isotherm(scenario: Scenario, *, n_points: int = DEFAULT_POINTS, mu_r
     ads = solve_branch(mu, p, (mu[0] - p.site_free_energy) / p.temperature_k)
     start_full = (mu[-1] - p.site_free_energy + p.bond_k * max_bonds) / p.temperature_k
     des_rev = solve_branch(mu[::-1], p, np.maximum(start_full, 30.0))
-    des = Branch(mu, des_rev.logits[::-1], des_rev.grand_potential[::-1], des_rev.converged[::-1])
+    des = Branch(mu, des_rev.logits[::-1], des_rev.grand_potential[::-1], des_rev.converged[::-1], p)
     labels = stage.orbit_labels()
     basis = AmountBasis.of(stage.geometry.pore, scenario.pore_volume_cm3_g)
     per_site = float(from_atoms_per_angstrom(_atoms_per_angstrom_per_site(stage), "per nm", basis))

@@ -22,7 +22,6 @@ from dataclasses import dataclass
 
 import numpy as np
 from scipy.spatial import cKDTree
-from scipy.special import expit
 
 __all__ = ["SiteEnergies", "site_energies", "IsothermEnergies", "isotherm_energies"]
 
@@ -115,13 +114,16 @@ def isotherm_energies(iso, branch: str = "equilibrium") -> IsothermEnergies:
     stage, p = iso.stage, iso.stage.problem
     sites = site_energies(stage)
     rep = stage.representative
-    n = expit(_branch_logits(iso, branch))                          # (M, orbits)
+    x = _branch_logits(iso, branch)
+    n = p.occupancy(x)                                              # (M, orbits)
     w = p.weights
     atoms = n @ w
     coupling = p.neighbours
     bonds = np.asarray((coupling @ n.T).T)                          # (B n)_o at every μ
     with np.errstate(invalid="ignore", divide="ignore"):
         wall = (n * sites.potential_k[rep]) @ w / atoms
+        if p.spread is not None:                                    # the wall's spread of contact energies
+            wall = wall + p.spread.energy(x, p.temperature_k) @ w / atoms
         kinetic = (n * sites.kinetic_k[rep]) @ w / atoms
         fluid = -0.5 * p.bond_k * ((n * bonds) @ w) / atoms
     return IsothermEnergies(np.asarray(iso.mu), branch, atoms, wall, kinetic, fluid)

@@ -14,7 +14,6 @@ the grid point before it, stays there; a steep but continuous rise is left as it
 from __future__ import annotations
 
 import numpy as np
-from scipy.special import expit
 
 from porefill.physics.lattice_gas.meanfield import solve_state
 
@@ -35,7 +34,7 @@ def _jump_intervals(total: np.ndarray, min_jump: float) -> np.ndarray:
 def _refine(problem, mu, logits, k: int, rising: bool, bisections: int):
     """(μ_jump, amount before, amount after) in sites per slice, or None if interval k is no jump."""
     w = problem.weights
-    total = lambda x: float(w @ expit(x))          # noqa: E731 - sites per slice of a state
+    total = lambda x: float(w @ problem.occupancy(x))          # noqa: E731 - sites per slice of a state
     n_lo, n_hi = total(logits[k]), total(logits[k + 1])
     half = 0.5 * (n_hi - n_lo)
     # bistable at the near end: the far state holds there

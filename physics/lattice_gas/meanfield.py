@@ -26,7 +26,7 @@ from scipy.special import expit
 
 from porefill.physics.lattice_gas import compiled
 
-__all__ = ["grand_potential", "solve_state", "solve_branch", "Branch", "MeanFieldProblem"]
+__all__ = ["grand_potential", "solve_state", "solve_branch", "Branch", "MeanFieldProblem", "SiteSpread"]
 
 _DENSE_MAX_SITES = 160
 _TOLERANCE_K = 1e-10
@@ -45,10 +45,14 @@ class MeanFieldProblem:
     bond_k: float
     temperature_k: float
     weights: np.ndarray | None = None
+    spread: "SiteSpread | None" = None
 
     def __post_init__(self) -> None:
         if self.weights is None:
             object.__setattr__(self, "weights", np.ones(self.site_free_energy.size))
+        if self.spread is not None and self.spread.orbits.shape != self.site_free_energy.shape:
+            raise ValueError(f"site spread marks {self.spread.orbits.size} sites; the problem has "
+                             f"{self.site_free_energy.size}")
         f = self.site_free_energy
         if not np.all(np.isfinite(f)):
             raise ValueError("site free energies must be finite (drop sites that cannot fill)")
@@ -60,6 +64,65 @@ class MeanFieldProblem:
             raise ValueError(f"bond energy must be >= 0 K, got {self.bond_k!r}")
 
 
+    def occupancy(self, x) -> np.ndarray:
+        """Mean occupancy n̄ of each site (…, N) from its logits x: expit(x), or on sites with a spread of
+        free energies Σ_k p_k expit(x − δ_k/kT)."""
+        return expit(x) if self.spread is None else self.spread.occupancy(x, self.temperature_k)
+
+    def occupancy_slope(self, x) -> np.ndarray:
+        """dn̄/dx of each site: n(1−n), or Σ_k p_k n_k(1−n_k) on sites with a spread."""
+        if self.spread is None:
+            n = expit(x)
+            return n * (1.0 - n)
+        return self.spread.slope(x, self.temperature_k)
+
+
+@dataclass(frozen=True, eq=False)
+class SiteSpread:
+    """A spread of free energies on some sites (the energetic heterogeneity of a real wall): each marked site
+    stands for a mixture of sub-sites, a fraction p_k of them with free energy f_i + δ_k (K), all feeling
+    the same mean field (random mixing, Bragg–Williams). A marked site's logit x is that of a sub-site with
+    δ = 0; sub-site k then has logit x − δ_k/kT and the site's mean occupancy is n̄ = Σ_k p_k expit(x − δ_k/kT).
+
+    The stationary condition keeps its form, kT x + f − μ − ε_b (A n̄) = 0, because every sub-site obeys
+    kT x_k + f + δ_k − μ − ε_b (A n̄) = 0; a marked site's share of Ω is Σ_k p_k [kT s(n_k) + δ_k n_k] +
+    (f − μ) n̄ with s the mixing entropy, and the Jacobian's diagonal factor is dn̄/dx = Σ_k p_k n_k(1 − n_k).
+    """
+
+    shift_k: np.ndarray          # (K,) δ_k, K
+    fraction: np.ndarray         # (K,) p_k, summing to 1
+    orbits: np.ndarray           # (N,) bool, the sites that carry the spread
+
+    def _logits(self, x, kt: float) -> np.ndarray:
+        return np.asarray(x, float)[..., None] - self.shift_k / kt          # (…, N, K)
+
+    def occupancy(self, x, kt: float) -> np.ndarray:
+        n = expit(np.asarray(x, float))
+        mixed = expit(self._logits(x, kt)) @ self.fraction
+        return np.where(self.orbits, mixed, n)
+
+    def slope(self, x, kt: float) -> np.ndarray:
+        n = expit(np.asarray(x, float))
+        nk = expit(self._logits(x, kt))
+        return np.where(self.orbits, (nk * (1.0 - nk)) @ self.fraction, n * (1.0 - n))
+
+    def ideal_terms(self, x, kt: float) -> tuple[np.ndarray, np.ndarray]:
+        """Per site kT s(n) (+ Σ p_k δ_k n_k on marked sites) and a scale for its rounding."""
+        x = np.asarray(x, float)
+        n = expit(x)
+        plain = kt * (n * x - np.logaddexp(0.0, x))
+        xk = self._logits(x, kt)
+        nk = expit(xk)
+        mixed = (kt * (nk * xk - np.logaddexp(0.0, xk)) + self.shift_k * nk) @ self.fraction
+        scale = (kt * np.abs(nk * xk - np.logaddexp(0.0, xk)) + np.abs(self.shift_k) * nk) @ self.fraction
+        return np.where(self.orbits, mixed, plain), np.where(self.orbits, scale, np.abs(plain))
+
+    def energy(self, x, kt: float) -> np.ndarray:
+        """Σ_k p_k δ_k n_k per site (K; 0 on unmarked sites): the spread's share of the site energy."""
+        nk = expit(self._logits(x, kt))
+        return np.where(self.orbits, (nk * self.shift_k) @ self.fraction, 0.0)
+
+
 def grand_potential(x: np.ndarray, mu: float, problem: MeanFieldProblem) -> float:
     """Ω (K) of the state with logits x at chemical potential μ (K)."""
     return _evaluate(x, mu, problem)[0]
@@ -67,14 +130,19 @@ def grand_potential(x: np.ndarray, mu: float, problem: MeanFieldProblem) -> floa
 
 def _evaluate(x, mu, p: MeanFieldProblem):
     """Ω, the size of its rounding error, the residual G = ∂Ω/∂n (per site) and n, in one pass."""
-    n = expit(x)
     a = _dense_neighbours(p)
+    if p.spread is None:
+        n = expit(x)
+        ideal = p.temperature_k * (n * x - np.logaddexp(0.0, x))   # kT[n ln n + (1−n) ln(1−n)], never forming 1 − n
+        ideal_scale = np.abs(ideal)
+    else:
+        n = p.spread.occupancy(x, p.temperature_k)
+        ideal, ideal_scale = p.spread.ideal_terms(x, p.temperature_k)
     an = (a if a is not None else p.neighbours) @ n
-    entropy = n * x - np.logaddexp(0.0, x)          # n ln n + (1−n) ln(1−n), never forming 1 − n
     bonds = 0.5 * p.bond_k * an * n
     shifted = (p.site_free_energy - mu) * n
-    omega = float(p.weights @ (p.temperature_k * entropy + shifted - bonds))
-    scale = float(p.weights @ (p.temperature_k * np.abs(entropy) + np.abs(shifted) + bonds)) + 1.0
+    omega = float(p.weights @ (ideal + shifted - bonds))
+    scale = float(p.weights @ (ideal_scale + np.abs(shifted) + bonds)) + 1.0
     residual = p.temperature_k * x + p.site_free_energy - mu - p.bond_k * an
     return omega, 1e-13 * scale, residual, n
 
@@ -136,7 +204,7 @@ def solve_state(x0: np.ndarray, mu: float, problem: MeanFieldProblem, *, max_ite
     omega : float, Ω at the state (K)
     """
     a_dense = _dense_neighbours(problem)
-    if a_dense is not None and compiled.available():
+    if a_dense is not None and compiled.available() and problem.spread is None:
         return compiled.solve_state_dense(x0, mu, problem, a_dense, max_iter=max_iter, tol=tol)
     x = np.array(x0, float)
     damping = 0.0
@@ -146,9 +214,9 @@ def solve_state(x0: np.ndarray, mu: float, problem: MeanFieldProblem, *, max_ite
         gmax = np.max(np.abs(g)) if g.size else 0.0
         if gmax < tol:
             if solve is None or damping > 0:
-                solve = _factor(problem, a_dense, n * (1.0 - n), 0.0)
+                solve = _factor(problem, a_dense, problem.occupancy_slope(x), 0.0)
             return x, True, solve, omega
-        d = n * (1.0 - n)
+        d = problem.occupancy_slope(x)
         accepted = False
         while not accepted:
             try:
@@ -190,10 +258,11 @@ class Branch:
     logits: np.ndarray
     grand_potential: np.ndarray
     converged: np.ndarray
+    problem: MeanFieldProblem | None = None     # how logits become occupancies (None: expit)
 
     @property
     def occupancy(self) -> np.ndarray:
-        return expit(self.logits)
+        return expit(self.logits) if self.problem is None else self.problem.occupancy(self.logits)
 
     @property
     def total(self) -> np.ndarray:
@@ -215,4 +284,4 @@ def solve_branch(mu: np.ndarray, problem: MeanFieldProblem, x_start: np.ndarray)
             x = x + solve(np.full(n_sites, m - mu[k - 1]))   # tangent predictor: J dx = dμ·1
         x, ok[k], solve, omega[k] = solve_state(x, m, problem)
         logits[k] = x
-    return Branch(mu, logits, omega, ok)
+    return Branch(mu, logits, omega, ok, problem)

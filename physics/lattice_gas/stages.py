@@ -23,6 +23,7 @@ from porefill.physics.sites.lattice import (COORDINATION, SiteLattice, default_s
                       symmetry_orbits)
 from porefill.physics.substances.materials import Adsorbate, PairParameters, get_adsorbate
 from porefill.physics.lattice_gas.meanfield import MeanFieldProblem
+from porefill.physics.lattice_gas.wall_spread import wall_spread
 from porefill.physics.scenario import Scenario
 from porefill.physics.sites.site_models import site_model
 from porefill.physics.sites.placement import first_row_distance, place_sites
@@ -181,5 +182,6 @@ def thermal_stage(scenario: Scenario, *, mu_max: float | None = None) -> Thermal
     f_red = np.zeros(weights.size)
     np.add.at(f_red, orbit, f)
     f_red /= weights                    # members agree to rounding; average them
-    problem = MeanFieldProblem(f_red, coupling, bond, t, weights)
+    spread = wall_spread(scenario.adsorbate, scenario.solid, lattice.ring[rep])
+    problem = MeanFieldProblem(f_red, coupling, bond, t, weights, spread)
     return ThermalStage(scenario, geo, lattice, f, orbit, rep, problem, float(bond), note, scale)

@@ -35,10 +35,15 @@ def kjs_film_thickness_nm(relative_pressure) -> np.ndarray:
     return 0.1 * (60.65 / (0.03071 - np.log10(x))) ** 0.3968
 
 
-def kjs_condensation_relative_pressure(diameter_nm: float, *, temperature_k: float = 77.35) -> float:
-    """p/p0 at which nitrogen condenses in a cylindrical silica pore of the given diameter (KJS relation)."""
+def kjs_condensation_relative_pressure(diameter_nm: float, *, temperature_k: float = 77.35,
+                                      fluid: str = "Nitrogen") -> float:
+    """p/p0 at which nitrogen condenses in a cylindrical silica pore of the given diameter (KJS relation).
+
+    ``fluid`` (a CoolProp name) swaps in another liquid's γ and V_L with the same film and 0.3 nm correction:
+    for argon at 87 K an estimate, not a published calibration (the statistical films of argon and nitrogen on
+    silica are close in nm; common practice, no source)."""
     radius = 0.5 * diameter_nm
-    length = kelvin_length_nm(temperature_k)
+    length = kelvin_length_nm(temperature_k, fluid)
 
     def excess(x: float) -> float:
         return length / np.log(1.0 / x) + float(kjs_film_thickness_nm(x)) + 0.3 - radius
