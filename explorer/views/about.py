@@ -35,7 +35,7 @@ and temperature. Real silica is rough and carries silanol groups, so on silica n
 **spread of site energies** on the three rows next to the wall (Gaussian, wider and deeper at contact; calibrated
 once against the KJS film and the BET C of silicas): their first layer forms continuously with a knee, as a
 sample's does, and open pores fill at the equilibrium transition, where KJS puts measured adsorption (condensation
-within 0.03 of it at 3.4–7.4 nm; hysteresis loops of wide pores are not predicted). Helium, hydrogen and neon keep
+within 0.04 of it at 3.4–7.4 nm; hysteresis loops of wide pores are not predicted). Helium, hydrogen and neon keep
 the smooth wall. Fits to measured isotherms are where such parameters get pinned.
 
 ### The adsorption model
