@@ -40,10 +40,14 @@ def test_silica_oxygen_density():
 
 
 def test_argon_uses_published_pair():
-    # Talu & Myers, Colloids Surf. A 187-188, 83 (2001): ε = 93.0 K, σ = 3.335 Å (docs/REFERENCES.md §2)
+    # Talu & Myers, Colloids Surf. A 187-188, 83 (2001): ε = 93.0 K, σ = 3.335 Å (docs/REFERENCES.md §2), times
+    # argon's wall-strength factor for porefill's lattice (calibrated, WALL_FACTORS; tests/test_wall_spread.py)
+    from porefill.physics.substances.materials import WALL_FACTORS
+
+    factor = WALL_FACTORS[("argon", "silica")][0]
     p = pair_parameters("argon")
-    assert (p.epsilon_k, p.sigma_angstrom) == (93.0, 3.335)
-    assert p.origin.startswith("published")
+    assert (p.epsilon_k, p.sigma_angstrom) == (pytest.approx(93.0 * factor, rel=1e-12), 3.335)
+    assert p.origin.startswith("published") and "wall-strength factor" in p.origin
 
 
 def test_oxygen_backed_out_and_helium_mixed():
