@@ -111,12 +111,13 @@ class TestRobustness:
             MeanFieldProblem(np.array([0.0, np.inf]), sparse.identity(2, format="csr"), 1.0, 1.0)
 
 
+@pytest.mark.parametrize("with_spread", [False, True])
 @pytest.mark.parametrize("seed", range(6))
-def test_compiled_descent_matches_the_python_reference(seed, monkeypatch):
+def test_compiled_descent_matches_the_python_reference(seed, with_spread, monkeypatch):
     # the same damped Newton written twice (physics/lattice_gas/compiled.py): the same stable state, to the
     # solver's own tolerance (self-consistent solvers ~1e-6 in STYLE.md; here far tighter, 1e-9 in n)
     from porefill.physics.lattice_gas import compiled
-    from porefill.physics.lattice_gas.meanfield import MeanFieldProblem, solve_state
+    from porefill.physics.lattice_gas.meanfield import MeanFieldProblem, SiteSpread, solve_state
 
     from porefill.physics.pore import compiled as kernels
 
@@ -127,14 +128,20 @@ def test_compiled_descent_matches_the_python_reference(seed, monkeypatch):
     a = (rng.random((m, m)) < 0.3).astype(float)
     a = np.triu(a, 1)
     a = a + a.T
-    problem = MeanFieldProblem(rng.normal(-20.0, 8.0, m), a, bond_k=float(rng.uniform(1.0, 6.0)), temperature_k=1.5)
+    spread = None
+    if with_spread:     # a Gaussian spread of site free energies on some sites (the wall spread's form)
+        nodes, weights = np.polynomial.hermite_e.hermegauss(12)
+        spread = SiteSpread(shift_k=rng.uniform(0.5, 4.0, (m, 1)) * nodes - rng.uniform(0.0, 3.0, (m, 1)),
+                            fraction=weights / weights.sum(), orbits=rng.random(m) < 0.4)
+    problem = MeanFieldProblem(rng.normal(-20.0, 8.0, m), a, bond_k=float(rng.uniform(1.0, 6.0)), temperature_k=1.5,
+                               spread=spread)
     x0 = rng.normal(0.0, 3.0, m)
     mu = float(rng.uniform(-25.0, -5.0))
     fast = solve_state(x0, mu, problem)
     monkeypatch.setenv("POREFILL_NUMBA", "0")
     reference = solve_state(x0, mu, problem)
     assert fast[1] == reference[1]
-    np.testing.assert_allclose(1 / (1 + np.exp(-fast[0])), 1 / (1 + np.exp(-reference[0])), rtol=0, atol=1e-9)
+    np.testing.assert_allclose(problem.occupancy(fast[0]), problem.occupancy(reference[0]), rtol=0, atol=1e-9)
     assert fast[3] == pytest.approx(reference[3], abs=1e-9)
     probe = rng.normal(size=m)
     np.testing.assert_allclose(fast[2](probe), reference[2](probe), rtol=1e-9, atol=1e-12)

@@ -89,7 +89,7 @@ class SiteSpread:
     (f − μ) n̄ with s the mixing entropy, and the Jacobian's diagonal factor is dn̄/dx = Σ_k p_k n_k(1 − n_k).
     """
 
-    shift_k: np.ndarray          # (K,) δ_k, K
+    shift_k: np.ndarray          # (N, K) δ_k of each site, K (rows of unmarked sites unused)
     fraction: np.ndarray         # (K,) p_k, summing to 1
     orbits: np.ndarray           # (N,) bool, the sites that carry the spread
 
@@ -204,7 +204,7 @@ def solve_state(x0: np.ndarray, mu: float, problem: MeanFieldProblem, *, max_ite
     omega : float, Ω at the state (K)
     """
     a_dense = _dense_neighbours(problem)
-    if a_dense is not None and compiled.available() and problem.spread is None:
+    if a_dense is not None and compiled.available():
         return compiled.solve_state_dense(x0, mu, problem, a_dense, max_iter=max_iter, tol=tol)
     x = np.array(x0, float)
     damping = 0.0
