@@ -146,12 +146,42 @@ class RunCurve:
         return np.interp(log_p, self.log_p, self.a), np.interp(log_p, self.log_p, self.b)
 
 
+class GeometryReuse:
+    """One geometry stage per pore for a fit: a parameter set that changes only the wall strength gets the
+    stage already built for its pore, its wall potential rescaled (`porefill.physics.lattice_gas.stages.rescaled_geometry`,
+    which says when that is exact to the cells' tolerance); any other change builds the stage afresh."""
+
+    def __init__(self, temperatures_k) -> None:
+        self.temperatures_k = tuple(float(t) for t in temperatures_k)
+        self.references: dict = {}
+        self.reused = 0
+
+    def stage_for(self, scenario: Scenario):
+        from porefill.physics.lattice_gas.stages import geometry_stage, rescaled_geometry
+
+        key = tuple(item for item in scenario.geometry_key() if item[0] != "pair_epsilon_k")
+        reference = self.references.get(key)
+        if reference is not None:
+            stage = rescaled_geometry(reference, scenario, self.temperatures_k)
+            if stage is not None:
+                self.reused += 1
+                return stage
+        stage = geometry_stage(scenario)
+        if len(self.references) >= 48:
+            self.references.pop(next(iter(self.references)))
+        self.references[key] = stage
+        return stage
+
+
 def predict(scenario: Scenario, data: tuple[RunData, ...], sample: Sample, *, n_points: int,
-            ranges: dict[float, tuple[float, float]], bisections: int = 10) -> tuple[RunCurve, ...]:
+            ranges: dict[float, tuple[float, float]], bisections: int = 10,
+            geometries: GeometryReuse | None = None) -> tuple[RunCurve, ...]:
     """The model along every run for one scenario (its pore volume is not used: see `RunCurve`). The
     branches' jumps are placed between grid points to 2^-bisections of an interval (`porefill.physics.lattice_gas.jumps`; 0:
-    left as ramps on the grid)."""
-    isotherms = {t: compute_isotherm(scenario.replace(temperature_k=t), n_points=n_points, pressure_range_pa=r)
+    left as ramps on the grid). ``geometries``: a fit's `GeometryReuse` (default: the scenario's own stage)."""
+    geometry = geometries.stage_for(scenario) if geometries is not None else None
+    isotherms = {t: compute_isotherm(scenario.replace(temperature_k=t), n_points=n_points, pressure_range_pa=r,
+                                     geometry=geometry)
                  for t, r in ranges.items()}
     pore = scenario.pore()
     curves, cache = [], {}

@@ -134,7 +134,7 @@ def build_result(obj, u: np.ndarray, others=()):
     from porefill.physics.fitting.solve import FitResult, RunResidual
 
     space, req = obj.space, obj.request
-    values, pred = obj.prediction(u, req.local_points, strict=True)
+    values, pred = obj.prediction(u, req.local_points, strict=True, exact=True)
     v_p = space.pore_volume(values, pred, obj.data, req.pressure_noise)
     values["pore-volume"] = v_p
     r_p, r_c = fm.residuals(pred, obj.data, v_p, req.pressure_noise)

@@ -15,6 +15,11 @@ a measured point, and a gradient fit from a poor start stalls. A global phase (d
 seeded, on a coarse μ grid) searches the nonlinear parameters inside their bounds; a local phase
 (`scipy.optimize.least_squares`, trust-region reflective with bounds, on a finer grid) refines the best,
 with finite-difference steps of ``diff_step`` × the bound width, wider than the grid's step resolution.
+Most of an evaluation's cost is the pore's geometry (the converged cell quadrature), so a fit keeps one
+geometry per pore and rescales its wall potential when only the wall strength changes (`fm.GeometryReuse`,
+exact to the cells' tolerance), and the global phase puts the geometric parameters (size, wall, a0) on a grid
+of ``GLOBAL_GRID`` steps per bound width so that its pores recur; the local phase and the result are continuous,
+and the result's own evaluation builds its geometry afresh.
 
 Uncertainties: the Jacobian J of the normalised residuals at the optimum (central differences with the same
 steps; the pore-volume column exactly), cov = s² (JᵀJ)⁻¹ with s² = χ²/(n − p) — the scatter about the fit
@@ -39,6 +44,7 @@ __all__ = ["FREE_PARAMETERS", "PARAMETER_UNITS", "BRANCHES", "FitCancelled", "Fi
            "FitResult", "FittedCurve", "fit", "carry_to", "fitted_curves", "residual_table"]
 
 _PENALTY = 1e3       # normalised residual of a parameter set the model refuses (outside the limits)
+GLOBAL_GRID = 256    # the global phase's steps per bound width of a geometric parameter (size, wall, a0)
 
 
 class FitCancelled(Exception):
@@ -238,8 +244,13 @@ class _Objective:
         self.notes: list[str] = []
         self.history: list[tuple[float, np.ndarray]] = []        # (χ², u) of the global search
         self.best = (np.inf, None)
+        # one geometry per pore, rescaled for the wall strength (fm.GeometryReuse); the global phase puts the
+        # geometric parameters on a grid of GLOBAL_GRID steps per bound width, so its pores recur
+        self.geometries = fm.GeometryReuse(self.ranges)
+        strength = [name == "wall-strength" for name in space.nonlinear]
+        self.snapped = ~np.array(strength, bool)
 
-    def prediction(self, u, n_points: int, *, strict: bool = False, bisections: int = 10):
+    def prediction(self, u, n_points: int, *, strict: bool = False, bisections: int = 10, exact: bool = False):
         if self.should_stop is not None and self.should_stop():
             raise FitCancelled(f"fit cancelled after {self.evaluations} model evaluations")
         self.evaluations += 1
@@ -250,7 +261,8 @@ class _Objective:
         try:
             scenario = self.space.scenario_for(values)
             return values, fm.predict(scenario, self.data, self.request.sample, n_points=n_points,
-                                      ranges=self.ranges, bisections=bisections)
+                                      ranges=self.ranges, bisections=bisections,
+                                      geometries=None if exact else self.geometries)
         except ValueError:
             if strict:
                 raise
@@ -269,6 +281,7 @@ class _Objective:
         return r
 
     def cost(self, u) -> float:
+        u = np.where(self.snapped, np.round(np.asarray(u, float) * GLOBAL_GRID) / GLOBAL_GRID, u)
         r = self.residuals(u, self.request.global_points, bisections=6)
         self.history.append((float(r @ r), np.array(u, float)))
         return float(r @ r)

@@ -234,17 +234,18 @@ def default_mu_range(stage: ThermalStage) -> tuple[float, float]:
 def compute_isotherm(scenario: Scenario, *, n_points: int = DEFAULT_POINTS, mu_range: tuple[float, float] | None = None,
                      pressure_range_pa: tuple[float, float] | None = None,
                      relative_pressure_range: tuple[float, float] | None = None,
-                     allow_above_p0: bool = False) -> Isotherm:
+                     allow_above_p0: bool = False, geometry=None) -> Isotherm:
     """Adsorption and desorption branches of the pore's isotherm on ``n_points`` chemical potentials.
 
     The μ grid is uniform (uniform in log p). One of ``pressure_range_pa`` (Pa), ``relative_pressure_range``
     (p/p0) or ``mu_range`` (K) bounds it; by default it runs from a nearly empty pore to p0. Ranges above p0
-    are refused unless ``allow_above_p0``.
+    are refused unless ``allow_above_p0``. ``geometry``: the scenario's geometry stage when the caller holds
+    one (`porefill.physics.lattice_gas.stages.rescaled_geometry`).
     """
     n_points = check_points(n_points)
     if sum(r is not None for r in (mu_range, pressure_range_pa, relative_pressure_range)) > 1:
         raise ValueError("give at most one of mu_range, pressure_range_pa and relative_pressure_range")
-    stage = thermal_stage(scenario)
+    stage = thermal_stage(scenario, geometry=geometry)
     if relative_pressure_range is not None:
         pressure_range_pa = tuple(stage.scale.pressure_from_relative(relative_pressure_range))
     if pressure_range_pa is not None:
@@ -252,7 +253,7 @@ def compute_isotherm(scenario: Scenario, *, n_points: int = DEFAULT_POINTS, mu_r
                                           allow_above_p0=allow_above_p0)
         mu_range = tuple(float(m) for m in stage.scale.mu_k([lo_p, hi_p]))
     if mu_range is not None and mu_range[1] > stage.mu_coexistence_k:
-        stage = thermal_stage(scenario, mu_max=mu_range[1])   # sites that fill only above p0 must be kept
+        stage = thermal_stage(scenario, mu_max=mu_range[1], geometry=geometry)   # sites that fill only above p0 must be kept
     lo, hi = mu_range if mu_range is not None else default_mu_range(stage)
     if not (np.isfinite(lo) and np.isfinite(hi) and lo < hi):
         raise ValueError(f"μ range must be finite with low < high; got {lo!r}, {hi!r} K")

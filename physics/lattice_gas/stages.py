@@ -30,7 +30,7 @@ from porefill.physics.sites.placement import first_row_distance, place_sites
 from porefill.physics.substances.vapour_pressure import (liquid_number_density, p0_is_extrapolated, saturated_vapour_pressure,
                               temperature_range)
 
-__all__ = ["GeometryStage", "ThermalStage", "PressureScale", "geometry_stage", "thermal_stage"]
+__all__ = ["GeometryStage", "ThermalStage", "PressureScale", "geometry_stage", "thermal_stage", "rescaled_geometry"]
 
 # A site is kept when it could reach this occupancy at the top of the μ range with every neighbour full
 _DROP_LOGIT = -15.0
@@ -102,6 +102,40 @@ def geometry_stage(scenario: Scenario) -> GeometryStage:
     return _geometry_stage(scenario.geometry_key())
 
 
+def _strength_free_key(key: tuple) -> tuple:
+    return tuple(item for item in key if item[0] != "pair_epsilon_k")
+
+
+def rescaled_geometry(reference: GeometryStage, scenario: Scenario,
+                      temperatures_k) -> GeometryStage | None:
+    """The geometry stage of ``scenario`` made from ``reference`` by scaling its wall potential, when the two
+    differ in the pair's ε alone; None when they differ otherwise, or when a node set converged for the
+    reference would not be converged for the new ε at every temperature in ``temperatures_k``.
+
+    The continuum wall potential is linear in ε (`porefill.physics.pore.wall_potential`), and the first row's
+    distance is the potential's minimum, which scaling does not move; so only the quadrature needs a check. The
+    reference's nodes are converged for exp(−V/kT) at every T of the gas's range (`porefill.physics.sites.cells`);
+    exp(−sV/kT) = exp(−V/(kT/s)), so they serve ε' = s ε wherever T/s lies in that range, with the error of
+    kT ln Z at most s times the cells' tolerance (2e-3 K; the requirement is 0.01 K). A fit that varies the
+    wall strength (`porefill.physics.fitting`) reuses one geometry per pore this way.
+    """
+    key = scenario.geometry_key()
+    if key == reference.key:
+        return reference
+    if _strength_free_key(key) != _strength_free_key(reference.key):
+        return None
+    pair = scenario.pair()
+    factor = pair.epsilon_k / reference.pair.epsilon_k
+    t_min, t_max, _ = temperature_range(scenario.adsorbate)
+    reduced = np.asarray(temperatures_k, float) / factor
+    if not (np.isfinite(factor) and factor > 0 and np.all((reduced >= t_min) & (reduced <= t_max))):
+        return None
+    c = reference.cells
+    cells = SiteCells(c.group, c.weight, c.potential_k * factor, c.site_group, c.area_angstrom2)
+    return GeometryStage(key, reference.pore, pair, reference.adsorbate, reference.candidates, cells,
+                         reference.orbit, reference.spacing_angstrom, reference.spacing_note)
+
+
 @dataclass(frozen=True, eq=False)
 class ThermalStage:
     """Everything the solver needs at one temperature: kept sites, their free energies, ε_b, pressures."""
@@ -148,12 +182,17 @@ class ThermalStage:
         return [self.lattice.label(i) for i in self.representative]
 
 
-def thermal_stage(scenario: Scenario, *, mu_max: float | None = None) -> ThermalStage:
+def thermal_stage(scenario: Scenario, *, mu_max: float | None = None,
+                  geometry: GeometryStage | None = None) -> ThermalStage:
     """Site free energies, bond and pressure scale at the scenario's temperature, on its geometry stage.
 
     ``mu_max`` (K) is the top of the μ range, which decides which sites can ever fill (default μ_coex).
+    ``geometry``: the scenario's geometry stage when the caller holds one (`rescaled_geometry`); by default
+    `geometry_stage(scenario)`.
     """
-    geo = geometry_stage(scenario)
+    if geometry is not None and geometry.key != scenario.geometry_key():
+        raise ValueError("the geometry stage given is not the scenario's")
+    geo = geometry_stage(scenario) if geometry is None else geometry
     t = scenario.temperature_k
     p0 = saturated_vapour_pressure(scenario.adsorbate, t)
     cell_volume = geo.candidates.cell_volume_angstrom3
