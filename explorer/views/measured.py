@@ -15,7 +15,7 @@ import param
 from bokeh.models import ColumnDataSource, Range1d, Span
 from bokeh.plotting import figure
 
-from porefill.explorer.outputs.fit_export import companion_paths
+from porefill.explorer.outputs.fit_export import companion_paths, statistic_label
 from porefill.physics.choices import AXIS_LABELS
 from porefill.physics.fitting.solve import FREE_PARAMETERS, PARAMETER_UNITS, FitRequest, carry_to
 from porefill.physics.fitting.measured import MEASURED_AMOUNT_UNITS, Sample
@@ -402,8 +402,10 @@ class MeasuredView(pn.viewable.Viewer):
         self.fit_result.object = (
             "<table class='porefill-fit-table'><caption style='text-align:left'><b>Fitted parameters</b></caption>"
             f"<tr><th>parameter</th><th>value</th><th>standard error</th><th>unit</th></tr>{rows}</table>"
-            f"<p>χ² = {stats['chi2']:.4g}, reduced χ² = {stats['reduced_chi2']:.3g}, R² = {stats['r_squared']:.4f}, "
-            f"{stats['points']} points, {stats['evaluations']} model evaluations.</p>"
+            f"<p>{statistic_label('chi2')} = {stats['chi2']:.4g}, {statistic_label('reduced_chi2')} = "
+            f"{stats['reduced_chi2']:.3g}, {statistic_label('r_squared')} = {stats['r_squared']:.4f}, "
+            f"{stats['points']} {statistic_label('points')}, {stats['evaluations']} "
+            f"{statistic_label('evaluations')}.</p>"
             + (f"<ul class='porefill-fit-warnings'>{warnings}</ul>" if warnings else ""))
         self.fit_status.object = "<p>Fit finished.</p>"
         self.use_fit.disabled = self.download.disabled = False
