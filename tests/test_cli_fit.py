@@ -59,10 +59,28 @@ def test_fit_json_reports_values_errors_and_statistics(data_file, capsys, monkey
     assert data["statistics"]["points"] == 16 and data["statistics"]["parameters"] == 2
     assert data["site_model"] == "classical"
     assert data["runs"][0]["amount_unit"] == "mmol/g" and data["runs"][0]["pressure_unit"] == "kPa"
-    text = out_csv.read_text().splitlines()
-    assert text[0].startswith("kind,run,source,row")
-    assert sum(line.startswith("point,") for line in text) == 16
-    assert sum(line.startswith("model,") for line in text) > 16
+    # one table per file (issue 21): the points, then the parameters and the model curves beside them
+    table = [line for line in out_csv.read_text().splitlines() if not line.startswith("#")]
+    assert table[0].startswith("run,source,row,leg,model_branch") and len(table) == 1 + 16
+    assert "residual" in table[0].split(",") and "sigma_ln_pressure" in table[0].split(",")
+    params = (tmp_path / "fit-parameters.csv").read_text().splitlines()
+    assert params[0].startswith("quantity,label,value,standard_error,unit")
+    assert any(line.startswith("reduced_chi2,reduced χ²,") for line in params)
+    model = (tmp_path / "fit-model.csv").read_text().splitlines()
+    assert model[0].startswith("run,source,leg,model_branch") and len(model) > 16
+
+
+def test_fit_csv_companions_are_never_overwritten_without_force(data_file, capsys, monkeypatch, tmp_path):
+    # the output rules of porefill.explorer.outputs.writing hold for every file --csv writes (common practice,
+    # no source): an existing companion stops the command before any fitting
+    _fast(monkeypatch)
+    (tmp_path / "fit-model.csv").write_text("keep me\n")
+    code = main(["fit", str(data_file), *BASE_ARGS, "--free", "pore-volume", "--csv", str(tmp_path / "fit.csv")])
+    assert code == 2 and "fit-model.csv exists" in capsys.readouterr().err
+    assert (tmp_path / "fit-model.csv").read_text() == "keep me\n" and not (tmp_path / "fit.csv").exists()
+    assert main(["fit", str(data_file), *BASE_ARGS, "--free", "pore-volume", "--csv", str(tmp_path / "fit.csv"),
+                 "--force"]) == 0
+    assert (tmp_path / "fit-model.csv").read_text().startswith("run,source,leg")
 
 
 def test_fit_text_output_is_a_table(data_file, capsys, monkeypatch):

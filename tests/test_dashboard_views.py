@@ -11,11 +11,14 @@ from porefill.physics.scenario import Scenario
 def test_csv_download_matches_the_current_isotherm():
     state = ExplorerState.from_scenario(Scenario(size_angstrom=12.0, wall_angstrom=5.0, temperature_k=1.5))
     view = IsothermView(state=state)
-    lines = view.csv_file().getvalue().decode().splitlines()
-    assert lines[0].startswith("mu_K,pressure_Pa")
+    text = view.csv_file().getvalue().decode()
+    assert "# pore ends: open" in text.splitlines()           # the header lines name the pore ends
+    lines = [line for line in text.splitlines() if not line.startswith("#")]
+    assert lines[0].startswith("mu_K,pressure_Pa") and "adsorption_as_measured_coverage_per_nm" in lines[0]
     assert len(lines) == 1 + view._iso.mu.size
     state.temperature_k = 2.0
-    first = [float(v) for v in view.csv_file().getvalue().decode().splitlines()[1].split(",")]
+    table = [line for line in view.csv_file().getvalue().decode().splitlines() if not line.startswith("#")]
+    first = [float(v) for v in table[1].split(",")]
     assert np.isclose(first[0], view._iso.mu[0]) and view._iso.setup.temperature_k == 2.0
 
 

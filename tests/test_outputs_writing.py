@@ -20,7 +20,7 @@ def test_an_existing_file_is_kept_unless_force(tmp_path, capsys):
     assert main([*FAST, "--csv", str(out)]) == 2
     assert "exists: add --force" in capsys.readouterr().err and out.read_text() == "lab notes\n"
     assert main([*FAST, "--csv", str(out), "--force"]) == 0
-    assert out.read_text().startswith("mu_K,")
+    assert out.read_text().startswith("# porefill isotherm:") and "\nmu_K," in out.read_text()
 
 
 def test_an_input_is_never_an_output(tmp_path, capsys):

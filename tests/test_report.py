@@ -84,6 +84,20 @@ def test_saved_fit_appears_with_its_numbers():
     assert "<td>12.345</td>" in text and "<td>0.067</td>" in text and "size sits near a bound" in text
 
 
+def test_saved_fit_statistics_are_labelled_with_their_meaning():
+    # what a reader sees is "reduced χ²", not the machine key (issue 21); the keys stay in the TOML and JSON
+    from porefill.explorer.files.saved_fit import FitParameter, SavedFit
+
+    fit = SavedFit(free=("size",), parameters=(FitParameter("size", 12.345, 0.067, "Å", 9.0, 15.0),),
+                   statistics=(("chi2", 3.25), ("reduced_chi2", 1.25), ("r_squared", 0.99),
+                               ("noise_relative_estimated", 0.0224)))
+    text = build_report(ScenarioDocument(FAST, fit=fit), sizes=())
+    section = text[text.index("<h3>Saved fit</h3>"):]
+    assert "<td>reduced χ²</td><td>1.25</td><td>χ² per degree of freedom" in section
+    assert "<td>R²</td>" in section and "<td>estimated relative noise</td>" in section
+    assert "reduced_chi2" not in section and "r_squared" not in section and "noise_relative" not in section
+
+
 # the command ----------------------------------------------------------------------------------------------
 def _porefill(*args):
     exe = Path(sys.executable).with_name("porefill")

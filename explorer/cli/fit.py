@@ -6,8 +6,6 @@ exits with status 2 and a few plain lines.
 """
 from __future__ import annotations
 
-import csv
-import io
 import json
 import math
 import sys
@@ -67,8 +65,11 @@ def register(sub) -> None:
                    help="relative uncertainty of the pressures (default 0.01; 0: compare amounts only)")
     p.add_argument("--seed", type=int, default=0, help="seed of the global search (default 0)")
     p.add_argument("--json", action="store_true", help="print JSON")
-    p.add_argument("--csv", metavar="FILE", help="also write the fitted model curves and the residuals as CSV")
-    p.add_argument("--force", action="store_true", help="replace an existing --csv file")
+    p.add_argument("--csv", metavar="FILE",
+                   help="also write CSV, one table per file: FILE (e.g. fit.csv) the measured points with every "
+                        "term of their residual (measured − model), and beside it fit-parameters.csv (the fitted "
+                        "parameters and statistics) and fit-model.csv (the fitted model curves)")
+    p.add_argument("--force", action="store_true", help="replace existing --csv files")
     p.set_defaults(func=_cmd_fit)
 
 
@@ -145,28 +146,21 @@ def result_json(result, notes=()) -> dict:
     }
 
 
-def result_csv(result) -> str:
-    """Measured points with model and residual, then the fitted model curves, in one table."""
-    from porefill.physics.fitting.solve import fitted_curves, residual_table
+def _csv_places(args, points_path) -> list:
+    """The checked places of the three --csv files (`porefill.explorer.outputs.fit_export.companion_paths`),
+    before any computing."""
+    from porefill.explorer.outputs.fit_export import companion_paths
+    from porefill.explorer.outputs.writing import OutputRefused, check_output
 
-    out = io.StringIO()
-    fields = ["kind", "run", "source", "row", "leg", "branch", "temperature_k", "pressure", "pressure_unit",
-              "amount", "model", "amount_unit", "sigma", "residual", "compared"]
-    writer = csv.DictWriter(out, fieldnames=fields, lineterminator="\n")
-    writer.writeheader()
-    from porefill.explorer.outputs.formatting import spreadsheet_safe
-
-    for row in residual_table(result):
-        writer.writerow({k: spreadsheet_safe(v) for k, v in {"kind": "point", **row}.items()})
-    for curve in fitted_curves(result):
-        for p, a in zip(curve.pressure, curve.amount):
-            writer.writerow({"kind": "model", "run": spreadsheet_safe(curve.run.name),
-                             "source": spreadsheet_safe(curve.run.source),
-                             "leg": curve.run.leg, "branch": curve.branch,
-                             "temperature_k": curve.run.temperature_k, "pressure": f"{p:.8g}",
-                             "pressure_unit": curve.run.pressure_unit, "model": f"{a:.8g}",
-                             "amount_unit": curve.run.amount_unit})
-    return out.getvalue()
+    places = [points_path]
+    scenario = getattr(args, "scenario", None)
+    for path in companion_paths(points_path):
+        try:
+            places.append(check_output(str(path), option="--csv", force=args.force,
+                                       inputs=[*args.files, *([scenario] if scenario else [])]))
+        except OutputRefused as exc:
+            raise UsageError(str(exc)) from None
+    return places
 
 
 def _table(data: dict) -> str:
@@ -193,6 +187,7 @@ def _cmd_fit(args) -> int:
     compiled.enable()          # hundreds of isotherms: loading the compiled kernels pays
 
     csv_path = output_place(args, "csv", "--csv", inputs=args.files)
+    csv_places = None if csv_path is None else _csv_places(args, csv_path)
     runs, notes = _read_runs(args)
     request = _request(args, runs)
     try:
@@ -200,8 +195,13 @@ def _cmd_fit(args) -> int:
     except ValueError as exc:
         raise UsageError(str(exc)) from None
     data = result_json(result, notes)
-    if csv_path is not None:
-        write_output(csv_path, result_csv(result))
+    if csv_places is not None:
+        from porefill.explorer.outputs.fit_export import model_csv, parameters_csv, points_csv
+
+        points, params, model = csv_places
+        write_output(points, points_csv(result, name=points.name))
+        write_output(params, parameters_csv(result))
+        write_output(model, model_csv(result))
     if args.json:
         json.dump(data, sys.stdout)
         sys.stdout.write("\n")

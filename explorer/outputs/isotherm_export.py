@@ -1,6 +1,12 @@
 """Isotherm results as JSON, CSV and a text summary (used by the command line and the dashboard).
 
-The JSON and the CSV carry the same columns: one table of branch columns, built once here.
+The JSON and the CSV carry the same columns: one table of branch columns, built once here. Each set of
+columns is named for what it holds (``EXPORTED_BRANCHES``): the legs a measurement follows first
+(``adsorption_as_measured``, ``desorption_as_measured``: the model branch chosen for the scenario's pore ends
+by `porefill.physics.lattice_gas.branches`, the curves the figures draw as measured), then the equilibrium,
+then the raw mean-field branches (``meanfield_adsorption_spinodal``, ``meanfield_desorption_spinodal``: the
+metastable branches up to their spinodals, limits rather than predictions). The CSV's ``#`` header lines
+name the pore ends and the branch rule applied to each leg.
 """
 from __future__ import annotations
 
@@ -13,11 +19,22 @@ import numpy as np
 from porefill.physics.lattice_gas.wall_spread import spread_description
 from porefill.physics.lattice_gas.adsorption import Isotherm
 from porefill.physics.lattice_gas.bond import calibration_facts, default_bond_rule
-from porefill.physics.lattice_gas.branches import branch_notes, measured_branches
+from porefill.physics.lattice_gas.branches import branch_notes, branch_rule, measured_branches
 from porefill.physics.substances.units import particle_word
 
 __all__ = ["calibration", "calibration_note", "isotherm_json", "step_json", "isotherm_csv", "isotherm_summary", "model_description", "amount_labels",
-           "branch_columns"]
+           "branch_columns", "EXPORTED_BRANCHES", "exported_branches", "csv_header_lines"]
+
+# export key: (leg a measurement follows, or None for a model branch named outright; the raw branch; meaning)
+EXPORTED_BRANCHES = {
+    "adsorption_as_measured": ("adsorption", None, "the branch a measured adsorption follows"),
+    "desorption_as_measured": ("desorption", None, "the branch a measured desorption follows"),
+    "equilibrium": (None, "equilibrium", "the lower grand potential of the two mean-field branches at each μ"),
+    "meanfield_adsorption_spinodal": (None, "adsorption", "the raw mean-field adsorption branch: the metastable "
+                                      "film up to its spinodal (a limit, not a measurement)"),
+    "meanfield_desorption_spinodal": (None, "desorption", "the raw mean-field desorption branch: the metastable "
+                                      "full pore down to its spinodal (a limit, not a measurement)"),
+}
 
 
 def _finite(values) -> list:
@@ -87,15 +104,31 @@ def calibration_note(iso: Isotherm) -> str:
     return f"<p class='porefill-calibration' style='font-size:90%'>{text}</p>"
 
 
-def branch_columns(iso: Isotherm, branch: str) -> dict[str, np.ndarray]:
-    """Every per-point quantity of one branch ('adsorption', 'desorption' or 'equilibrium'), by JSON key."""
+def exported_branches(iso: Isotherm) -> dict[str, dict]:
+    """{export key: {"model_branch": the raw branch it holds, "meaning": ..., "rule": why (legs only)}} in
+    the order of ``EXPORTED_BRANCHES``, for this isotherm's pore ends and gas."""
+    sc = iso.stage.scenario
+    legs, rules = measured_branches(sc.pore_ends, sc.adsorbate), branch_rule(sc.pore_ends, sc.adsorbate)
+    out = {}
+    for key, (leg, branch, meaning) in EXPORTED_BRANCHES.items():
+        entry = {"model_branch": legs[leg] if leg else branch, "meaning": meaning}
+        if leg:
+            entry["rule"] = f"pore ends '{sc.pore_ends}' — {rules[leg]}"
+        out[key] = entry
+    return out
+
+
+def branch_columns(iso: Isotherm, branch: str, *, amounts_only: bool = False) -> dict[str, np.ndarray]:
+    """Every per-point quantity of one branch ('adsorption', 'desorption' or 'equilibrium'), by JSON key;
+    ``amounts_only`` leaves out the grand potential and the convergence flags (which only the raw
+    mean-field branches have), so the as-measured columns are the same for every choice of pore ends."""
     cols = {
         "coverage_per_nm": iso.amount(branch, "per nm"),
         "coverage_per_nm2_wall": iso.amount(branch, "per nm2 wall"),
         "fraction_of_full_pore": iso.fraction(branch),
         "central_channel_occupancy": iso.central_channel_occupancy(branch),
     }
-    if branch != "equilibrium":
+    if branch != "equilibrium" and not amounts_only:
         b = getattr(iso, branch)
         cols["grand_potential_k_per_nm"] = iso.grand_potential_per_nm(b)
         cols["converged"] = b.converged.astype(float)
@@ -105,11 +138,15 @@ def branch_columns(iso: Isotherm, branch: str) -> dict[str, np.ndarray]:
     return cols
 
 
-def _branch(iso: Isotherm, branch: str) -> dict:
-    d = {"mu_k": _finite(iso.mu), "pressure_pa": _finite(iso.pressure_pa),
+def _export_columns(iso: Isotherm, key: str, model_branch: str) -> dict[str, np.ndarray]:
+    return branch_columns(iso, model_branch, amounts_only=not key.startswith("meanfield_"))
+
+
+def _branch(iso: Isotherm, key: str, entry: dict) -> dict:
+    d = {**entry, "mu_k": _finite(iso.mu), "pressure_pa": _finite(iso.pressure_pa),
          "relative_pressure": _finite(iso.relative_pressure)}
-    for key, values in branch_columns(iso, branch).items():
-        d[key] = [bool(v) for v in values] if key == "converged" else _finite(values)
+    for name, values in _export_columns(iso, key, entry["model_branch"]).items():
+        d[name] = [bool(v) for v in values] if name == "converged" else _finite(values)
     return d
 
 
@@ -120,9 +157,7 @@ def isotherm_json(iso: Isotherm) -> dict:
                   "grand_potential": labels["grand_potential"],
                   "amount_per_gram": "mmol/g and cm3(STP)/g, STP = 273.15 K and 101.325 kPa"},
         "model": model_description(iso),
-        "adsorption": _branch(iso, "adsorption"),
-        "desorption": _branch(iso, "desorption"),
-        "equilibrium": _branch(iso, "equilibrium"),
+        **{key: _branch(iso, key, entry) for key, entry in exported_branches(iso).items()},
         "sites": _sites(iso),
         "steps": [step_json(iso, s) for s in iso.steps],
     }
@@ -140,14 +175,30 @@ def step_json(iso: Isotherm, step) -> dict:
     return iso.step_dict(step)
 
 
+def csv_header_lines(iso: Isotherm) -> list[str]:
+    """The ``#`` lines above the CSV's table: what was computed, the pore ends, and what each column
+    prefix holds (the branch rule applied to each leg)."""
+    sc = iso.stage.scenario
+    lines = [f"# porefill isotherm: {sc.adsorbate} at {sc.temperature_k:g} K in a {sc.shape} pore of size "
+             f"{sc.size_angstrom:g} Å; site model {sc.site_model_used}",
+             f"# pore ends: {sc.pore_ends}"]
+    for key, entry in exported_branches(iso).items():
+        rule = f"; {entry['rule']}" if "rule" in entry else ""
+        lines.append(f"# {key}_*: the model's {entry['model_branch']} branch — {entry['meaning']}{rule}")
+    return lines
+
+
 def isotherm_csv(iso: Isotherm) -> str:
-    """Every column of the JSON's branches, one row per chemical potential; units in the column names
-    (coverage per nm of pore, or per nm² for the slit)."""
+    """Every column of the JSON's branches, one row per chemical potential, under ``#`` lines naming the pore
+    ends and the branch each column prefix holds (`csv_header_lines`); units in the column names (coverage
+    per nm of pore, or per nm² for the slit)."""
     out = io.StringIO()
+    for line in csv_header_lines(iso):
+        out.write(line + "\n")
     columns = {"mu_K": iso.mu, "pressure_Pa": iso.pressure_pa, "relative_pressure": iso.relative_pressure}
-    for branch in ("adsorption", "desorption", "equilibrium"):
-        for key, values in branch_columns(iso, branch).items():
-            columns[f"{branch}_{key}"] = values
+    for key, entry in exported_branches(iso).items():
+        for name, values in _export_columns(iso, key, entry["model_branch"]).items():
+            columns[f"{key}_{name}"] = values
     w = csv.writer(out, lineterminator="\n")
     w.writerow(columns)
     for row in zip(*columns.values()):

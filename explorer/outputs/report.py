@@ -18,6 +18,7 @@ import numpy as np
 
 from porefill.physics.choices import DEFAULT_POINTS
 from porefill.explorer.outputs import figures as fg
+from porefill.explorer.outputs.fit_export import STATISTIC_LABELS, statistic_label
 
 __all__ = ["SECTIONS", "build_report", "default_sizes"]
 
@@ -191,7 +192,8 @@ def _measured(doc, iso) -> str:
         prows = [[p.name, _g(p.value), _g(p.stderr, 3), p.unit, f"{_g(p.low, 4)} – {_g(p.high, 4)}",
                   "free" if p.name in fit.free else "solved"] for p in fit.parameters]
         out += "<h3>Saved fit</h3>" + _table(["parameter", "value", "standard error", "unit", "bounds", ""], prows)
-        out += _table(["statistic", "value"], [[k, _g(v)] for k, v in fit.statistics])
+        out += _table(["statistic", "value", "meaning"],
+                      [[statistic_label(k), _g(v), STATISTIC_LABELS.get(k, ("", ""))[1]] for k, v in fit.statistics])
         out += "".join(f"<p class='warning'>{_e(w)}</p>" for w in fit.warnings)
         if fit.scenario is not None:
             fitted = compute_isotherm(fit.scenario.model_key(), n_points=200)

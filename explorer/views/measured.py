@@ -6,7 +6,6 @@ runs in a process of its own (`porefill.explorer.jobs.fit_job`, a background `Pr
 """
 from __future__ import annotations
 
-import csv
 import html
 import io
 
@@ -16,9 +15,9 @@ import param
 from bokeh.models import ColumnDataSource, Range1d, Span
 from bokeh.plotting import figure
 
-from porefill.explorer.outputs.formatting import spreadsheet_safe
+from porefill.explorer.outputs.fit_export import companion_paths, statistic_label
 from porefill.physics.choices import AXIS_LABELS
-from porefill.physics.fitting.solve import FREE_PARAMETERS, PARAMETER_UNITS, FitRequest, carry_to, fitted_curves, residual_table
+from porefill.physics.fitting.solve import FREE_PARAMETERS, PARAMETER_UNITS, FitRequest, carry_to
 from porefill.physics.fitting.measured import MEASURED_AMOUNT_UNITS, Sample
 from porefill.physics.substances.units import PRESSURE_UNITS
 
@@ -36,7 +35,7 @@ SAMPLE_FIELDS = (("mass_g", "Sample mass (g)"), ("pore_volume_cm3_g", "Pore volu
                  ("surface_area_m2_g", "Surface area (m²/g)"), ("d100_angstrom", "X-ray d₁₀₀ (Å)"))
 
 
-_cell = spreadsheet_safe         # porefill.explorer.outputs.formatting
+FIT_FILES = ("porefill-fit.csv", *(p.name for p in companion_paths("porefill-fit.csv")))
 
 
 class MeasuredView(pn.viewable.Viewer):
@@ -75,9 +74,16 @@ class MeasuredView(pn.viewable.Viewer):
         self.fit_status = pn.pane.HTML("", css_classes=["porefill-fit-status"], sizing_mode="stretch_width")
         self.fit_result = pn.pane.HTML("", css_classes=["porefill-fit-result"], sizing_mode="stretch_width")
         self.use_fit = pn.widgets.Button(name="Use the fitted pore and sample", width=250, disabled=True)
-        self.download = pn.widgets.FileDownload(callback=self.fit_csv, filename="porefill-fit.csv",
-                                                label="Download the fitted model and residuals (CSV)", width=330,
+        # one table per file (porefill.explorer.outputs.fit_export): points with residuals, parameters, model curves
+        self.download = pn.widgets.FileDownload(callback=self.fit_csv, filename=FIT_FILES[0],
+                                                label="Download the points and residuals (CSV)", width=300,
                                                 disabled=True)
+        self.download_parameters = pn.widgets.FileDownload(
+            callback=lambda: self._fit_file("parameters"), filename=FIT_FILES[1],
+            label="Download the fitted parameters (CSV)", width=280, disabled=True)
+        self.download_model = pn.widgets.FileDownload(
+            callback=lambda: self._fit_file("model"), filename=FIT_FILES[2],
+            label="Download the fitted model curves (CSV)", width=290, disabled=True)
         self._files: dict[str, dict] = {}          # name -> {"data": bytes, "result": ReadResult | None, ...}
         self._document_runs: tuple = ()             # runs a scenario file brought with it
         self._iso = None
@@ -396,11 +402,14 @@ class MeasuredView(pn.viewable.Viewer):
         self.fit_result.object = (
             "<table class='porefill-fit-table'><caption style='text-align:left'><b>Fitted parameters</b></caption>"
             f"<tr><th>parameter</th><th>value</th><th>standard error</th><th>unit</th></tr>{rows}</table>"
-            f"<p>χ² = {stats['chi2']:.4g}, reduced χ² = {stats['reduced_chi2']:.3g}, R² = {stats['r_squared']:.4f}, "
-            f"{stats['points']} points, {stats['evaluations']} model evaluations.</p>"
+            f"<p>{statistic_label('chi2')} = {stats['chi2']:.4g}, {statistic_label('reduced_chi2')} = "
+            f"{stats['reduced_chi2']:.3g}, {statistic_label('r_squared')} = {stats['r_squared']:.4f}, "
+            f"{stats['points']} {statistic_label('points')}, {stats['evaluations']} "
+            f"{statistic_label('evaluations')}.</p>"
             + (f"<ul class='porefill-fit-warnings'>{warnings}</ul>" if warnings else ""))
         self.fit_status.object = "<p>Fit finished.</p>"
         self.use_fit.disabled = self.download.disabled = False
+        self.download_parameters.disabled = self.download_model.disabled = False
 
     def _use_fit(self, *_):
         result = self._fit
@@ -424,25 +433,19 @@ class MeasuredView(pn.viewable.Viewer):
         self._show_sample_sources()
 
     def fit_csv(self) -> io.BytesIO:
-        """The fitted model along each run and the residual of every point, as one CSV."""
-        out = io.StringIO()
-        writer = csv.writer(out)
+        """The measured points against the fit, every term of each residual (measured − model) in its row."""
+        return self._fit_file("points")
+
+    def _fit_file(self, which: str) -> io.BytesIO:
+        from porefill.explorer.outputs import fit_export
+
         result = self._fit
         if result is None:
-            writer.writerow(["no fit yet"])
-        else:
-            writer.writerow(["# fitted model along each run"])
-            writer.writerow(["run", "branch", "pressure", "pressure_Pa", "model_amount"])
-            for c in fitted_curves(result):
-                for p, pa, a in zip(c.pressure, c.pressure_pa, c.amount):
-                    writer.writerow([_cell(c.run.name), c.branch, repr(float(p)), repr(float(pa)), repr(float(a))])
-            table = residual_table(result)
-            if table:
-                writer.writerow(["# residuals"])
-                writer.writerow(list(table[0]))
-                for row in table:
-                    writer.writerow([_cell(row[k]) for k in table[0]])
-        return io.BytesIO(out.getvalue().encode("utf-8"))
+            return io.BytesIO(b"no fit yet\n")
+        text = {"points": lambda: fit_export.points_csv(result, name=FIT_FILES[0]),
+                "parameters": lambda: fit_export.parameters_csv(result),
+                "model": lambda: fit_export.model_csv(result)}[which]()
+        return io.BytesIO(text.encode("utf-8"))
 
     def __panel__(self):
         mapping = pn.Row(self.file_select, *self.columns.values(), self.pressure_unit, self.amount_unit,
@@ -450,7 +453,9 @@ class MeasuredView(pn.viewable.Viewer):
         sample = pn.Row(*self.sample_inputs.values(), styles={"flex-wrap": "wrap"})
         fit = pn.Column(pn.pane.HTML("<b>Free parameters</b>"), self.free,
                         pn.Row(self.fit_button, self.cancel_button, self.progress), self.fit_status,
-                        self.fit_result, pn.Row(self.use_fit, self.download), css_classes=["porefill-fit"])
+                        self.fit_result, pn.Row(self.use_fit, self.download, self.download_parameters,
+                                                self.download_model, styles={"flex-wrap": "wrap"}),
+                        css_classes=["porefill-fit"])
         return pn.Column(pn.pane.HTML("<h3>Measured isotherms</h3>"), self.dropper, mapping, self.reread,
                          self.problems, pn.pane.HTML("<b>Sample</b>"), sample, self.sample_note, self.axis,
                          self.caption, self._plots, fit, sizing_mode="stretch_width",

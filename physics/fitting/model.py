@@ -36,7 +36,7 @@ from porefill.physics.substances.units import AmountBasis, from_pascal
 from porefill.physics.substances.vapour_pressure import saturated_vapour_pressure
 
 __all__ = ["PER_GRAM_UNITS", "RunData", "RunCurve", "prepare_runs", "pressure_ranges", "predict", "residuals",
-           "solve_pore_volume", "unit_factor", "simulated_run"]
+           "compare_points", "solve_pore_volume", "unit_factor", "simulated_run"]
 
 PER_GRAM_UNITS = ("mmol/g", "mol/g", "cm3(STP)/g") + DOSED_UNITS
 
@@ -207,30 +207,44 @@ def predict(scenario: Scenario, data: tuple[RunData, ...], sample: Sample, *, n_
     return tuple(curves)
 
 
-def _distance(curve_x, curve_y, x, y, sx: float, sy) -> np.ndarray:
+def _nearest(curve_x, curve_y, x, y, sx: float, sy) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Shortest distance from points (x, y) to the polyline (curve_x, curve_y), x scaled by ``sx`` and y
-    by each point's ``sy``."""
+    by each point's ``sy``; and the polyline's nearest point (x, y) to each."""
     px = (curve_x[None, :] - x[:, None]) / sx
     py = (curve_y[None, :] - y[:, None]) / sy[:, None]
     dx, dy = np.diff(px, axis=1), np.diff(py, axis=1)
     dd = dx * dx + dy * dy
     t = np.clip(-(px[:, :-1] * dx + py[:, :-1] * dy) / np.where(dd > 0, dd, 1.0), 0.0, 1.0)
-    return np.sqrt(np.min((px[:, :-1] + t * dx) ** 2 + (py[:, :-1] + t * dy) ** 2, axis=1))
+    ex, ey = px[:, :-1] + t * dx, py[:, :-1] + t * dy
+    d2 = ex**2 + ey**2
+    k, rows = np.argmin(d2, axis=1), np.arange(x.size)
+    return np.sqrt(d2[rows, k]), x + sx * ex[rows, k], y + sy * ey[rows, k]
+
+
+def compare_points(curve: RunCurve, d: RunData, pore_volume: float, sigma_lnp: float):
+    """Every term of the residuals of one run's points with pressure, in the run's order: (model at the
+    recorded pressure, the model curve's nearest point as (ln p, amount), residuals (model − measured)/σ or,
+    with ``sigma_lnp`` > 0, sign(model − measured) × the distance to that nearest point in
+    (ln p/σ_lnp, amount/σ)). With ``sigma_lnp`` = 0 the nearest point is the recorded pressure's."""
+    known = d.has_pressure
+    y, s = d.run.amount[known], d.sigma[known]
+    x = np.log(d.pressure_pa[known])
+    a, b = curve.at(x)
+    model = pore_volume * a + b
+    vertical = model - y
+    if sigma_lnp > 0 and y.size:
+        dist, x_near, y_near = _nearest(curve.log_p, pore_volume * curve.a + curve.b, x, y, sigma_lnp, s)
+        return model, x_near, y_near, np.sign(vertical) * dist
+    return model, x, model, vertical / s
 
 
 def run_residuals(curve: RunCurve, d: RunData, pore_volume: float, sigma_lnp: float):
     """Normalised residuals of one run: at the points with pressure, (model − measured)/σ, or with
     ``sigma_lnp`` > 0 the signed distance to the model curve in (ln p/σ_lnp, amount/σ) — so a point beside
-    a vertical step is compared at equal coverage, horizontally; then the pressure-less points (`residuals`)."""
+    a vertical step is compared at equal coverage, horizontally (`compare_points`); then the pressure-less
+    points (`residuals`). (χ² does not care for the sign; the reports turn it to measured − model.)"""
     known = d.has_pressure
-    y, s = d.run.amount[known], d.sigma[known]
-    x = np.log(d.pressure_pa[known])
-    a, b = curve.at(x)
-    vertical = pore_volume * a + b - y
-    if sigma_lnp > 0 and y.size:
-        r_p = np.sign(vertical) * _distance(curve.log_p, pore_volume * curve.a + curve.b, x, y, sigma_lnp, s)
-    else:
-        r_p = vertical / s
+    r_p = compare_points(curve, d, pore_volume, sigma_lnp)[3]
     y_c, s_c = d.run.amount[~known], d.sigma[~known]
     lo = np.where(curve.lo_valid, pore_volume * curve.lo[:, 0] + curve.lo[:, 1], -np.inf)
     hi = pore_volume * curve.hi[:, 0] + curve.hi[:, 1]

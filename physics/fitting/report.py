@@ -154,11 +154,16 @@ def build_result(obj, u: np.ndarray, others=()):
     for curve, d in zip(pred, obj.data):
         known = d.has_pressure
         rp, rc = fm.run_residuals(curve, d, v_p, req.pressure_noise)
-        a, b = curve.at(np.log(d.pressure_pa[known]))
+        at_p, near_log_p, near_amount, _ = fm.compare_points(curve, d, v_p, req.pressure_noise)
         model, resid = np.empty(known.size), np.empty(known.size)
-        model[known], resid[known], resid[~known] = v_p * a + b, rp, rc
+        near_p = np.full(known.size, np.nan)
+        model[known], resid[known], resid[~known] = at_p, -rp, -rc          # reported as measured − model
         model[~known] = d.run.amount[~known] + rc * d.sigma[~known]
-        runs.append(RunResidual(d.run, d.branch, d.temperature_k, d.pressure_pa, model, d.sigma, resid, ~known))
+        near_p[known] = np.exp(near_log_p)
+        nearest = model.copy()
+        nearest[known] = near_amount
+        runs.append(RunResidual(d.run, d.branch, d.temperature_k, d.pressure_pa, model, d.sigma, resid, ~known,
+                                near_p, nearest, float(req.pressure_noise)))
 
     sample = req.sample
     if "pore-volume" in space.free:

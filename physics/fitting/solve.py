@@ -158,7 +158,14 @@ class FitRequest:
 @dataclass(frozen=True, eq=False)
 class RunResidual:
     """One run against the fitted model: per point (in the run's order), the model amount in the run's
-    unit (for a point without pressure: its equal-coverage value), σ, and the normalised residual."""
+    unit at the recorded pressure (for a point without pressure: its equal-coverage value), σ, and the
+    normalised residual, measured − model (the sign the residual plot shows).
+
+    With a pressure noise σ_lnp > 0 a point with pressure is compared with the model curve's nearest point
+    in (ln p/σ_lnp, amount/σ) (`porefill.physics.fitting.model.compare_points`): ``nearest_pressure_pa``
+    and ``nearest_model`` hold it (NaN pressure for points compared at equal coverage, whose nearest amount
+    is ``model``), so every residual is sign(measured − model) × √[(ln(p/p_near)/σ_lnp)² + ((y − y_near)/σ)²],
+    the first term 0 when σ_lnp is 0 (then the nearest point is the recorded pressure's)."""
 
     run: MeasuredRun
     branch: str
@@ -168,6 +175,9 @@ class RunResidual:
     sigma: np.ndarray
     residual: np.ndarray
     coverage: np.ndarray               # (n,) True for points compared at equal coverage
+    nearest_pressure_pa: np.ndarray    # (n,) Pa
+    nearest_model: np.ndarray          # (n,) in the run's unit
+    sigma_ln_pressure: float           # σ of ln p used for the points with pressure (0: amounts only)
 
     @property
     def rows(self) -> np.ndarray:
@@ -175,7 +185,8 @@ class RunResidual:
 
     @property
     def rms(self) -> float:
-        """Root-mean-square of model − measured over the points with pressure, in the run's unit."""
+        """Root-mean-square of measured − model (at the recorded pressure) over the points with pressure,
+        in the run's unit."""
         d = (self.model - self.run.amount)[~self.coverage]
         return float(np.sqrt(np.mean(d**2))) if d.size else float("nan")
 
@@ -361,20 +372,30 @@ def fitted_curves(result: FitResult, *, n_points: int = 200) -> tuple[FittedCurv
 
 
 def residual_table(result: FitResult) -> list[dict]:
-    """One dict of plain values per measured point: run, source, row, leg, branch, pressure (run unit, None
-    when not recorded), amount, model, residual (normalised), σ, and how it was compared."""
+    """One dict of plain values per measured point: run, source, row, leg, branch, how it was compared,
+    pressure (run unit, and Pa; None when not recorded), amount, model (at the recorded pressure, or the
+    equal-coverage value), σ of the amount and of ln p, the model curve's nearest point, the two terms of
+    the residual and the residual itself, all measured − model (see `RunResidual`):
+    residual = sign(amount − model) × √(pressure_term² + amount_term²)."""
     rows = []
     for rr in result.runs:
         run = rr.run
         for i in range(run.amount.size):
-            p = run.pressure[i]
+            p, at_p = run.pressure[i], not rr.coverage[i]
+            s_lnp = rr.sigma_ln_pressure if at_p else 0.0
+            near_p = float(rr.nearest_pressure_pa[i]) if at_p else None
+            pressure_term = float(np.log(rr.pressure_pa[i] / near_p) / s_lnp) if s_lnp > 0 else 0.0
             rows.append({"run": run.name, "source": run.source, "row": int(run.rows[i]), "leg": run.leg,
                          "branch": rr.branch, "temperature_k": rr.temperature_k,
+                         "compared": "at pressure" if at_p else "equal coverage",
                          "pressure": None if not np.isfinite(p) else float(p), "pressure_unit": run.pressure_unit,
+                         "pressure_pa": float(rr.pressure_pa[i]) if at_p else None,
                          "amount": float(run.amount[i]), "model": float(rr.model[i]),
-                         "amount_unit": run.amount_unit, "sigma": float(rr.sigma[i]),
-                         "residual": float(rr.residual[i]),
-                         "compared": "equal coverage" if rr.coverage[i] else "at pressure"})
+                         "amount_unit": run.amount_unit, "sigma": float(rr.sigma[i]), "sigma_ln_pressure": s_lnp,
+                         "nearest_pressure_pa": near_p, "nearest_model": float(rr.nearest_model[i]),
+                         "pressure_term": pressure_term,
+                         "amount_term": float((run.amount[i] - rr.nearest_model[i]) / rr.sigma[i]),
+                         "residual": float(rr.residual[i])})
     return rows
 
 

@@ -27,7 +27,8 @@ Chem. 87, 1051 (2015), on hysteresis types H1 and pore blocking).
 """
 from __future__ import annotations
 
-__all__ = ["PORE_ENDS", "DEFAULT_PORE_ENDS", "FILLS_AT_EQUILIBRIUM", "measured_branches", "LOWER_CLOSURE", "branch_notes"]
+__all__ = ["PORE_ENDS", "DEFAULT_PORE_ENDS", "FILLS_AT_EQUILIBRIUM", "measured_branches", "branch_rule", "LOWER_CLOSURE",
+           "branch_notes"]
 
 from porefill.physics.choices import DEFAULT_PORE_ENDS, PORE_ENDS
 
@@ -56,6 +57,24 @@ def measured_branches(pore_ends: str, adsorbate: str | None = None) -> dict[str,
     if pore_ends == "open" and adsorbate in FILLS_AT_EQUILIBRIUM:
         legs["adsorption"] = "equilibrium"
     return legs
+
+
+def branch_rule(pore_ends: str, adsorbate: str | None = None) -> dict[str, str]:
+    """{leg: why} — the rule of the module notes that `measured_branches` applied to each leg, in one plain
+    sentence each (what the exports write beside the branch names)."""
+    legs = measured_branches(pore_ends, adsorbate)
+    if pore_ends == "infinite":
+        why = "the raw mean-field branch, up to its spinodal (a limit, not a prediction)"
+        return {"adsorption": why, "desorption": why.replace("up to", "down to")}
+    if pore_ends == "closed-end":
+        why = "the closed end's meniscus makes the pore fill and empty at the equilibrium transition (Cohan 1938)"
+        return {"adsorption": why, "desorption": why}
+    fills = (f"open pores of {adsorbate} fill at the equilibrium transition (fluctuations and the wall's "
+             "heterogeneity nucleate the liquid long before the mean-field spinodal; Kruk, Jaroniec & Sayari 1997)"
+             if legs["adsorption"] == "equilibrium" else
+             "open pores of this gas fill on the adsorption branch: the film grows until it is unstable")
+    return {"adsorption": fills,
+            "desorption": "open pores empty through a receding meniscus at their ends: the equilibrium transition"}
 
 
 def branch_notes(iso) -> list[str]:
