@@ -197,6 +197,12 @@ def test_states_command_json():
     assert data["henry_quantum"] / data["henry_classical"] == pytest.approx(1.3e-9, rel=0.1)
     assert data["grid"]["spacing_angstrom"] > 0 and data["states_used"] == len(data["energies_k"])
     assert data["energies_k"] == sorted(data["energies_k"])
+    # every orbit says where its free energy comes from (issue: the states readout names the source per orbit)
+    sources = {o["label"]: o["source"] for o in data["orbits"]}
+    assert sources["corner"] == "quantum states" and sources["centre"] == "classical"
+    text = run("states", "--pore", "hexagon", "--size", "15", "--wall", "8", "--adsorbate", "helium-4",
+               "--temperature", "1.5")
+    assert "per orbit" in text.stdout and "classical cell integral" in text.stdout
 
 
 def test_isotherm_site_model_is_reported():

@@ -137,3 +137,26 @@ def test_classical_limit_as_the_mass_grows():
         zpe.append(st.zero_point_energy_k)
     assert ratios[0] < ratios[1] < ratios[2] <= 1.0
     assert zpe[0] / zpe[1] == pytest.approx(2.0, rel=0.15) and zpe[1] / zpe[2] == pytest.approx(2.0, rel=0.15)
+
+
+def test_every_orbit_says_where_its_free_energy_comes_from():
+    # sum rules of the assignment (common practice, no source): every computed state is given to exactly one
+    # orbit, the shares add to the whole Boltzmann sum, an orbit with states uses the quantum value and one
+    # without keeps its classical cell integral, exactly what the quantum site model feeds the solver
+    from porefill.physics.lattice_gas.stages import geometry_stage
+    from porefill.physics.sites.quantum import cached_states, orbit_sources, quantum_site_free_energy
+
+    geo = geometry_stage(Scenario(shape="hexagon", size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5))
+    states = cached_states(geo, 1.5)
+    rows = orbit_sources(states, geo, 1.5)
+    assert sum(r["states"] for r in rows) == states.energies_k.size
+    assert sum(r["boltzmann_share"] for r in rows) == pytest.approx(1.0, abs=1e-12)
+    assert sum(r["sites"] for r in rows) == geo.candidates.x.size
+    f = quantum_site_free_energy(geo, temperature_k=1.5)
+    for r in rows:
+        rep = int(np.flatnonzero(geo.orbit == r["orbit"])[0])
+        assert r["free_energy_k"] == pytest.approx(f[rep], abs=1e-12)
+        assert (r["source"] == "quantum states") == (r["states"] > 0)
+        if r["source"] == "classical":
+            assert r["free_energy_k"] == r["classical_free_energy_k"]
+    assert {r["label"] for r in rows if r["source"] == "quantum states"} >= {"corner", "face"}

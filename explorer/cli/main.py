@@ -263,6 +263,12 @@ def _cmd_states(args) -> int:
         print("lowest excitations (K): " + ", ".join(f"{e:.3f}" for e in result["excitation_energies_k"][:12]))
         print("lowest bands: " + "; ".join(f"+{b['excitation_k']:.2f} K ×{b['degeneracy']} {b['where']}"
                                            for b in result["bands"][:6]))
+        print("site free energies of the quantum site model, per orbit:")
+        for o in result["orbits"]:
+            how = (f"{o['states']} states, {o['boltzmann_share']:.3g} of the Boltzmann sum"
+                   if o["source"] == "quantum states" else "no computed state reaches it: classical cell integral")
+            print(f"  {o['label']:>8} ×{o['sites']:<3} {o['free_energy_k']:9.3f} K  ({how}; classical "
+                  f"{o['classical_free_energy_k']:.3f} K)")
     if st.capped:
         sys.stderr.write(f"porefill: note: the state count reached --max-states {args.max_states}; higher states "
                          "carry more than the set share of the Boltzmann weight\n")

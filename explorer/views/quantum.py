@@ -231,7 +231,15 @@ class QuantumView(pn.viewable.Viewer):
             f"({st['grid']['points']} points; free energy good to about {st['grid']['energy_error_estimate_k']:.2g} K).</p>"
             "<table class='porefill-band-table'><caption style='text-align:left'><b>Lowest bands</b></caption>"
             "<tr><th>above ground (K)</th><th>states</th><th>splitting (K)</th><th>where</th><th>weight</th></tr>"
-            f"{rows}</table></div>")
+            f"{rows}</table>"
+            "<table class='porefill-orbit-table'><caption style='text-align:left'><b>Where each site's free energy "
+            "comes from</b> (quantum site model)</caption><tr><th>sites</th><th>count</th><th>source</th>"
+            "<th>states given</th><th>share of Σ e<sup>−E/kT</sup></th><th>free energy (K)</th>"
+            "<th>classical (K)</th></tr>"
+            + "".join(f"<tr><td>{html.escape(o['label'])}</td><td>{o['sites']}</td><td>{html.escape(o['source'])}</td>"
+                      f"<td>{o['states']}</td><td>{o['boltzmann_share']:.3g}</td><td>{o['free_energy_k']:.2f}</td>"
+                      f"<td>{o['classical_free_energy_k']:.2f}</td></tr>" for o in st.get("orbits", []))
+            + "</table></div>")
 
     @staticmethod
     def _shifts_html(s: ComparisonSummary) -> str:

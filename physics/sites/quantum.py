@@ -30,7 +30,8 @@ from porefill.physics.sites.symmetry_blocks import block_states, mirror_permutat
 from porefill.physics.pore.wall_potential import wall_potential
 
 __all__ = ["states_numbers", "CrossSectionStates", "solve_states", "thermal_wavelength_angstrom", "classical_boltzmann_area",
-           "grid_states", "potential_grid", "henry_constant", "assign_states", "state_homes", "quantum_site_free_energy", "cached_states"]
+           "grid_states", "potential_grid", "henry_constant", "assign_states", "state_homes", "quantum_site_free_energy", "cached_states",
+           "orbit_sources"]
 
 _WALL_CUT_K = 2000.0          # grid points with V above this are outside the problem (hard wall; 400 K moves E0 by 0.1 K)
 _WEIGHT_FRACTION = 1e-6       # stop adding states once the next carries less Boltzmann weight than this
@@ -326,17 +327,42 @@ def quantum_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
     A site holding states of total Boltzmann sum S_i has Z_i = (ℓ/λ) S_i per slice, so
     f_i = −kT ln(λ² S_i / A_cell). Sites that no computed state reaches (high in the spectrum) keep their
     classical value. Σ_i exp(−f_i/kT) A_cell is then λ² Σ_n exp(−E_n/kT) plus those sites' classical share:
-    the low-pressure limit is the quantum Henry constant.
+    the low-pressure limit is the quantum Henry constant. `orbit_sources` says which sites got which.
     """
     kt = float(temperature_k)
-    states = cached_states(geometry, kt)
+    return _site_free_energies(cached_states(geometry, kt), geometry, kt)[0]
+
+
+def _site_free_energies(states: CrossSectionStates, geometry, kt: float):
     lat = geometry.candidates
     z_rel, reached = assign_states(states, lat.x, lat.y, geometry.orbit, kt)
     lam = thermal_wavelength_angstrom(states.hbar2_over_mk, kt)
     f = geometry.cells.free_energies(kt, lat.cell_area_angstrom2)
     with np.errstate(divide="ignore"):
         f_q = states.energies_k[0] - kt * np.log(lam * lam * z_rel / lat.cell_area_angstrom2)
-    return np.where(reached, f_q, f)
+    return np.where(reached, f_q, f), reached, f
+
+
+def orbit_sources(states: CrossSectionStates, geometry, temperature_k: float) -> list[dict]:
+    """Where each symmetry orbit's free energy comes from, for the readout: per orbit its label, site count,
+    the computed states given to it (`state_homes`) and their share of the Boltzmann sum, the free energy the
+    quantum site model uses (K) and the orbit's classical value beside it. An orbit no computed state reaches
+    keeps its classical cell integral (source "classical"); the others are "quantum states"."""
+    kt = float(temperature_k)
+    lat = geometry.candidates
+    f, reached, f_classical = _site_free_energies(states, geometry, kt)
+    home = state_homes(states, lat.x, lat.y, geometry.orbit, kt)
+    boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)
+    out = []
+    for o in range(int(geometry.orbit.max()) + 1):
+        members = np.flatnonzero(geometry.orbit == o)
+        rep = int(members[0])
+        mine = home == o
+        out.append({"orbit": o, "label": lat.label(rep), "sites": int(members.size),
+                    "source": "quantum states" if reached[rep] else "classical",
+                    "states": int(mine.sum()), "boltzmann_share": float(boltz[mine].sum() / boltz.sum()),
+                    "free_energy_k": float(f[rep]), "classical_free_energy_k": float(f_classical[rep])})
+    return out
 
 
 _STATES = BoundedCache(16)    # geometry key -> (temperature the states were solved for, states)
@@ -380,4 +406,5 @@ def states_numbers(states, geometry, temperature_k: float) -> dict:
                  "energy_error_estimate_k": states.error_k},
         "states_used": int(states.energies_k.size),
         "states_capped": bool(states.capped),
+        "orbits": orbit_sources(states, geometry, t),
     }
