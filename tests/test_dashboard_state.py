@@ -15,8 +15,26 @@ def test_every_scenario_field_survives_the_page():
     assert all(getattr(full, f.name) is not None for f in dataclasses.fields(Scenario))   # every field set
     state = ExplorerState.from_scenario(full)
     assert state.scenario() == full
-    state.size_angstrom = 20.0                          # a slider moves: the rest stays as loaded
-    assert state.scenario() == full.replace(size_angstrom=20.0)
+    state.size_angstrom = 20.0                          # a slider moves: the rest stays as loaded ...
+    moved = state.scenario()
+    assert moved.replace(title="", notes="") == full.replace(size_angstrom=20.0, title="", notes="")
+    # ... and the title and notes say it is no longer the file's scenario (issue: a new title when the scenario
+    # changes; the saved file, the header and the report read it)
+    assert moved.title.startswith("hexagon, side length 20 Å") and "“a <b>title</b>”" in moved.title
+    assert moved.notes.startswith("Changed on the page from “a <b>title</b>”: size 17.5 Å → 20 Å.")
+    assert moved.notes.endswith("Its notes: some notes")
+    state.size_angstrom = 17.5                          # back to the file's inputs: the file's words again
+    assert state.scenario() == full
+
+
+def test_pore_ends_and_tidy_numbers_reach_the_scenario():
+    # a slider's float steps are held as the number meant (issue: a link carried size_angstrom=22.999999999999996)
+    state = ExplorerState.from_scenario(Scenario(pore_ends="closed-end", title="t"))
+    assert state.scenario().pore_ends == "closed-end"
+    state.size_angstrom = 22.999999999999996
+    state.temperature_k = 1.7000000000000002
+    assert state.size_angstrom == 23.0 and state.temperature_k == 1.7
+    assert state.scenario().size_angstrom == 23.0
 
 
 def test_isolated_and_cylinder_scenarios_round_trip():

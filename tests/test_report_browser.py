@@ -113,10 +113,17 @@ def test_saved_scenario_reopens_the_same_screen_from_file_and_link(argon, browse
     before = text_of(argon, STEPS)
     drag_handle(argon, slider_handle(argon, "Temperature"), 25)
     wait_for_text_change(argon, STEPS, before)
+    notes = text_of(argon, ".porefill-branch-notes")
+    argon.get_by_role("button", name="closed-end").first.click()       # the pore ends travel too (issue)
+    wait_for_text_change(argon, ".porefill-branch-notes", notes)
     argon.wait_for_timeout(1500)
     steps, title = text_of(argon, STEPS), slider_title(argon, "Temperature")
+    header = argon.locator(".porefill-header h1").first.inner_text()
+    assert "changed on the page" in header          # no longer the file's scenario: a title that says so
     saved = _save(argon)
     doc = parse_document(saved)
+    assert doc.scenario.pore_ends == "closed-end" and doc.scenario.title in header
+    assert "pore_ends=closed-end" in argon.url
     shown = float(re.search(r"([\d.]+)\s*$", title).group(1))     # the slider drops trailing zeros (96, 96.05)
     assert shown == pytest.approx(doc.scenario.temperature_k, abs=0.005)
     in_link = float(re.search(r"[?&]temperature_k=([\d.]+)", argon.url).group(1))    # the link carries it
@@ -137,6 +144,7 @@ def test_saved_scenario_reopens_the_same_screen_from_file_and_link(argon, browse
         page.wait_for_timeout(1500)
         assert slider_title(page, "Temperature") == title, how
         assert text_of(page, STEPS) == steps, how
+        assert "Pore ends: closed-end" in text_of(page, ".porefill-branch-notes"), how
         assert "argon at 87.3 K" in page.locator(".porefill-header h1").first.inner_text(), how
         context.close()
 

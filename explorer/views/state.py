@@ -107,6 +107,48 @@ class ExplorerState(param.Parameterized):
         self.temperature_k = value
         self.param.temperature_k.bounds = (lo, hi)
 
+    @param.depends("size_angstrom", "wall_angstrom", "temperature_k", watch=True)
+    def _tidy_numbers(self):
+        """A slider's float steps (22.999999999999996) held as the number meant (23): in the link, the saved
+        file and every title."""
+        for name in ("size_angstrom", "wall_angstrom", "temperature_k"):
+            value = getattr(self, name)
+            tidy = float(f"{value:.10g}")
+            if tidy != value:
+                setattr(self, name, tidy)
+
+    def changes(self) -> list[str]:
+        """What the controls hold that differs from the loaded scenario, in words ([] when nothing does)."""
+        held, base = self._held(), self.base
+        words = []
+        for name, label, unit in (("shape", "shape", ""), ("size_angstrom", "size", " Å"),
+                                  ("wall_angstrom", "walls", " Å"), ("adsorbate", "gas", ""),
+                                  ("temperature_k", "temperature", " K"), ("pore_ends", "pore ends", "")):
+            old, new = getattr(base, name), getattr(held, name)
+            if old != new:
+                show = (lambda v: "none (isolated)" if v is None else (f"{v:g}{unit}" if isinstance(v, float)
+                                                                         else f"{v}{unit}"))
+                words.append(f"{label} {show(old)} → {show(new)}")
+        return words
+
+    @param.depends("shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k",
+                   "pore_ends", watch=True)
+    def _retitle(self):
+        """The title says what is on show: the loaded scenario's own while the controls hold its inputs, and a
+        new one naming the inputs (and where they came from) once they differ."""
+        title = self.base.title
+        if self.changes():
+            held = self._held()
+            title = describe(held) + (f" (changed on the page from “{self.base.title}”)" if self.base.title else "")
+        if title != self.title:
+            self.title = title
+
+    def _held(self) -> Scenario:
+        return self.base.replace(shape=self.shape, size_angstrom=float(self.size_angstrom),
+                                 wall_angstrom=None if self.isolated else float(self.wall_angstrom),
+                                 adsorbate=self.adsorbate, solid=self.solid, temperature_k=float(self.temperature_k),
+                                 pore_ends=self.pore_ends)
+
     @classmethod
     def from_scenario(cls, scenario: Scenario) -> "ExplorerState":
         wall = scenario.wall_angstrom
@@ -118,8 +160,11 @@ class ExplorerState(param.Parameterized):
 
     def scenario(self) -> Scenario:
         """The loaded scenario with what the controls hold: every other field (pair overrides, lattice,
-        bond, site model, pore volume, notes) is kept as loaded."""
-        return self.base.replace(shape=self.shape, size_angstrom=float(self.size_angstrom),
-                                 wall_angstrom=None if self.isolated else float(self.wall_angstrom),
-                                 adsorbate=self.adsorbate, solid=self.solid, temperature_k=float(self.temperature_k),
-                                 pore_ends=self.pore_ends, title=self.title)
+        bond, site model, pore volume) is kept as loaded. Once the controls differ from it, the title names the
+        new inputs (`_retitle`) and the notes begin with what was changed."""
+        notes, changes = self.base.notes, self.changes()
+        if changes:
+            head = (f"Changed on the page from “{self.base.title}”: " if self.base.title
+                    else "Changed on the page: ") + "; ".join(changes) + "."
+            notes = head + (f" Its notes: {notes}" if notes else "")
+        return self._held().replace(title=self.title, notes=notes)
