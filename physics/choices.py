@@ -8,7 +8,7 @@ from __future__ import annotations
 
 __all__ = ["SHAPES", "SIZE_NAMES", "size_label", "PORE_ENDS", "DEFAULT_PORE_ENDS", "SITE_MODELS", "LEGS",
            "BRANCHES", "AXES", "ISOTHERM_AXES", "AXIS_LABELS", "TABS", "DEFAULT_POINTS", "FREE_PARAMETERS",
-           "MEASURED_AMOUNT_UNITS", "TARGET_KINDS", "BOND_RULES"]
+           "MEASURED_AMOUNT_UNITS", "TARGET_KINDS", "WINDOW_UNITS", "BOND_RULES"]
 
 # pore cross-sections, and what the one size number of each means
 SHAPES = ("hexagon", "cylinder", "slit")
@@ -48,10 +48,14 @@ BOND_RULES = ("vapour-pressure", "critical-temperature", "binding-energy")
 
 # what a pore size can be chosen for (porefill.physics.sweep.Target)
 TARGET_KINDS = {
+    "walls-full-centre-empty": "walls full (first layer), central channel still empty",
     "single-channel": "central channel occupied, next ring empty",
     "first-layer": "complete first layer (every wall-contact site filled)",
+    "layer": "a given layer complete (layer 1: against the wall; the centre is the last)",
     "full-pore": "pore filled (every site)",
 }
+# the units a target's pressure window may be given in
+WINDOW_UNITS = {"pa": "Pa", "relative": "p/p₀"}
 
 
 def size_label(shape: str) -> str:

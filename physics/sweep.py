@@ -13,7 +13,9 @@ Site groups (from the orbit labels of `porefill.physics.lattice_gas.stages.Therm
 - **next ring**: the ring of sites next out from it: the innermost "ring k" (largest k), or, in a pore
   with no inner rings, the wall-contact layer;
 - **first layer**: every wall-contact site ("corner", "face", or "wall" for the cylinder and the slit);
-- **pore**: every kept site.
+- **pore**: every kept site;
+- **layer n**: the rows counted from the wall: layer 1 the wall-contact sites, layer k + 1 the sites of
+  "ring k" (rings are numbered inwards from the first row inside the wall layer), the centre the last layer.
 
 A group counts as *filled* at a pressure when its sites' equilibrium occupancy is at least the target's
 threshold (the centre: its mean, `Isotherm.central_channel_occupancy`; the first layer and the pore: every
@@ -210,12 +212,19 @@ def occupancy_profile(iso) -> dict[str, np.ndarray]:
         return occ[:, idx].min(axis=1) if idx else np.full(m, np.nan)
 
     has_centre = "centre" in labels
+    layer_of = [1 if i in wall_layer else (r + 1 if r is not None else None) for i, r in enumerate(rings)]
+    last = max([k for k in layer_of if k is not None], default=0) + 1
+    layer_of = [last if lab == "centre" else k for lab, k in zip(labels, layer_of)]
+    layers = [lowest([i for i, k in enumerate(layer_of) if k == n]) for n in range(1, max(layer_of) + 1)]
+    pressure = np.asarray(iso.pressure_pa, float)
     return {
-        "pressure_pa": np.asarray(iso.pressure_pa, float),
+        "pressure_pa": pressure,
+        "relative_pressure": pressure / float(iso.stage.saturation_pressure_pa),
         "centre": iso.central_channel_occupancy() if has_centre else np.zeros(m),
         "next_ring": occ[:, nxt].max(axis=1) if nxt else np.zeros(m),
         "first_layer": lowest(wall_layer),
         "pore": occ.min(axis=1),
+        "layers": layers,
     }
 
 
@@ -242,7 +251,8 @@ def sweep_point(scenario: Scenario, n_points: int = DEFAULT_POINTS) -> dict:
         "saturation_pressure_pa": float(iso.stage.saturation_pressure_pa),
         "steps": [iso.step_dict(s) for s in iso.steps],
         "step_fills": [step_fill_class(s) for s in iso.steps],
-        "profile": {k: _plain(v) for k, v in occupancy_profile(iso).items()},
+        "profile": {k: ([_plain(x) for x in v] if k == "layers" else _plain(v))
+                    for k, v in occupancy_profile(iso).items()},
     }
 
 
@@ -253,15 +263,20 @@ def sweep_point(scenario: Scenario, n_points: int = DEFAULT_POINTS) -> dict:
 class Target:
     """What an experiment wants of a pore, somewhere in the pressure window [``low_pa``, ``high_pa``] (Pa).
 
-    ``kind`` is one of `TARGET_KINDS`: "single-channel" (the centre filled while the next ring is empty),
-    "first-layer" (every wall-contact site filled; "below p" is ``high_pa`` = p) or "full-pore" (every
-    site filled). ``threshold``: the occupancy that counts as filled (module docstring).
+    ``kind`` is one of `TARGET_KINDS`: "walls-full-centre-empty" (every wall-contact site filled while the
+    centre is still empty), "single-channel" (the centre filled while the next ring is empty), "first-layer"
+    (every wall-contact site filled; "below p" is ``high_pa`` = p), "layer" (every site of layer ``layer``
+    filled, counted from the wall) or "full-pore" (every site filled). ``threshold``: the occupancy that counts
+    as filled (module docstring). With ``relative`` the window is in p/p0 instead of Pa (``low_pa`` and
+    ``high_pa`` then hold p/p0; "condensation by p/p0 0.5" is "full-pore" with ``high_pa`` = 0.5).
     """
 
     kind: str
     low_pa: float = 0.0
     high_pa: float = math.inf
     threshold: float = 0.5
+    layer: int = 1
+    relative: bool = False
 
     def __post_init__(self) -> None:
         if self.kind not in TARGET_KINDS:
@@ -273,18 +288,34 @@ class Target:
         if not self.high_pa > lo:
             raise ValueError(f"target pressure window must have low < high; got {self.low_pa!r} – {self.high_pa!r} Pa")
         check_number("target threshold", self.threshold, low=0.0, high=1.0, low_open=True)
+        if isinstance(self.layer, bool) or not isinstance(self.layer, int) or not 1 <= self.layer <= 200:
+            raise ValueError(f"target layer must be a whole number from 1 (against the wall) to 200; got {self.layer!r}")
 
     @property
     def description(self) -> str:
+        if self.kind == "layer":
+            return f"layer {self.layer} complete (counted from the wall)"
         return TARGET_KINDS[self.kind]
+
+    @property
+    def window_unit(self) -> str:
+        return "p/p₀" if self.relative else "Pa"
 
     def holds(self, profile: dict) -> np.ndarray:
         """(M,) whether the configuration holds at each grid point of an `occupancy_profile` (any pressure)."""
-        g = {k: np.array([np.nan if v is None else v for v in profile[k]], float) for k in profile}
+        g = {k: np.array([np.nan if v is None else v for v in profile[k]], float) for k in profile if k != "layers"}
         t = self.threshold
         with np.errstate(invalid="ignore"):
             if self.kind == "single-channel":
                 return (g["centre"] >= t) & (g["next_ring"] < t)
+            if self.kind == "walls-full-centre-empty":
+                return (g["first_layer"] >= t) & (g["centre"] < t)
+            if self.kind == "layer":
+                layers = profile.get("layers") or []
+                if self.layer > len(layers):
+                    return np.zeros(g["pore"].shape, bool)         # the pore has fewer layers
+                occ = np.array([np.nan if v is None else v for v in layers[self.layer - 1]], float)
+                return occ >= t
             return g["first_layer" if self.kind == "first-layer" else "pore"] >= t
 
 
@@ -294,11 +325,15 @@ def _profile_of(result) -> dict:
 
 def holding_intervals(target: Target, result) -> list[tuple[float, float]]:
     """Every run of grid pressures (Pa, lowest and highest of the run) inside the target's window at which
-    its configuration holds. ``result``: an `Isotherm` or a `sweep_point` dict (without an ``error``).
+    its configuration holds (the window read in p/p0 for a ``relative`` target; the runs always in Pa).
+    ``result``: an `Isotherm` or a `sweep_point` dict (without an ``error``).
     The ends are grid points of the isotherm's μ grid, so they are as fine as its ``n_points``."""
     profile = _profile_of(result)
     p = np.array([np.nan if v is None else v for v in profile["pressure_pa"]], float)
-    ok = target.holds(profile) & (p >= target.low_pa) & (p <= target.high_pa)
+    scale = p
+    if target.relative:
+        scale = np.array([np.nan if v is None else v for v in profile["relative_pressure"]], float)
+    ok = target.holds(profile) & (scale >= target.low_pa) & (scale <= target.high_pa)
     edges = np.diff(np.concatenate([[0], ok.astype(np.int8), [0]]))
     starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1) - 1
     return [(float(p[a]), float(p[b])) for a, b in zip(starts, ends)]

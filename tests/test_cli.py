@@ -229,3 +229,17 @@ def test_extrapolated_p0_note_names_the_gas_and_the_extrapolation():
     assert out.returncode == 0
     assert "argon" in out.stderr and "supercooled" in out.stderr and "ITS-90" not in out.stderr
     assert json.loads(out.stdout)["model"]["saturation_pressure_extrapolated"] is True
+
+
+def test_sweep_targets_walls_full_centre_empty_and_a_relative_window():
+    # the sizing question as users ask it (issue: walls full with the central channel empty; a window in p/p0)
+    out = run("sweep", "--pore", "hexagon", "--sizes", "14,16", "--wall", "8", "--adsorbate", "helium-4",
+              "--temperature", "1.5", "--site-model", "classical", "--target", "walls-full-centre-empty",
+              "--window", "0", "1", "--relative", "--json", "--workers", "1", "--quiet")
+    assert out.returncode == 0, out.stderr
+    data = json.loads(out.stdout)
+    assert data["target"]["kind"] == "walls-full-centre-empty" and data["target"]["high_relative"] == 1.0
+    assert any(p["target"]["met"] for p in data["pores"])
+    bad = run("sweep", "--pore", "hexagon", "--sizes", "14", "--temperature", "1.5", "--target", "layer",
+              "--layer", "0", "--quiet")
+    assert bad.returncode == 2 and "layer must be a whole number" in bad.stderr and "Traceback" not in bad.stderr

@@ -54,3 +54,22 @@ def test_the_list_shows_the_pores_meeting_the_target(view):
         assert f"<tr><td>{size:g}</td>" in view.meets_list.object
     view.high.value = 1e-4                     # a window that is not one
     assert "lowest &lt; highest" in view.meets_list.object
+
+
+def test_walls_full_centre_empty_a_layer_and_a_window_in_relative_pressure(view):
+    # the sizing question as users ask it (issue: walls full with the central channel empty; a given layer
+    # complete; the window in p/p0 as well as Pa), answered from the same sweep
+    view.sizes.value = "10,14"
+    view.compute()
+    view.window_unit.value = "p/p₀"
+    assert "p/p₀" in view.low.name and (view.low.value, view.high.value) == (0.0, 1.0)
+    view.target.value = "walls full (first layer), central channel still empty"
+    target = view.target_object()
+    assert target.kind == "walls-full-centre-empty" and target.relative and view.layer.visible is False
+    want = [p["size_angstrom"] for p in view._result.done if meets(target, p)[0]]
+    assert want and f"{len(want)} of 2 pores" in view.meets_list.object and "p/p₀" in view.meets_list.object
+    view.target.value = "a given layer complete (layer 1: against the wall; the centre is the last)"
+    assert view.layer.visible is True
+    view.layer.value = 2
+    assert view.target_object() == Target("layer", low_pa=0.0, high_pa=1.0, layer=2, relative=True)
+    assert "layer 2 complete" in view.meets_list.object

@@ -16,9 +16,10 @@ POINTS = 60
 SIZES = (8.0, 10.0, 14.0)
 FULL = "pore filled (every site)"
 FIRST = "complete first layer (every wall-contact site filled)"
+WALLS = "walls full (first layer), central channel still empty"
 
 
-def _expected(kind: str, low: float, high: float) -> list[float]:
+def _expected(kind: str, low: float, high: float, relative: bool = False) -> list[float]:
     """The sizes meeting the target, computed here through the physics (not through the page)."""
     from porefill.explorer.files.scenario_file import load_scenario
     from porefill.explorer.jobs.sweep_runner import point_job
@@ -26,7 +27,7 @@ def _expected(kind: str, low: float, high: float) -> list[float]:
 
     base = load_scenario(ROOT / "scenarios" / "demo-hexagon-helium.toml").replace(site_model="classical",
                                                                                   title="", notes="")
-    target = Target(kind, low_pa=low, high_pa=high)
+    target = Target(kind, low_pa=low, high_pa=high, relative=relative)
     return [s for s in SIZES if meets(target, point_job(base.replace(size_angstrom=s), POINTS))[0]]
 
 
@@ -83,6 +84,13 @@ def test_a_target_marks_the_sizes_that_meet_it(page):
     page.locator(".porefill-sizing-target select").first.select_option(label=FIRST)
     _wait_for(page, MEETS, "complete first layer")
     assert _listed_sizes(page) == _expected("first-layer", 1e-3, 1.0)
+
+    # the question as users ask it, with the window in p/p0: walls full, the central channel still empty
+    page.locator(".porefill-sizing-window-unit button", has_text="p/p₀").first.click()
+    page.locator(".porefill-sizing-target select").first.select_option(label=WALLS)
+    text = _wait_for(page, MEETS, r"central channel still empty, between 0 and 1 p/p₀")
+    want = _expected("walls-full-centre-empty", 0.0, 1.0, relative=True)
+    assert want and f"{len(want)} of {len(SIZES)} pores" in text and _listed_sizes(page) == want
 
     # the same sweep again comes from the cache
     _fill(page, "porefill-sizing-sizes", "8,10")

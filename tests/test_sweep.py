@@ -366,3 +366,38 @@ def test_d100_ties_each_wall_to_its_side():
         SweepSpec(BASE, sizes_angstrom=(30.0,), d100_angstrom=d100)          # the pores would overlap
     with pytest.raises(ValueError, match="without walls"):
         SweepSpec(BASE, walls_angstrom=(8.0,), d100_angstrom=d100)
+
+
+def test_walls_full_centre_empty_and_a_given_layer_on_a_made_up_profile():
+    # invented occupancies over five pressures: the wall layer fills at the 2nd, layer 2 at the 3rd, the centre
+    # (layer 3) at the 4th; p0 = 10 Pa, so the relative pressures are a tenth of the pressures
+    profile = {"pressure_pa": [1.0, 2.0, 3.0, 4.0, 5.0], "relative_pressure": [0.1, 0.2, 0.3, 0.4, 0.5],
+               "centre": [0.0, 0.0, 0.1, 0.9, 1.0], "next_ring": [0.0, 0.0, 0.9, 0.9, 1.0],
+               "first_layer": [0.1, 0.9, 1.0, 1.0, 1.0], "pore": [0.0, 0.0, 0.1, 0.9, 1.0],
+               "layers": [[0.1, 0.9, 1.0, 1.0, 1.0], [0.0, 0.0, 0.9, 0.9, 1.0], [0.0, 0.0, 0.1, 0.9, 1.0]]}
+    point = {"profile": profile}
+    assert holding_intervals(Target("walls-full-centre-empty"), point) == [(2.0, 3.0)]
+    assert holding_intervals(Target("layer", layer=2), point) == [(3.0, 5.0)]
+    assert holding_intervals(Target("layer", layer=3), point) == holding_intervals(Target("full-pore"), point)
+    assert meets(Target("layer", layer=4), point) == (False, None)          # no fourth layer in this pore
+    # a window in p/p0 reads the relative pressures and answers in Pa
+    assert meets(Target("full-pore", high_pa=0.45, relative=True), point) == (True, (4.0, 4.0))
+    assert meets(Target("full-pore", high_pa=0.35, relative=True), point) == (False, None)
+    with pytest.raises(ValueError, match="layer must be a whole number"):
+        Target("layer", layer=0)
+
+
+def test_layers_of_a_computed_pore_fill_from_the_wall_inwards(iso14):
+    # layer 1 is the wall-contact sites, the centre the last layer; each layer fills no earlier than the one
+    # outside it (adsorption from the wall inwards, the configuration the sizing targets describe)
+    from porefill.physics.sweep import occupancy_profile
+
+    prof = occupancy_profile(iso14)
+    np.testing.assert_array_equal(prof["layers"][0], prof["first_layer"])
+    np.testing.assert_array_equal(prof["layers"][-1], iso14.equilibrium_occupancy()[:, [
+        i for i, lab in enumerate(iso14.stage.orbit_labels()) if lab == "centre"]].min(axis=1))
+    first_full = [int(np.argmax(layer >= 0.5)) for layer in prof["layers"]]
+    assert all(np.any(layer >= 0.5) for layer in prof["layers"])
+    assert first_full == sorted(first_full)
+    walls_full = holding_intervals(Target("walls-full-centre-empty"), iso14)
+    assert walls_full and walls_full[0][0] == pytest.approx(meets(Target("first-layer"), iso14)[1][0])

@@ -38,7 +38,11 @@ def register(sub) -> None:
     p.add_argument("--target", choices=list(TARGET_KINDS),
                    help="mark the pores that meet a target: " + "; ".join(f"{k}: {v}" for k, v in TARGET_KINDS.items()))
     p.add_argument("--window", type=float, nargs=2, metavar=("LOW", "HIGH"),
-                   help="pressure window of the apparatus for --target, Pa (default: any pressure)")
+                   help="pressure window of the apparatus for --target, Pa (or p/p0 with --relative; "
+                        "default: any pressure)")
+    p.add_argument("--relative", action="store_true", help="--window is in p/p0 (relative pressure), not Pa")
+    p.add_argument("--layer", type=int, default=1,
+                   help="for --target layer: which layer must be complete, counted from the wall (default 1)")
     p.add_argument("--workers", type=int, help="worker processes on this machine (default: its cores; 1: none)")
     p.add_argument("--cluster", metavar="ADDRESS",
                    help="run on the Dask cluster whose scheduler is at ADDRESS (e.g. tcp://10.0.0.5:8786)")
@@ -96,7 +100,7 @@ def _target(args):
         return None
     low, high = args.window if args.window is not None else (0.0, float("inf"))
     try:
-        return Target(args.target, low_pa=low, high_pa=high)
+        return Target(args.target, low_pa=low, high_pa=high, layer=args.layer, relative=args.relative)
     except ValueError as exc:
         raise UsageError(f"--window: {exc}") from None
 

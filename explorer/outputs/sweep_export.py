@@ -52,9 +52,10 @@ def sweep_json(result: SweepResult, *, target: Target | None = None) -> dict:
         "seconds": round(result.seconds, 3),
     }
     if target is not None:
-        out["target"] = {"kind": target.kind, "description": target.description, "low_pa": target.low_pa,
-                         "high_pa": target.high_pa if target.high_pa != float("inf") else None,
-                         "threshold": target.threshold}
+        unit = "relative" if target.relative else "pa"        # the window's unit names its keys
+        out["target"] = {"kind": target.kind, "description": target.description, f"low_{unit}": target.low_pa,
+                         f"high_{unit}": target.high_pa if target.high_pa != float("inf") else None,
+                         "threshold": target.threshold, "layer": target.layer}
     return out
 
 

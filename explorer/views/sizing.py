@@ -32,6 +32,7 @@ __all__ = ["SizingView", "FILL_COLOURS"]
 FILL_COLOURS = {"corner": "#d1495b", "face": "#1b6ca8", "ring": "#2e8540", "centre": "#e08a00", "spread": "#777777"}
 MODES = {"side length": "size", "temperature (fixed side)": "temperature", "side length at a known d100": "d100"}
 _NO_TARGET = "(no target)"
+_WINDOW_UNITS = ("Pa", "p/p₀")
 _WIDTH = 620
 
 _runners: dict[str, SweepRunner] = {}
@@ -86,7 +87,8 @@ class SizingView(pn.viewable.Viewer):
         st = self.state
         wall = "8" if st.isolated else f"{st.wall_angstrom:g}"
         t = st.temperature_k
-        self.mode = pn.widgets.RadioButtonGroup(name="Across", options=list(MODES), value="side length")
+        self.mode = pn.widgets.RadioButtonGroup(name="Across", options=list(MODES), value="side length",
+                                                orientation="vertical", width=290)   # no overlap with the status
         self.sizes = pn.widgets.TextInput(name="Side lengths (Å): start:stop:count, or a list",
                                           value="10:30:11", width=290, css_classes=["porefill-sizing-sizes"])
         self.walls = pn.widgets.TextInput(name="Walls (Å): one, a list or start:stop:count", value=wall, width=290)
@@ -103,6 +105,10 @@ class SizingView(pn.viewable.Viewer):
                                           css_classes=["porefill-sizing-high"])
         self.target = pn.widgets.Select(name="Target", options=[_NO_TARGET] + list(TARGET_KINDS.values()),
                                         value=_NO_TARGET, width=290, css_classes=["porefill-sizing-target"])
+        self.layer = pn.widgets.IntInput(name="Layer that must be complete (1: against the wall)", value=2, start=1,
+                                         end=200, width=290, visible=False, css_classes=["porefill-sizing-layer"])
+        self.window_unit = pn.widgets.RadioButtonGroup(name="Window in", options=list(_WINDOW_UNITS), value="Pa",
+                                                       width=290, css_classes=["porefill-sizing-window-unit"])
         self.scheduler = pn.widgets.TextInput(name="Dask scheduler (empty: this machine)",
                                               placeholder="tcp://host:8786", width=290,
                                               css_classes=["porefill-sizing-scheduler"])
@@ -121,7 +127,9 @@ class SizingView(pn.viewable.Viewer):
         self._job: ThreadJob | None = None        # the sweep under way (porefill.explorer.jobs.background)
         self.compute_button.on_click(self.compute)
         self.stop_button.on_click(self.stop)
-        for w in (self.low, self.high, self.target):
+        self.window_unit.param.watch(self._fit_window, "value")
+        self.target.param.watch(lambda *_: setattr(self.layer, "visible", self._kind() == "layer"), "value")
+        for w in (self.low, self.high, self.target, self.layer):
             w.param.watch(self._redraw, "value")
         self.mode.param.watch(self._fit_inputs, "value")
         self._fit_inputs()
@@ -135,13 +143,25 @@ class SizingView(pn.viewable.Viewer):
         self.temps.visible = mode == "temperature"
         self.d100.visible = mode == "d100"
 
+    def _fit_window(self, *_):
+        """The window's inputs say their unit; a change of unit starts from that unit's whole range."""
+        relative = self.window_unit.value != "Pa"
+        self.low.name = "Apparatus: lowest relative pressure p/p₀" if relative else "Apparatus: lowest pressure (Pa)"
+        self.high.name = ("Apparatus: highest relative pressure p/p₀" if relative
+                          else "Apparatus: highest pressure (Pa)")
+        self.low.value, self.high.value = (0.0, 1.0) if relative else (1e-3, 1e3)
+
+    def _kind(self) -> str | None:
+        return next((k for k, v in TARGET_KINDS.items() if v == self.target.value), None)
+
     def target_object(self) -> Target | None:
         """The chosen target in the apparatus's window (None: no target, or a window that is not one)."""
-        if self.target.value == _NO_TARGET:
+        kind = self._kind()
+        if kind is None:
             return None
-        kind = next(k for k, v in TARGET_KINDS.items() if v == self.target.value)
         try:
-            return Target(kind, low_pa=float(self.low.value or 0.0), high_pa=float(self.high.value or math.inf))
+            return Target(kind, low_pa=float(self.low.value or 0.0), high_pa=float(self.high.value or math.inf),
+                          layer=int(self.layer.value or 1), relative=self.window_unit.value != "Pa")
         except ValueError:
             return None
 
@@ -266,7 +286,7 @@ class SizingView(pn.viewable.Viewer):
             return f"<p>Target: {html.escape(target.description)}. Compute a sweep to see which pores meet it.</p>"
         x_name = "Temperature (K)" if self._mode_shown == "temperature" else "Side (Å)"
         head = (f"<p><b>{html.escape(target.description)}</b>, between {target.low_pa:.3g} and "
-                f"{target.high_pa:.3g} Pa: {len(marks)} of {len(self._result.done)} pores.</p>")
+                f"{target.high_pa:.3g} {target.window_unit}: {len(marks)} of {len(self._result.done)} pores.</p>")
         if not marks:
             return head + "<p>No pore of this sweep meets it.</p>"
         rows = "".join(f"<tr><td>{x:.4g}</td><td>{'—' if w is None else f'{w:.3g}'}</td><td>{lo:.3g} – {hi:.3g}</td></tr>"
@@ -284,10 +304,15 @@ class SizingView(pn.viewable.Viewer):
         rows = step_rows(self._result, x_key)
         p = np.array(rows["p"], float)
         low, high = float(self.low.value or 0.0), float(self.high.value or 0.0)
+        if self.window_unit.value != "Pa":      # the band in Pa where every pore shares one p0, else none
+            p0 = {pt.get("saturation_pressure_pa") for pt in self._result.done if "error" not in pt}
+            scale = p0.pop() if len(p0) == 1 else None
+            low, high = (low * scale, high * scale) if scale else (0.0, -1.0)
         positive = p[p > 0]
         y0 = min([positive.min() if positive.size else 1e-6] + ([low] if low > 0 else [])) / 3
         y1 = max([positive.max() if positive.size else 1.0] + ([high] if high > 0 else [])) * 3
-        layers = [hv.HSpan(max(low, y0), min(high, y1) if high > 0 else y1).opts(color="#999999", alpha=0.18)]
+        layers = [] if high < 0 else [
+            hv.HSpan(max(low, y0), min(high, y1) if high > 0 else y1).opts(color="#999999", alpha=0.18)]
         if marks:
             seg = hv.Segments([(x, lo, x, hi) for x, _, lo, hi in marks], kdims=["x", "p", "x1", "p1"])
             layers.append(seg.opts(color="black", alpha=0.35, line_width=7))
@@ -313,7 +338,7 @@ class SizingView(pn.viewable.Viewer):
 
     def __panel__(self):
         controls = pn.Column(self.mode, self.sizes, self.walls, self.temps, self.d100, self.model, self.points,
-                             self.low, self.high, self.target, self.scheduler,
+                             self.window_unit, self.low, self.high, self.target, self.layer, self.scheduler,
                              pn.Row(self.compute_button, self.stop_button), self.progress, width=310)
         return pn.Row(controls, pn.Column(self.status, pn.Row(self._body, self.meets_list)),
                       css_classes=["porefill-sizing"])
