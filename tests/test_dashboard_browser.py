@@ -363,3 +363,20 @@ def test_pore_ends_and_the_relative_pressure_axis(page):
     page.wait_for_timeout(1200)
     assert box.screenshot() != log_png          # another plot is on show (its text is drawn on the canvas)
     assert page.console_errors == []
+
+
+def test_the_site_model_control_switches_the_main_view(page):
+    # the demo opens classical; the control on the main view says so and switches to the exact one-atom states,
+    # which move helium's steps by orders of magnitude (issue: a visible site-model control on the main view)
+    from porefill.explorer.server.testing import text_of, wait_for_text_change
+
+    page.locator(STEPS).first.wait_for(timeout=60_000)
+    control = page.locator(".porefill-site-model")
+    assert "active" in (control.get_by_role("button", name="classical").first.get_attribute("class") or "")
+    before = text_of(page, STEPS)
+    control.get_by_role("button", name="quantum").first.click()
+    wait_for_text_change(page, STEPS, before, timeout_s=120)
+    assert "site model classical → quantum" not in text_of(page, STEPS)     # words live in the notes, not the table
+    assert "changed on the page" in page.locator(".porefill-header h1").first.inner_text()
+    assert "site_model=quantum" in page.url
+    assert page.console_errors == []

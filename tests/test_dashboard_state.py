@@ -51,3 +51,19 @@ def test_wall_slider_starts_at_the_thinnest_physical_wall():
     low = ExplorerState.param.wall_angstrom.bounds[0]
     assert low >= minimum_wall_angstrom(SOLIDS["silica"].density_per_a3)
     Scenario(wall_angstrom=low)                         # accepted at the slider's end
+
+
+def test_the_site_model_is_a_control_that_round_trips():
+    # helium opens on its default (quantum; none named in the file stays none), a change reaches the scenario,
+    # the title and the notes, and another gas starts on its own default (issue: a visible site-model control)
+    plain = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5, title="t")
+    state = ExplorerState.from_scenario(plain)
+    assert state.site_model == "quantum" and state.scenario() == plain
+    state.site_model = "classical"
+    assert state.scenario().site_model == "classical" and "site model quantum → classical" in state.scenario().notes
+    state.adsorbate = "nitrogen"
+    assert state.site_model == "classical"
+    state.adsorbate = "helium-4"
+    assert state.site_model == "quantum"
+    named = ExplorerState.from_scenario(plain.replace(site_model="classical"))
+    assert named.site_model == "classical" and named.scenario().site_model == "classical"

@@ -58,8 +58,12 @@ def controls(state: ExplorerState) -> pn.viewable.Viewable:
 
     fit_wall()
     state.param.watch(fit_wall, ["shape", "isolated"])
-    return pn.Column(shape, size, wall, wall_note, isolated, adsorbate, temperature, width=CONTROLS_WIDTH,
-                     css_classes=["porefill-controls"])
+    site_model = pn.widgets.RadioButtonGroup.from_param(state.param.site_model, width=width,
+                                                        css_classes=["porefill-site-model"])
+    return pn.Column(shape, size, wall, wall_note, isolated, adsorbate, temperature,
+                     pn.pane.HTML("<span style='font-size:13px'>Site model (how a site's free energy is found)</span>",
+                                  margin=(6, 10, 0, 10)),
+                     site_model, width=CONTROLS_WIDTH, css_classes=["porefill-controls"])
 
 
 def header(title: str) -> pn.pane.HTML:

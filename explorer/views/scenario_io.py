@@ -31,8 +31,10 @@ from porefill.explorer.views.state import ExplorerState
 __all__ = ["ScenarioIO", "URL_KEYS", "MAX_SCENARIO_BYTES", "report_job"]
 
 log = logging.getLogger("porefill.explorer")
-URL_KEYS = ("shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k", "pore_ends")
-_APPLY_ORDER = ("adsorbate", "shape", "isolated", "wall_angstrom", "size_angstrom", "temperature_k", "pore_ends")
+URL_KEYS = ("shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k", "pore_ends",
+            "site_model")
+_APPLY_ORDER = ("adsorbate", "shape", "isolated", "wall_angstrom", "size_angstrom", "temperature_k", "pore_ends",
+                "site_model")
 MAX_SCENARIO_BYTES = 4 * 1024 * 1024      # a scenario with many measured runs is well under 1 MB
 # the first word of each tab's title (explorer.views.dashboard), for every name in porefill.physics.choices.TABS
 _TAB_NAMES = {"pore": "Pore", "quantum": "Quantum", "measured": "Measured", "sizing": "Sizing", "about": "About"}
@@ -198,7 +200,8 @@ class ScenarioIO(pn.viewable.Viewer):
         the controls cannot hold its inputs."""
         sc = doc.scenario
         values = {"shape": sc.shape, "size_angstrom": sc.size_angstrom, "isolated": sc.wall_angstrom is None,
-                  "adsorbate": sc.adsorbate, "temperature_k": sc.temperature_k, "pore_ends": sc.pore_ends}
+                  "adsorbate": sc.adsorbate, "temperature_k": sc.temperature_k, "pore_ends": sc.pore_ends,
+                  "site_model": sc.site_model_used}
         if sc.wall_angstrom is not None:
             values["wall_angstrom"] = sc.wall_angstrom
         self._check_on_probe(sc, values)

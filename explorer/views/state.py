@@ -4,7 +4,7 @@ from __future__ import annotations
 import numpy as np
 import param
 
-from porefill.physics.choices import DEFAULT_PORE_ENDS, PORE_ENDS, SHAPES, SIZE_NAMES
+from porefill.physics.choices import DEFAULT_PORE_ENDS, PORE_ENDS, SHAPES, SITE_MODELS, SIZE_NAMES
 from porefill.physics.limits import MAX_WALL_ANGSTROM, SIZE_RANGE_ANGSTROM, check_number, minimum_wall_angstrom
 from porefill.physics.substances.materials import ADSORBATES, SOLIDS
 from porefill.physics.scenario import Scenario
@@ -67,6 +67,12 @@ class ExplorerState(param.Parameterized):
                                    "fills on the adsorption branch and empties at the equilibrium transition "
                                    "(a receding meniscus). Closed at one end: fills and empties at equilibrium, no "
                                    "hysteresis. Infinite: the raw mean-field branches, both spinodals (limits).")
+    site_model = param.Selector(default="quantum", objects=list(SITE_MODELS), label="Site model",
+                                doc="How a site's free energy is found. Classical: the Boltzmann integral of the wall "
+                                    "potential over the site's cell (fast). Quantum: the exact one-atom states of the "
+                                    "cross-section (helium, hydrogen and neon default; slower, and for helium the "
+                                    "layer steps move by orders of magnitude in pressure). The Quantum states tab "
+                                    "compares the two.")
     solid = param.String(default="silica", constant=True, doc="Solid (catalog name)")
     title = param.String(default="", doc="Scenario title (from the scenario file; shown as plain text)")
     base = param.ClassSelector(class_=Scenario, default=Scenario(), precedence=-1,
@@ -123,7 +129,8 @@ class ExplorerState(param.Parameterized):
         words = []
         for name, label, unit in (("shape", "shape", ""), ("size_angstrom", "size", " Å"),
                                   ("wall_angstrom", "walls", " Å"), ("adsorbate", "gas", ""),
-                                  ("temperature_k", "temperature", " K"), ("pore_ends", "pore ends", "")):
+                                  ("temperature_k", "temperature", " K"), ("pore_ends", "pore ends", ""),
+                                  ("site_model_used", "site model", "")):
             old, new = getattr(base, name), getattr(held, name)
             if old != new:
                 show = (lambda v: "none (isolated)" if v is None else (f"{v:g}{unit}" if isinstance(v, float)
@@ -132,7 +139,7 @@ class ExplorerState(param.Parameterized):
         return words
 
     @param.depends("shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k",
-                   "pore_ends", watch=True)
+                   "pore_ends", "site_model", watch=True)
     def _retitle(self):
         """The title says what is on show: the loaded scenario's own while the controls hold its inputs, and a
         new one naming the inputs (and where they came from) once they differ."""
@@ -144,10 +151,21 @@ class ExplorerState(param.Parameterized):
             self.title = title
 
     def _held(self) -> Scenario:
-        return self.base.replace(shape=self.shape, size_angstrom=float(self.size_angstrom),
+        held = self.base.replace(shape=self.shape, size_angstrom=float(self.size_angstrom),
                                  wall_angstrom=None if self.isolated else float(self.wall_angstrom),
                                  adsorbate=self.adsorbate, solid=self.solid, temperature_k=float(self.temperature_k),
                                  pore_ends=self.pore_ends)
+        # the gas's default stays unnamed (None) as a file without the line has it
+        unnamed = self.base.site_model is None and self.site_model == held.replace(site_model=None).site_model_used
+        return held.replace(site_model=None if unnamed else self.site_model)
+
+    @param.depends("adsorbate", watch=True)
+    def _fit_site_model(self):
+        """A new gas starts on its own default site model (the file's, for the file's gas)."""
+        named = self.base.site_model if self.adsorbate == self.base.adsorbate else None
+        wanted = self.base.replace(adsorbate=self.adsorbate, site_model=named).site_model_used
+        if wanted != self.site_model:
+            self.site_model = wanted
 
     @classmethod
     def from_scenario(cls, scenario: Scenario) -> "ExplorerState":
@@ -156,7 +174,7 @@ class ExplorerState(param.Parameterized):
                    wall_angstrom=wall if wall is not None else 8.0,
                    isolated=wall is None, adsorbate=scenario.adsorbate,
                    temperature_k=scenario.temperature_k, solid=scenario.solid, title=scenario.title,
-                   pore_ends=scenario.pore_ends, base=scenario)
+                   pore_ends=scenario.pore_ends, site_model=scenario.site_model_used, base=scenario)
 
     def scenario(self) -> Scenario:
         """The loaded scenario with what the controls hold: every other field (pair overrides, lattice,
