@@ -102,3 +102,14 @@ def smooth_wall(monkeypatch):
     yield
     monkeypatch.undo()
     clear_caches()
+
+
+def pytest_collection_modifyitems(config, items):
+    """Tests marked slow (minutes of reference computation, e.g. the independent quantum solver at its larger
+    pores) run when POREFILL_SLOW=1; otherwise they are skipped with that reason shown."""
+    if os.environ.get("POREFILL_SLOW") == "1":
+        return
+    skip = pytest.mark.skip(reason="slow reference check: run with POREFILL_SLOW=1")
+    for item in items:
+        if "slow" in item.keywords:
+            item.add_marker(skip)
