@@ -315,6 +315,18 @@ def test_password_from_environment():
         read_password(None, {"POREFILL_PASSWORD": ""})
 
 
+def test_password_file_with_a_byte_order_mark(tmp_path):
+    # issue 22: a UTF-8 BOM (Notepad's "UTF-8 with BOM") became part of the password, so no typed password
+    # matched; the BOM is U+FEFF encoded as EF BB BF (Unicode Standard, §23.8)
+    from porefill.explorer.server.security import read_password
+
+    path = tmp_path / "password.txt"
+    path.write_bytes(b"\xef\xbb\xbfs3cret\r\n")
+    assert read_password(str(path), {}) == "s3cret"
+    path.write_bytes("s3cret\ufeff\n".encode())         # one inside the password is the user's own
+    assert read_password(str(path), {}) == "s3cret\ufeff"
+
+
 # --------------------------------------------------------------------------------------- serve failures
 
 def _serve_fails(*args: str, env: dict | None = None, cwd: Path | None = None) -> str:

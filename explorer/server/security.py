@@ -159,7 +159,7 @@ def read_password(path: str | None, environ: os._Environ | dict | None = None) -
         if p.is_dir():
             raise ServeError(f"--password-file {path}: is a directory, not a file")
         try:
-            text = p.read_text(encoding="utf-8")
+            text = p.read_text(encoding="utf-8-sig")   # an editor's byte-order mark is not part of the password
         except FileNotFoundError:
             raise ServeError(f"--password-file {path}: no such file") from None
         except (OSError, UnicodeDecodeError) as exc:
