@@ -227,3 +227,28 @@ def test_a_link_refuses_bad_values_by_name_and_keeps_the_good():
     assert set(refused) == {"size_angstrom", "shape", "isolated"}
     assert state.temperature_k == 88.0 and state.size_angstrom == FAST.size_angstrom and state.shape == "slit"
     assert io_view._apply_link({"temperature_k": float("nan")}) and state.temperature_k == 88.0
+
+
+def test_a_refused_link_is_told_in_plain_words():
+    # issue 22: the message showed param's own text ("Selector parameter 'ExplorerState.adsorbate' ...");
+    # it names the query key, the value and what is allowed (common practice, no source)
+    from porefill.explorer.views.scenario_io import refused_link_message
+
+    io_view, state = _io()
+    wanted = {"adsorbate": "xenon", "shape": "triangle", "isolated": "perhaps", "size_angstrom": 1500,
+              "wall_angstrom": "thick", "temperature_k": float("nan")}
+    refused = io_view._apply_link(wanted)
+    assert set(refused) == set(wanted)
+    assert refused["adsorbate"] == "must be one of helium-4, hydrogen, neon, argon, nitrogen"
+    assert refused["shape"] == "must be one of hexagon, cylinder, slit"
+    assert refused["isolated"] == "must be true or false"
+    assert refused["size_angstrom"] == "must be between 2 and 1000 Å for a slit"   # physics/limits.py
+    assert refused["wall_angstrom"] == "must be a number"
+    assert refused["temperature_k"] == "must be a finite number"
+    message = refused_link_message(wanted, refused)
+    assert "adsorbate = 'xenon' (must be one of helium-4" in message and "size_angstrom = 1500 (" in message
+    assert "parameter" not in message and "ExplorerState" not in message and len(message.splitlines()) == 1
+    io_view._apply_link({"adsorbate": "argon"})
+    lo, hi = state.param.temperature_k.bounds
+    why = io_view._apply_link({"temperature_k": 500.0})["temperature_k"]
+    assert why == f"must be between {lo:g} and {hi:g} K for argon"
