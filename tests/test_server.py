@@ -315,6 +315,41 @@ def test_password_from_environment():
         read_password(None, {"POREFILL_PASSWORD": ""})
 
 
+def test_a_closed_page_is_no_error_in_the_log(caplog):
+    # issue 22: a write to a closed tab ended in a task whose WebSocketClosedError nobody retrieved, which
+    # asyncio logs with its traceback (Python docs, asyncio "Detect never-retrieved exceptions"); other
+    # exceptions still reach the loop's handler (common practice, no source)
+    import gc
+    import logging
+
+    from tornado.websocket import WebSocketClosedError
+
+    from porefill.explorer.server.server import quiet_closed_pages
+
+    async def closed():
+        raise WebSocketClosedError()
+
+    async def broken():
+        raise RuntimeError("a real fault")
+
+    loop = asyncio.new_event_loop()
+    try:
+        quiet_closed_pages(loop)
+        with caplog.at_level(logging.DEBUG):
+            for coro in (closed(), broken()):
+                task = loop.create_task(coro)
+                loop.run_until_complete(asyncio.wait([task]))
+                del task                     # never retrieved: reported when the task is collected
+                gc.collect()
+            logging.getLogger("panel.io.document").warning("Failed sending message as connection was closed")
+            logging.getLogger("bokeh.server.views.ws").warning("Failed sending message as connection was closed")
+    finally:
+        loop.close()
+    loud = [r for r in caplog.records if r.levelno >= logging.INFO]
+    assert len(loud) == 1 and "a real fault" in str(loud[0].exc_info[1]), [r.getMessage() for r in loud]
+    assert sum("a page closed" in r.getMessage() for r in caplog.records) == 3
+
+
 def test_password_file_with_a_byte_order_mark(tmp_path):
     # issue 22: a UTF-8 BOM (Notepad's "UTF-8 with BOM") became part of the password, so no typed password
     # matched; the BOM is U+FEFF encoded as EF BB BF (Unicode Standard, §23.8)
