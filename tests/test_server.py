@@ -252,6 +252,35 @@ def test_security_headers_on_every_response(server, path, host):
     assert "connect-src 'self'" in headers["content-security-policy"]
 
 
+def _raw(port: int, request: bytes) -> bytes:
+    """Everything the server sends back to ``request`` written on a plain socket, until it closes."""
+    with socket.create_connection(("127.0.0.1", port), timeout=120) as conn:
+        conn.sendall(request)
+        answer = b""
+        while chunk := conn.recv(65536):
+            answer += chunk
+    return answer
+
+
+@pytest.mark.parametrize("request_bytes, words", [
+    (b"GET / HTTP/1.1\r\n\r\n", "Missing Host header"),
+    (b"GET / HTTP/1.1\r\nHost: a b\r\n\r\n", "Invalid Host header"),
+    (b"POST /login HTTP/1.1\r\nContent-Length: 5\r\n\r\nhello", "Missing Host header"),
+])
+def test_tornados_own_bad_request_carries_the_security_headers(server, request_bytes, words):
+    # issue 22: Tornado answered a request without a Host header (HTTP/1.1 requires one: RFC 9112 §3.2)
+    # with a bare "HTTP/1.1 400 Bad Request" line, without the headers every other response has
+    port, _ = server
+    head, _, body = _raw(port, request_bytes).partition(b"\r\n\r\n")
+    lines = head.decode("latin-1").split("\r\n")
+    assert lines[0] == "HTTP/1.1 400 Bad Request"
+    headers = {k.lower(): v for k, v in (line.split(": ", 1) for line in lines[1:])}
+    for name, part in SECURITY_HEADERS.items():
+        assert part in headers.get(name, ""), name
+    assert headers["connection"] == "close" and headers["content-type"].startswith("text/plain")
+    assert words in body.decode() and len(body) == int(headers["content-length"])
+
+
 # ------------------------------------------------------------------------------------------- password
 
 def _login(port: int, password: str):

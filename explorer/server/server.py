@@ -7,7 +7,7 @@ import secrets
 
 from porefill.physics.scenario import Scenario
 
-from porefill.explorer.server.security import AUTH_COOKIE, AccessPolicy, ServeError, install
+from porefill.explorer.server.security import AUTH_COOKIE, AccessPolicy, ServeError, answer_bad_requests, install
 
 __all__ = ["serve", "start_server", "quiet_closed_pages"]
 
@@ -98,6 +98,7 @@ def start_server(scenario: Scenario | None, *, address: str, port: int, policy: 
     except OSError as exc:
         raise ServeError(f"cannot listen on {address} port {port}: {exc.strerror or exc}") from None
     install(server._tornado, policy, session_secret=secret_key)  # noqa: SLF001 - Bokeh keeps its Tornado application there
+    answer_bad_requests(server._http)  # noqa: SLF001 - Bokeh keeps its Tornado HTTP server there
     quiet_closed_pages(server.io_loop.asyncio_loop)
     return server
 
