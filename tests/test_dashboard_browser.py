@@ -311,6 +311,43 @@ def test_hostile_scenario_title_is_shown_as_text(browser, tmp_path):
         proc.wait(timeout=10)
 
 
+def test_tabs_closed_while_they_update_leave_no_traceback_in_the_log(browser, tmp_path):
+    # issue 22: a tab closed while the server wrote to it logged WebSocketClosedError tracebacks (asyncio's
+    # "Task exception was never retrieved") and Bokeh's warning; a closed tab is no fault (common practice,
+    # no source)
+    import socket
+    from pathlib import Path
+
+    from porefill.explorer.server.testing import READOUT, serve_scenario
+
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    log_path = tmp_path / "serve.log"
+    scenario = Path(__file__).resolve().parents[1] / "scenarios" / "demo-hexagon-helium.toml"
+    with log_path.open("w") as log:
+        proc = serve_scenario(scenario, port, output=log)
+        try:
+            for k in range(4):
+                context = browser.new_context(viewport={"width": 1400, "height": 900})
+                pg = context.new_page()
+                pg.goto(f"http://127.0.0.1:{port}/", timeout=90_000)
+                handle = slider_handle(pg, "Side length")
+                pg.wait_for_timeout(250 * k)             # closed at a different moment of the page's work
+                drag_handle(pg, handle, 40)
+                context.close()                          # the new map and isotherm are on their way
+            context = browser.new_context(viewport={"width": 1400, "height": 900})
+            pg = context.new_page()                      # one page seen through: the server has moved on
+            pg.goto(f"http://127.0.0.1:{port}/", timeout=90_000)
+            pg.locator(READOUT).first.wait_for(timeout=60_000)
+            context.close()
+        finally:
+            proc.terminate()
+            proc.wait(timeout=10)
+    text = log_path.read_text()
+    assert not re.search(r"Traceback|WebSocketClosedError|StreamClosedError|Failed sending", text), text[-3000:]
+
+
 def test_quantum_tab_shows_states_both_models_and_step_shifts(page):
     # helium-4 at 1.5 K, 15 Å side, 8 Å walls (the demo scenario): the issue's independent check gives a
     # zero-point energy of 40.9 K and first-layer steps 10–31 K deeper in μ classically than with the states

@@ -425,7 +425,10 @@ GALLERY = [
     ("a million rows", "a.csv", HEAD.encode() + b"1,2\n" * 1_000_001, {}, ("error", ["1000003 lines", "split"])),
     ("deep quoting", "a.csv", (HEAD + "1,2\n" + '"' * 5000 + "\n3,4\n").encode(), {},
      ("problem", ["row 3", "column 'P (Pa)'", "…", "not a number"])),
-    ("unbalanced quote", "a.csv", (HEAD + '1,2\n"3,4\n5,6\n').encode(), {}, ("problem", ["row 3", "not a number"])),
+    ("unbalanced quote", "a.csv", (HEAD + '1,2\n"3,4\n5,6\n').encode(), {},
+     ("problem", ["row 3", "value '\"3,4'", 'an unterminated quote (") — row skipped'])),
+    ("unbalanced quote in the header", "a.csv", ('"' + HEAD + "1,2\n3,4\n").encode(), {},
+     ("problem", ["row 1", 'an unterminated quote (")', "read as if it were not there"])),
     ("control char in a cell", "a.csv", (HEAD + "1,2\n2,3\x074\n5,6\n").encode(), {},
      ("problem", ["row 3", "value '3\\x074'", "not a number"])),
     ("very long cell", "a.csv", (HEAD + "1,2\n" + "9" * 100 + "x" * 100_000 + ",3\n5,6\n").encode(), {},
@@ -504,6 +507,29 @@ def test_bad_file_gallery(name, data, kwargs, expected, monkeypatch):
         texts = [str(p) for p in result.problems]
         assert any(all(piece in t for piece in pieces) for t in texts), texts
         assert not any(_TRACEBACK_WORDS.search(t) for t in texts), texts
+
+
+def test_an_unterminated_quote_is_named_not_taken_for_no_header():
+    # issue 22: a header opening a quote it never closes read as "the file has no header"; a closed quote
+    # (RFC 4180 §2) is read as before
+    result = read_measured("a.csv", ('"' + HEAD + '1,2\n"3,4\n5,"6"\n').encode())
+    run = _one_run(result)
+    assert (run.pressure_unit, run.amount_unit) == ("Pa", "mmol/g") and run.rows.tolist() == [2, 4]
+    texts = [str(p) for p in result.problems]
+    assert not any("no header" in t for t in texts), texts
+    assert [p.row for p in result.problems if "unterminated quote" in p.message] == [1, 3]
+
+
+@pytest.mark.parametrize("first_line", ["<img src=x onerror=alert(1)>", "<b>sample 7</b>", "<p"])
+def test_a_text_table_under_a_line_starting_with_a_tag_is_read_as_text(first_line):
+    # issue 22: any text starting with "<" was called "XML or markup"; only text that is markup from its
+    # first to its last character is (common practice, no source)
+    result = read_measured("a.txt", (first_line + "\n" + HEAD + "1,2\n3,4\n").encode())
+    assert _one_run(result).amount.tolist() == [2.0, 4.0]
+    assert any("above the table" in str(p) for p in result.problems)
+    for markup in (b"<isotherm>\n<p>1</p>\n</isotherm>\n", b'<?xml version="1.0"?>\n1,2\n'):
+        with pytest.raises(MeasuredFileError, match="looks like XML or markup"):
+            read_measured("a.txt", markup)
 
 
 def test_gallery_is_large_and_distinct():

@@ -58,6 +58,39 @@ def test_text_from_the_file_is_escaped():
     assert "<img src=x" not in text
 
 
+DOLLAR_NAMES = ("sample $x_{1$", "$5 and $6", r"a\$b")   # issue 22: broken math, working math, an escape
+
+
+def _drawn_texts(fig) -> set[str]:
+    """The texts a figure draws: SVG kept as <text> (not paths); matplotlib's comments hold the raw string,
+    so they are dropped before looking (common practice, no source)."""
+    import io
+
+    import matplotlib
+
+    out = io.BytesIO()
+    with matplotlib.rc_context({"svg.fonttype": "none"}):
+        fig.savefig(out, format="svg")
+    svg = re.sub(r"<!--.*?-->", "", out.getvalue().decode(), flags=re.S)
+    return set(re.findall(r"<text[^>]*>([^<]*)</text>", svg))
+
+
+def test_dollar_signs_in_names_and_titles_are_drawn_as_written():
+    from porefill.explorer.outputs.figures import isotherm_figure, measured_figure
+    from porefill.physics.fitting.measured import MeasuredRun, Sample
+    from porefill.physics.lattice_gas.adsorption import compute_isotherm
+
+    iso = compute_isotherm(FAST, n_points=40)
+    runs = [MeasuredRun(name=name, source="a.csv", pressure=[1.0, 10.0], pressure_unit="Pa",
+                        amount=[0.1, 0.2], amount_unit="per nm") for name in DOLLAR_NAMES]
+    assert set(DOLLAR_NAMES) <= _drawn_texts(measured_figure(iso, runs, Sample()))
+    assert "$5 and $6" in _drawn_texts(isotherm_figure(iso, title="$5 and $6"))
+    # the report draws the same runs (a pyparsing error before); its title is HTML text
+    doc = ScenarioDocument(FAST.replace(title="$5 and $6"), measured=tuple(runs))
+    text = build_report(doc, sizes=())
+    assert "porefill report: $5 and $6" in text and "sample $x_{1$" in text
+
+
 def test_classical_gas_says_why_no_quantum_states():
     text = build_report(ScenarioDocument(FAST), sizes=())
     assert "Not computed: argon is treated with classical sites" in text
@@ -208,3 +241,28 @@ def test_a_link_refuses_bad_values_by_name_and_keeps_the_good():
     assert set(refused) == {"size_angstrom", "shape", "isolated"}
     assert state.temperature_k == 88.0 and state.size_angstrom == FAST.size_angstrom and state.shape == "slit"
     assert io_view._apply_link({"temperature_k": float("nan")}) and state.temperature_k == 88.0
+
+
+def test_a_refused_link_is_told_in_plain_words():
+    # issue 22: the message showed param's own text ("Selector parameter 'ExplorerState.adsorbate' ...");
+    # it names the query key, the value and what is allowed (common practice, no source)
+    from porefill.explorer.views.scenario_io import refused_link_message
+
+    io_view, state = _io()
+    wanted = {"adsorbate": "xenon", "shape": "triangle", "isolated": "perhaps", "size_angstrom": 1500,
+              "wall_angstrom": "thick", "temperature_k": float("nan")}
+    refused = io_view._apply_link(wanted)
+    assert set(refused) == set(wanted)
+    assert refused["adsorbate"] == "must be one of helium-4, hydrogen, neon, argon, nitrogen"
+    assert refused["shape"] == "must be one of hexagon, cylinder, slit"
+    assert refused["isolated"] == "must be true or false"
+    assert refused["size_angstrom"] == "must be between 2 and 1000 Å for a slit"   # physics/limits.py
+    assert refused["wall_angstrom"] == "must be a number"
+    assert refused["temperature_k"] == "must be a finite number"
+    message = refused_link_message(wanted, refused)
+    assert "adsorbate = 'xenon' (must be one of helium-4" in message and "size_angstrom = 1500 (" in message
+    assert "parameter" not in message and "ExplorerState" not in message and len(message.splitlines()) == 1
+    io_view._apply_link({"adsorbate": "argon"})
+    lo, hi = state.param.temperature_k.bounds
+    why = io_view._apply_link({"temperature_k": 500.0})["temperature_k"]
+    assert why == f"must be between {lo:g} and {hi:g} K for argon"

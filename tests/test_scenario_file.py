@@ -206,6 +206,19 @@ def test_syntax_errors_carry_tomllib_line(text, line):
     assert info.value.line == line and f"line {line}" in str(info.value)
 
 
+def test_a_byte_order_mark_is_read_past(tmp_path):
+    # issue 22: a UTF-8 BOM gave "line 1, column 1: Invalid statement" (TOML 1.0 allows none; the BOM is
+    # U+FEFF encoded as EF BB BF, Unicode Standard §23.8)
+    text = "[scenario]\nshape = 'slit'\nsize_angstrom = 12.0\nwall_angstrom = 10.0\n"
+    assert parse_document("\ufeff" + text).scenario == parse_document(text).scenario
+    path = tmp_path / "bom.toml"
+    path.write_bytes(b"\xef\xbb\xbf" + text.encode())
+    assert load_document(path).scenario.size_angstrom == 12.0
+    with pytest.raises(ScenarioFileError, match="line 2, column") as info:     # lines and columns as before
+        parse_document("\ufeff[scenario]\nshape = \n", name="bad.toml")
+    assert info.value.line == 2
+
+
 def test_missing_scenario_table_and_missing_file(tmp_path):
     with pytest.raises(ScenarioFileError, match="no \\[scenario\\] table"):
         parse_document("format = 1\n", name="x.toml")

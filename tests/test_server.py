@@ -252,6 +252,35 @@ def test_security_headers_on_every_response(server, path, host):
     assert "connect-src 'self'" in headers["content-security-policy"]
 
 
+def _raw(port: int, request: bytes) -> bytes:
+    """Everything the server sends back to ``request`` written on a plain socket, until it closes."""
+    with socket.create_connection(("127.0.0.1", port), timeout=120) as conn:
+        conn.sendall(request)
+        answer = b""
+        while chunk := conn.recv(65536):
+            answer += chunk
+    return answer
+
+
+@pytest.mark.parametrize("request_bytes, words", [
+    (b"GET / HTTP/1.1\r\n\r\n", "Missing Host header"),
+    (b"GET / HTTP/1.1\r\nHost: a b\r\n\r\n", "Invalid Host header"),
+    (b"POST /login HTTP/1.1\r\nContent-Length: 5\r\n\r\nhello", "Missing Host header"),
+])
+def test_tornados_own_bad_request_carries_the_security_headers(server, request_bytes, words):
+    # issue 22: Tornado answered a request without a Host header (HTTP/1.1 requires one: RFC 9112 §3.2)
+    # with a bare "HTTP/1.1 400 Bad Request" line, without the headers every other response has
+    port, _ = server
+    head, _, body = _raw(port, request_bytes).partition(b"\r\n\r\n")
+    lines = head.decode("latin-1").split("\r\n")
+    assert lines[0] == "HTTP/1.1 400 Bad Request"
+    headers = {k.lower(): v for k, v in (line.split(": ", 1) for line in lines[1:])}
+    for name, part in SECURITY_HEADERS.items():
+        assert part in headers.get(name, ""), name
+    assert headers["connection"] == "close" and headers["content-type"].startswith("text/plain")
+    assert words in body.decode() and len(body) == int(headers["content-length"])
+
+
 # ------------------------------------------------------------------------------------------- password
 
 def _login(port: int, password: str):
@@ -313,6 +342,53 @@ def test_password_from_environment():
     assert read_password(None, {}) is None
     with pytest.raises(ServeError, match="POREFILL_PASSWORD"):
         read_password(None, {"POREFILL_PASSWORD": ""})
+
+
+def test_a_closed_page_is_no_error_in_the_log(caplog):
+    # issue 22: a write to a closed tab ended in a task whose WebSocketClosedError nobody retrieved, which
+    # asyncio logs with its traceback (Python docs, asyncio "Detect never-retrieved exceptions"); other
+    # exceptions still reach the loop's handler (common practice, no source)
+    import gc
+    import logging
+
+    from tornado.websocket import WebSocketClosedError
+
+    from porefill.explorer.server.server import quiet_closed_pages
+
+    async def closed():
+        raise WebSocketClosedError()
+
+    async def broken():
+        raise RuntimeError("a real fault")
+
+    loop = asyncio.new_event_loop()
+    try:
+        quiet_closed_pages(loop)
+        with caplog.at_level(logging.DEBUG):
+            for coro in (closed(), broken()):
+                task = loop.create_task(coro)
+                loop.run_until_complete(asyncio.wait([task]))
+                del task                     # never retrieved: reported when the task is collected
+                gc.collect()
+            logging.getLogger("panel.io.document").warning("Failed sending message as connection was closed")
+            logging.getLogger("bokeh.server.views.ws").warning("Failed sending message as connection was closed")
+    finally:
+        loop.close()
+    loud = [r for r in caplog.records if r.levelno >= logging.INFO]
+    assert len(loud) == 1 and "a real fault" in str(loud[0].exc_info[1]), [r.getMessage() for r in loud]
+    assert sum("a page closed" in r.getMessage() for r in caplog.records) == 3
+
+
+def test_password_file_with_a_byte_order_mark(tmp_path):
+    # issue 22: a UTF-8 BOM (Notepad's "UTF-8 with BOM") became part of the password, so no typed password
+    # matched; the BOM is U+FEFF encoded as EF BB BF (Unicode Standard, §23.8)
+    from porefill.explorer.server.security import read_password
+
+    path = tmp_path / "password.txt"
+    path.write_bytes(b"\xef\xbb\xbfs3cret\r\n")
+    assert read_password(str(path), {}) == "s3cret"
+    path.write_bytes("s3cret\ufeff\n".encode())         # one inside the password is the user's own
+    assert read_password(str(path), {}) == "s3cret\ufeff"
 
 
 # --------------------------------------------------------------------------------------- serve failures

@@ -175,7 +175,11 @@ def _check_numbers(path, text, index, run: dict) -> None:
 
 
 def parse_document(text: str, *, name: str = "scenario.toml") -> ScenarioDocument:
-    """The `ScenarioDocument` in TOML ``text`` (``name``: the file, for messages). Raises ScenarioFileError."""
+    """The `ScenarioDocument` in TOML ``text`` (``name``: the file, for messages). Raises ScenarioFileError.
+
+    A byte-order mark at the start (some Windows editors write one) is dropped: TOML forbids it, and the
+    text after it is the file."""
+    text = text.removeprefix("\ufeff")
     try:
         data = tomllib.loads(text)
     except RecursionError:

@@ -18,7 +18,7 @@ from matplotlib.figure import Figure
 
 __all__ = ["FIGURES", "SLIDE_WIDTH_PX", "render", "figure_job", "potential_map_figure", "line_cuts_figure",
            "isotherm_figure", "compressibility_figure", "occupancy_figure", "quantum_density_figure",
-           "site_models_figure", "measured_figure", "sizing_figure", "measured_points"]
+           "site_models_figure", "measured_figure", "sizing_figure", "measured_points", "literal"]
 
 SLIDE_WIDTH_PX = 1920
 ADS, DES, EQ, STEP = "#1b6ca8", "#d1495b", "#333333", "#f4a259"
@@ -31,6 +31,13 @@ FIGURES = {                        # name -> what the dashboard's menu says
     "occupancy": "Site occupancy at the picked pressure",
 }
 _SIZE_IN = (8.0, 5.0)              # inches: 1920 px wide at 240 dpi; text sizes read well on a slide
+
+
+def literal(text: str) -> str:
+    """``text`` as matplotlib draws it letter for letter: every ``$`` escaped, so a name from a file or a
+    title ("sample $x_{1$", "$5 and $6") is never read as math text (matplotlib unescapes ``\\$`` when it
+    draws a text that is not math)."""
+    return str(text).replace("$", r"\$")
 
 
 def _figure(size=_SIZE_IN) -> Figure:
@@ -132,7 +139,7 @@ def isotherm_figure(iso, *, axis: str = "pressure", pick_pa: float | None = None
     if log:
         ax.set_xscale("log")
     ax.set(xlabel="pressure p (Pa)" if log else "chemical potential μ (K)", ylabel=_amount_label(iso),
-           title=title or "Isotherm (mean-field lattice gas)")
+           title=literal(title) if title else "Isotherm (mean-field lattice gas)")
     ax.legend(loc="upper left")
     return fig
 
@@ -223,7 +230,7 @@ def measured_figure(iso, runs, sample, *, fitted=None) -> Figure:
         except ValueError:
             continue                       # the report's table says why (a missing sample value)
         ax.plot(p, n, "o" if run.leg == "adsorption" else "s", ms=5, mfc="none",
-                color=ADS if run.leg == "adsorption" else DES, label=f"{run.name}")
+                color=ADS if run.leg == "adsorption" else DES, label=literal(run.name))
     ax.set_xscale("log")
     ax.set(xlabel="pressure p (Pa)", ylabel=_amount_label(iso), title="Measured over the model")
     ax.legend(loc="upper left", fontsize=8)

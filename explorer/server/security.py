@@ -36,7 +36,8 @@ from pathlib import Path
 from urllib.parse import urlsplit
 
 __all__ = ["AccessPolicy", "ServeError", "AUTH_COOKIE", "PASSWORD_ENV", "SECURITY_HEADERS",
-           "check_address", "check_can_listen", "install", "is_loopback", "parse_allowed_origin", "read_password"]
+           "answer_bad_requests", "check_address", "check_can_listen", "install", "is_loopback", "parse_allowed_origin",
+           "read_password"]
 
 AUTH_COOKIE = "porefill_auth"
 PASSWORD_ENV = "POREFILL_PASSWORD"
@@ -159,7 +160,7 @@ def read_password(path: str | None, environ: os._Environ | dict | None = None) -
         if p.is_dir():
             raise ServeError(f"--password-file {path}: is a directory, not a file")
         try:
-            text = p.read_text(encoding="utf-8")
+            text = p.read_text(encoding="utf-8-sig")   # an editor's byte-order mark is not part of the password
         except FileNotFoundError:
             raise ServeError(f"--password-file {path}: no such file") from None
         except (OSError, UnicodeDecodeError) as exc:
@@ -567,3 +568,57 @@ def install(app, policy: AccessPolicy, *, session_secret: str) -> None:
     # routes (Bokeh's), and a request none of these rules takes falls through to them.
     app.add_handlers(r".*$", rules)
     app.add_transform(Headers)
+
+
+def answer_bad_requests(http_server) -> None:
+    """Give Tornado's own 400 answer (a request whose Host header is missing or malformed, refused before
+    any route sees it) the same security headers as every other response, and a line of text.
+
+    ``http_server`` is the `tornado.httpserver.HTTPServer` serving the application: its ``request_callback``
+    (an `HTTPServerConnectionDelegate`) is wrapped so that the request's construction error is answered here,
+    through the connection's public ``write_headers``/``finish``, instead of as the bare status line Tornado
+    writes (``HTTP/1.1 400 Bad Request`` and nothing else). Malformed start lines and headers, which Tornado
+    refuses before any delegate is asked, still get its bare line.
+    """
+    from tornado import httputil
+
+    class Answered(httputil.HTTPMessageDelegate):
+        def __init__(self, inner, connection):
+            self.inner, self.connection, self.refused = inner, connection, False
+
+        def headers_received(self, start_line, headers):
+            try:
+                return self.inner.headers_received(start_line, headers)
+            except httputil.HTTPInputError as exc:
+                self.refused = True
+                body = f"Bad request: {str(exc)[:200]}.\n".encode("utf-8", "replace")
+                answer = httputil.HTTPHeaders({**SECURITY_HEADERS, "Content-Type": "text/plain; charset=utf-8",
+                                               "Cache-Control": "no-store", "Content-Length": str(len(body)),
+                                               "Connection": "close"})
+                self.connection.write_headers(httputil.ResponseStartLine("HTTP/1.1", 400, "Bad Request"),
+                                              answer, body)
+                self.connection.finish()          # before the body is read: the connection closes after it
+                return None
+
+        def data_received(self, chunk):
+            return None if self.refused else self.inner.data_received(chunk)
+
+        def finish(self) -> None:
+            if not self.refused:
+                self.inner.finish()
+
+        def on_connection_close(self) -> None:
+            if not self.refused:             # a refused request never reached the inner delegate
+                self.inner.on_connection_close()
+
+    class Server(httputil.HTTPServerConnectionDelegate):
+        def __init__(self, inner):
+            self.inner = inner
+
+        def start_request(self, server_conn, request_conn):
+            return Answered(self.inner.start_request(server_conn, request_conn), request_conn)
+
+        def on_close(self, server_conn) -> None:
+            self.inner.on_close(server_conn)
+
+    http_server.request_callback = Server(http_server.request_callback)

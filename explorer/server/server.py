@@ -7,9 +7,50 @@ import secrets
 
 from porefill.physics.scenario import Scenario
 
-from porefill.explorer.server.security import AUTH_COOKIE, AccessPolicy, ServeError, install
+from porefill.explorer.server.security import AUTH_COOKIE, AccessPolicy, ServeError, answer_bad_requests, install
 
-__all__ = ["serve", "start_server"]
+__all__ = ["serve", "start_server", "quiet_closed_pages"]
+
+log = logging.getLogger("porefill.explorer.server")
+
+
+def _closed_page(exc: BaseException | None) -> bool:
+    from tornado.iostream import StreamClosedError
+    from tornado.websocket import WebSocketClosedError
+
+    return isinstance(exc, (WebSocketClosedError, StreamClosedError))
+
+
+class _ClosedPageFilter(logging.Filter):
+    """Bokeh's and Panel's warning for a message to a page that has closed, made one debug line: a closed tab
+    is no fault."""
+
+    def filter(self, record: logging.LogRecord) -> bool:
+        if record.getMessage().startswith("Failed sending message as connection was closed"):
+            log.debug("a page closed before a message reached it")
+            return False
+        return True
+
+
+def quiet_closed_pages(loop) -> None:
+    """A browser tab that closes while the server writes to it is no error: the writes' unretrieved
+    WebSocketClosedError (or StreamClosedError), which asyncio would log with a traceback, and the warnings of
+    Bokeh and Panel become debug lines; every other exception of the asyncio ``loop`` goes to the handler it had."""
+    previous = loop.get_exception_handler()
+
+    def handler(loop, context: dict) -> None:
+        if _closed_page(context.get("exception")):
+            log.debug("a page closed while the server wrote to it (%s)", type(context["exception"]).__name__)
+        elif previous is not None:
+            previous(loop, context)
+        else:
+            loop.default_exception_handler(context)
+
+    loop.set_exception_handler(handler)
+    for name in ("bokeh.server.views.ws", "panel.io.document"):      # the loggers that warn of it
+        writer = logging.getLogger(name)
+        if not any(isinstance(f, _ClosedPageFilter) for f in writer.filters):
+            writer.addFilter(_ClosedPageFilter())
 
 
 def _secret_key() -> str:
@@ -57,6 +98,8 @@ def start_server(scenario: Scenario | None, *, address: str, port: int, policy: 
     except OSError as exc:
         raise ServeError(f"cannot listen on {address} port {port}: {exc.strerror or exc}") from None
     install(server._tornado, policy, session_secret=secret_key)  # noqa: SLF001 - Bokeh keeps its Tornado application there
+    answer_bad_requests(server._http)  # noqa: SLF001 - Bokeh keeps its Tornado HTTP server there
+    quiet_closed_pages(server.io_loop.asyncio_loop)
     return server
 
 

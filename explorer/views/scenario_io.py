@@ -17,6 +17,8 @@ import asyncio
 import html
 import io
 import logging
+import math
+import re
 from functools import partial
 
 import panel as pn
@@ -56,6 +58,47 @@ async def _in_worker(fn, *args):
     except asyncio.TimeoutError:
         job.cancel()
         raise TimeoutError(TIME_LIMIT_S) from None
+
+
+_UNITS = {"size_angstrom": "Å", "wall_angstrom": "Å", "temperature_k": "K"}
+
+
+def _shown(value, limit: int = 80) -> str:
+    text = repr(value)
+    return text if len(text) <= limit else text[:limit - 1] + "…"
+
+
+def _link_refusal(state: ExplorerState, key: str, value) -> str | None:
+    """What ``state``'s control ``key`` accepts, in plain words, when ``value`` is not it; None when the
+    control would take it (the scenario's own check refused it then)."""
+    p = state.param[key]
+    if isinstance(p, param.Selector):
+        return None if value in p.objects else f"must be one of {', '.join(map(str, p.objects))}"
+    if isinstance(p, param.Boolean):
+        return None if isinstance(value, bool) else "must be true or false"
+    if isinstance(p, param.Number):
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            return "must be a number"
+        if isinstance(value, float) and not math.isfinite(value):
+            return "must be a finite number"
+        lo, hi = p.bounds
+        if (lo is not None and value < lo) or (hi is not None and value > hi):
+            where = {"size_angstrom": f" for a {state.shape}", "temperature_k": f" for {state.adsorbate}"}
+            return f"must be between {lo:g} and {hi:g} {_UNITS.get(key, '')}".rstrip() + where.get(key, "")
+    return None
+
+
+def refused_link_message(wanted: dict, refused: dict) -> str:
+    """One line for a link's refused values: each query key, its value and what it accepts."""
+    words = "; ".join(f"{k} = {_shown(wanted[k])} ({why})" for k, why in refused.items())
+    return f"This link asked for values the dashboard cannot show: {words}. The scenario's values are shown instead."
+
+
+def _plain(exc: BaseException) -> str:
+    """An exception's first line without param's class and parameter names (a safety net: the controls'
+    refusals are worded by `_link_refusal`)."""
+    text = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+    return re.sub(r"\b\w+ parameter '[\w.]+' ", "", text)[:160]
 
 
 class ScenarioIO(pn.viewable.Viewer):
@@ -267,9 +310,7 @@ class ScenarioIO(pn.viewable.Viewer):
         wanted = {k: query[k] for k in URL_KEYS if k in query}
         refused = self._apply_link(wanted) if wanted else {}
         if refused:
-            words = "; ".join(f"{k} = {wanted[k]!r} ({why})" for k, why in refused.items())
-            self._say(f"This link asked for values the dashboard cannot show: {words}. The scenario's values "
-                      "are shown instead.")
+            self._say(refused_link_message(wanted, refused))
 
         def tie():
             # once the page is up (the browser sends its own URL first): the refused values out of the URL,
@@ -300,7 +341,7 @@ class ScenarioIO(pn.viewable.Viewer):
             try:
                 self._probe({**good, key: wanted[key]})
             except Exception as exc:          # noqa: BLE001 - any refusal: name it, keep the scenario's
-                refused[key] = str(exc).splitlines()[0][:160] if str(exc) else type(exc).__name__
+                refused[key] = _link_refusal(self._probe(good), key, wanted[key]) or _plain(exc)
                 continue
             good[key] = wanted[key]
         if "adsorbate" in good:

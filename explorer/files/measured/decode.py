@@ -145,9 +145,11 @@ def _text_checks(text: str, problems: Problems) -> None:
     start = head.lstrip()[:200].lower()
     if start.startswith(("<!doctype html", "<html", "<head", "<body")) or "<html" in start:
         raise problems.refuse(f"looks like a web page (HTML), not a table; porefill reads {ACCEPTED}")
-    if start.startswith("<?xml") or start.startswith("<"):
-        raise problems.refuse(f"looks like XML or markup, not a table; porefill reads {ACCEPTED}")
     tail = text.rstrip()[-1:]
+    # markup from first to last character (a tag opens it, one closes it); a table whose first line starts
+    # with "<" is still a table
+    if start.startswith("<?xml") or (start[:1] == "<" and start[1:2].isalpha() and tail == ">"):
+        raise problems.refuse(f"looks like XML or markup, not a table; porefill reads {ACCEPTED}")
     if (start.startswith("{") and tail == "}") or (start.startswith("[") and tail == "]"):
         raise problems.refuse(f"looks like JSON, not a table; porefill reads {ACCEPTED}")
 

@@ -110,6 +110,12 @@ def _split(line: str, delim: str, quoted: bool) -> list[str]:
     return line.split() if delim == " " else _trimmed(line.split(delim))
 
 
+def _without_last_quote(line: str) -> str:
+    """``line`` less its last quote: the one left open (quotes pair up from the left)."""
+    k = line.rfind('"')
+    return line[:k] + line[k + 1:]
+
+
 def _score(sample: list[str], delim: str, comma: bool, quoted: bool) -> tuple[int, float]:
     score, widths = 0, Counter()
     for line in sample:
@@ -258,7 +264,11 @@ def table_from_text(text: str, problems: Problems) -> Table:
     if not data_at:
         raise problems.refuse("has only comment lines, no table" if comments else "the file is empty")
     quoted = '"' in text
-    sample_lines = [lines[i][:_SAMPLE_CHARS] for i in data_at[:_SAMPLE_LINES]]   # a 50 MB line is no header
+    # a line with an odd number of quotes opens a quote it never closes (doubled quotes inside one count two)
+    unclosed = [i for i in data_at if lines[i].count('"') % 2] if quoted else []
+    opened = set(unclosed)
+    sample_lines = [_without_last_quote(lines[i]) if i in opened else lines[i] for i in data_at[:_SAMPLE_LINES]]
+    sample_lines = [line[:_SAMPLE_CHARS] for line in sample_lines]                # a 50 MB line is no header
     delim, comma = _sniff(sample_lines, quoted)
     delim = delim or ","
     sample = [_split(line, delim, quoted) for line in sample_lines]
@@ -276,6 +286,10 @@ def table_from_text(text: str, problems: Problems) -> Table:
                                   problems)
     body_at = data_at[layout.start:]
     _refuse_rows(len(body_at), problems)
+    for i in unclosed[:LIMITS["max_problems"]]:
+        if i < body_at[0]:
+            problems.add('an unterminated quote (") — read as if it were not there', row=i + 1,
+                         value=lines[i].strip())
     width = layout.width
     if quoted:
         body = [_split(lines[i], delim, True) for i in body_at]
@@ -293,7 +307,12 @@ def table_from_text(text: str, problems: Problems) -> Table:
                 body[k] = body[k].rstrip(" \t" + delim)
                 counts[k] = body[k].count(delim) + 1
     keep = np.ones(len(body), bool)
-    for k in np.flatnonzero((counts > width) | ((counts == 1) & (width > 1))):
+    open_rows = np.searchsorted(body_at, [i for i in unclosed if i >= body_at[0]])
+    if open_rows.size:
+        keep[open_rows] = False
+        problems.add_many('an unterminated quote (") — row skipped', np.asarray(body_at)[open_rows] + 1,
+                          values=[lines[body_at[k]].strip() for k in open_rows[:LIMITS["max_problems"]]])
+    for k in np.flatnonzero(((counts > width) | ((counts == 1) & (width > 1))) & keep):
         row, line = body_at[k] + 1, lines[body_at[k]]
         other = next((d for d in "\t;,|" if d != delim and len(_split(line, d, quoted)) >= 2), None)
         if counts[k] > width:
