@@ -72,18 +72,35 @@ def test_demo_file_overlay_and_fit(nitrogen_page):
     page.locator(".porefill-overlay canvas").first.wait_for(state="attached", timeout=30_000)
     caption = text_of(page, ".porefill-overlay-caption p")
     assert DEMO.name in caption and "Model for" in caption
+    page.locator(".porefill-overlay").first.screenshot(path="/tmp/porefill-measured-before-fit.png")
     page.get_by_role("button", name="Fit", exact=True).first.click()
     page.locator(".porefill-fit-table").first.wait_for(state="attached", timeout=180_000)
     table = text_of(page, ".porefill-fit-table")
-    for name in ("wall-strength", "size", "pore-volume"):
-        assert name in table
+    # every fitted number says what it is: the hexagon's size is its side, the wall strength a factor on ε
+    for words in ("side length", "wall-strength factor", "multiplies the built-in nitrogen", "pore volume"):
+        assert words in table, (words, table)
+
+    def cell(name, kind):
+        return page.locator(f".porefill-fit-table tr[data-parameter={name}] .porefill-fit-{kind}").first.inner_text()
+
+    values = {name: (float(cell(name, "value")), float(cell(name, "stderr")))
+              for name in ("wall-strength", "size", "pore-volume")}
     # the file was made by the model with side 17.3 Å, wall strength 1.08 and 0.62 cm³/g (its header says so);
     # from a start at 16 Å and 0.5 cm³/g the fit finds them again within a few of its standard errors
-    values = {m.group(1): (float(m.group(2)), float(m.group(3)))
-              for m in re.finditer(r"(wall-strength|size|pore-volume)\s+([\d.]+)\s+([\d.eE+-]+)", table)}
     for name, truth in (("size", 17.3), ("wall-strength", 1.08), ("pore-volume", 0.62)):
         value, err = values[name]
         assert abs(value - truth) <= max(4 * err, 0.03 * truth), (name, value, err)
+    # the moment the fit is done the plot and residuals are the fitted model's, without "Use the fitted pore"
+    caption = _wait_for_text(page, ".porefill-overlay-caption p", "Fitted model")
+    assert "Fitted model" in caption and "Use the fitted pore and sample" in caption, caption
+    assert "show the fitted model" in text_of(page, ".porefill-fit-status p")
+    page.wait_for_timeout(500)
+    page.locator(".porefill-overlay").first.screenshot(path="/tmp/porefill-measured-after-fit.png")
+    page.locator(".porefill-fit").first.screenshot(path="/tmp/porefill-measured-fit-table.png")
+    # taking the fitted pore makes it the page's scenario: the overlay is then the Pore tab's model again
+    page.get_by_role("button", name="Use the fitted pore and sample").first.click()
+    caption = _wait_for_text(page, ".porefill-overlay-caption p", "Model for")
+    assert caption.startswith("Model for"), caption
     assert page.console_errors == []
 
 
