@@ -63,8 +63,14 @@ def test_demo_file_overlay_and_fit(nitrogen_page):
     page = nitrogen_page
     _open_tab(page)
     _upload(page, DEMO)
-    # amounts per gram need the sample's pore volume: until it is given the page says so
-    _wait_for_text(page, ".porefill-overlay-caption", "pore volume")
+    # amounts per gram without a pore volume: drawn at once with one estimated from the data, said once
+    _wait_for_text(page, ".porefill-overlay-caption p.porefill-overlay-note", "estimated from the data")
+    caption = "\n".join(page.locator(".porefill-overlay-caption p").all_inner_texts())
+    assert "No pore volume given" in caption and "The fit frees it" in caption, caption
+    assert caption.count("No pore volume given") == 1 and "need the sample" not in caption, caption
+    page.locator(".porefill-overlay canvas").first.wait_for(state="attached", timeout=30_000)
+    page.wait_for_timeout(500)
+    page.locator(".porefill-measured").first.screenshot(path="/tmp/porefill-measured-estimated-volume.png")
     pore_volume = page.get_by_label("Pore volume (cm³/g)").first
     pore_volume.fill("0.5")
     pore_volume.press("Enter")

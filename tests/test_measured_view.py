@@ -109,3 +109,27 @@ def test_fit_table_marks_a_parameter_near_its_bound(value, stderr, note):
     assert f"<td class='porefill-fit-note'>{note}</td>" in row
     # the wall strength says what it multiplies, with the built-in ε it multiplies (porefill.physics.substances)
     assert f"built-in nitrogen–silica ε of {N2_EPS:.4g} K" in row and f"ε = {value * N2_EPS:.4g} K" in row
+
+
+def test_per_gram_runs_are_drawn_without_a_pore_volume(fitted):
+    """No pore volume typed: the runs are drawn with one estimated from the data, said so once, and the fit
+    frees it by default (porefill.physics.fitting.model.estimate_pore_volume)."""
+    runs = fitted[0]._document_runs
+    view = MeasuredView(state=ExplorerState.from_scenario(BASE))
+    view._document_runs = runs
+    view.model_arrived(BASE, fitted_isotherm(BASE))
+    caption = view.caption.object
+    assert "No pore volume given" in caption and "estimated from the data" in caption and "fit frees it" in caption
+    assert len(view._sources[0].data["y"]) == runs[0].amount.size
+    assert "pore-volume" in view.free.value
+
+
+def test_a_missing_sample_value_is_asked_for_once():
+    # two dosed runs of one file without the sample mass: one message, not one per run
+    iso = fitted_isotherm(BASE)
+    runs = tuple(MeasuredRun(f"run {i}", "dosed.csv", [1e3, 2e3], "Pa", [1e-5, 2e-5], "mol", "adsorption", 77.35)
+                 for i in (1, 2))
+    view = MeasuredView(state=ExplorerState.from_scenario(BASE))
+    view._document_runs = runs
+    view.model_arrived(BASE, iso)
+    assert view.caption.object.count("need the sample mass") == 1, view.caption.object

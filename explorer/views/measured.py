@@ -17,6 +17,8 @@ from bokeh.plotting import figure
 
 from porefill.explorer.outputs.fit_export import companion_paths, parameter_label, statistic_label
 from porefill.physics.choices import AXIS_LABELS
+from porefill.physics.fitting.model import PER_GRAM_UNITS, estimate_pore_volume
+from porefill.physics.fitting.params import DEFAULT_PORE_VOLUME_BOUNDS
 from porefill.physics.fitting.report import near_bound
 from porefill.physics.fitting.solve import FREE_PARAMETERS, PARAMETER_UNITS, FitRequest, carry_to
 from porefill.physics.fitting.measured import MEASURED_AMOUNT_UNITS, Sample
@@ -94,6 +96,7 @@ class MeasuredView(pn.viewable.Viewer):
         # the fitted model drawn since the fit finished: (FitResult, its isotherm, key of the scenario the fit
         # started from); None draws the Pore tab's model (`_shown_model`)
         self._fitted = None
+        self._estimated_volume = None      # cm³/g: the pore volume drawn with when none was given
         self._job = None
         self._poller = None
         self._sources: list[ColumnDataSource] = []
@@ -259,8 +262,9 @@ class MeasuredView(pn.viewable.Viewer):
             value = self.sample_inputs[name].value
             where = self._sample_source.get(name, "typed") if value not in (None, 0) else "not given"
             parts.append(f"{html.escape(label.split(' (')[0])}: {where}")
-        self.sample_note.object = "<p>" + "; ".join(parts) + ". Amounts per gram need the pore volume; dosed " \
-                                  "amounts also the mass; d₁₀₀ ties the wall to the side (a₀ = 2·d₁₀₀/√3).</p>"
+        self.sample_note.object = "<p>" + "; ".join(parts) + ". Amounts per gram are drawn with the pore volume " \
+                                  "given, else one estimated from the data, and the fit frees it; dosed amounts " \
+                                  "need the mass; d₁₀₀ ties the wall to the side (a₀ = 2·d₁₀₀/√3).</p>"
 
     # drawing ------------------------------------------------------------------------------------------
     def _figures(self):
@@ -291,7 +295,26 @@ class MeasuredView(pn.viewable.Viewer):
         if self._fitted is not None:
             result, iso, _ = self._fitted
             return iso, result.sample, result
-        return self._iso, self.sample(), None
+        return self._iso, self._drawing_sample(self._iso), None
+
+    def _drawing_sample(self, iso):
+        """The typed sample; where per-gram runs have no pore volume, one estimated from the data against the
+        model shown (closed-form least squares, `porefill.physics.fitting.model.estimate_pore_volume`; kept in
+        ``_estimated_volume`` for the caption) — the fit frees the pore volume by default."""
+        sample = self.sample()
+        runs = self.runs()
+        self._estimated_volume = None
+        if (iso is None or sample.pore_volume_cm3_g is not None
+                or not any(r.amount_unit in PER_GRAM_UNITS for r in runs)):
+            return sample
+        try:
+            v = estimate_pore_volume(iso, runs, sample, bounds=DEFAULT_PORE_VOLUME_BOUNDS)
+        except Exception:         # noqa: BLE001 - a guess for drawing must never take the tab down
+            v = None
+        if v is None:
+            return sample
+        self._estimated_volume = v
+        return sample.with_value("pore_volume_cm3_g", v, "default")     # for drawing only; never saved
 
     def _redraw(self) -> None:
         runs = self.runs()
@@ -334,6 +357,13 @@ class MeasuredView(pn.viewable.Viewer):
             for o in overlays:
                 if o.note:
                     notes.append(f"{o.run.name}: {o.note}")
+            notes = list(dict.fromkeys(notes))            # runs of one file share a message: say it once
+            if fitted is None and self._estimated_volume is not None:
+                free = "pore-volume" in self.free.value
+                notes.insert(0, f"No pore volume given: drawn with {sample.pore_volume_cm3_g:.3g} cm³/g, estimated "
+                                "from the data (least squares against this model). "
+                                + ("The fit frees it." if free else "Free pore-volume to fit it, or type it in "
+                                   "Sample."))
             label = html.escape(describe(self.state.scenario()))
             legend = "; ".join(f"<span style='color:{RUN_COLOURS[i % len(RUN_COLOURS)]}'>●</span> "
                                f"{html.escape(o.run.name)}" for i, o in enumerate(overlays))
