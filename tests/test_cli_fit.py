@@ -89,6 +89,9 @@ def test_fit_text_output_is_a_table(data_file, capsys, monkeypatch):
     out = capsys.readouterr().out
     assert out.splitlines()[0].split()[:3] == ["parameter", "value", "stderr"]
     assert "pore-volume" in out and "reduced χ²" in out
+    # each parameter says what it is (issue 21): here the pore volume of the sample
+    row = next(x for x in out.splitlines() if x.startswith("pore-volume"))
+    assert row.endswith("pore volume"), row
 
 
 @pytest.mark.parametrize("content, extra, message", [
