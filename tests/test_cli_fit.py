@@ -89,6 +89,9 @@ def test_fit_text_output_is_a_table(data_file, capsys, monkeypatch):
     out = capsys.readouterr().out
     assert out.splitlines()[0].split()[:3] == ["parameter", "value", "stderr"]
     assert "pore-volume" in out and "reduced χ²" in out
+    # each parameter says what it is (issue 21): here the pore volume of the sample
+    row = next(x for x in out.splitlines() if x.startswith("pore-volume"))
+    assert row.endswith("pore volume"), row
 
 
 @pytest.mark.parametrize("content, extra, message", [
@@ -122,3 +125,15 @@ def test_csv_cells_from_user_text_never_start_like_a_formula(text, cell):
     from porefill.explorer.outputs.formatting import spreadsheet_safe
 
     assert spreadsheet_safe(text) == cell
+
+
+def test_fit_text_warns_when_the_scatter_is_far_above_the_assumed_noise(data_file, capsys, monkeypatch):
+    """The file's 1 % noise against an assumed 0.2 %: reduced χ² about 25, above the warning's 4 (scatter twice
+    the assumed noise; common practice, no source, porefill.physics.fitting.report). Only the pore volume is free
+    (solved in closed form), so no search runs."""
+    _fast(monkeypatch)
+    code = main(["fit", str(data_file), *BASE_ARGS, "--size", "17.3", "--free", "pore-volume", "--noise", "0.002"])
+    assert code == 0
+    out = capsys.readouterr().out
+    line = next(x for x in out.splitlines() if "much larger than the assumed noise" in x)
+    assert line.startswith("warning: ") and "assumed 0.002" in line and "standard errors are scaled" in line

@@ -162,11 +162,91 @@ def test_parameter_at_its_bound_is_flagged(nitrogen_clean):
     assert any(w.startswith("wall-strength = ") and "upper bound" in w for w in result.warnings), result.warnings
 
 
+@pytest.mark.parametrize("noise, warned", [
+    (0.10, True),      # scatter 5× the assumed 0.02: reduced χ² about 25, far above 4
+    (0.005, False),    # scatter a quarter of it: reduced χ² well below 1
+])
+def test_scatter_far_above_the_assumed_noise_is_flagged(nitrogen_clean, noise, warned):
+    """Only the pore volume free (solved in closed form: a fit of two model evaluations). Reduced χ² > 4 means
+    the scatter is over twice the assumed noise (common practice, no source; porefill.physics.fitting.report)."""
+    _, clean = nitrogen_clean
+    result = fit(FitRequest(TRUE_N2.replace(pore_volume_cm3_g=None), _n2_runs(clean, noise), Sample(),
+                            free=("pore-volume",), noise_relative=0.02, **FAST))
+    found = [w for w in result.warnings if "much larger than the assumed noise" in w]
+    assert bool(found) == warned, (result.reduced_chi2, result.warnings)
+    if warned:
+        assert result.reduced_chi2 > 4
+        estimated = result.statistics()["noise_relative_estimated"]
+        assert f"{estimated:.3g}" in found[0] and "assumed 0.02" in found[0]
+        assert "standard errors are scaled" in found[0] and "does not describe the data" in found[0]
+
+
+def test_noise_warning_text_follows_the_error_scaling():
+    from porefill.physics.fitting.report import noise_warning
+
+    # the issue's example: reduced χ² 47 against an assumed 0.02 gives an estimated 0.02·√47 = 0.137
+    scaled = noise_warning(47.0, 0.02)
+    assert "reduced χ² 47" in scaled and "estimated relative noise 0.137" in scaled and "scaled up" in scaled
+    assert "too small" in noise_warning(47.0, 0.02, scaled=False)
+    assert noise_warning(4.0, 0.02) is None                 # the threshold itself: scatter exactly twice the noise
+    assert noise_warning(float("nan"), 0.02) is None        # no degrees of freedom: nothing to compare
+
+
+@pytest.mark.parametrize("value, stderr, side", [
+    # bounds 0.5 to 1.5, the default of the wall strength (porefill.physics.fitting.params)
+    (1.495, 0.004, "upper"),      # the issue's case: 0.005 from the bound, within 2 errors of 0.004
+    (1.493, 0.004, "upper"),      # 0.007 ≤ 2 × 0.004
+    (1.4995, float("nan"), "upper"),   # no error: within 1e-3 of the width still counts as at the bound
+    (0.505, 0.003, "lower"),
+    (1.49, 0.004, None),          # 0.01 > 2 × 0.004: clear of the bound
+    (1.0, 0.2, None),
+])
+def test_a_parameter_within_two_standard_errors_of_a_bound_is_flagged(value, stderr, side):
+    from porefill.physics.fitting.report import bound_warning, near_bound
+
+    assert near_bound(value, stderr, (0.5, 1.5)) == side
+    text = bound_warning("wall-strength", value, stderr, (0.5, 1.5))
+    if side is None:
+        assert text is None
+    else:
+        assert text.startswith("wall-strength = ") and f"{side} bound" in text and "unreliable" in text
+
+
+def test_a_fit_ending_near_but_not_at_its_bound_is_flagged(nitrogen_clean):
+    """The wall strength fitted with its default bounds (width 1), then again with the upper bound moved to
+    one standard error above that optimum (same width, so the same error steps): the optimum stays inside,
+    clear of the old 1e-3 test but within two standard errors of the bound, so its error is called unreliable."""
+    _, clean = nitrogen_clean
+    runs = _n2_runs(clean, 0.01)
+    base = TRUE_N2.replace(pair_epsilon_k=None)
+    free = dict(free=("wall-strength",), **FAST)
+    value, err = fit(FitRequest(base, runs, Sample(), **free)).parameters["wall-strength"]
+    top = value + err
+    near = fit(FitRequest(base, runs, Sample(), bounds={"wall-strength": (top - 1.0, top)}, **free))
+    v, e = near.parameters["wall-strength"]
+    assert top - v > 1e-3 and top - v <= 2 * e, (v, e, top)
+    assert any(w.startswith("wall-strength = ") and "upper bound" in w and "unreliable" in w
+               for w in near.warnings), near.warnings
+
+
 def test_fewer_points_than_parameters_is_flagged():
     run = fm.simulated_run(TRUE_N2, pressure_pa=[3e4, 6e4], n_points=300)
     result = fit(FitRequest(TRUE_N2.replace(pore_volume_cm3_g=None), (run,), Sample(),
                             free=("size", "pore-volume"), **FAST))
     assert any("cannot be estimated" in w for w in result.warnings), result.warnings
+
+
+def test_pore_volume_estimated_from_the_data_for_drawing(nitrogen_clean):
+    """The page draws per-gram runs without a given pore volume with the closed-form least-squares value
+    against the model it shows: on the model's own noiseless data that is the pore volume they were made
+    with. 1 %: the page's isotherm leaves its jumps as ramps between grid points, the data have them placed
+    by bisection (measured: 0.61999966, 5.5e-7 relative)."""
+    _, clean = nitrogen_clean
+    iso = compute_isotherm(TRUE_N2.replace(pore_volume_cm3_g=None), n_points=400)
+    v = fm.estimate_pore_volume(iso, clean, Sample(), bounds=(0.01, 5.0))
+    assert v == pytest.approx(0.62, rel=0.01)
+    per_pore = fm.simulated_run(TRUE_N2, pressure_pa=[1e4, 5e4], amount_unit="per nm", n_points=300)
+    assert fm.estimate_pore_volume(iso, (per_pore,), Sample(), bounds=(0.01, 5.0)) is None
 
 
 # hooks, carry, curves -------------------------------------------------------------------------------------------

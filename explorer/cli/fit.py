@@ -164,11 +164,15 @@ def _csv_places(args, points_path) -> list:
 
 
 def _table(data: dict) -> str:
-    lines = [f"{'parameter':<14} {'value':>12} {'stderr':>10}  unit    bounds"]
+    from porefill.explorer.outputs.fit_export import parameter_label
+
+    lines = [f"{'parameter':<14} {'value':>12} {'stderr':>10}  unit    {'bounds':<14}  what it is"]
     for name, p in data["parameters"].items():
         err = "—" if p["stderr"] is None else f"{p['stderr']:.3g}"
-        lines.append(f"{name:<14} {p['value']:>12.5g} {err:>10}  {p['unit'] or '-':<6}  "
-                     f"{p['bounds'][0]:g} to {p['bounds'][1]:g}")
+        label, meaning = parameter_label(name, data["scenario"].get("shape"))
+        what = "factor on the built-in pair ε" if name == "wall-strength" else label
+        bounds = f"{p['bounds'][0]:g} to {p['bounds'][1]:g}"
+        lines.append(f"{name:<14} {p['value']:>12.5g} {err:>10}  {p['unit'] or '-':<6}  {bounds:<14}  {what}")
     s = data["statistics"]
     red = "—" if s["reduced_chi2"] is None else f"{s['reduced_chi2']:.3g}"
     lines.append(f"χ² {s['chi2']:.4g} over {s['points']} points ({s['coverage_points']} more at equal coverage), "

@@ -18,7 +18,7 @@ from pathlib import Path
 
 from porefill.explorer.outputs.formatting import spreadsheet_safe
 
-__all__ = ["STATISTIC_LABELS", "statistic_label", "POINT_COLUMNS", "RESIDUAL_DEFINITION", "points_csv",
+__all__ = ["STATISTIC_LABELS", "statistic_label", "PARAMETER_LABELS", "parameter_label", "POINT_COLUMNS", "RESIDUAL_DEFINITION", "points_csv",
            "parameters_csv", "model_csv", "companion_paths"]
 
 # statistic key (`FitResult.statistics`): (label shown to people, what it means)
@@ -41,6 +41,29 @@ STATISTIC_LABELS = {
 def statistic_label(key: str) -> str:
     """The label a person reads for a fit statistic's machine name (``reduced_chi2`` → "reduced χ²")."""
     return STATISTIC_LABELS.get(key, (key.replace("_", " "), ""))[0]
+
+
+# fitted parameter (`porefill.physics.fitting.params.FREE_PARAMETERS`): (label shown to people, what it means);
+# the size's words depend on the pore's shape (`parameter_label`)
+PARAMETER_LABELS = {
+    "wall-strength": ("wall-strength factor", "multiplies the built-in adsorbate–wall ε (the catalog pair's, with "
+                      "its calibrated factor if it has one): 1 keeps it, 1.2 makes the wall 20 % stronger"),
+    "size": ("pore size", "hexagon side, cylinder radius or slit width"),
+    "pore-volume": ("pore volume", "specific pore volume of the sample, per gram"),
+    "wall": ("wall thickness", "wall between neighbouring pores"),
+    "a0": ("array spacing a₀", "spacing of the hexagonal array: a₀ = 2·d₁₀₀/√3 = √3·side + wall"),
+}
+_SIZE_WORDS = {"hexagon": ("side length", "side of the hexagonal pore (centre to corner)"),
+               "cylinder": ("radius", "radius of the cylindrical pore (the diameter is twice it)"),
+               "slit": ("width", "width of the slit pore")}
+
+
+def parameter_label(name: str, shape: str | None = None) -> tuple[str, str]:
+    """(label, meaning) a person reads for a fitted parameter's machine name; the size is called what it is
+    for ``shape`` (hexagon: side length, cylinder: radius, slit: width)."""
+    if name == "size" and shape in _SIZE_WORDS:
+        return _SIZE_WORDS[shape]
+    return PARAMETER_LABELS.get(name, (name.replace("-", " "), ""))
 
 
 # CSV column: (`porefill.physics.fitting.solve.residual_table` key, what it holds)
@@ -130,14 +153,11 @@ def parameters_csv(result) -> str:
     writer = csv.writer(out, lineterminator="\n")
     writer.writerow(["quantity", "label", "value", "standard_error", "unit", "lower_bound", "upper_bound", "role",
                      "meaning"])
-    meanings = {"wall-strength": "factor on the catalog adsorbate–solid ε", "size": "pore size (hexagon side, "
-                "cylinder radius, slit width)", "pore-volume": "specific pore volume of the sample",
-                "wall": "wall thickness between neighbouring pores", "a0": "spacing of the hexagonal array"}
     for name, (value, err) in result.parameters.items():
         lo, hi = result.bounds[name]
-        writer.writerow([name, name.replace("-", " "), _cell(float(value)), _cell(float(err)),
-                         PARAMETER_UNITS.get(name, ""), _cell(float(lo)), _cell(float(hi)), "fitted parameter",
-                         meanings.get(name, "")])
+        label, meaning = parameter_label(name, result.scenario.shape)
+        writer.writerow([name, label, _cell(float(value)), _cell(float(err)), PARAMETER_UNITS.get(name, ""),
+                         _cell(float(lo)), _cell(float(hi)), "fitted parameter", meaning])
     for key, value in result.statistics().items():
         label, meaning = STATISTIC_LABELS.get(key, (statistic_label(key), ""))
         writer.writerow([key, label, _cell(float(value) if isinstance(value, float) else value), "", "", "", "",

@@ -15,8 +15,11 @@ import param
 from bokeh.models import ColumnDataSource, Range1d, Span
 from bokeh.plotting import figure
 
-from porefill.explorer.outputs.fit_export import companion_paths, statistic_label
+from porefill.explorer.outputs.fit_export import companion_paths, parameter_label, statistic_label
 from porefill.physics.choices import AXIS_LABELS
+from porefill.physics.fitting.model import PER_GRAM_UNITS, estimate_pore_volume
+from porefill.physics.fitting.params import DEFAULT_PORE_VOLUME_BOUNDS
+from porefill.physics.fitting.report import near_bound
 from porefill.physics.fitting.solve import FREE_PARAMETERS, PARAMETER_UNITS, FitRequest, carry_to
 from porefill.physics.fitting.measured import MEASURED_AMOUNT_UNITS, Sample
 from porefill.physics.substances.units import PRESSURE_UNITS
@@ -24,12 +27,14 @@ from porefill.physics.substances.units import PRESSURE_UNITS
 from porefill.explorer.files.measured import ColumnMap, MeasuredFileError, read_measured
 from porefill.explorer.views.overlay import AXES, model_curves, overlay_run
 from porefill.explorer.views.state import ExplorerState, describe
-from porefill.explorer.views.isotherm import ADS_COLOUR, DES_COLOUR
+from porefill.explorer.views.isotherm import ADS_COLOUR, DES_COLOUR, _key as model_key, _remember
 from porefill.explorer.views.potential import FRAME
 
 ACCEPTED = [".csv", ".txt", ".tsv", ".dat", ".xlsx"]
 FROM_FILE = "(from the header)"
 NO_COLUMN = "(none)"
+BEFORE_FIT_COLOUR = "#9a9a9a"
+BEFORE_FIT_LABEL = "Pore tab's model (before the fit)"
 RUN_COLOURS = ("#2a9d8f", "#e76f51", "#6a4c93", "#8ab17d", "#bc6c25", "#577590")
 SAMPLE_FIELDS = (("mass_g", "Sample mass (g)"), ("pore_volume_cm3_g", "Pore volume (cm³/g)"),
                  ("surface_area_m2_g", "Surface area (m²/g)"), ("d100_angstrom", "X-ray d₁₀₀ (Å)"))
@@ -88,10 +93,15 @@ class MeasuredView(pn.viewable.Viewer):
         self._document_runs: tuple = ()             # runs a scenario file brought with it
         self._iso = None
         self._fit = None
+        # the fitted model drawn since the fit finished: (FitResult, its isotherm, key of the scenario the fit
+        # started from); None draws the Pore tab's model (`_shown_model`)
+        self._fitted = None
+        self._estimated_volume = None      # cm³/g: the pore volume drawn with when none was given
         self._job = None
         self._poller = None
         self._sources: list[ColumnDataSource] = []
         self._model_src = {b: ColumnDataSource({"x": [], "y": []}) for b in ("adsorption", "desorption")}
+        self._before_src = {b: ColumnDataSource({"x": [], "y": []}) for b in ("adsorption", "desorption")}
         self._fig, self._res_fig = self._figures()
         self._plots = pn.Column(css_classes=["porefill-overlay"], sizing_mode="stretch_width")
         self.dropper.param.watch(self._dropped, "value")
@@ -118,6 +128,8 @@ class MeasuredView(pn.viewable.Viewer):
     def model_arrived(self, scenario, iso) -> None:
         """Called by the isotherm view with every isotherm it shows (None: none for these inputs)."""
         self._iso = iso
+        if self._fitted is not None and (scenario is None or model_key(scenario) != self._fitted[2]):
+            self._fitted = None          # the Pore tab moved on (or took the fitted pore): its model is the one
         self._redraw()
 
     # files -------------------------------------------------------------------------------------------
@@ -133,6 +145,7 @@ class MeasuredView(pn.viewable.Viewer):
                 self._files[name] = {"data": raw, "choices": ColumnMap(), "sheet": None}
                 self._read(name)
                 newest = name
+        self._fitted = None
         self.file_select.options = list(self._files)
         if newest is not None:
             self.file_select.value = newest            # the file just dropped is the one to look at
@@ -199,6 +212,7 @@ class MeasuredView(pn.viewable.Viewer):
                                                  pressure_unit=unit(self.pressure_unit),
                                                  amount_unit=unit(self.amount_unit))
         self._read(name)
+        self._fitted = None
         self._show_file()
         self._redraw()
 
@@ -211,6 +225,7 @@ class MeasuredView(pn.viewable.Viewer):
         """Show what a scenario file holds for this tab: its measured runs (as copied into the file) and its
         sample, each value with the source the file gives."""
         self._document_runs = tuple(doc.measured)
+        self._fitted = None
         if doc.sample is not None:
             self._setting_sample = True
             try:
@@ -237,6 +252,7 @@ class MeasuredView(pn.viewable.Viewer):
         name = next(n for n, w in self.sample_inputs.items() if w is event.obj)
         if not getattr(self, "_setting_sample", False):
             self._sample_source[name] = "typed"
+            self._fitted = None          # a value typed by hand: the model of these inputs, not the fit
         self._show_sample_sources()
         self._redraw()
 
@@ -246,8 +262,9 @@ class MeasuredView(pn.viewable.Viewer):
             value = self.sample_inputs[name].value
             where = self._sample_source.get(name, "typed") if value not in (None, 0) else "not given"
             parts.append(f"{html.escape(label.split(' (')[0])}: {where}")
-        self.sample_note.object = "<p>" + "; ".join(parts) + ". Amounts per gram need the pore volume; dosed " \
-                                  "amounts also the mass; d₁₀₀ ties the wall to the side (a₀ = 2·d₁₀₀/√3).</p>"
+        self.sample_note.object = "<p>" + "; ".join(parts) + ". Amounts per gram are drawn with the pore volume " \
+                                  "given, else one estimated from the data, and the fit frees it; dosed amounts " \
+                                  "need the mass; d₁₀₀ ties the wall to the side (a₀ = 2·d₁₀₀/√3).</p>"
 
     # drawing ------------------------------------------------------------------------------------------
     def _figures(self):
@@ -258,6 +275,11 @@ class MeasuredView(pn.viewable.Viewer):
                  legend_label="model, adsorption")
         fig.line("x", "y", source=self._model_src["desorption"], color=DES_COLOUR, line_width=2, line_dash="dashed",
                  legend_label="model, desorption")
+        for branch, dash in (("adsorption", "solid"), ("desorption", "dashed")):
+            fig.line("x", "y", source=self._before_src[branch], color=BEFORE_FIT_COLOUR, line_width=1.2,
+                     line_dash=dash, line_alpha=0.8, legend_label=BEFORE_FIT_LABEL)
+        self._before_legend = next(i for i in fig.legend.items if getattr(i.label, "value", None) == BEFORE_FIT_LABEL)
+        self._before_legend.visible = False           # only while a fitted model is drawn
         fig.legend.location = "top_left"
         fig.legend.background_fill_alpha = 0.8
         res = figure(title="Residuals (measured − model)", x_axis_type="log", frame_width=FRAME + 120,
@@ -267,8 +289,36 @@ class MeasuredView(pn.viewable.Viewer):
         res.add_layout(Span(location=0, dimension="width", line_color="#888888", line_dash="dotted"))
         return fig, res
 
+    def _shown_model(self):
+        """(isotherm, sample, fit or None) the overlay draws: the fitted model, with the fitted pore volume,
+        from the moment a fit finishes until the inputs change; else the Pore tab's model and the typed sample."""
+        if self._fitted is not None:
+            result, iso, _ = self._fitted
+            return iso, result.sample, result
+        return self._iso, self._drawing_sample(self._iso), None
+
+    def _drawing_sample(self, iso):
+        """The typed sample; where per-gram runs have no pore volume, one estimated from the data against the
+        model shown (closed-form least squares, `porefill.physics.fitting.model.estimate_pore_volume`; kept in
+        ``_estimated_volume`` for the caption) — the fit frees the pore volume by default."""
+        sample = self.sample()
+        runs = self.runs()
+        self._estimated_volume = None
+        if (iso is None or sample.pore_volume_cm3_g is not None
+                or not any(r.amount_unit in PER_GRAM_UNITS for r in runs)):
+            return sample
+        try:
+            v = estimate_pore_volume(iso, runs, sample, bounds=DEFAULT_PORE_VOLUME_BOUNDS)
+        except Exception:         # noqa: BLE001 - a guess for drawing must never take the tab down
+            v = None
+        if v is None:
+            return sample
+        self._estimated_volume = v
+        return sample.with_value("pore_volume_cm3_g", v, "default")     # for drawing only; never saved
+
     def _redraw(self) -> None:
-        runs, iso = self.runs(), self._iso
+        runs = self.runs()
+        iso, sample, fitted = self._shown_model()
         if not runs:
             self.caption.object = "<p>Drop one or more measured isotherms (CSV, TXT, TSV, DAT or XLSX) above.</p>"
             return
@@ -279,7 +329,6 @@ class MeasuredView(pn.viewable.Viewer):
             # the figures join the page with the first data, while the tab is on show (see views.quantum)
             self._plots.objects = [pn.pane.Bokeh(self._fig), pn.pane.Bokeh(self._res_fig)]
         axis = self.axis.value
-        sample = self.sample()
         overlays, notes = [], []
         for run in runs:
             try:
@@ -290,6 +339,14 @@ class MeasuredView(pn.viewable.Viewer):
             self._set_axes(axis)
             for branch, (x, y) in model_curves(iso, axis).items():
                 self._model_src[branch].data = {"x": x, "y": y}
+            before = model_curves(self._iso, axis) if fitted is not None and self._iso is not None else {}
+            for branch, src in self._before_src.items():
+                x, y = before.get(branch, ([], []))
+                src.data = {"x": x, "y": y}
+            self._before_legend.visible = fitted is not None
+            self._fig.title.text = "Measured over the fitted model" if fitted is not None else "Measured over the model"
+            self._res_fig.title.text = ("Residuals (measured − fitted model)" if fitted is not None
+                                        else "Residuals (measured − model)")
             while len(self._sources) < len(overlays):
                 self._add_run_glyphs(len(self._sources))
             for i, src in enumerate(self._sources):
@@ -300,12 +357,28 @@ class MeasuredView(pn.viewable.Viewer):
             for o in overlays:
                 if o.note:
                     notes.append(f"{o.run.name}: {o.note}")
+            notes = list(dict.fromkeys(notes))            # runs of one file share a message: say it once
+            if fitted is None and self._estimated_volume is not None:
+                free = "pore-volume" in self.free.value
+                notes.insert(0, f"No pore volume given: drawn with {sample.pore_volume_cm3_g:.3g} cm³/g, estimated "
+                                "from the data (least squares against this model). "
+                                + ("The fit frees it." if free else "Free pore-volume to fit it, or type it in "
+                                   "Sample."))
             label = html.escape(describe(self.state.scenario()))
             legend = "; ".join(f"<span style='color:{RUN_COLOURS[i % len(RUN_COLOURS)]}'>●</span> "
                                f"{html.escape(o.run.name)}" for i, o in enumerate(overlays))
             if not overlays:
                 legend = "no run can be placed yet (see below)"
-            self.caption.object = (f"<p>Model for {label}. Measured: {legend}.</p>"
+            if fitted is not None:
+                label = html.escape(describe(fitted.scenario))
+                volume = fitted.sample.pore_volume_cm3_g
+                head = (f"<b>Fitted model</b> for {label}"
+                        + (f", pore volume {volume:.4g} cm³/g" if volume is not None else "")
+                        + ". Grey: the Pore tab's model before the fit; “Use the fitted pore and sample” makes the "
+                          "fitted pore the scenario of every tab")
+            else:
+                head = f"Model for {label}"
+            self.caption.object = (f"<p>{head}. Measured: {legend}.</p>"
                                    + "".join(f"<p class='porefill-overlay-note'>{html.escape(n)}</p>" for n in notes))
 
     def _add_run_glyphs(self, i: int) -> None:
@@ -391,25 +464,57 @@ class MeasuredView(pn.viewable.Viewer):
             self.fit_button.disabled, self.cancel_button.disabled = False, True
             self.progress.visible = False
 
-    def _fit_done(self, result) -> None:
+    def _fit_done(self, done) -> None:
+        """A fit finished (`porefill.explorer.jobs.fit_job.FitDone`): its table, and the overlay and residuals
+        redrawn against the fitted model at once (the Pore tab keeps its scenario until "Use the fitted pore
+        and sample")."""
+        result = done.result
         self._fit = result
+        if done.isotherm is not None:
+            self._fitted = (result, done.isotherm, model_key(result.request.scenario))
+            _remember(result.scenario, done.isotherm)    # taking the fitted pore then redraws the Pore tab at once
         stats = result.statistics()
-        rows = "".join(
-            f"<tr><td>{html.escape(name)}</td><td class='porefill-fit-value'>{value:.5g}</td>"
-            f"<td>{'—' if not np.isfinite(err) else f'{err:.2g}'}</td><td>{html.escape(PARAMETER_UNITS.get(name, ''))}</td></tr>"
-            for name, (value, err) in result.parameters.items())
+        rows = "".join(self._parameter_row(result, name, value, err)
+                       for name, (value, err) in result.parameters.items())
         warnings = "".join(f"<li>{html.escape(w)}</li>" for w in result.warnings)
         self.fit_result.object = (
             "<table class='porefill-fit-table'><caption style='text-align:left'><b>Fitted parameters</b></caption>"
-            f"<tr><th>parameter</th><th>value</th><th>standard error</th><th>unit</th></tr>{rows}</table>"
+            "<tr><th>parameter</th><th>value</th><th>standard error</th><th>unit</th><th>note</th></tr>"
+            f"{rows}</table>"
             f"<p>{statistic_label('chi2')} = {stats['chi2']:.4g}, {statistic_label('reduced_chi2')} = "
             f"{stats['reduced_chi2']:.3g}, {statistic_label('r_squared')} = {stats['r_squared']:.4f}, "
             f"{stats['points']} {statistic_label('points')}, {stats['evaluations']} "
             f"{statistic_label('evaluations')}.</p>"
             + (f"<ul class='porefill-fit-warnings'>{warnings}</ul>" if warnings else ""))
-        self.fit_status.object = "<p>Fit finished.</p>"
+        self.fit_status.object = ("<p>Fit finished: the plot and residuals show the fitted model.</p>"
+                                  if done.isotherm is not None else
+                                  "<p>Fit finished; the fitted model cannot be drawn here "
+                                  f"({html.escape(done.isotherm_error)}).</p>")
         self.use_fit.disabled = self.download.disabled = False
         self.download_parameters.disabled = self.download_model.disabled = False
+        self._redraw()
+
+    @staticmethod
+    def _parameter_row(result, name: str, value: float, err: float) -> str:
+        """One row of the fit table: what the parameter is (its label and meaning, the machine name beside),
+        value, standard error, unit, and a note where the error is unreliable (near a bound)."""
+        from porefill.physics.substances.materials import pair_parameters
+
+        scenario = result.scenario
+        label, meaning = parameter_label(name, scenario.shape)
+        if name == "wall-strength":
+            eps = pair_parameters(scenario.adsorbate, scenario.solid).epsilon_k
+            meaning = (f"multiplies the built-in {scenario.adsorbate}–{scenario.solid} ε of {eps:.4g} K "
+                       f"(ε = {value * eps:.4g} K)")
+        side = near_bound(value, err, result.bounds[name])
+        note = (f"near its {side} bound ({result.bounds[name][0 if side == 'lower' else 1]:g}): error unreliable"
+                if side else "")
+        error = "—" if not np.isfinite(err) else f"{err:.2g}"
+        return (f"<tr data-parameter='{html.escape(name)}'><td><b>{html.escape(label)}</b><br>"
+                f"<small>{html.escape(meaning)} (<code>{html.escape(name)}</code>)</small></td>"
+                f"<td class='porefill-fit-value'>{value:.5g}</td><td class='porefill-fit-stderr'>{error}</td>"
+                f"<td>{html.escape(PARAMETER_UNITS.get(name, '')) or '—'}</td>"
+                f"<td class='porefill-fit-note'>{html.escape(note)}</td></tr>")
 
     def _use_fit(self, *_):
         result = self._fit

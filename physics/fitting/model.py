@@ -36,7 +36,7 @@ from porefill.physics.substances.units import AmountBasis, from_pascal
 from porefill.physics.substances.vapour_pressure import saturated_vapour_pressure
 
 __all__ = ["PER_GRAM_UNITS", "RunData", "RunCurve", "prepare_runs", "pressure_ranges", "predict", "residuals",
-           "compare_points", "solve_pore_volume", "unit_factor", "simulated_run"]
+           "compare_points", "solve_pore_volume", "estimate_pore_volume", "unit_factor", "simulated_run"]
 
 PER_GRAM_UNITS = ("mmol/g", "mol/g", "cm3(STP)/g") + DOSED_UNITS
 
@@ -192,19 +192,47 @@ def predict(scenario: Scenario, data: tuple[RunData, ...], sample: Sample, *, n_
             mu, per = (branch_curve(iso, d.branch, bisections=bisections) if bisections
                        else (iso.mu, iso.per_angstrom(d.branch)))
             cache[key] = (np.log(iso.stage.scale.pressure_pa(mu)), per)
-        log_p, per = cache[key]
-        amount = per * unit_factor(d.run, pore, sample)
-        known = d.has_pressure
-        lo_p, hi_p = d.bracket_pa[~known, 0], d.bracket_pa[~known, 1]
-        lo_valid = lo_p > 0
-        lo = np.interp(np.log(np.where(lo_valid, lo_p, 1.0)), log_p, amount)
-        hi = np.interp(np.log(hi_p), log_p, amount)
-        zero = np.zeros_like
-        if d.per_gram:
-            curves.append(RunCurve(log_p, amount, zero(amount), np.c_[lo, zero(lo)], np.c_[hi, zero(hi)], lo_valid))
-        else:
-            curves.append(RunCurve(log_p, zero(amount), amount, np.c_[zero(lo), lo], np.c_[zero(hi), hi], lo_valid))
+        curves.append(_run_curve(d, *cache[key], pore, sample))
     return tuple(curves)
+
+
+def _run_curve(d: RunData, log_p: np.ndarray, per: np.ndarray, pore, sample: Sample) -> RunCurve:
+    """One run's `RunCurve` from a branch as ln p (Pa) and atoms per Å."""
+    amount = per * unit_factor(d.run, pore, sample)
+    known = d.has_pressure
+    lo_p, hi_p = d.bracket_pa[~known, 0], d.bracket_pa[~known, 1]
+    lo_valid = lo_p > 0
+    lo = np.interp(np.log(np.where(lo_valid, lo_p, 1.0)), log_p, amount)
+    hi = np.interp(np.log(hi_p), log_p, amount)
+    zero = np.zeros_like
+    if d.per_gram:
+        return RunCurve(log_p, amount, zero(amount), np.c_[lo, zero(lo)], np.c_[hi, zero(hi)], lo_valid)
+    return RunCurve(log_p, zero(amount), amount, np.c_[zero(lo), lo], np.c_[zero(hi), hi], lo_valid)
+
+
+def estimate_pore_volume(iso, runs, sample: Sample, *, bounds: tuple[float, float], noise_relative: float = 0.02,
+                         noise_floor: float = 0.05) -> float | None:
+    """The specific pore volume (cm³/g) that puts the per-gram ``runs`` best on the computed isotherm ``iso``:
+    the vertical weighted least-squares value in closed form (`solve_pore_volume` with no pressure noise; the
+    σ of `prepare_runs`), within ``bounds``. For drawing runs whose pore volume was not given; None where no
+    run is per gram or the runs cannot be compared (no pressure, above p0, dosed without a mass)."""
+    per_gram = tuple(r for r in runs if r.amount_unit in PER_GRAM_UNITS)
+    if not per_gram:
+        return None
+    from porefill.physics.lattice_gas.branches import measured_branches
+
+    scenario = iso.stage.scenario
+    try:
+        data = prepare_runs(per_gram, scenario=scenario, sample=sample,
+                            branches=measured_branches(scenario.pore_ends, scenario.adsorbate),
+                            noise_relative=noise_relative, noise_floor=noise_floor, gauge_floor_pa=None)
+    except ValueError:
+        return None
+    log_p, pore = np.log(iso.pressure_pa), scenario.pore()
+    curves = tuple(_run_curve(d, log_p, iso.per_angstrom(d.branch), pore, sample) for d in data)
+    if not any(np.any(d.has_pressure) for d in data):
+        return None
+    return solve_pore_volume(curves, data, bounds, float(np.mean(bounds)), 0.0)
 
 
 def _nearest(curve_x, curve_y, x, y, sx: float, sy) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

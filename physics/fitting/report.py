@@ -5,6 +5,16 @@ Numerical Recipes, 3rd ed., §15.4–15.5 — value from memory). JᵀJ is inver
 unit norm, through its eigenvalues, so a near-singular direction is seen (eigenvalue below 1e-10 of the
 largest) and reported rather than turned into digits. R² = 1 − Σr²/Σ((y − ȳ)/σ)² over the points with
 pressure, ȳ the σ-weighted mean of each run (common practice, no source).
+
+Two warnings say when the reported errors should not be read at face value:
+- **Scatter above the assumed noise** (`noise_warning`): reduced χ² above ``NOISE_WARNING_REDUCED_CHI2`` = 4,
+  i.e. the residuals' scatter more than twice the assumed noise. Chance alone rarely gets there: with 5 degrees
+  of freedom P(χ²/ν > 4) is about 0.001, and the spread of χ²/ν shrinks as √(2/ν) (common practice, no source).
+  Then the model does not describe the data within the assumed noise, and the standard errors, scaled by
+  √(reduced χ²), stand for a misfit rather than for noise.
+- **A parameter near its bound** (`near_bound`): within ``NEAR_BOUND_ERRORS`` = 2 of its standard errors of a
+  bound, or within 1e-3 of the bound width: the optimum may lie beyond the bound, where the fit could not go,
+  and the curvature there does not give the error (common practice, no source).
 """
 from __future__ import annotations
 
@@ -15,10 +25,63 @@ from porefill.physics.lattice_gas.adsorption import compute_isotherm
 from porefill.physics.fitting.params import FREE_PARAMETERS, PARAMETER_UNITS
 from porefill.physics.substances.units import from_pascal
 
-__all__ = ["build_result", "curves"]
+__all__ = ["NOISE_WARNING_REDUCED_CHI2", "NEAR_BOUND_ERRORS", "near_bound", "bound_warning",
+           "noise_warning", "build_result", "curves"]
 
 _SINGULAR = 1e-10          # eigenvalue of the column-scaled JᵀJ, relative to the largest
 _CORRELATED = 0.99         # |correlation| above which two parameters are reported as hard to tell apart
+NOISE_WARNING_REDUCED_CHI2 = 4.0   # scatter twice the assumed noise (module notes; common practice, no source)
+NEAR_BOUND_ERRORS = 2.0            # standard errors from a bound that make the error unreliable (module notes)
+_AT_BOUND = 1e-3                   # of the bound width: at the bound whatever the error says
+
+
+def near_bound(value: float, stderr: float, bounds: tuple[float, float]) -> str | None:
+    """'lower' or 'upper' when ``value`` lies within ``NEAR_BOUND_ERRORS`` standard errors of that bound or
+    within 1e-3 of the bound width of it (a NaN error: the width rule alone); else None."""
+    lo, hi = bounds
+    reach = _AT_BOUND * (hi - lo)
+    if np.isfinite(stderr):
+        reach = max(reach, NEAR_BOUND_ERRORS * float(stderr))
+    below, above = value - lo, hi - value
+    if min(below, above) > reach:
+        return None
+    return "lower" if below <= above else "upper"
+
+
+def bound_warning(name: str, value: float, stderr: float, bounds: tuple[float, float]) -> str | None:
+    """The warning for a parameter at or near a bound (`near_bound`), calling its standard error unreliable;
+    None when it is clear of both."""
+    side = near_bound(value, stderr, bounds)
+    if side is None:
+        return None
+    lo, hi = bounds
+    edge = lo if side == "lower" else hi
+    unit = PARAMETER_UNITS.get(name, "")
+    u = f" {unit}" if unit else ""
+    if abs(value - edge) <= _AT_BOUND * (hi - lo):
+        where = f"is at its {side} bound ({edge:g}{u})"
+    else:
+        where = (f"is near its {side} bound ({edge:g}{u}): {abs(value - edge):.2g}{u} from it, within "
+                 f"{NEAR_BOUND_ERRORS:g} standard errors ({stderr:.2g}{u})")
+    return (f"{name} = {value:.4g}{u} {where}: its standard error is unreliable there (the best value may lie "
+            "beyond the bound); widen the bounds or fix it")
+
+
+def noise_warning(reduced_chi2: float, noise_relative: float, *, scaled: bool = True) -> str | None:
+    """The warning for residuals much larger than the assumed noise: reduced χ² above
+    ``NOISE_WARNING_REDUCED_CHI2``; None otherwise. ``scaled``: the standard errors were scaled by
+    √(reduced χ²) (`FitRequest.scale_covariance`)."""
+    if not (np.isfinite(reduced_chi2) and reduced_chi2 > NOISE_WARNING_REDUCED_CHI2):
+        return None
+    factor = float(np.sqrt(reduced_chi2))
+    errors = (f"the standard errors are scaled up by √(reduced χ²) = {factor:.2g} to match the scatter, so they "
+              "measure the misfit rather than the noise" if scaled else
+              "the standard errors assume the stated noise and are too small for this scatter")
+    return (f"the residuals are much larger than the assumed noise: reduced χ² {reduced_chi2:.3g} (about 1 when the "
+            f"scatter matches the noise), estimated relative noise {noise_relative * factor:.3g} against an assumed "
+            f"{noise_relative:.3g}. The model does not describe the data within the assumed noise; {errors}. Check "
+            "the branch compared with each leg, the site model and the free parameters, or give the noise the data "
+            "really have")
 
 
 def _fixed_v_residuals(obj, u, n_points: int, pore_volume: float) -> np.ndarray:
@@ -85,12 +148,9 @@ def _warnings(space, values, names, stderr, corr, undetermined, n, n_violated, o
         lo, hi = space.bounds[name]
         unit = PARAMETER_UNITS[name]
         v = values[name]
-        tol = 1e-3 * (hi - lo)
-        if v - lo <= tol or hi - v <= tol:
-            side, edge = ("lower", lo) if v - lo <= tol else ("upper", hi)
-            out.append(f"{name} = {v:.4g}{' ' + unit if unit else ''} is at its {side} bound "
-                       f"({edge:g}{' ' + unit if unit else ''}): widen the bounds or fix it; its standard error "
-                       "does not hold there")
+        at_bound = bound_warning(name, v, stderr[i], (lo, hi))
+        if at_bound:
+            out.append(at_bound)
         if undetermined[i]:
             out.append(f"{name} is not determined by the data (the fit does not change when it moves)")
         elif n > p and np.isfinite(stderr[i]) and (stderr[i] > abs(v) or stderr[i] > 0.25 * (hi - lo)):
@@ -149,6 +209,9 @@ def build_result(obj, u: np.ndarray, others=()):
         corr = cov / np.outer(stderr, stderr)
     warnings = _warnings(space, values, names, stderr, corr, undetermined, n, int(np.count_nonzero(r_c)), obj)
     warnings += _alternatives(space, names, values, stderr, chi2, s2, others)
+    scatter = noise_warning(chi2 / (n - p) if n > p else np.nan, req.noise_relative, scaled=req.scale_covariance)
+    if scatter:
+        warnings.insert(0, scatter)
 
     runs = []
     for curve, d in zip(pred, obj.data):
