@@ -361,19 +361,28 @@ def test_a_closed_page_is_no_error_in_the_log(caplog):
     async def broken():
         raise RuntimeError("a real fault")
 
-    loop = asyncio.new_event_loop()
-    try:
-        quiet_closed_pages(loop)
-        with caplog.at_level(logging.DEBUG):
+    def run_loop():
+        # a thread of its own: another test may have left an event loop running in the main thread
+        loop = asyncio.new_event_loop()
+        try:
+            quiet_closed_pages(loop)
             for coro in (closed(), broken()):
                 task = loop.create_task(coro)
                 loop.run_until_complete(asyncio.wait([task]))
                 del task                     # never retrieved: reported when the task is collected
                 gc.collect()
-            logging.getLogger("panel.io.document").warning("Failed sending message as connection was closed")
-            logging.getLogger("bokeh.server.views.ws").warning("Failed sending message as connection was closed")
-    finally:
-        loop.close()
+        finally:
+            loop.close()
+
+    import threading
+
+    with caplog.at_level(logging.DEBUG):
+        worker = threading.Thread(target=run_loop)
+        worker.start()
+        worker.join(timeout=30)
+        assert not worker.is_alive()
+        logging.getLogger("panel.io.document").warning("Failed sending message as connection was closed")
+        logging.getLogger("bokeh.server.views.ws").warning("Failed sending message as connection was closed")
     loud = [r for r in caplog.records if r.levelno >= logging.INFO]
     assert len(loud) == 1 and "a real fault" in str(loud[0].exc_info[1]), [r.getMessage() for r in loud]
     assert sum("a page closed" in r.getMessage() for r in caplog.records) == 3
