@@ -58,9 +58,9 @@ class MeasuredView(pn.viewable.Viewer):
         self.columns = {name: pn.widgets.Select(name=label, options=[FROM_FILE], value=FROM_FILE, width=160)
                         for name, label in (("pressure", "Pressure column"), ("amount", "Amount column"),
                                             ("leg", "Leg column"), ("temperature", "Temperature column"))}
-        self.pressure_unit = pn.widgets.Select(name="Pressure unit", options=[FROM_FILE, *PRESSURE_UNITS], width=130)
+        self.pressure_unit = pn.widgets.Select(name="Pressure unit", options=[FROM_FILE, *PRESSURE_UNITS], width=160)
         self.amount_unit = pn.widgets.Select(name="Amount unit", options=[FROM_FILE, *MEASURED_AMOUNT_UNITS],
-                                             width=130)
+                                             width=160)
         self.reread = pn.widgets.Button(name="Read the file with these choices", width=250)
         self.problems = pn.pane.HTML("", css_classes=["porefill-file-problems"], sizing_mode="stretch_width",
                                      styles={"font-size": "13px"})
@@ -553,9 +553,11 @@ class MeasuredView(pn.viewable.Viewer):
         return io.BytesIO(text.encode("utf-8"))
 
     def __panel__(self):
-        mapping = pn.Row(self.file_select, *self.columns.values(), self.pressure_unit, self.amount_unit,
-                         sizing_mode="stretch_width", styles={"flex-wrap": "wrap"})
-        sample = pn.Row(*self.sample_inputs.values(), styles={"flex-wrap": "wrap"})
+        # FlexBox wraps its menus onto the next line on a narrow screen (a Row keeps them on one line,
+        # ~1150 px, and widened the whole page past a 1024 px screen)
+        mapping = pn.FlexBox(self.file_select, *self.columns.values(), self.pressure_unit, self.amount_unit,
+                             flex_wrap="wrap", sizing_mode="stretch_width")
+        sample = pn.FlexBox(*self.sample_inputs.values(), flex_wrap="wrap", sizing_mode="stretch_width")
         fit = pn.Column(pn.pane.HTML("<b>Free parameters</b>"), self.free,
                         pn.Row(self.fit_button, self.cancel_button, self.progress), self.fit_status,
                         self.fit_result, pn.Row(self.use_fit, self.download, self.download_parameters,
