@@ -50,3 +50,15 @@ def test_measured_runs_and_sample_of_a_scenario_file_reach_the_measured_tab():
     saved = io_view.current_document()
     assert [r.name for r in saved.measured] == [r.name for r in doc.measured]
     np.testing.assert_array_equal(saved.measured[0].amount, doc.measured[0].amount)
+
+
+def test_the_coverage_axis_says_what_it_counts():
+    # issue 21: nitrogen's axis said "atoms/nm; slit: per nm²"; molecular gases count molecules (the catalog's
+    # flag), a slit's amounts are per area of wall (porefill.physics.substances.units)
+    state = ExplorerState.from_scenario(Scenario(shape="cylinder", size_angstrom=21.5, adsorbate="nitrogen",
+                                                 temperature_k=77.35, site_model="classical"))
+    view = IsothermView(state=state)
+    assert view._fig_p.yaxis.axis_label == "coverage (molecules per nm of pore)"
+    assert view._fig_k.yaxis.axis_label == "dN/dμ (molecules per nm of pore per K)"
+    state.param.update(adsorbate="argon", shape="slit", size_angstrom=20.0)
+    assert view._fig_rel.yaxis.axis_label == "coverage (atoms per nm² of wall)"

@@ -38,6 +38,15 @@ PICK_FRACTION = 0.8      # where in the log-pressure range the occupancy map sta
 _recent = BoundedCache(16)       # isotherms this server has shown lately (porefill.physics.caching)
 
 
+def coverage_unit(sc: Scenario) -> str:
+    """What the isotherm's amounts count, for axis labels: atoms or molecules, per nm of pore (per nm² of wall
+    for a slit)."""
+    from porefill.physics.substances.materials import get_adsorbate
+
+    what = "molecules" if get_adsorbate(sc.adsorbate).molecular else "atoms"
+    return f"{what} per nm² of wall" if sc.shape == "slit" else f"{what} per nm of pore"
+
+
 def _key(scenario: Scenario) -> Scenario:
     return scenario.replace(title="", notes="")
 
@@ -228,7 +237,11 @@ class IsothermView(pn.viewable.Viewer):
         p = iso.pressure_pa
         lo, hi = round(float(np.log10(p[0])), 2), round(float(np.log10(p[-1])), 2)
         label = html.escape(describe(sc))
+        coverage = coverage_unit(sc)
         with pn.io.hold():
+            for fig in (self._fig_p, self._fig_mu, self._fig_rel):
+                fig.yaxis.axis_label = f"coverage ({coverage})"
+            self._fig_k.yaxis.axis_label = f"dN/dμ ({coverage} per K)"
             self._message.visible = False
             rel = iso.relative_pressure
             self._curves.data = {"mu": iso.mu, "p": p, "rel": rel, "ads": ads, "des": des, "lim": limit,
