@@ -73,3 +73,14 @@ def test_walls_full_centre_empty_a_layer_and_a_window_in_relative_pressure(view)
     view.layer.value = 2
     assert view.target_object() == Target("layer", low_pa=0.0, high_pa=1.0, layer=2, relative=True)
     assert "layer 2 complete" in view.meets_list.object
+
+
+def test_sizes_are_labelled_as_what_they_are(view):
+    # issue 21: cylinders were labelled "side length" (the number is a radius; users think in diameters)
+    assert view.sizes.name.startswith("Side lengths (Å)")
+    view.state.shape = "cylinder"
+    assert view.sizes.name.startswith("Radii (diameter = 2 × radius) (Å)")
+    view.sizes.value = "30,40"
+    view.compute()
+    view.target.value = "pore filled (every site)"
+    assert "<th>Radius (diameter = 2 × radius) (Å)</th>" in view.meets_list.object

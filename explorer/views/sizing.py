@@ -20,7 +20,7 @@ import panel as pn
 import param
 
 from porefill.explorer.jobs.background import ThreadJob
-from porefill.physics.choices import DEFAULT_POINTS
+from porefill.physics.choices import DEFAULT_POINTS, SIZE_NAMES
 from porefill.physics.sweep import TARGET_KINDS, SweepSpec, Target, meets, parse_range, wall_from_d100
 
 from porefill.explorer.jobs.compute import on_session, short_error
@@ -32,6 +32,16 @@ __all__ = ["SizingView", "FILL_COLOURS"]
 FILL_COLOURS = {"corner": "#d1495b", "face": "#1b6ca8", "ring": "#2e8540", "centre": "#e08a00", "spread": "#777777"}
 MODES = {"side length": "size", "temperature (fixed side)": "temperature", "side length at a known d100": "d100"}
 _NO_TARGET = "(no target)"
+
+
+def _size_words(shape: str) -> str:
+    """What a sweep's size is, for labels: a cylinder's radius also names the diameter users think in."""
+    return "radius (diameter = 2 × radius)" if shape == "cylinder" else SIZE_NAMES[shape]
+
+
+def _sizes_label(shape: str) -> str:
+    plural = {"hexagon": "Side lengths", "cylinder": "Radii (diameter = 2 × radius)", "slit": "Widths"}[shape]
+    return f"{plural} (Å): start:stop:count, or a list"
 _WINDOW_UNITS = ("Pa", "p/p₀")
 _WIDTH = 620
 
@@ -89,7 +99,7 @@ class SizingView(pn.viewable.Viewer):
         t = st.temperature_k
         self.mode = pn.widgets.RadioButtonGroup(name="Across", options=list(MODES), value="side length",
                                                 orientation="vertical", width=290)   # no overlap with the status
-        self.sizes = pn.widgets.TextInput(name="Side lengths (Å): start:stop:count, or a list",
+        self.sizes = pn.widgets.TextInput(name=_sizes_label(st.shape),
                                           value="10:30:11", width=290, css_classes=["porefill-sizing-sizes"])
         self.walls = pn.widgets.TextInput(name="Walls (Å): one, a list or start:stop:count", value=wall, width=290)
         self.temps = pn.widgets.TextInput(name="Temperatures (K): start:stop:count",
@@ -132,6 +142,7 @@ class SizingView(pn.viewable.Viewer):
         for w in (self.low, self.high, self.target, self.layer):
             w.param.watch(self._redraw, "value")
         self.mode.param.watch(self._fit_inputs, "value")
+        st.param.watch(lambda event: setattr(self.sizes, "name", _sizes_label(event.new)), "shape")
         self._fit_inputs()
         self._redraw()
 
@@ -284,7 +295,8 @@ class SizingView(pn.viewable.Viewer):
             return "<p>Choose a target to mark the pores that meet it.</p>"
         if self._result is None:
             return f"<p>Target: {html.escape(target.description)}. Compute a sweep to see which pores meet it.</p>"
-        x_name = "Temperature (K)" if self._mode_shown == "temperature" else "Side (Å)"
+        x_name = ("Temperature (K)" if self._mode_shown == "temperature"
+                  else f"{_size_words(self._result.spec.base.shape).capitalize()} (Å)")
         head = (f"<p><b>{html.escape(target.description)}</b>, between {target.low_pa:.3g} and "
                 f"{target.high_pa:.3g} {target.window_unit}: {len(marks)} of {len(self._result.done)} pores.</p>")
         if not marks:
@@ -300,7 +312,7 @@ class SizingView(pn.viewable.Viewer):
 
         mode = self._mode_shown
         x_key = "temperature_k" if mode == "temperature" else "size_angstrom"
-        x_label = "temperature (K)" if mode == "temperature" else "side length (Å)"
+        x_label = "temperature (K)" if mode == "temperature" else f"{_size_words(self._result.spec.base.shape)} (Å)"
         rows = step_rows(self._result, x_key)
         p = np.array(rows["p"], float)
         low, high = float(self.low.value or 0.0), float(self.high.value or 0.0)
