@@ -157,9 +157,9 @@ class GeometryReuse:
         self.reused = 0
 
     def stage_for(self, scenario: Scenario):
-        from porefill.physics.lattice_gas.stages import geometry_stage, rescaled_geometry
+        from porefill.physics.lattice_gas.stages import geometry_stage, rescaled_geometry, strength_free_key
 
-        key = tuple(item for item in scenario.geometry_key() if item[0] != "pair_epsilon_k")
+        key = strength_free_key(scenario.geometry_key())
         reference = self.references.get(key)
         if reference is not None:
             stage = rescaled_geometry(reference, scenario, self.temperatures_k)

@@ -30,7 +30,8 @@ from porefill.physics.sites.placement import first_row_distance, place_sites
 from porefill.physics.substances.vapour_pressure import (liquid_number_density, p0_is_extrapolated, saturated_vapour_pressure,
                               temperature_range)
 
-__all__ = ["GeometryStage", "ThermalStage", "PressureScale", "geometry_stage", "thermal_stage", "rescaled_geometry"]
+__all__ = ["GeometryStage", "ThermalStage", "PressureScale", "geometry_stage", "thermal_stage", "rescaled_geometry",
+           "strength_free_key"]
 
 # A site is kept when it could reach this occupancy at the top of the μ range with every neighbour full
 _DROP_LOGIT = -15.0
@@ -102,7 +103,8 @@ def geometry_stage(scenario: Scenario) -> GeometryStage:
     return _geometry_stage(scenario.geometry_key())
 
 
-def _strength_free_key(key: tuple) -> tuple:
+def strength_free_key(key: tuple) -> tuple:
+    """A geometry key less the pair's ε: geometries that differ by a wall strength alone share it."""
     return tuple(item for item in key if item[0] != "pair_epsilon_k")
 
 
@@ -122,7 +124,7 @@ def rescaled_geometry(reference: GeometryStage, scenario: Scenario,
     key = scenario.geometry_key()
     if key == reference.key:
         return reference
-    if _strength_free_key(key) != _strength_free_key(reference.key):
+    if strength_free_key(key) != strength_free_key(reference.key):
         return None
     pair = scenario.pair()
     factor = pair.epsilon_k / reference.pair.epsilon_k
