@@ -10,6 +10,7 @@ import json
 import math
 import sys
 
+from porefill.explorer.cli.distribution import add_distribution_options, run_distribution
 from porefill.explorer.cli.main import (UsageError, add_model_options, add_pore_options, base_scenario, model_scenario,
                                          output_place, write_output)
 
@@ -66,10 +67,11 @@ def register(sub) -> None:
     p.add_argument("--seed", type=int, default=0, help="seed of the global search (default 0)")
     p.add_argument("--json", action="store_true", help="print JSON")
     p.add_argument("--csv", metavar="FILE",
-                   help="also write CSV, one table per file: FILE (e.g. fit.csv) the measured points with every "
+                   help="also write CSV (with --distribution: the distribution's table), one table per file: FILE (e.g. fit.csv) the measured points with every "
                         "term of their residual (measured − model), and beside it fit-parameters.csv (the fitted "
                         "parameters and statistics) and fit-model.csv (the fitted model curves)")
     p.add_argument("--force", action="store_true", help="replace existing --csv files")
+    add_distribution_options(p)
     p.set_defaults(func=_cmd_fit)
 
 
@@ -97,8 +99,7 @@ def _read_runs(args) -> tuple[list, list[str]]:
     return runs, notes
 
 
-def _request(args, runs):
-    from porefill.physics.fitting.solve import FitRequest
+def _scenario_and_sample(args, runs):
     from porefill.physics.fitting.measured import Sample
 
     if args.temperature is None:
@@ -110,7 +111,16 @@ def _request(args, runs):
         args.temperature = temps[0]
     scenario = model_scenario(args)
     try:
-        sample = Sample(mass_g=args.mass, pore_volume_cm3_g=args.pore_volume, d100_angstrom=args.d100)
+        return scenario, Sample(mass_g=args.mass, pore_volume_cm3_g=args.pore_volume, d100_angstrom=args.d100)
+    except ValueError as exc:
+        raise UsageError(str(exc)) from None
+
+
+def _request(args, runs):
+    from porefill.physics.fitting.solve import FitRequest
+
+    scenario, sample = _scenario_and_sample(args, runs)
+    try:
         return FitRequest(scenario, tuple(runs), sample, free=tuple(args.free.split(",")), bounds=_bounds(args.bounds),
                           branches={} if args.desorption_branch is None else {"desorption": args.desorption_branch},
                           noise_relative=args.noise,
@@ -191,6 +201,12 @@ def _cmd_fit(args) -> int:
     compiled.enable()          # hundreds of isotherms: loading the compiled kernels pays
 
     csv_path = output_place(args, "csv", "--csv", inputs=args.files)
+    if args.carry and not args.distribution:
+        raise UsageError("--carry needs --distribution (it carries a pore-size distribution to another gas)")
+    if args.distribution:
+        runs, notes = _read_runs(args)
+        scenario, sample = _scenario_and_sample(args, runs)
+        return run_distribution(args, runs, notes, scenario, sample, csv_path)
     csv_places = None if csv_path is None else _csv_places(args, csv_path)
     runs, notes = _read_runs(args)
     request = _request(args, runs)

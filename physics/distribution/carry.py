@@ -1,0 +1,102 @@
+"""A pore-size distribution carried to another gas or temperature in the same sample.
+
+The sample's pores do not change with the gas: a distribution w_i (cm³/g per kernel size, found with one gas,
+`porefill.physics.distribution.inversion`) predicts the amount of any other gas as Σ_i w_i·ρ_i(p), ρ_i the
+density that gas's model gives in a pore of size i (a kernel of that gas over the same sizes, with its own
+site model: quantum for helium by default). Each layer forms over a band of pressures instead of at one: the
+pressures where it forms in each size, weighted by the volume of those sizes, give its median and its 10–90 %
+spread.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from porefill.physics.distribution.kernel import Kernel
+from porefill.physics.substances.units import amount_mmol_per_g
+
+__all__ = ["CarriedPrediction", "carry", "weighted_quantiles", "layer_name"]
+
+
+def weighted_quantiles(values, weights, quantiles) -> np.ndarray:
+    """Quantiles of ``values`` weighted by ``weights`` (the midpoint rule on the sorted cumulative weight:
+    a single value is every quantile of itself)."""
+    v, w = np.asarray(values, float), np.asarray(weights, float)
+    order = np.argsort(v)
+    v, w = v[order], w[order]
+    c = (np.cumsum(w) - 0.5 * w) / w.sum()
+    return np.interp(np.asarray(quantiles, float), c, v)
+
+
+def layer_name(k: int, count: int) -> str:
+    """Layer k (1-based) of a list of ``count`` entries whose last is the pore full."""
+    if k == count:
+        return "pore full"
+    return "layer 1 (against the wall)" if k == 1 else f"layer {k}"
+
+
+@dataclass(frozen=True, eq=False)
+class CarriedPrediction:
+    """The carried isotherm: ``pressure_pa`` (n,), ``amount_mmol_g`` per branch name (n,), and ``layers``:
+    per layer from the wall, the volume fraction of pores that form it below p0 and the weighted 10/50/90 %
+    pressures (Pa) where it forms."""
+
+    kernel: Kernel
+    weights_cm3_g: np.ndarray
+    pressure_pa: np.ndarray
+    amount_mmol_g: dict
+    layers: tuple
+
+    @property
+    def saturation_pressure_pa(self) -> float:
+        return self.kernel.saturation_pressure_pa
+
+
+def carry(sizes_angstrom, weights_cm3_g, kernel: Kernel, *, n_points: int = 400) -> CarriedPrediction:
+    """The isotherm and layer bands of ``kernel``'s gas in a sample whose pore volume is ``weights_cm3_g``
+    (cm³/g) at ``sizes_angstrom`` — the kernel's own sizes (ValueError otherwise: build the kernel on the
+    distribution's sizes)."""
+    sizes = np.asarray(sizes_angstrom, float)
+    w = np.asarray(weights_cm3_g, float)
+    if sizes.shape != w.shape or sizes.shape != kernel.sizes_angstrom.shape \
+            or not np.allclose(sizes, kernel.sizes_angstrom, rtol=0, atol=1e-9):
+        raise ValueError("the carried kernel must be built on the distribution's own sizes")
+    if np.any(w < 0) or not np.all(np.isfinite(w)) or w.sum() <= 0:
+        raise ValueError("pore volumes must be finite, non-negative and not all zero")
+    used = kernel.usable & (w > 0)
+    if not used.any():
+        raise ValueError("no size holding pore volume could be computed for the carried gas: "
+                         + "; ".join(kernel.errors()[:2]))
+    lows, highs = [], []
+    for i in np.flatnonzero(used):
+        lp, _ = kernel.curve(int(i), "equilibrium")
+        lows.append(lp[0])
+        highs.append(lp[-1])
+    log_p = np.linspace(min(lows), max(highs), n_points)
+    amounts = {}
+    for branch in ("adsorption", "desorption", "equilibrium"):
+        per = kernel.per_angstrom(log_p, branch)
+        total = np.zeros(log_p.size)
+        for i in np.flatnonzero(used):
+            total += amount_mmol_per_g(per[:, i], cross_section_angstrom2=float(kernel.areas_angstrom2[i]),
+                                       pore_volume_cm3_g=float(w[i]))
+        amounts[branch] = total
+    layers = []
+    count = max(len(kernel.columns[i].get("layers_pa", ())) for i in np.flatnonzero(used))
+    for k in range(count):
+        vals, wts = [], []
+        for i in np.flatnonzero(used):
+            lp = kernel.columns[i].get("layers_pa", ())
+            # the pore-full entry is the last of every column, whatever its count of layers
+            idx = len(lp) - 1 if k == count - 1 else k
+            if idx < len(lp) - (0 if k == count - 1 else 1) and lp[idx] is not None:
+                vals.append(lp[idx])
+                wts.append(w[i])
+        entry = {"layer": k + 1, "name": layer_name(k + 1, count),
+                 "volume_fraction": float(sum(wts) / w[used].sum())}
+        if vals:
+            q10, q50, q90 = weighted_quantiles(vals, wts, (0.1, 0.5, 0.9))
+            entry.update(p10_pa=float(q10), median_pa=float(q50), p90_pa=float(q90))
+        layers.append(entry)
+    return CarriedPrediction(kernel, w, np.exp(log_p), amounts, tuple(layers))
