@@ -13,6 +13,9 @@ Layout, ``format = 1`` (every table but ``[scenario]`` optional; a file without 
     [fit.statistics]  #   chi2, reduced_chi2, r_squared, points, ...
     [fit.scenario]    #   the fitted scenario
     [[fit.parameters]]  # name, value, stderr, unit, low, high
+    [distribution]    # porefill.explorer.files.saved_distribution.SavedDistribution: sizes_angstrom,
+                      #   pore_volume_cm3_g, stderr_cm3_g, n_points, summary, lam, reduced_chi2, notes
+    [distribution.kernel]  # the scenario the kernel varied the size of
     [view]            # dashboard choices: axis, branch, pick_log10_pa, tab (see ViewChoices)
 
 A file is parsed, never executed. A malformed file raises `ScenarioFileError` naming the file, the line
@@ -37,7 +40,7 @@ FORMAT = 1
 # the repository's scenarios/ folder: beside porefill's physics/ and explorer/ in a checkout (editable install)
 # and installed as porefill/scenarios/ by the wheel (pyproject.toml), two folders up from here in both
 DEMO_DIR = Path(__file__).resolve().parents[2] / "scenarios"
-TABLES = ("format", "scenario", "sample", "measured", "fit", "view")
+TABLES = ("format", "scenario", "sample", "measured", "fit", "distribution", "view")
 
 
 class ScenarioFileError(ValueError):
@@ -83,13 +86,14 @@ class ViewChoices:
 @dataclass(frozen=True, eq=False)
 class ScenarioDocument:
     """Everything one scenario file holds: the scenario, and optionally the sample, measured runs, a saved
-    fit and the dashboard's view choices."""
+    fit, a saved pore-size distribution and the dashboard's view choices."""
 
     scenario: object                      # porefill.physics.scenario.Scenario
     sample: object = None                 # porefill.physics.fitting.measured.Sample or None
     measured: tuple = ()                  # porefill.physics.fitting.measured.MeasuredRun, ...
     fit: object = None                    # porefill.explorer.files.saved_fit.SavedFit or None
     view: ViewChoices = field(default_factory=ViewChoices)
+    distribution: object = None           # porefill.explorer.files.saved_distribution.SavedDistribution or None
 
     def replace(self, **changes) -> "ScenarioDocument":
         from dataclasses import replace
@@ -267,6 +271,18 @@ def _document(name: str, text: str, data: dict) -> ScenarioDocument:
                     section, keys, index = "fit.parameters", list(row), k
                     break
             _fail(name, text, section, message, keys, index=index)
+    distribution = None
+    if "distribution" in data:
+        from porefill.explorer.files.saved_distribution import SavedDistribution
+
+        body = _table(name, text, data, "distribution")
+        try:
+            distribution = SavedDistribution.from_dict(body)
+        except (TypeError, ValueError) as exc:
+            kernel = body.get("kernel") if isinstance(body.get("kernel"), dict) else {}
+            blamed = _blame(str(exc), kernel)
+            _fail(name, text, "distribution.kernel" if blamed else "distribution", str(exc),
+                  list(kernel) if blamed else list(body))
     view = ViewChoices()
     if "view" in data:
         body = _table(name, text, data, "view")
@@ -274,7 +290,7 @@ def _document(name: str, text: str, data: dict) -> ScenarioDocument:
             view = ViewChoices.from_dict(body)
         except (TypeError, ValueError) as exc:
             _fail(name, text, "view", str(exc), body)
-    return ScenarioDocument(scenario, sample, tuple(measured), fit, view)
+    return ScenarioDocument(scenario, sample, tuple(measured), fit, view, distribution)
 
 
 def load_document(path: str | Path) -> ScenarioDocument:
@@ -301,8 +317,9 @@ def load_scenario(path: str | Path):
 # writing ---------------------------------------------------------------------------------------------
 _FILE_COMMENT = """\
 porefill scenario file, format 1 (TOML). Read by porefill, never executed: the tables are
-[scenario] (the inputs), and optionally [sample], [[measured]] runs, [fit] (a saved fit's numbers) and
-[view] (dashboard choices). Lengths in Å, temperatures in K, energies in K."""
+[scenario] (the inputs), and optionally [sample], [[measured]] runs, [fit] (a saved fit's numbers),
+[distribution] (a saved pore-size distribution) and [view] (dashboard choices). Lengths in Å, temperatures
+in K, energies in K."""
 
 
 def dump_scenario(scenario) -> str:
@@ -328,6 +345,11 @@ def dump_document(doc: ScenarioDocument) -> str:
         lines += [""] + dump_table("fit", doc.fit.to_dict(), comment=(
             "A saved fit: the numbers it found (values in the units given, stderr absent where the data do not "
             "determine a parameter).\nReopening the file shows them; it does not fit again."))
+    if doc.distribution is not None:
+        lines += [""] + dump_table("distribution", doc.distribution.to_dict(), comment=(
+            "A saved pore-size distribution: pore volume (cm³/g) per kernel size (Å, the shape's own size), "
+            "found from the measured runs\nwith a kernel of model isotherms built on [distribution.kernel]. "
+            "Reopening the file shows it; it does not invert again."))
     if doc.view != ViewChoices():
         lines += [""] + dump_table("view", doc.view.to_dict())
     return "\n".join(lines) + "\n"
