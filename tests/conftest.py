@@ -113,3 +113,20 @@ def pytest_collection_modifyitems(config, items):
     for item in items:
         if "slow" in item.keywords:
             item.add_marker(skip)
+
+
+def pytest_configure(config):
+    """Kernels the tests build go to a folder of this run (removed at the end), never the user's cache; the
+    served dashboard inherits it."""
+    import tempfile
+
+    config._porefill_cache = tempfile.mkdtemp(prefix="porefill-test-cache-")
+    os.environ["POREFILL_CACHE_DIR"] = config._porefill_cache
+
+
+def pytest_unconfigure(config):
+    import shutil
+
+    folder = getattr(config, "_porefill_cache", None)
+    if folder:
+        shutil.rmtree(folder, ignore_errors=True)

@@ -25,40 +25,47 @@ def add_distribution_options(p) -> None:
                         "default: 48 sizes whose equivalent diameters span 2–10 nm")
     p.add_argument("--kernel-points", type=int, default=None, metavar="N",
                    help="chemical potentials per kernel isotherm (default 200)")
-    p.add_argument("--carry", metavar="GAS:K",
+    p.add_argument("--kernel-parts", type=int, default=None, metavar="N",
+                   help="pores averaged across each kernel size's bin (default 3; 1: single sizes)")
+    p.add_argument("--carry", metavar="GAS:K[:MODEL]",
                    help="with --distribution: predict another gas at another temperature in the same sample "
-                        "(e.g. helium-4:1.5): its isotherm and the pressure band over which each layer forms")
+                        "(e.g. helium-4:1.5, or helium-4:1.5:classical): its isotherm and the pressure band over "
+                        "which each layer forms; MODEL the site model (default: the gas's own)")
     p.add_argument("--bootstrap", type=int, default=None, metavar="N",
                    help="bootstrap resamples for the distribution's errors (default 200)")
 
 
 def _spec(args, scenario):
-    from porefill.physics.distribution.kernel import DEFAULT_KERNEL_POINTS, KernelSpec, default_sizes
+    from porefill.physics.distribution.kernel import DEFAULT_KERNEL_POINTS, DEFAULT_PARTS, KernelSpec, default_sizes
     from porefill.physics.sweep import parse_range
 
     try:
         sizes = parse_range(args.sizes, name="--sizes") if args.sizes else default_sizes(scenario.shape)
         return KernelSpec(scenario.replace(title="", notes=""), tuple(sorted(sizes)),
-                          n_points=args.kernel_points or DEFAULT_KERNEL_POINTS)
+                          n_points=args.kernel_points or DEFAULT_KERNEL_POINTS,
+                          parts=DEFAULT_PARTS if args.kernel_parts is None else args.kernel_parts)
     except ValueError as exc:
         raise UsageError(str(exc)) from None
 
 
 def _carry_scenario(text: str, scenario):
+    from porefill.physics.choices import SITE_MODELS
     from porefill.physics.substances.materials import ADSORBATES
 
-    gas, sep, temp = (text or "").rpartition(":")
-    if not sep or gas not in ADSORBATES:
-        raise UsageError(f"--carry {text!r}: give GAS:K with GAS one of {', '.join(ADSORBATES)} "
-                         "(e.g. helium-4:1.5)")
+    parts = (text or "").split(":")
+    model = parts.pop() if len(parts) == 3 else None
+    if len(parts) != 2 or parts[0] not in ADSORBATES or (model is not None and model not in SITE_MODELS):
+        raise UsageError(f"--carry {text!r}: give GAS:K or GAS:K:MODEL with GAS one of {', '.join(ADSORBATES)} "
+                         f"and MODEL one of {', '.join(SITE_MODELS)} (e.g. helium-4:1.5)")
+    gas, temp = parts
     try:
         t = float(temp)
     except ValueError:
         raise UsageError(f"--carry {text!r}: the temperature {temp!r} is not a number of kelvin") from None
     try:
-        # the carried gas keeps the sample's pores; its own pair, bond and default site model
+        # the carried gas keeps the sample's pores; its own pair, bond and (unless named) default site model
         return scenario.replace(adsorbate=gas, temperature_k=t, pair_epsilon_k=None, pair_sigma_angstrom=None,
-                                bond_energy_k=None, lattice_spacing_angstrom=None, site_model=None)
+                                bond_energy_k=None, lattice_spacing_angstrom=None, site_model=model)
     except ValueError as exc:
         raise UsageError(f"--carry {text!r}: {exc}") from None
 
@@ -86,7 +93,8 @@ def run_distribution(args, runs, notes, scenario, sample, csv_path) -> int:
     carry_spec = None
     if args.carry:
         other = _carry_scenario(args.carry, spec.base)
-        carry_spec = KernelSpec(other, spec.sizes_angstrom, n_points=spec.n_points, relative_pressure_range=None)
+        carry_spec = KernelSpec(other, spec.sizes_angstrom, n_points=spec.n_points, relative_pressure_range=None,
+                                parts=spec.parts)
     kernel = kernel_for(spec, progress=_progress(f"{spec.base.adsorbate} kernel"))
     try:
         dist = invert(kernel, runs, sample, noise_relative=args.noise,

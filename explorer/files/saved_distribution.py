@@ -1,7 +1,8 @@
 """A pore-size distribution as a scenario file's ``[distribution]`` table holds it.
 
 It keeps what the inversion found, not how to find it again: the kernel's sizes and what it was built with
-(``[distribution.kernel]``: the base scenario less its size, the points per isotherm and the p/p0 range), the
+(``[distribution.kernel]``: the base scenario; beside it the points per isotherm, the pores averaged per size
+and the p/p0 range), the
 pore volume per size with its bootstrap error, the summary, the regularisation strength, the fit's χ² and the
 notes. Reopening the file shows the distribution without inverting again; a carried prediction is computed
 from it (with the kernel cache, `porefill.explorer.jobs.kernels`).
@@ -57,6 +58,7 @@ class SavedDistribution:
     lam: float | None = None
     reduced_chi2: float | None = None
     notes: tuple = ()
+    parts: int = 3
 
     def __post_init__(self) -> None:
         if not isinstance(self.kernel, Scenario):
@@ -70,6 +72,8 @@ class SavedDistribution:
         if self.stderr_cm3_g:
             object.__setattr__(self, "stderr_cm3_g", _numbers("stderr_cm3_g", list(self.stderr_cm3_g),
                                                               count=len(sizes), allow_nan=True))
+        if isinstance(self.parts, bool) or not isinstance(self.parts, int) or not 1 <= self.parts <= 9:
+            raise ValueError(f"parts must be a whole number from 1 to 9; got {self.parts!r}")
         if isinstance(self.n_points, bool) or not isinstance(self.n_points, int) or not 3 <= self.n_points <= 5000:
             raise ValueError(f"n_points must be a whole number from 3 to 5000; got {self.n_points!r}")
         if self.relative_pressure_range is not None:
@@ -103,7 +107,7 @@ class SavedDistribution:
         from porefill.physics.distribution.kernel import KernelSpec
 
         return KernelSpec(self.kernel, self.sizes_angstrom, n_points=self.n_points,
-                          relative_pressure_range=self.relative_pressure_range)
+                          relative_pressure_range=self.relative_pressure_range, parts=self.parts)
 
     @classmethod
     def from_result(cls, dist) -> "SavedDistribution":
@@ -112,13 +116,14 @@ class SavedDistribution:
         return cls(spec.base, spec.sizes_angstrom, tuple(float(v) for v in dist.pore_volume_cm3_g),
                    tuple(float(v) for v in dist.stderr_cm3_g), int(spec.n_points), spec.relative_pressure_range,
                    tuple((k, float(v)) for k, v in dist.summary.items()), float(dist.lam), float(dist.reduced_chi2),
-                   tuple(dist.notes))
+                   tuple(dist.notes), int(spec.parts))
 
     def to_dict(self) -> dict:
         out: dict = {"sizes_angstrom": list(self.sizes_angstrom), "pore_volume_cm3_g": list(self.pore_volume_cm3_g)}
         if self.stderr_cm3_g:
             out["stderr_cm3_g"] = list(self.stderr_cm3_g)
         out["n_points"] = self.n_points
+        out["parts"] = self.parts
         if self.relative_pressure_range is not None:
             out["relative_pressure_range"] = list(self.relative_pressure_range)
         for name in ("lam", "reduced_chi2"):
@@ -137,7 +142,7 @@ class SavedDistribution:
     @classmethod
     def from_dict(cls, data: dict) -> "SavedDistribution":
         data = dict(data)
-        known = {"sizes_angstrom", "pore_volume_cm3_g", "stderr_cm3_g", "n_points", "relative_pressure_range",
+        known = {"sizes_angstrom", "pore_volume_cm3_g", "stderr_cm3_g", "n_points", "parts", "relative_pressure_range",
                  "lam", "reduced_chi2", "notes", "summary", "kernel"}
         unknown = sorted(set(data) - known)
         if unknown:
@@ -151,4 +156,4 @@ class SavedDistribution:
         return cls(Scenario.from_dict(data["kernel"]), tuple(data.get("sizes_angstrom", ())),
                    tuple(data.get("pore_volume_cm3_g", ())), tuple(data.get("stderr_cm3_g", ())),
                    data.get("n_points", 200), data.get("relative_pressure_range"), tuple(summary.items()),
-                   data.get("lam"), data.get("reduced_chi2"), tuple(data.get("notes", ())))
+                   data.get("lam"), data.get("reduced_chi2"), tuple(data.get("notes", ())), data.get("parts", 3))

@@ -79,8 +79,8 @@ def store_kernel(kernel: Kernel) -> Path | None:
         return None
 
 
-def _column_job(scenario, n_points, rng) -> dict:
-    return kernel_column(scenario, n_points, rng)
+def _column_job(spec: KernelSpec, i: int) -> dict:
+    return kernel_column(spec, i)
 
 
 def kernel_for(spec: KernelSpec, *, workers: int | None = None, progress: Callable[[int, int], None] | None = None,
@@ -122,16 +122,15 @@ def _build(spec: KernelSpec, workers: int, progress, stop) -> Kernel:
             progress(sum(c is not None for c in columns), total)
 
     if workers == 1:
-        for i, sc in enumerate(scenarios):
+        for i in range(total):
             if _stopped(stop):
                 raise KernelStopped(f"stopped after {i} of {total} sizes")
-            take(i, kernel_column(sc, spec.n_points, spec.relative_pressure_range))
+            take(i, kernel_column(spec, i))
         return Kernel(spec, tuple(columns))
     order = sorted(range(total), key=lambda i: -_cost(scenarios[i]))
     with ProcessPoolExecutor(min(workers, total), mp_context=multiprocessing.get_context("spawn"),
                              initializer=_init_worker) as pool:
-        futures = {pool.submit(_column_job, scenarios[i], spec.n_points, spec.relative_pressure_range): i
-                   for i in order}
+        futures = {pool.submit(_column_job, spec, i): i for i in order}
         pending = set(futures)
         try:
             while pending:

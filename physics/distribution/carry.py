@@ -36,6 +36,16 @@ def layer_name(k: int, count: int) -> str:
     return "layer 1 (against the wall)" if k == 1 else f"layer {k}"
 
 
+def _span(kernel: Kernel, used: np.ndarray) -> tuple[float, float]:
+    """From the lowest to the highest pressure any used part reaches (each pore's own default range)."""
+    lows, highs = [], []
+    for i in np.flatnonzero(used):
+        for part in kernel.parts(int(i)):
+            lows.append(part["equilibrium"]["log_p"][0])
+            highs.append(part["equilibrium"]["log_p"][-1])
+    return float(np.exp(min(lows))), float(np.exp(max(highs)))
+
+
 @dataclass(frozen=True, eq=False)
 class CarriedPrediction:
     """The carried isotherm: ``pressure_pa`` (n,), ``amount_mmol_g`` per branch name (n,), and ``layers``:
@@ -68,31 +78,27 @@ def carry(sizes_angstrom, weights_cm3_g, kernel: Kernel, *, n_points: int = 400)
     if not used.any():
         raise ValueError("no size holding pore volume could be computed for the carried gas: "
                          + "; ".join(kernel.errors()[:2]))
-    lows, highs = [], []
-    for i in np.flatnonzero(used):
-        lp, _ = kernel.curve(int(i), "equilibrium")
-        lows.append(lp[0])
-        highs.append(lp[-1])
-    log_p = np.linspace(min(lows), max(highs), n_points)
+    lo, hi = _span(kernel, used)
+    log_p = np.linspace(np.log(lo), np.log(hi), n_points)
     amounts = {}
     for branch in ("adsorption", "desorption", "equilibrium"):
-        per = kernel.per_angstrom(log_p, branch)
-        total = np.zeros(log_p.size)
-        for i in np.flatnonzero(used):
-            total += amount_mmol_per_g(per[:, i], cross_section_angstrom2=float(kernel.areas_angstrom2[i]),
-                                       pore_volume_cm3_g=float(w[i]))
-        amounts[branch] = total
+        density = kernel.per_pore_volume(log_p, branch)          # atoms per Å³ of pore
+        amounts[branch] = amount_mmol_per_g(density[:, used] @ w[used], cross_section_angstrom2=1.0,
+                                            pore_volume_cm3_g=1.0)
+    # every part of a column holds an equal share of its volume; layers counted from the wall, the last
+    # entry of every part the pore full
+    shares = [(part.get("layers_pa", ()), w[i] / len(kernel.parts(i)))
+              for i in np.flatnonzero(used) for part in kernel.parts(int(i))]
+    count = max(len(lp) for lp, _ in shares)
     layers = []
-    count = max(len(kernel.columns[i].get("layers_pa", ())) for i in np.flatnonzero(used))
     for k in range(count):
+        last = k == count - 1
         vals, wts = [], []
-        for i in np.flatnonzero(used):
-            lp = kernel.columns[i].get("layers_pa", ())
-            # the pore-full entry is the last of every column, whatever its count of layers
-            idx = len(lp) - 1 if k == count - 1 else k
-            if idx < len(lp) - (0 if k == count - 1 else 1) and lp[idx] is not None:
+        for lp, share in shares:
+            idx = len(lp) - 1 if last else k
+            if (last or idx < len(lp) - 1) and lp and lp[idx] is not None:
                 vals.append(lp[idx])
-                wts.append(w[i])
+                wts.append(share)
         entry = {"layer": k + 1, "name": layer_name(k + 1, count),
                  "volume_fraction": float(sum(wts) / w[used].sum())}
         if vals:

@@ -115,9 +115,10 @@ def kernel_matrix(kernel: Kernel, data, sample: Sample) -> tuple[np.ndarray, np.
     pores = [sc.pore() for sc in kernel.spec.scenarios()]
     for j, d in enumerate(data):
         known = np.flatnonzero(d.has_pressure)
-        per = kernel.per_angstrom(np.log(d.pressure_pa[known]), d.branch)
-        factors = np.array([unit_factor(d.run, pore, sample, 1.0) for pore in pores])
-        blocks.append(per * factors)
+        density = kernel.per_pore_volume(np.log(d.pressure_pa[known]), d.branch)
+        # the run's unit per (atom per Å³ of pore) at 1 cm³/g: unit_factor is per (atom per Å of one pore)
+        factors = np.array([unit_factor(d.run, pore, sample, 1.0) * pore.area_angstrom2 for pore in pores])
+        blocks.append(density * factors)
         ys.append(np.asarray(d.run.amount, float)[known])
         sigmas.append(d.sigma[known])
         rows.extend((j, int(k)) for k in known)
@@ -271,8 +272,9 @@ def _with_notes(result: Distribution) -> Distribution:
     s, w = k.sizes_angstrom, result.pore_volume_cm3_g
     name = SIZE_NAMES.get(k.spec.base.shape, "size")
     notes = [f"The kernel covers {name}s {s[0]:g}–{s[-1]:g} Å in {s.size} steps of up to "
-             f"{k.spec.spacing_angstrom:.3g} Å: sizes closer than that are not resolved, and the width of a "
-             "peak narrower than one step is not measured (the smoothing spreads it)."]
+             f"{k.spec.spacing_angstrom:.3g} Å (each the mean of {k.spec.parts} pores across its bin): sizes "
+             "closer than that are not resolved, and the width of a peak narrower than one step is not "
+             "measured (the smoothing spreads it)."]
     total = w.sum()
     if total > 0:
         if w[0] / total > EDGE_FRACTION:
@@ -287,9 +289,9 @@ def _with_notes(result: Distribution) -> Distribution:
         notes.append(f"warning: reduced χ² {result.reduced_chi2:.3g} with the assumed noise: the residuals "
                      "show what the kernel cannot describe (look where they run in one direction), or the "
                      "noise is larger than assumed.")
-    loops = [c["size_angstrom"] for c in k.columns if "error" not in c
+    loops = [c["size_angstrom"] for i, c in enumerate(k.columns) if "error" not in c
              and any(st["adsorption"] is not None and st["desorption"] is not None
-                     and st["adsorption"] > st["desorption"] * (1 + 1e-6) for st in c["steps"])]
+                     and st["adsorption"] > st["desorption"] * (1 + 1e-6) for st in k.steps(i))]
     legs = measured_branches(k.spec.base.pore_ends, k.spec.base.adsorbate)
     if legs["adsorption"] == legs["desorption"]:
         notes.append(f"Both legs follow the model's {legs['adsorption']} branch (pore ends "

@@ -7,7 +7,13 @@ empty pore to p0). `kernel_column` computes one size into plain types (picklable
 explorer can run the columns in parallel with the sweep machinery and keep them on disk; `Kernel` holds the
 columns of a spec and answers, for each branch, the amount of every size at any pressure.
 
-Each column keeps its three model branches ('adsorption', 'desorption', 'equilibrium') as curves in ln p whose
+Each column is a bin of sizes, not one size: the mean (per pore volume) of the isotherms of ``parts`` pores
+spread evenly over the bin (default 3). One pore's isotherm moves by steps where a row of lattice sites enters
+(up to 0.07 in a nitrogen hexagon's condensation p/p0 near 17.35 Å side), so a kernel of single sizes cannot
+describe a sample whose pores sit between a row change and the nearest node; a bin's mean can, and a bin is
+what a distribution's bar means anyway.
+
+Each part keeps its three model branches ('adsorption', 'desorption', 'equilibrium') as curves in ln p whose
 jumps stand where they are (`porefill.physics.lattice_gas.jumps.branch_curve`), in atoms per Å of one pore,
 and the pore's cross-section, so an amount per gram is V·(per Å)/area — the same conversion as the
 single-pore fit (`porefill.physics.fitting.model.unit_factor`). Which branch a measured leg follows is the
@@ -25,12 +31,13 @@ import numpy as np
 from porefill.physics.choices import BRANCHES
 from porefill.physics.scenario import Scenario
 
-__all__ = ["KernelSpec", "Kernel", "kernel_column", "pore_diameter_angstrom", "default_sizes", "KERNEL_VERSION",
+__all__ = ["KernelSpec", "Kernel", "kernel_column", "pore_part", "DEFAULT_PARTS", "pore_diameter_angstrom", "default_sizes", "KERNEL_VERSION",
            "DEFAULT_DIAMETERS_NM", "DEFAULT_KERNEL_SIZES", "DEFAULT_KERNEL_POINTS"]
 
-KERNEL_VERSION = 1            # bump when what a column holds changes: the disk cache keys on it
+KERNEL_VERSION = 2            # bump when what a column holds changes: the disk cache keys on it
 DEFAULT_DIAMETERS_NM = (2.0, 10.0)   # the mesopores ordered silicas are made with (IUPAC: 2–50 nm mesopores)
 DEFAULT_KERNEL_SIZES = 48
+DEFAULT_PARTS = 3                    # isotherms averaged per kernel size (module notes)
 DEFAULT_KERNEL_POINTS = 200          # condensation p/p0 agrees to 1e-5 between 150 and 3000 points (tests/test_steps.py)
 _BISECTIONS = 10              # jump placement, as in the fit (`porefill.physics.lattice_gas.jumps`)
 
@@ -66,8 +73,11 @@ class KernelSpec:
     sizes_angstrom: tuple
     n_points: int = DEFAULT_KERNEL_POINTS
     relative_pressure_range: tuple | None = (1e-7, 1.0)
+    parts: int = DEFAULT_PARTS
 
     def __post_init__(self) -> None:
+        if isinstance(self.parts, bool) or not isinstance(self.parts, int) or not 1 <= self.parts <= 9:
+            raise ValueError(f"parts per kernel size must be a whole number from 1 to 9; got {self.parts!r}")
         sizes = tuple(float(s) for s in self.sizes_angstrom)
         if len(sizes) < 3:
             raise ValueError(f"a kernel needs at least 3 pore sizes; got {len(sizes)}")
@@ -83,7 +93,19 @@ class KernelSpec:
             self.base.replace(size_angstrom=s)
 
     def scenarios(self) -> tuple[Scenario, ...]:
+        """One scenario per kernel size (its node)."""
         return tuple(self.base.replace(size_angstrom=s, title="", notes="") for s in self.sizes_angstrom)
+
+    def part_sizes(self, i: int) -> tuple[float, ...]:
+        """The sizes (Å) whose isotherms make up column ``i``: ``parts`` evenly inside the size's bin, whose
+        width is the mean of its two neighbouring steps (the end sizes: their one step)."""
+        s = self.sizes_angstrom
+        if self.parts == 1:
+            return (s[i],)
+        left = s[i] - s[i - 1] if i > 0 else s[i + 1] - s[i]
+        right = s[i + 1] - s[i] if i + 1 < len(s) else s[i] - s[i - 1]
+        width = 0.5 * (left + right)
+        return tuple(float(s[i] + width * ((k + 0.5) / self.parts - 0.5)) for k in range(self.parts))
 
     def to_dict(self) -> dict:
         base = self.base.model_key().to_dict()
@@ -91,7 +113,7 @@ class KernelSpec:
         return {"base": base, "sizes_angstrom": list(self.sizes_angstrom), "n_points": int(self.n_points),
                 "relative_pressure_range": (None if self.relative_pressure_range is None
                                             else list(self.relative_pressure_range)),
-                "site_model": self.base.site_model_used, "version": KERNEL_VERSION}
+                "parts": int(self.parts), "site_model": self.base.site_model_used, "version": KERNEL_VERSION}
 
     def key(self) -> str:
         """A stable hex digest of everything a kernel depends on (the disk cache's file name)."""
@@ -104,12 +126,24 @@ class KernelSpec:
         return float(np.max(np.diff(self.sizes_angstrom)))
 
 
-def kernel_column(scenario: Scenario, n_points: int = DEFAULT_KERNEL_POINTS,
-                  relative_pressure_range: tuple | None = (1e-7, 1.0)) -> dict:
-    """One size of a kernel in plain types: ``size_angstrom``, ``area_angstrom2`` (cross-section),
+def kernel_column(spec: KernelSpec, i: int) -> dict:
+    """Column ``i`` of ``spec`` in plain types: ``size_angstrom`` (the node) and ``parts``, one `pore_part`
+    per `KernelSpec.part_sizes`; ``error`` (the first part's that failed) when a part cannot be computed."""
+    parts = [pore_part(spec.base.replace(size_angstrom=s, title="", notes=""), spec.n_points,
+                       spec.relative_pressure_range) for s in spec.part_sizes(i)]
+    out = {"size_angstrom": float(spec.sizes_angstrom[i]), "parts": parts}
+    errors = [p["error"] for p in parts if "error" in p]
+    if errors:
+        out["error"] = errors[0]
+    return out
+
+
+def pore_part(scenario: Scenario, n_points: int = DEFAULT_KERNEL_POINTS,
+              relative_pressure_range: tuple | None = (1e-7, 1.0)) -> dict:
+    """One pore's isotherm in plain types: ``size_angstrom``, ``area_angstrom2`` (cross-section),
     ``saturation_pressure_pa``, per branch name ``log_p`` (ln Pa, ascending; a jump is two vertices at one
-    pressure) and ``per_angstrom`` (atoms per Å of one pore), and ``layers_pa`` (`_layer_pressures`: where each layer from
-    the wall forms, the last entry the pore full) and ``steps`` (every step:
+    pressure) and ``per_angstrom`` (atoms per Å of one pore), ``layers_pa`` (`_layer_pressures`: where each
+    layer from the wall forms, the last entry the pore full) and ``steps`` (every step: ``kind``,
     ``relative_pressure``, ``adsorption``/``desorption`` jump p/p0 or None). A pore the model cannot compute
     gives ``error`` instead of curves."""
     from porefill.physics.lattice_gas.adsorption import compute_isotherm
@@ -142,11 +176,13 @@ def kernel_column(scenario: Scenario, n_points: int = DEFAULT_KERNEL_POINTS,
 def _layer_pressures(iso) -> list:
     """Per layer counted from the wall (the last: the pore full), the pressure (Pa) where its least-filled
     orbit reaches half occupancy on the equilibrium branch (`porefill.physics.sweep.occupancy_profile`),
-    interpolated in ln p between grid points; None where it stays below half."""
+    interpolated in ln p between grid points, or the equilibrium pressure of a first-order step between them;
+    None where it stays below half."""
     from porefill.physics.sweep import occupancy_profile
 
     prof = occupancy_profile(iso)
     log_p = np.log(prof["pressure_pa"])
+    jumps = np.log([st.pressure_pa for st in iso.steps if st.kind == "first-order"])
     out = []
     for occ in [*prof["layers"], prof["pore"]]:
         occ = np.asarray(occ, float)
@@ -158,6 +194,10 @@ def _layer_pressures(iso) -> list:
         if k == 0:
             out.append(float(np.exp(log_p[0])))
             continue
+        inside = jumps[(jumps >= log_p[k - 1]) & (jumps <= log_p[k])]
+        if inside.size:               # a first-order step in this interval: its equilibrium pressure
+            out.append(float(np.exp(inside[0])))
+            continue
         f = (0.5 - occ[k - 1]) / (occ[k] - occ[k - 1])
         out.append(float(np.exp(log_p[k - 1] + f * (log_p[k] - log_p[k - 1]))))
     return out
@@ -166,7 +206,8 @@ def _layer_pressures(iso) -> list:
 @dataclass(frozen=True, eq=False)
 class Kernel:
     """The columns of a `KernelSpec`, in its size order. ``columns``: `kernel_column` dicts; a column with an
-    ``error`` is a size the model cannot compute and carries no weight."""
+    ``error`` is a size the model cannot compute and carries no weight. A column is the mean of its parts'
+    isotherms per pore volume: a unit volume of pores spread evenly over the size's bin."""
 
     spec: KernelSpec
     columns: tuple
@@ -188,53 +229,56 @@ class Kernel:
     def usable(self) -> np.ndarray:
         return np.array(["error" not in c for c in self.columns])
 
-    @property
-    def areas_angstrom2(self) -> np.ndarray:
-        return np.array([c["area_angstrom2"] for c in self.columns], float)
+    def parts(self, i: int) -> list[dict]:
+        return list(self.columns[i]["parts"])
 
     @property
     def saturation_pressure_pa(self) -> float:
-        return float(next(c["saturation_pressure_pa"] for c in self.columns if "error" not in c))
+        return float(next(c["parts"][0]["saturation_pressure_pa"] for c in self.columns if "error" not in c))
 
     def errors(self) -> list[str]:
         return [f"size {c['size_angstrom']:g} Å: {c['error']}" for c in self.columns if "error" in c]
 
-    def curve(self, i: int, branch: str) -> tuple[np.ndarray, np.ndarray]:
-        """(ln p, atoms per Å) of column ``i`` on ``branch``."""
-        key = (i, branch)
+    def _curve(self, i: int, k: int, branch: str) -> tuple[np.ndarray, np.ndarray]:
+        key = (i, k, branch)
         if key not in self._curves:
-            c = self.columns[i][branch]
-            self._curves[key] = (np.asarray(c["log_p"], float), np.asarray(c["per_angstrom"], float))
+            c = self.columns[i]["parts"][k][branch]
+            self._curves[key] = (np.asarray(c["log_p"], float), np.log(np.maximum(np.asarray(c["per_angstrom"],
+                                                                                                float), 1e-300)))
         return self._curves[key]
 
-    def pressure_span_pa(self) -> tuple[float, float]:
-        """The pressures (Pa) every usable column covers."""
+    def pressure_span_pa(self, used=None) -> tuple[float, float]:
+        """The pressures (Pa) every usable column (or every one of ``used``) covers."""
         lows, highs = [], []
-        for i in np.flatnonzero(self.usable):
-            lp, _ = self.curve(int(i), "equilibrium")
-            lows.append(lp[0])
-            highs.append(lp[-1])
+        chosen = self.usable if used is None else (self.usable & np.asarray(used, bool))
+        for i in np.flatnonzero(chosen):
+            for k in range(len(self.columns[i]["parts"])):
+                lp, _ = self._curve(int(i), k, "equilibrium")
+                lows.append(lp[0])
+                highs.append(lp[-1])
         return float(np.exp(max(lows))), float(np.exp(min(highs)))
 
-    def per_angstrom(self, log_p, branch: str) -> np.ndarray:
-        """(n, sizes) atoms per Å of one pore of each size at ln p (Pa) on ``branch``; 0 for unusable
-        columns. Outside a column's range its end values hold (nearly empty below, p0's amount above)."""
+    def per_pore_volume(self, log_p, branch: str) -> np.ndarray:
+        """(n, sizes) atoms per Å³ of pore volume of each size at ln p (Pa) on ``branch``: the mean over a
+        column's parts of atoms per Å of one pore over its cross-section; 0 for unusable columns.
+        Interpolated linearly in (ln p, ln amount), exact in the Henry range where the amount is
+        proportional to p (a linear interpolation of the amount overshoots there by up to the grid's
+        ratio). Outside a part's range its end values hold (nearly empty below, p0's amount above)."""
         if branch not in BRANCHES:
             raise ValueError(f"branch must be one of {', '.join(BRANCHES)}; got {branch!r}")
         x = np.asarray(log_p, float)
         out = np.zeros((x.size, len(self.columns)))
         for i in np.flatnonzero(self.usable):
-            lp, per = self.curve(int(i), branch)
-            out[:, i] = np.interp(x, lp, per)
+            parts = self.columns[i]["parts"]
+            for k, part in enumerate(parts):
+                lp, log_per = self._curve(int(i), k, branch)
+                out[:, i] += np.exp(np.interp(x, lp, log_per)) / part["area_angstrom2"]
+            out[:, i] /= len(parts)
         return out
 
-    def per_pore_volume(self, log_p, branch: str) -> np.ndarray:
-        """(n, sizes) atoms per Å³ of pore: `per_angstrom` over each cross-section, the density a unit pore
-        volume of each size holds."""
-        return self.per_angstrom(log_p, branch) / self.areas_angstrom2
-
     def steps(self, i: int) -> list[dict]:
-        return list(self.columns[i].get("steps", ()))
+        """Every part's steps of column ``i``."""
+        return [st for part in self.columns[i]["parts"] for st in part.get("steps", ())]
 
     def to_json(self) -> dict:
         return {"spec": self.spec.to_dict(), "columns": list(self.columns)}
@@ -251,11 +295,11 @@ def build_kernel(spec: KernelSpec, *, progress=None) -> Kernel:
     """Every column of ``spec`` in this process, one after the other (the explorer runs them in parallel
     and caches them: `porefill.explorer.jobs.kernels`). ``progress(done, total)`` after each size."""
     columns = []
-    scenarios = spec.scenarios()
-    for k, sc in enumerate(scenarios):
-        columns.append(kernel_column(sc, spec.n_points, spec.relative_pressure_range))
+    total = len(spec.sizes_angstrom)
+    for i in range(total):
+        columns.append(kernel_column(spec, i))
         if progress is not None:
-            progress(k + 1, len(scenarios))
+            progress(i + 1, total)
     return Kernel(spec, tuple(columns))
 
 
