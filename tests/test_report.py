@@ -266,3 +266,26 @@ def test_a_refused_link_is_told_in_plain_words():
     lo, hi = state.param.temperature_k.bounds
     why = io_view._apply_link({"temperature_k": 500.0})["temperature_k"]
     assert why == f"must be between {lo:g} and {hi:g} K for argon"
+
+
+def test_a_saved_distribution_is_reported_with_its_figure_and_escaped_notes():
+    # common practice, no source: the report shows what the file holds, text from the file escaped
+    from porefill.explorer.files.saved_distribution import SavedDistribution
+
+    kernel = Scenario(shape="hexagon", size_angstrom=17.0, wall_angstrom=8.0, adsorbate="nitrogen",
+                      temperature_k=77.35, site_model="classical")
+    saved = SavedDistribution(kernel, (15.0, 16.0, 17.0, 18.0), (0.0, 0.25, 0.31, 0.02),
+                              (0.0, 0.01, 0.02, 0.005), summary=(("total_cm3_g", 0.58), ("mode", 17.0)),
+                              reduced_chi2=1.4, notes=("warning: <b>edge</b> reached",))
+    doc = ScenarioDocument(FAST, distribution=saved)
+    text = build_report(doc, sizes=())
+    section = text[text.index("<section id='distribution'"):]
+    section = section[:section.index("</section>")]
+    assert "total pore volume" in section and "0.58" in section and "mode side length" in section
+    assert "&lt;b&gt;edge&lt;/b&gt;" in section and "<b>edge" not in section
+    assert section.count("data:image/svg+xml;base64,") == 1
+    # the per-size table lists the three sizes holding volume; the diameter column holds 1.819 × side / 10
+    assert section.count("<td>15</td>") == 0 and section.count("<td>16</td>") == 1
+    assert "3.092" in section          # 17 Å side → √(6√3/π)·17 = 30.92 Å (plane geometry)
+    empty = build_report(ScenarioDocument(FAST), sizes=())
+    assert "holds no pore-size distribution" in empty

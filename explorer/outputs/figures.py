@@ -18,7 +18,8 @@ from matplotlib.figure import Figure
 
 __all__ = ["FIGURES", "SLIDE_WIDTH_PX", "render", "figure_job", "potential_map_figure", "line_cuts_figure",
            "isotherm_figure", "compressibility_figure", "occupancy_figure", "quantum_density_figure",
-           "site_models_figure", "measured_figure", "sizing_figure", "measured_points", "literal"]
+           "site_models_figure", "measured_figure", "sizing_figure", "measured_points", "literal",
+           "distribution_figure"]
 
 SLIDE_WIDTH_PX = 1920
 ADS, DES, EQ, STEP = "#1b6ca8", "#d1495b", "#333333", "#f4a259"
@@ -256,6 +257,39 @@ def sizing_figure(points: list[dict], *, window_pa: tuple[float, float] | None =
     ax.set(xlabel="pore size (Å)", ylabel="step pressure (Pa)", title="Layer steps against pore size")
     if seen:
         ax.legend(loc="best")
+    return fig
+
+
+def distribution_figure(saved) -> Figure:
+    """A pore-size distribution (`porefill.explorer.files.saved_distribution.SavedDistribution`): pore volume
+    per Å of size as bars with their bootstrap errors, and the cumulative pore volume on the right axis."""
+    from porefill.physics.choices import SIZE_NAMES
+    from porefill.physics.distribution.kernel import pore_diameter_angstrom
+
+    s = np.asarray(saved.sizes_angstrom, float)
+    w = np.asarray(saved.pore_volume_cm3_g, float)
+    edges = np.concatenate([[s[0] - 0.5 * (s[1] - s[0])], 0.5 * (s[1:] + s[:-1]), [s[-1] + 0.5 * (s[-1] - s[-2])]])
+    width = np.diff(edges)
+    err = np.asarray(saved.stderr_cm3_g, float) / width if saved.stderr_cm3_g else None
+    fig = _figure()
+    ax = fig.add_subplot()
+    ax.bar(s, w / width, width=width * 0.9, color=ADS, alpha=0.75, label="pore volume per Å",
+           yerr=None if err is None else np.nan_to_num(err), ecolor="#555555", capsize=2)
+    right = ax.twinx()
+    right.step(edges, np.concatenate([[0.0], np.cumsum(w)]), where="post", color=EQ, lw=1.5,
+               label="cumulative pore volume")
+    shape = saved.kernel.shape
+    per = float(pore_diameter_angstrom(shape, 1.0))
+    top = ax.secondary_xaxis("top", functions=(lambda x: x * per / 10.0, lambda d: d * 10.0 / per))
+    top.set_xlabel("equivalent diameter (nm)")
+    ax.set(xlabel=f"pore {SIZE_NAMES.get(shape, 'size')} (Å)", ylabel="dV/ds (cm³/g per Å)",
+           title=literal(f"Pore-size distribution ({saved.kernel.adsorbate}, {saved.kernel.temperature_k:g} K)"))
+    right.set_ylabel("cumulative pore volume (cm³/g)")
+    right.set_ylim(bottom=0)
+    ax.set_ylim(bottom=0)
+    lines = ax.get_legend_handles_labels()
+    more = right.get_legend_handles_labels()
+    ax.legend(lines[0] + more[0], lines[1] + more[1], loc="upper left", fontsize=8)
     return fig
 
 

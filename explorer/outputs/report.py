@@ -2,7 +2,7 @@
 
 Sections (each a ``<section id=...>``, ``SECTIONS``): the inputs with where each parameter comes from, the
 wall potential map and line cuts, the isotherm with its step table, the quantum states (light gases), the
-measured runs over the model and a saved fit, the sizing map (layer steps against pore size), the model's
+measured runs over the model and a saved fit, a saved pore-size distribution, the sizing map (layer steps against pore size), the model's
 assumptions and the safety cautions. Figures are SVG drawn on the server (`porefill.explorer.outputs.figures`) and embedded
 as data URIs; the page has no script at all. Everything that came from a file is HTML-escaped.
 No Panel here: `porefill report` and the dashboard's button (in a worker) both call `build_report`.
@@ -24,7 +24,7 @@ __all__ = ["SECTIONS", "build_report", "default_sizes"]
 
 SECTIONS = {"inputs": "Inputs and where they come from", "potential": "Wall potential",
             "isotherm": "Isotherm and layer steps", "quantum": "Quantum states", "measured": "Measured data and fit",
-            "sizing": "Sizing map", "assumptions": "The model and its assumptions", "safety": "Safety"}
+            "distribution": "Pore-size distribution", "sizing": "Sizing map", "assumptions": "The model and its assumptions", "safety": "Safety"}
 _CSS = """
 body { font-family: system-ui, sans-serif; max-width: 1000px; margin: 1.5em auto; padding: 0 1em; color: #222; }
 h1 { font-size: 1.6em; } h2 { border-bottom: 1px solid #ccc; padding-bottom: 0.2em; margin-top: 1.6em; }
@@ -202,6 +202,37 @@ def _measured(doc, iso) -> str:
     return out + _img(fg.measured_figure(iso, doc.measured, sample, fitted=fitted), "measured over the model")
 
 
+def _distribution(doc) -> str:
+    saved = doc.distribution
+    if saved is None:
+        return "<p>The scenario holds no pore-size distribution.</p>"
+    from porefill.physics.choices import SIZE_NAMES
+    from porefill.physics.distribution.kernel import pore_diameter_angstrom
+
+    k = saved.kernel
+    summary = dict(saved.summary)
+    word = SIZE_NAMES.get(k.shape, "size")
+    rows = [["total pore volume", _g(summary.get("total_cm3_g"), 4), "cm³/g"]]
+    rows += [[f"{name} {word}", _g(summary.get(name), 4), "Å"] for name in ("mode", "mean", "median")
+             if name in summary]
+    if "width" in summary:
+        rows.append([f"width (standard deviation of the {word})", _g(summary["width"], 3), "Å"])
+    if saved.reduced_chi2 is not None:
+        rows.append(["reduced χ²", _g(saved.reduced_chi2, 3), ""])
+    diam = pore_diameter_angstrom(k.shape, saved.sizes_angstrom)
+    err = saved.stderr_cm3_g or (None,) * len(saved.sizes_angstrom)
+    table = [[_g(s, 5), _g(d / 10.0, 4), _g(w, 4), _g(e, 2)]
+             for s, d, w, e in zip(saved.sizes_angstrom, diam, saved.pore_volume_cm3_g, err) if w > 0]
+    notes = "".join(f"<p class='{'warning' if n.startswith('warning:') else 'note'}'>{_e(n)}</p>" for n in saved.notes)
+    return (f"<p>Pore volume over pore size, found from the measured runs with a kernel of {k.adsorbate} "
+            f"isotherms at {k.temperature_k:g} K ({len(saved.sizes_angstrom)} sizes, {saved.parts} pores averaged "
+            f"per size, {k.site_model_used} sites): a non-negative combination, smoothed with its strength chosen "
+            "by generalised cross-validation; errors from a residual bootstrap.</p>"
+            + _table(["quantity", "value", "unit"], rows) + notes
+            + _img(fg.distribution_figure(saved), "pore-size distribution")
+            + _table([f"{word} (Å)", "equivalent diameter (nm)", "pore volume (cm³/g)", "± (cm³/g)"], table))
+
+
 def default_sizes(scenario, count: int = 5) -> tuple[float, ...]:
     """Sizes for the report's sizing map: ``count`` from 0.8 to 1.2 × the scenario's, within the limits
     (five helium-4 pores with quantum sites take about half a minute on two cores)."""
@@ -266,6 +297,7 @@ def build_report(doc, *, sizes: tuple[float, ...] | None = None,
     parts["quantum"] = _quantum(sc)
     say("measured data")
     parts["measured"] = _measured(doc, iso)
+    parts["distribution"] = _distribution(doc)
     parts["sizing"] = _sizing(sc, default_sizes(sc) if sizes is None else sizes, progress)
     parts["assumptions"] = _markdown(ABOUT.removesuffix(SAFETY).replace("## About porefill", "", 1))
     parts["safety"] = _markdown(SAFETY.replace("### Safety", "", 1))
