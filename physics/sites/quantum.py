@@ -26,7 +26,7 @@ from scipy.spatial import cKDTree
 
 from porefill.physics.caching import BoundedCache
 from porefill.physics.sites.lattice import _cell_offsets, _triangular_sites
-from porefill.physics.sites.symmetry_blocks import block_states, mirror_permutations, sector_bases
+from porefill.physics.sites.symmetry_blocks import block_states, symmetry_blocks
 from porefill.physics.pore.wall_potential import wall_potential
 
 __all__ = ["states_numbers", "CrossSectionStates", "solve_states", "thermal_wavelength_angstrom", "classical_boltzmann_area",
@@ -88,15 +88,15 @@ def grid_states(v: np.ndarray, pairs, h: float, hbar2_over_mk: float, *, k: int,
     """The k eigenpairs of the grid Hamiltonian nearest above ``shift`` (energies ascending, vectors
     normalised to Σ|ψ|² = 1), by shift-invert Lanczos with a sparse LU of H − σ.
 
-    With the grid's ``points``, the Hamiltonian is split into the symmetry blocks of the mirrors the grid
-    and the potential keep (`porefill.physics.sites.symmetry_blocks`) and solved block by block: the same
-    states, several times faster."""
+    With the grid's ``points``, the Hamiltonian is split into the symmetry blocks the grid and the potential
+    keep (C6v's for the hexagon and the cylinder, the mirrors' otherwise;
+    `porefill.physics.sites.symmetry_blocks`) and solved block by block: the same states, several times
+    faster."""
     k = int(min(k, v.size - 2))
     hamiltonian = _hamiltonian(v, pairs, h, hbar2_over_mk)
     if points is None:
         return _shift_invert(hamiltonian.tocsc(), k, shift)
-    bases = sector_bases(v.size, mirror_permutations(points, v))
-    return block_states(hamiltonian, bases, k=k, shift=shift, solve=_shift_invert)
+    return block_states(hamiltonian, symmetry_blocks(points, v), k=k, shift=shift, solve=_shift_invert)
 
 
 def _shift_invert(hamiltonian: sparse.csc_matrix, k: int, shift: float) -> tuple[np.ndarray, np.ndarray]:
