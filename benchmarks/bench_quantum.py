@@ -1,6 +1,9 @@
 """Quantum states and the quantum isotherm: helium-4, 15 Å side, 8 Å walls, 1.5 K; then a new geometry at
 15, 30 and 50 Å side, and hydrogen (20 K) and neon (25 K) at 15 Å. Prints JSON lines.
 
+Then the one-atom states alone at 15 and 30 Å side, solved in the mirrors' four blocks (C2v, before) and in
+C6v's six (now), side by side in one run, with the largest difference of their energies.
+
 Run: .venv/bin/python benchmarks/bench_quantum.py [--quick]   (--quick: leaves out 50 Å, hydrogen and neon)
 """
 from __future__ import annotations
@@ -64,6 +67,37 @@ def sizes_and_gases(quick: bool) -> None:
                           "seconds": round(time.perf_counter() - t0, 2), "steps": len(iso.steps)}), flush=True)
 
 
+def blocks_side_by_side() -> None:
+    """States at 15 and 30 Å side with the mirror sectors and with C6v's blocks (one BLAS thread)."""
+    import numpy as np
+    from threadpoolctl import threadpool_limits
+
+    from porefill.physics.sites import quantum
+    from porefill.physics.sites import symmetry_blocks as sb
+    from porefill.physics.substances.materials import get_adsorbate
+
+    def mirrors_only(points, v):
+        return [sb.Block(b) for b in sb.sector_bases(points.shape[0], sb.mirror_permutations(points, v))]
+
+    with threadpool_limits(1):
+        for side in (15.0, 30.0):
+            sc = Scenario(size_angstrom=side, wall_angstrom=8.0, temperature_k=1.5)
+            pore, pair = sc.pore(), sc.pair()
+            hb = get_adsorbate(sc.adsorbate).hbar2_over_mk
+            out = {}
+            for name, blocks in (("c2v_mirror_sectors", mirrors_only), ("c6v_blocks", sb.symmetry_blocks)):
+                quantum.symmetry_blocks = blocks
+                t0 = time.perf_counter()
+                states = quantum.solve_states(pore, pair, hb, temperature_k=1.5)
+                out[name] = (time.perf_counter() - t0, states.energies_k)
+            quantum.symmetry_blocks = sb.symmetry_blocks
+            print(json.dumps({"benchmark": f"helium_states_hexagon_{side:g}A_blocks",
+                              **{f"{k}_s": round(v[0], 3) for k, v in out.items()},
+                              "max_energy_difference_k": float(np.abs(out["c2v_mirror_sectors"][1]
+                                                                      - out["c6v_blocks"][1]).max())}), flush=True)
+
+
 if __name__ == "__main__":
     main()
     sizes_and_gases("--quick" in sys.argv)
+    blocks_side_by_side()
