@@ -289,3 +289,12 @@ def test_a_saved_distribution_is_reported_with_its_figure_and_escaped_notes():
     assert "3.092" in section          # 17 Å side → √(6√3/π)·17 = 30.92 Å (plane geometry)
     empty = build_report(ScenarioDocument(FAST), sizes=())
     assert "holds no pore-size distribution" in empty
+
+
+def test_slide_figures_say_what_they_show_in_text_a_drawing_program_edits():
+    # SVG 1.1 <text> elements (W3C): the caption and axis labels stay text, not outlines
+    svg = figure_job(FAST, "isotherm-relative", "svg").decode()
+    texts = " ".join(re.findall(r"<text[^>]*>(.*?)</text>", svg, flags=re.S))
+    assert "argon at 87.3 K in a slit pore" in texts and "width 12 Å" in texts and "10 Å walls" in texts
+    assert "relative pressure p/p₀" in texts
+    assert "classical sites" in texts

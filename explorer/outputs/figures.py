@@ -19,7 +19,7 @@ from matplotlib.figure import Figure
 __all__ = ["FIGURES", "SLIDE_WIDTH_PX", "render", "figure_job", "potential_map_figure", "line_cuts_figure",
            "isotherm_figure", "compressibility_figure", "occupancy_figure", "quantum_density_figure",
            "site_models_figure", "measured_figure", "sizing_figure", "measured_points", "literal",
-           "distribution_figure"]
+           "distribution_figure", "caption"]
 
 SLIDE_WIDTH_PX = 1920
 ADS, DES, EQ, STEP = "#1b6ca8", "#d1495b", "#333333", "#f4a259"
@@ -28,6 +28,7 @@ FIGURES = {                        # name -> what the dashboard's menu says
     "line-cuts": "Line cuts of the wall potential",
     "isotherm": "Isotherm (log pressure)",
     "isotherm-mu": "Isotherm (chemical potential)",
+    "isotherm-relative": "Isotherm (p/p₀, linear)",
     "compressibility": "Compressibility dN/dμ",
     "occupancy": "Site occupancy at the picked pressure",
 }
@@ -48,13 +49,14 @@ def _figure(size=_SIZE_IN) -> Figure:
 
 
 def render(fig: Figure, fmt: str, *, width_px: int = SLIDE_WIDTH_PX) -> bytes:
-    """PNG bytes ``width_px`` wide, or SVG (UTF-8 bytes, fonts as paths so it looks the same anywhere)."""
+    """PNG bytes ``width_px`` wide, or SVG (UTF-8 bytes; its text stays text, editable in a drawing program,
+    in the font family the figure names)."""
     out = io.BytesIO()
     if fmt == "png":
         fig.savefig(out, format="png", dpi=width_px / fig.get_figwidth())
     elif fmt == "svg":
         import matplotlib
-        with matplotlib.rc_context({"svg.fonttype": "path", "svg.hashsalt": "porefill"}):
+        with matplotlib.rc_context({"svg.fonttype": "none", "svg.hashsalt": "porefill"}):
             fig.savefig(out, format="svg", metadata={"Date": None})
     else:
         raise ValueError(f"format must be 'png' or 'svg'; got {fmt!r}")
@@ -117,29 +119,36 @@ def _amount_label(iso) -> str:
 
 
 def isotherm_figure(iso, *, axis: str = "pressure", pick_pa: float | None = None, title: str = "") -> Figure:
-    """Both branches against log pressure (``axis`` "pressure") or μ ("chemical-potential"), steps
-    numbered as in the step table, p₀ dashed, the picked pressure (if any) in orange."""
+    """Both branches against log pressure (``axis`` "pressure"), linear p/p₀ ("relative-pressure") or μ
+    ("chemical-potential"), steps numbered as in the step table, p₀ dashed, the picked pressure (if any) in
+    orange."""
     fig = _figure()
     ax = fig.add_subplot()
     log = axis == "pressure"
-    x = iso.pressure_pa if log else iso.mu
+    relative = axis == "relative-pressure"
+    x = iso.pressure_pa if log else (iso.relative_pressure if relative else iso.mu)
     ads, des = iso.per_nm(iso.measured_branch("adsorption")), iso.per_nm(iso.measured_branch("desorption"))
     ax.plot(x, ads, color=ADS, lw=2, label="adsorption")
     ax.plot(x, des, color=DES, lw=2, ls="--", label="desorption (as measured)")
     if iso.measured_branch("desorption") != "desorption":
         ax.plot(x, iso.per_nm("desorption"), color="#9a9a9a", lw=1.2, ls=":", label="mean-field desorption limit")
+    p0 = iso.setup.saturation_pressure_pa
     for i, s in enumerate(iso.steps, 1):
-        sx = s.pressure_pa if log else s.mu_k
+        sx = s.pressure_pa if log else (s.pressure_pa / p0 if relative else s.mu_k)
         sy = float(np.interp(s.mu_k, iso.mu, 0.5 * (ads + des)))
         ax.plot([sx], [sy], "o", color=STEP, mec="black", ms=7, zorder=5)
         ax.annotate(str(i), (sx, sy), xytext=(6, -12), textcoords="offset points", fontsize=10)
-    ax.axvline(iso.setup.saturation_pressure_pa if log else iso.setup.mu_coexistence_k, color="#888888", ls="--",
+    ax.axvline(p0 if log else (1.0 if relative else iso.setup.mu_coexistence_k), color="#888888", ls="--",
                lw=1, label="p₀")
     if pick_pa is not None:
-        ax.axvline(pick_pa if log else float(iso.setup.scale.mu_k(pick_pa)), color=STEP, lw=2)
+        ax.axvline(pick_pa if log else (pick_pa / p0 if relative else float(iso.setup.scale.mu_k(pick_pa))),
+                   color=STEP, lw=2)
     if log:
         ax.set_xscale("log")
-    ax.set(xlabel="pressure p (Pa)" if log else "chemical potential μ (K)", ylabel=_amount_label(iso),
+    if relative:
+        ax.set_xlim(0.0, 1.0)
+    xlabel = ("pressure p (Pa)" if log else "relative pressure p/p₀" if relative else "chemical potential μ (K)")
+    ax.set(xlabel=xlabel, ylabel=_amount_label(iso),
            title=literal(title) if title else "Isotherm (mean-field lattice gas)")
     ax.legend(loc="upper left")
     return fig
@@ -312,12 +321,24 @@ def figure_job(scenario, name: str, fmt: str, *, pick_pa: float | None = None, b
         fig = line_cuts_figure(scenario)
     else:
         iso = model_isotherm(scenario)
-        if name in ("isotherm", "isotherm-mu"):
-            fig = isotherm_figure(iso, axis="pressure" if name == "isotherm" else "chemical-potential",
-                                  pick_pa=pick_pa)
+        if name in ("isotherm", "isotherm-mu", "isotherm-relative"):
+            axis = {"isotherm": "pressure", "isotherm-mu": "chemical-potential"}.get(name, "relative-pressure")
+            fig = isotherm_figure(iso, axis=axis, pick_pa=pick_pa)
         elif name == "compressibility":
             fig = compressibility_figure(iso)
         else:
             p = pick_pa if pick_pa is not None else float(np.sqrt(iso.pressure_pa[0] * iso.pressure_pa[-1]))
             fig = occupancy_figure(iso, pressure_pa=p, branch=branch)
+    fig.supxlabel(literal(caption(scenario)), fontsize=8, color="#555555")
     return render(fig, fmt)
+
+
+def caption(scenario) -> str:
+    """What a slide figure shows, in one line: gas, pore, temperature, site model, pore ends."""
+    from porefill.physics.choices import SIZE_NAMES
+
+    wall = scenario.effective_wall_angstrom
+    where = "isolated" if wall is None else f"{wall:g} Å walls"
+    return (f"{scenario.adsorbate} at {scenario.temperature_k:g} K in a {scenario.shape} pore, "
+            f"{SIZE_NAMES[scenario.shape]} {scenario.size_angstrom:g} Å ({where}), {scenario.solid}; "
+            f"{scenario.site_model_used} sites, pore ends {scenario.pore_ends}")
