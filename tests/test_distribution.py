@@ -222,3 +222,18 @@ def test_kernel_spec_refuses_bad_grids():
         KernelSpec(BASE, SIZES, relative_pressure_range=(0.5, 0.1))
     assert KernelSpec(BASE, SIZES).key() == KernelSpec(BASE.replace(title="other"), SIZES).key()
     assert KernelSpec(BASE, SIZES).key() != KernelSpec(BASE.replace(wall_angstrom=9.0), SIZES).key()
+
+
+def test_the_adsorption_leg_is_inverted_unless_asked(kernel):
+    # common practice, no source: characterisations are quoted from the adsorption leg
+    w_true = _gaussian(25.0, 1.5, 0.6, FINE)
+    ads = _invented(FINE, w_true)
+    des = MeasuredRun("down", "invented.csv", X[::-1], "p/p0", np.asarray(ads.amount)[::-1] * 1.1, "mmol/g",
+                      "desorption", T_N2)
+    one = invert(kernel, [ads, des], bootstrap=0)
+    assert [r.leg for r in one.runs] == ["adsorption"]
+    assert any("left out: 'down'" in n for n in one.notes)
+    both = invert(kernel, [ads, des], bootstrap=0, legs=("adsorption", "desorption"))
+    assert both.summary["total_cm3_g"] > one.summary["total_cm3_g"] * 1.02
+    with pytest.raises(ValueError, match="no desorption leg"):
+        invert(kernel, [ads], legs=("desorption",))

@@ -31,6 +31,8 @@ def add_distribution_options(p) -> None:
                    help="with --distribution: predict another gas at another temperature in the same sample "
                         "(e.g. helium-4:1.5, or helium-4:1.5:classical): its isotherm and the pressure band over "
                         "which each layer forms; MODEL the site model (default: the gas's own)")
+    p.add_argument("--legs", choices=("adsorption", "desorption", "both"), default=None,
+                   help="with --distribution: the legs to invert (default: adsorption when the files have it)")
     p.add_argument("--bootstrap", type=int, default=None, metavar="N",
                    help="bootstrap resamples for the distribution's errors (default 200)")
 
@@ -97,7 +99,8 @@ def run_distribution(args, runs, notes, scenario, sample, csv_path) -> int:
                                 parts=spec.parts)
     kernel = kernel_for(spec, progress=_progress(f"{spec.base.adsorbate} kernel"))
     try:
-        dist = invert(kernel, runs, sample, noise_relative=args.noise,
+        legs = None if args.legs is None else (("adsorption", "desorption") if args.legs == "both" else (args.legs,))
+        dist = invert(kernel, runs, sample, noise_relative=args.noise, legs=legs,
                       bootstrap=BOOTSTRAP_SAMPLES if args.bootstrap is None else args.bootstrap, seed=args.seed)
     except ValueError as exc:
         raise UsageError(str(exc)) from None

@@ -162,14 +162,26 @@ def _summary(s: np.ndarray, w: np.ndarray) -> dict:
 
 def invert(kernel: Kernel, runs, sample: Sample | None = None, *, noise_relative: float = 0.02,
            noise_floor: float = 0.05, lam: float | None = None, bootstrap: int = BOOTSTRAP_SAMPLES,
-           seed: int = 0) -> Distribution:
+           seed: int = 0, legs: tuple | None = None) -> Distribution:
     """The pore-size distribution that puts ``runs`` (per-gram `MeasuredRun`s at the kernel's temperature)
     on the kernel. ``lam``: a fixed regularisation strength (relative to the scale of the weighted kernel)
-    instead of GCV's choice. Raises ValueError naming the run when it cannot be used."""
+    instead of GCV's choice. ``legs``: the legs used ("adsorption", "desorption"); default: the adsorption
+    legs when there are any (a real sample's desorption leg leaves a hysteresis loop the model's open-pore
+    branches need not share, and characterisations are quoted from adsorption), else every leg. Raises
+    ValueError naming the run when it cannot be used."""
     sample = sample or Sample()
     runs = tuple(runs)
     if not runs:
         raise ValueError("no measured run to invert")
+    if legs is None:
+        legs = ("adsorption",) if any(r.leg == "adsorption" for r in runs) else ("adsorption", "desorption")
+    unknown = [leg for leg in legs if leg not in ("adsorption", "desorption")]
+    if unknown or not legs:
+        raise ValueError(f"legs must be adsorption and/or desorption; got {', '.join(map(str, legs)) or 'none'}")
+    skipped = [r for r in runs if r.leg not in legs]
+    runs = tuple(r for r in runs if r.leg in legs)
+    if not runs:
+        raise ValueError(f"no {' or '.join(legs)} leg among the measured runs")
     base = kernel.spec.base
     for run in runs:
         if not isinstance(run, MeasuredRun):
@@ -249,7 +261,15 @@ def invert(kernel: Kernel, runs, sample: Sample | None = None, *, noise_relative
                        "residual": (y[idx] - model[idx]) / sigma[idx]})
     result = Distribution(kernel, runs, sample, w, stderr, summary, summary_err, tuple(fitted), lam_used,
                           lambdas, gcv, chi2, n, dof, left_out, _single_size(A, b, s, usable))
-    return _with_notes(result)
+    result = _with_notes(result)
+    if skipped:
+        from dataclasses import replace
+
+        names = ", ".join(repr(r.name) for r in skipped[:3]) + (" …" if len(skipped) > 3 else "")
+        result = replace(result, notes=result.notes + (
+            f"Only the {' and '.join(legs)} leg(s) were inverted; left out: {names} (ask for both legs to use "
+            "them; a hysteresis loop the model does not share would blur the distribution).",))
+    return result
 
 
 def _single_size(A: np.ndarray, b: np.ndarray, s: np.ndarray, usable: np.ndarray) -> dict:
