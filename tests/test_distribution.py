@@ -237,3 +237,25 @@ def test_the_adsorption_leg_is_inverted_unless_asked(kernel):
     assert both.summary["total_cm3_g"] > one.summary["total_cm3_g"] * 1.02
     with pytest.raises(ValueError, match="no desorption leg"):
         invert(kernel, [ads], legs=("desorption",))
+
+
+def test_points_above_the_largest_pores_filling_are_left_out(kernel):
+    # an invented sample plus a steep rise near p0 (condensation between particles) that no kernel pore makes:
+    # the points above the kernel's largest pore's filling are left out and the distribution is unchanged
+    w_true = _gaussian(22.0, 1.2, 0.6, FINE)
+    run = _invented(FINE, w_true)
+    x = np.asarray(run.pressure)
+    extra = np.where(x > 0.9, 40.0 * (x - 0.9), 0.0)            # mmol/g, only above p/p0 0.9
+    rising = MeasuredRun("rise", "invented.csv", x, "p/p0", np.asarray(run.amount) + extra, "mmol/g",
+                         "adsorption", T_N2)
+    from porefill.physics.distribution.inversion import ceiling_pa
+    top = ceiling_pa(kernel) / kernel.saturation_pressure_pa
+    assert 0.5 < top < 0.9                       # the 36 Å side pores are full well below p/p0 0.9
+    plain = invert(kernel, [run], bootstrap=0)
+    cut = invert(kernel, [rising], bootstrap=0)
+    assert cut.summary["mode"] == plain.summary["mode"]
+    # (equal up to the noise floor, 5 % of the run's largest amount, which the rise raises)
+    assert cut.summary["total_cm3_g"] == pytest.approx(plain.summary["total_cm3_g"], rel=1e-3)
+    assert any("were left out" in n and "above p/p0" in n for n in cut.notes)
+    kept = invert(kernel, [rising], bootstrap=0, ceiling=None)
+    assert kept.summary["mean"] > plain.summary["mean"]         # the rise pulls volume to the largest sizes

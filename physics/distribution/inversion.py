@@ -36,7 +36,7 @@ from porefill.physics.fitting.measured import MeasuredRun, Sample
 from porefill.physics.fitting.model import PER_GRAM_UNITS, prepare_runs, unit_factor
 from porefill.physics.lattice_gas.branches import measured_branches
 
-__all__ = ["Distribution", "invert", "kernel_matrix", "second_differences", "BOOTSTRAP_SAMPLES",
+__all__ = ["Distribution", "invert", "kernel_matrix", "ceiling_pa", "second_differences", "BOOTSTRAP_SAMPLES",
            "MISFIT_REDUCED_CHI2", "EDGE_FRACTION"]
 
 BOOTSTRAP_SAMPLES = 200
@@ -108,13 +108,26 @@ def second_differences(n: int) -> np.ndarray:
     return L
 
 
-def kernel_matrix(kernel: Kernel, data, sample: Sample) -> tuple[np.ndarray, np.ndarray, np.ndarray, list]:
-    """(K, y, σ, rows): the kernel at every recorded point of the prepared runs ``data``, in each run's unit
-    per cm³/g of each size, with the measured amounts, their σ and (run index, point index) of each row."""
+def ceiling_pa(kernel: Kernel) -> float:
+    """The pressure (Pa) 5 % above where the kernel's largest usable pores are full: above it the kernel
+    describes nothing more (condensation between particles, or in pores larger than the kernel's)."""
+    usable = np.flatnonzero(kernel.usable)
+    if usable.size == 0:
+        return float("inf")
+    full = [part["layers_pa"][-1] for part in kernel.parts(int(usable[-1]))
+            if part.get("layers_pa") and part["layers_pa"][-1] is not None]
+    return 1.05 * max(full) if full else float("inf")
+
+
+def kernel_matrix(kernel: Kernel, data, sample: Sample, top_pa: float = float("inf")
+                  ) -> tuple[np.ndarray, np.ndarray, np.ndarray, list]:
+    """(K, y, σ, rows): the kernel at every recorded point of the prepared runs ``data`` up to ``top_pa``, in
+    each run's unit per cm³/g of each size, with the measured amounts, their σ and (run index, point index)
+    of each row."""
     blocks, ys, sigmas, rows = [], [], [], []
     pores = [sc.pore() for sc in kernel.spec.scenarios()]
     for j, d in enumerate(data):
-        known = np.flatnonzero(d.has_pressure)
+        known = np.flatnonzero(d.has_pressure & (np.nan_to_num(d.pressure_pa, nan=np.inf) <= top_pa))
         density = kernel.per_pore_volume(np.log(d.pressure_pa[known]), d.branch)
         # the run's unit per (atom per Å³ of pore) at 1 cm³/g: unit_factor is per (atom per Å of one pore)
         factors = np.array([unit_factor(d.run, pore, sample, 1.0) * pore.area_angstrom2 for pore in pores])
@@ -162,13 +175,15 @@ def _summary(s: np.ndarray, w: np.ndarray) -> dict:
 
 def invert(kernel: Kernel, runs, sample: Sample | None = None, *, noise_relative: float = 0.02,
            noise_floor: float = 0.05, lam: float | None = None, bootstrap: int = BOOTSTRAP_SAMPLES,
-           seed: int = 0, legs: tuple | None = None) -> Distribution:
+           seed: int = 0, legs: tuple | None = None, ceiling="auto") -> Distribution:
     """The pore-size distribution that puts ``runs`` (per-gram `MeasuredRun`s at the kernel's temperature)
     on the kernel. ``lam``: a fixed regularisation strength (relative to the scale of the weighted kernel)
     instead of GCV's choice. ``legs``: the legs used ("adsorption", "desorption"); default: the adsorption
     legs when there are any (a real sample's desorption leg leaves a hysteresis loop the model's open-pore
-    branches need not share, and characterisations are quoted from adsorption), else every leg. Raises
-    ValueError naming the run when it cannot be used."""
+    branches need not share, and characterisations are quoted from adsorption), else every leg.
+    ``ceiling``: points above this pressure (Pa) are left out; "auto" (default): `ceiling_pa`, where the
+    kernel's largest pores are full; None: none left out. Raises ValueError naming the run when it cannot be
+    used."""
     sample = sample or Sample()
     runs = tuple(runs)
     if not runs:
@@ -204,8 +219,10 @@ def invert(kernel: Kernel, runs, sample: Sample | None = None, *, noise_relative
             k = int(np.flatnonzero(d.has_pressure)[np.flatnonzero(outside)[0]])
             raise ValueError(f"{d.run.source}: run {d.run.name!r}, row {d.run.rows[k]}: pressure "
                              f"{d.pressure_pa[k]:.6g} Pa is outside the kernel's range {lo:.4g}–{hi:.4g} Pa")
-    K, y, sigma, rows = kernel_matrix(kernel, data, sample)
+    top = ceiling_pa(kernel) if ceiling == "auto" else (float("inf") if ceiling is None else float(ceiling))
+    K, y, sigma, rows = kernel_matrix(kernel, data, sample, top)
     left_out = int(sum((~d.has_pressure).sum() for d in data))
+    above = int(sum((d.has_pressure & (np.nan_to_num(d.pressure_pa) > top)).sum() for d in data))
     usable = kernel.usable
     n, m = K.shape
     if n < 3:
@@ -262,6 +279,13 @@ def invert(kernel: Kernel, runs, sample: Sample | None = None, *, noise_relative
     result = Distribution(kernel, runs, sample, w, stderr, summary, summary_err, tuple(fitted), lam_used,
                           lambdas, gcv, chi2, n, dof, left_out, _single_size(A, b, s, usable))
     result = _with_notes(result)
+    if above:
+        from dataclasses import replace
+
+        result = replace(result, notes=result.notes + (
+            f"{above} point(s) above p/p0 {top / kernel.saturation_pressure_pa:.3g}, where the kernel's largest "
+            "pores are already full, were left out: what fills there (between particles, or pores larger than "
+            "the kernel's) the kernel cannot describe. Extend the kernel's sizes to use them.",))
     if skipped:
         from dataclasses import replace
 
