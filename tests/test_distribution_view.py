@@ -220,3 +220,26 @@ def test_carry_to_the_same_gas_draws_the_distributions_isotherm(found):
     far = np.abs(np.gradient(np.log(fitted), np.log(p))) < 1.0         # away from the condensation step
     assert far.sum() >= 10
     np.testing.assert_allclose(carried[far], fitted[far], rtol=0.02)
+
+
+def test_sizing_shades_the_bands_over_a_sweep_of_the_carried_gas(found):
+    """Carried to nitrogen at 77.35 K (the page's own gas), a nitrogen sweep at 77.35 K gets one shaded band
+    and one median line per layer that at least 1 % of the pore volume forms (common practice, no source)."""
+    import holoviews as hv
+
+    _, view = found
+    psd = view.distribution
+    sizing = SizingView(state=view.state)
+    psd.listeners.append(sizing.show_layer_bands)
+    psd.gas.value, psd.temperature.value, psd.site_model.value = "nitrogen", 77.35, "classical"
+    psd.predict()
+    sizing.sizes.value, sizing.points.value = "14:20:3", 120
+    sizing.compute()
+    bands = sizing._band_layers()
+    expected = [r for r in drawing.layer_rows(psd.carried) if r["median"] is not None and r["fraction"] >= 0.01]
+    assert [b[0] for b in bands] == [r["name"] for r in expected] and bands
+    overlay = sizing._plot.object
+    spans = [e for e in overlay if isinstance(e, hv.HSpan)]
+    lines = [e for e in overlay if isinstance(e, hv.HLine)]
+    assert len(spans) == 1 + len(bands) and len(lines) == len(bands)        # the apparatus's window + one each
+    assert "Shaded across the plot" in sizing.bands.object

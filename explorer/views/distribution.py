@@ -66,7 +66,8 @@ class DistributionView(pn.viewable.Viewer):
         self.count = pn.widgets.IntInput(name="Kernel sizes (count)", value=count, start=drawing.KERNEL_COUNT_BOUNDS[0],
                                          end=drawing.KERNEL_COUNT_BOUNDS[1], width=150,
                                          css_classes=["porefill-psd-count"])
-        self.sizes_note = pn.pane.HTML("", styles={"font-size": "12px"}, sizing_mode="stretch_width")
+        self.sizes_note = pn.pane.HTML("", css_classes=["porefill-psd-sizes"], styles={"font-size": "12px"},
+                                       sizing_mode="stretch_width")
         self.find = pn.widgets.Button(name="Find the pore-size distribution", button_type="primary", width=260,
                                       css_classes=["porefill-psd-find"])
         self.cancel = pn.widgets.Button(name="Cancel", width=100, disabled=True, css_classes=["porefill-psd-cancel"])
@@ -344,18 +345,18 @@ class DistributionView(pn.viewable.Viewer):
         for i, s in enumerate(series):
             colour = self.run_colours[i % len(self.run_colours)]
             src = self.sources[f"fit{i}"] = ColumnDataSource({"x": s["x"], "y": s["measured"], "r": s["residual"]})
-            fig.line(s["curve_x"], s["curve_y"], color=colour, line_width=2, legend_label=f"distribution: {s['name']}")
-            fig.scatter("x", "y", source=src, color=colour, size=6, legend_label=s["name"])
+            fig.line(s["curve_x"], s["curve_y"], color=colour, line_width=2, legend_label=f"{s['short']}, model")
+            fig.scatter("x", "y", source=src, color=colour, size=6, legend_label=f"{s['short']}, measured")
             res.scatter("x", "r", source=src, color=colour, size=5)
         fig.legend.location = "bottom_right"
-        fig.legend.label_text_font_size = "10px"
+        fig.legend.label_text_font_size = "11px"
         fig.legend.background_fill_alpha = 0.8
         return [fig, res]
 
     def _carried_figure(self, carried):
         base = carried.kernel.spec.base
-        fig = figure(title=f"Carried: {base.adsorbate} at {base.temperature_k:g} K in the same sample; shaded: "
-                           "10–90 % band of each layer", x_axis_type="log", frame_width=_W, frame_height=240,
+        fig = figure(title=f"Carried: {base.adsorbate} at {base.temperature_k:g} K, same sample; bands: layers",
+                     x_axis_type="log", frame_width=_W, frame_height=240,
                      tools="pan,wheel_zoom,box_zoom,reset,save", toolbar_location="above",
                      x_axis_label="pressure p (Pa)", y_axis_label="amount (mmol/g)")
         for branch, colour in CARRY_COLOURS.items():

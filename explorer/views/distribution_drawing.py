@@ -144,7 +144,7 @@ def notes_html(notes) -> str:
 def fitted_series(dist, axis: str, *, n_points: int = 300) -> list[dict]:
     """Per run of a computed `Distribution`: its measured points and weighted residuals, and the
     distribution's isotherm through them, on ``axis`` ('pressure': Pa; 'relative-pressure': p/p0). Each
-    dict: ``name``, ``unit``, ``x``/``measured``/``residual`` at the points, ``curve_x``/``curve_y``."""
+    dict: ``name``, ``short`` (for a legend), ``unit``, ``x``/``measured``/``residual`` at the points, ``curve_x``/``curve_y``."""
     kernel = dist.kernel
     p0 = kernel.saturation_pressure_pa
     lo, hi = kernel.pressure_span_pa()
@@ -158,7 +158,8 @@ def fitted_series(dist, axis: str, *, n_points: int = 300) -> list[dict]:
         else:
             grid = np.linspace(math.log(lo), math.log(hi), n_points)
         curve = model_at(dist, i, grid)
-        out.append({"name": f"{run.name} ({f['branch']} branch)", "unit": run.amount_unit, "x": p * scale,
+        out.append({"name": f"{run.name} ({f['branch']} branch)", "short": f"run {i + 1}: {run.leg or 'measured'}",
+                    "unit": run.amount_unit, "x": p * scale,
                     "measured": np.asarray(f["measured"], float), "residual": np.asarray(f["residual"], float),
                     "curve_x": np.exp(grid) * scale, "curve_y": curve})
     return out

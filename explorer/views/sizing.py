@@ -387,7 +387,8 @@ class SizingView(pn.viewable.Viewer):
             layers.append(pts.opts(color=colour, size=7, tools=["hover"]))
         fig = hv.Overlay(layers).opts(
             logy=True, width=_WIDTH, height=380, xlabel=x_label, ylabel="step pressure p (Pa)", ylim=(y0, y1),
-            legend_position="top_left", title="Layer steps; grey band: the apparatus's window; black bars: target met",
+            legend_position="top_left", title="Layer steps; grey band: the apparatus's window; black bars: target met"
+            + ("; coloured bands: layers in the measured sample" if bands else ""),
             toolbar="above")
         if mode != "d100":
             return fig
