@@ -101,6 +101,25 @@ def test_runs_not_per_gram_are_refused_before_any_kernel(cache):
     assert "not per gram" in view.distribution.status.object and view.distribution.saved is None
 
 
+def test_runs_at_another_temperature_are_refused_before_any_kernel(cache):
+    """The inversion's rule (porefill.physics.distribution.inversion: a run within 0.05 K of the kernel's
+    temperature), said before a kernel is built."""
+    doc = load_document(DEMO)
+    view = _view(doc.replace(scenario=doc.scenario.replace(temperature_k=80.0)))
+    view.distribution.compute()
+    assert "measured at 77.35 K" in view.distribution.status.object and view.distribution.saved is None
+
+
+def test_the_kernel_inputs_follow_the_shape():
+    """A cylinder's kernel is in radii, with its own default range (diameters 2–10 nm)."""
+    view = _view(load_document(DEMO))
+    psd = view.distribution
+    view.state.shape = "cylinder"
+    assert "radius" in psd.first.name and "radius" in psd.last.name
+    assert (psd.first.value, psd.last.value, psd.count.value) == drawing.default_kernel_inputs("cylinder")
+    assert psd.first.value == pytest.approx(10.0, abs=0.01)       # 2 nm diameter: a 10 Å radius
+
+
 # what is drawn --------------------------------------------------------------------------------------
 def test_bars_hold_the_distribution(found):
     """Bar heights × widths are the pore volumes, and the cumulative curve ends at the total (a sum rule)."""

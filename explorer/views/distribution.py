@@ -213,6 +213,12 @@ class DistributionView(pn.viewable.Viewer):
         except ValueError as exc:
             self.status.object = _error(str(exc))
             return
+        t = spec.base.temperature_k
+        other = next((r for r in runs if r.temperature_k is not None and abs(r.temperature_k - t) > 0.05), None)
+        if other is not None:          # the inversion's own rule, said before the kernel is built
+            self.status.object = _error(f"Run {other.name!r} was measured at {other.temperature_k:g} K and the page's "
+                                        f"temperature is {t:g} K: set the temperature to the run's first.")
+            return
         request = DistributionRequest(spec, runs, self.owner.sample())
         executor = None
         if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:
