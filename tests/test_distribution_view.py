@@ -236,7 +236,7 @@ def test_carry_to_the_same_gas_draws_the_distributions_isotherm(found):
     p = f["run"].pressure_pa(dist.kernel.saturation_pressure_pa)[f["points"]]
     carried = np.interp(np.log(p), np.log(c.pressure_pa), c.amount_mmol_g["equilibrium"])
     fitted = np.asarray(f["model"]) / 22.414
-    far = np.abs(np.gradient(np.log(fitted), np.log(p))) < 1.0         # away from the condensation step
+    far = np.abs(np.gradient(np.log(fitted), np.log(p))) < 0.4         # away from the condensation ramp
     assert far.sum() >= 10
     np.testing.assert_allclose(carried[far], fitted[far], rtol=0.02)
 

