@@ -58,3 +58,33 @@ def test_a_bad_table_in_a_file_names_its_line_and_key():
     tail = tail.replace('adsorbate = "nitrogen"', 'adsorbate = "xenon"')
     with pytest.raises(ScenarioFileError, match="xenon"):
         parse_document(head + "[distribution.kernel]" + tail, name="k.toml")
+
+
+# the summary's bootstrap errors and the best single size (optional tables) ---------------------------
+ERRORS = (("total_cm3_g", 0.003), ("mode", float("nan")))
+ONE_SIZE = (("size_angstrom", 13.1), ("pore_volume_cm3_g", 1 / 7), ("chi2", 12.5), ("reduced_chi2", 2.0 / 3))
+
+
+def test_summary_errors_and_single_size_read_back_float_for_float():
+    saved = _saved(summary_stderr=ERRORS, single_size=ONE_SIZE)
+    back = parse_document(dump_document(ScenarioDocument(KERNEL, distribution=saved))).distribution
+    assert back.single_size == ONE_SIZE
+    assert [k for k, _ in back.summary_stderr] == ["total_cm3_g", "mode"]
+    assert back.summary_stderr[0] == ERRORS[0] and math.isnan(back.summary_stderr[1][1])
+
+
+def test_a_file_without_them_still_reads():
+    data = _saved(summary_stderr=ERRORS, single_size=ONE_SIZE).to_dict()
+    for key in ("summary_stderr", "single_size"):
+        data.pop(key)
+    old = SavedDistribution.from_dict(data)
+    assert old.summary_stderr == () and old.single_size == () and old.summary[:2] == _saved().summary[:2]
+
+
+@pytest.mark.parametrize("table, key", [("summary_stderr", "colour"), ("single_size", "width")])
+def test_an_unknown_key_in_them_is_named(table, key):
+    text = dump_document(ScenarioDocument(KERNEL, distribution=_saved(summary_stderr=ERRORS, single_size=ONE_SIZE)))
+    text = text.replace(f"[distribution.{table}]\n", f"[distribution.{table}]\n{key} = 1.0\n")
+    with pytest.raises(ScenarioFileError) as info:
+        parse_document(text)
+    assert key in str(info.value) and table in str(info.value)

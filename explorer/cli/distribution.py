@@ -66,8 +66,9 @@ def _carry_scenario(text: str, scenario):
         raise UsageError(f"--carry {text!r}: the temperature {temp!r} is not a number of kelvin") from None
     try:
         # the carried gas keeps the sample's pores; its own pair, bond and (unless named) default site model
-        return scenario.replace(adsorbate=gas, temperature_k=t, pair_epsilon_k=None, pair_sigma_angstrom=None,
-                                bond_energy_k=None, lattice_spacing_angstrom=None, site_model=model)
+        from porefill.physics.distribution.carry import carried_base
+
+        return carried_base(scenario, adsorbate=gas, temperature_k=t, site_model=model)
     except ValueError as exc:
         raise UsageError(f"--carry {text!r}: {exc}") from None
 

@@ -2,9 +2,9 @@
 
 It keeps what the inversion found, not how to find it again: the kernel's sizes and what it was built with
 (``[distribution.kernel]``: the base scenario; beside it the points per isotherm, the pores averaged per size
-and the p/p0 range), the
-pore volume per size with its bootstrap error, the summary, the regularisation strength, the fit's χ² and the
-notes. Reopening the file shows the distribution without inverting again; a carried prediction is computed
+and the p/p0 range), the pore volume per size with its bootstrap error, the summary with its bootstrap errors,
+the regularisation strength, the fit's χ², the best single size beside it (the simplest model, to compare) and
+the notes. Reopening the file shows the distribution without inverting again; a carried prediction is computed
 from it (with the kernel cache, `porefill.explorer.jobs.kernels`).
 """
 from __future__ import annotations
@@ -20,6 +20,7 @@ __all__ = ["SavedDistribution", "MAX_SIZES"]
 
 MAX_SIZES = 1000
 _SUMMARY_KEYS = ("total_cm3_g", "mean", "median", "mode", "width")
+_SINGLE_SIZE_KEYS = ("size_angstrom", "pore_volume_cm3_g", "chi2", "reduced_chi2")
 
 
 def _numbers(name: str, values, *, count: int | None = None, non_negative: bool = False,
@@ -59,6 +60,8 @@ class SavedDistribution:
     reduced_chi2: float | None = None
     notes: tuple = ()
     parts: int = 3
+    summary_stderr: tuple = ()
+    single_size: tuple = ()
 
     def __post_init__(self) -> None:
         if not isinstance(self.kernel, Scenario):
@@ -89,6 +92,14 @@ class SavedDistribution:
         for k, v in summary.items():
             _numbers(f"summary.{k}", [v], allow_nan=True)
         object.__setattr__(self, "summary", tuple((k, float(v)) for k, v in summary.items()))
+        for name, keys in (("summary_stderr", _SUMMARY_KEYS), ("single_size", _SINGLE_SIZE_KEYS)):
+            table = dict(getattr(self, name))
+            unknown = sorted(set(table) - set(keys))
+            if unknown:
+                raise ValueError(f"unknown {name} key(s) {', '.join(unknown)}; known: {', '.join(keys)}")
+            for k, v in table.items():
+                _numbers(f"{name}.{k}", [v], allow_nan=True)
+            object.__setattr__(self, name, tuple((k, float(v)) for k, v in table.items()))
         for name in ("lam", "reduced_chi2"):
             v = getattr(self, name)
             if v is not None:
@@ -116,7 +127,8 @@ class SavedDistribution:
         return cls(spec.base, spec.sizes_angstrom, tuple(float(v) for v in dist.pore_volume_cm3_g),
                    tuple(float(v) for v in dist.stderr_cm3_g), int(spec.n_points), spec.relative_pressure_range,
                    tuple((k, float(v)) for k, v in dist.summary.items()), float(dist.lam), float(dist.reduced_chi2),
-                   tuple(dist.notes), int(spec.parts))
+                   tuple(dist.notes), int(spec.parts), tuple((k, float(v)) for k, v in dist.summary_stderr.items()),
+                   tuple((k, float(v)) for k, v in dist.single_size.items() if k in _SINGLE_SIZE_KEYS))
 
     def to_dict(self) -> dict:
         out: dict = {"sizes_angstrom": list(self.sizes_angstrom), "pore_volume_cm3_g": list(self.pore_volume_cm3_g)}
@@ -133,6 +145,10 @@ class SavedDistribution:
             out["notes"] = list(self.notes)
         if self.summary:
             out["summary"] = dict(self.summary)
+        if self.summary_stderr:
+            out["summary_stderr"] = dict(self.summary_stderr)
+        if self.single_size:
+            out["single_size"] = dict(self.single_size)
         kernel = self.kernel.to_dict()
         for word in ("title", "notes"):
             kernel.pop(word, None)
@@ -143,11 +159,11 @@ class SavedDistribution:
     def from_dict(cls, data: dict) -> "SavedDistribution":
         data = dict(data)
         known = {"sizes_angstrom", "pore_volume_cm3_g", "stderr_cm3_g", "n_points", "parts", "relative_pressure_range",
-                 "lam", "reduced_chi2", "notes", "summary", "kernel"}
+                 "lam", "reduced_chi2", "notes", "summary", "summary_stderr", "single_size", "kernel"}
         unknown = sorted(set(data) - known)
         if unknown:
             raise ValueError(f"unknown distribution key(s) {', '.join(unknown)}; known: {', '.join(sorted(known))}")
-        for name in ("kernel", "summary"):
+        for name in ("kernel", "summary", "summary_stderr", "single_size"):
             if name in data and not isinstance(data[name], dict):
                 raise ValueError(f"{name} must be a table")
         if "kernel" not in data:
@@ -156,4 +172,5 @@ class SavedDistribution:
         return cls(Scenario.from_dict(data["kernel"]), tuple(data.get("sizes_angstrom", ())),
                    tuple(data.get("pore_volume_cm3_g", ())), tuple(data.get("stderr_cm3_g", ())),
                    data.get("n_points", 200), data.get("relative_pressure_range"), tuple(summary.items()),
-                   data.get("lam"), data.get("reduced_chi2"), tuple(data.get("notes", ())), data.get("parts", 3))
+                   data.get("lam"), data.get("reduced_chi2"), tuple(data.get("notes", ())), data.get("parts", 3),
+                   tuple(data.get("summary_stderr", {}).items()), tuple(data.get("single_size", {}).items()))

@@ -87,6 +87,7 @@ def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewab
     views = pn.Column(PotentialView(state=state), pn.pane.HTML("<h3>Adsorption</h3>"), isotherm,
                       sizing_mode="stretch_width", styles={"min-width": "0"})
     measured = MeasuredView(state=state)
+    measured.distribution.on_page = False      # its figures join the page when the tab is first shown
     isotherm.listeners.append(measured.model_arrived)
     if isotherm._iso is not None:
         measured.model_arrived(isotherm._shown, isotherm._iso)
@@ -100,10 +101,14 @@ def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewab
     quantum_page = pn.Column(quantum, name="Quantum states", sizing_mode="stretch_width")
     measured_side = pn.Column(pn.pane.HTML("<h3>Pore and gas</h3>"), controls(state), width=CONTROLS_WIDTH)
     measured_page = pn.Row(measured_side, measured, sizing_mode="stretch_width", name="Measured data")
-    sizing_page = pn.Column(SizingView(state=state), name="Sizing", sizing_mode="stretch_width")
+    sizing = SizingView(state=state)
+    measured.distribution.listeners.append(sizing.show_layer_bands)     # the carried prediction's layer bands
+    sizing_page = pn.Column(sizing, name="Sizing", sizing_mode="stretch_width")
     tabs = pn.Tabs(pore_page, quantum_page, measured_page, sizing_page, about, dynamic=False)
     # opening the quantum tab computes what it shows for the current inputs (the light gases only)
     tabs.param.watch(lambda event: quantum.refresh() if event.new == 1 else None, "active")
+    tabs.param.watch(lambda event: setattr(measured.distribution, "on_page", True) if event.new == 2 else None,
+                     "active")
     scenario_io.tabs = tabs
     scenario_io.show_tab(doc.view.tab)
     scenario_io.sync_url()             # the link carries the inputs; a link's own values are checked first

@@ -25,6 +25,7 @@ from porefill.physics.fitting.measured import MEASURED_AMOUNT_UNITS, Sample
 from porefill.physics.substances.units import PRESSURE_UNITS
 
 from porefill.explorer.files.measured import ColumnMap, MeasuredFileError, read_measured
+from porefill.explorer.views.distribution import DistributionView
 from porefill.explorer.views.overlay import AXES, model_curves, overlay_run
 from porefill.explorer.views.state import ExplorerState, describe
 from porefill.explorer.views.isotherm import ADS_COLOUR, DES_COLOUR, _key as model_key, _remember
@@ -117,6 +118,8 @@ class MeasuredView(pn.viewable.Viewer):
         self._show_sample_sources()
         self._axis_for_gas()
         self.state.param.watch(self._axis_for_gas, "adsorbate")
+        # the pore-size distribution of the same runs, beside the single-pore fit (porefill.explorer.views.distribution)
+        self.distribution = DistributionView(state=self.state, owner=self, run_colours=RUN_COLOURS)
 
     def _axis_for_gas(self, *_):
         """p/p0 on a linear axis is what nitrogen and argon users read; log p for the light gases, whose
@@ -226,6 +229,7 @@ class MeasuredView(pn.viewable.Viewer):
         sample, each value with the source the file gives."""
         self._document_runs = tuple(doc.measured)
         self._fitted = None
+        self.distribution.show_saved(doc.distribution)
         if doc.sample is not None:
             self._setting_sample = True
             try:
@@ -565,5 +569,5 @@ class MeasuredView(pn.viewable.Viewer):
                         css_classes=["porefill-fit"])
         return pn.Column(pn.pane.HTML("<h3>Measured isotherms</h3>"), self.dropper, mapping, self.reread,
                          self.problems, pn.pane.HTML("<b>Sample</b>"), sample, self.sample_note, self.axis,
-                         self.caption, self._plots, fit, sizing_mode="stretch_width",
+                         self.caption, self._plots, fit, self.distribution, sizing_mode="stretch_width",
                          css_classes=["porefill-measured"])

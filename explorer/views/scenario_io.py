@@ -1,8 +1,8 @@
 """Save and open scenario files, the link that reopens the page, the report, and figures for slides.
 
 - **Save scenario** writes the TOML of what is on screen (`porefill.explorer.files.scenario_file.dump_document`): the
-  inputs, the sample, measured runs and fit (from the Measured data tab, else as loaded), and the view
-  choices (isotherm axis, branch, picked pressure, tab).
+  inputs, the sample, measured runs, fit and pore-size distribution (from the Measured data tab, else as
+  loaded), and the view choices (isotherm axis, branch, picked pressure, tab).
 - **Open scenario** reads a TOML file from the browser: parsed in memory, never executed or written to
   disk; a bad file is named with its line and key in a message, and the page keeps what it had.
 - The page's URL carries shape, size, wall, isolated, adsorbate and temperature (`pn.state.location`), so a
@@ -154,8 +154,8 @@ class ScenarioIO(pn.viewable.Viewer):
         return ViewChoices(axis=axis, branch=branch, pick_log10_pa=pick, tab=tab)
 
     def current_document(self) -> ScenarioDocument:
-        """What Save writes: the state's scenario, the measured tab's runs, sample and fit when it has them
-        (else those of the loaded file), and the view choices."""
+        """What Save writes: the state's scenario, the measured tab's runs, sample, fit and pore-size
+        distribution when it has them (else those of the loaded file), and the view choices."""
         doc = self.document.replace(scenario=self.state.scenario(), view=self.view_choices())
         m = self.measured
         if m is not None:
@@ -169,6 +169,9 @@ class ScenarioIO(pn.viewable.Viewer):
             if result is not None:
                 from porefill.explorer.files.saved_fit import SavedFit
                 doc = doc.replace(fit=SavedFit.from_result(result))
+            shown = getattr(getattr(m, "distribution", None), "saved", None)
+            if shown is not None:          # the pore-size distribution on show, found here or reopened
+                doc = doc.replace(distribution=shown)
         return doc
 
     def toml_text(self) -> str:

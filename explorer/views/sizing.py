@@ -1,6 +1,9 @@
 """Sizing map: the pressure of every layer step against side length (or temperature, or along the line an
 X-ray d100 spacing ties wall to side), coloured by what fills, the apparatus's pressure window shaded,
-and the pores that meet a stated target marked, in the plot and in a list beside it.
+and the pores that meet a stated target marked, in the plot and in a list beside it. When the Measured data
+tab has carried a pore-size distribution to another gas (`porefill.explorer.views.distribution`), the band of
+pressures over which each layer forms in that sample is listed here, and shaded across the plot when the sweep
+is of the same gas at the same temperature.
 
 Sweeps run off the event loop (`porefill.explorer.jobs.sweep_runner.SweepRunner`: worker processes shared by every
 session, or a Dask scheduler whose address is typed in), with a progress bar and a Stop button; results
@@ -24,6 +27,7 @@ from porefill.physics.choices import DEFAULT_POINTS, SIZE_NAMES
 from porefill.physics.sweep import TARGET_KINDS, SweepSpec, Target, meets, parse_range, wall_from_d100
 
 from porefill.explorer.jobs.compute import on_session, short_error
+from porefill.explorer.views.distribution import BAND_COLOURS
 from porefill.explorer.views.state import ExplorerState, describe
 from porefill.explorer.jobs.sweep_runner import SWEEP_CACHE, ClusterError, SweepRunner
 
@@ -130,6 +134,9 @@ class SizingView(pn.viewable.Viewer):
         self.status = pn.pane.HTML("<p>Choose the sizes and press Compute.</p>", css_classes=["porefill-sizing-status"],
                                    width=_WIDTH, styles={"font-size": "13px"})
         self.meets_list = pn.pane.HTML("", css_classes=["porefill-sizing-meets"], width=300)
+        self.bands = pn.pane.HTML("", css_classes=["porefill-sizing-bands"], width=_WIDTH, visible=False,
+                                  styles={"font-size": "13px"})
+        self._carried = None          # the Measured data tab's carried prediction (layer bands), if any
         self._plot = None
         self._body = pn.Column(css_classes=["porefill-sizing-body"], min_height=40)
         self._result = None
@@ -260,7 +267,46 @@ class SizingView(pn.viewable.Viewer):
             where = where.replace(f"walls {base.wall_angstrom:g} Å", f"walls from d100 = {result.spec.d100_angstrom:g} Å")
         notes.insert(0, f"For {html.escape(where)}; site model {html.escape(base.site_model_used)}.")
         self.status.object = "<p>" + " ".join(notes) + "</p>"
+        if self._carried is not None:
+            self.show_layer_bands(self._carried)
+            return
         self._redraw()
+
+    def show_layer_bands(self, carried, saved=None) -> None:
+        """The carried prediction of a pore-size distribution (None: none): its layer bands listed, and
+        shaded over the plot where the sweep is of the same gas and temperature."""
+        from porefill.explorer.views.distribution_drawing import layers_html
+
+        self._carried = carried
+        self.bands.visible = carried is not None
+        self.bands.object = "" if carried is None else (
+            "<p><b>Layer bands in the measured sample</b> (the pore-size distribution on the Measured data tab, "
+            "carried to another gas):</p>" + layers_html(carried) + f"<p>{html.escape(self._bands_where())}</p>")
+        self._redraw()
+
+    def _band_layers(self) -> list:
+        """(name, p10 Pa, median Pa, p90 Pa) of each layer band to shade: only over a sweep of the carried gas
+        at its temperature, and only layers at least 1 % of the pore volume forms."""
+        from porefill.explorer.views.distribution_drawing import layer_rows
+
+        c, r = self._carried, self._result
+        if c is None or r is None or self._mode_shown == "temperature":
+            return []
+        b, s = c.kernel.spec.base, r.spec.base
+        if b.adsorbate != s.adsorbate or abs(b.temperature_k - s.temperature_k) > 1e-6:
+            return []
+        return [(x["name"], x["p10"], x["median"], x["p90"]) for x in layer_rows(c)
+                if x["median"] is not None and x["fraction"] >= 0.01]
+
+    def _bands_where(self) -> str:
+        c = self._carried
+        if c is None:
+            return ""
+        b = c.kernel.spec.base
+        if self._band_layers():
+            return "Shaded across the plot (10–90 %, the median as a line)."
+        return (f"Shaded across the plot when the sweep is of {b.adsorbate} at {b.temperature_k:g} K "
+                "(the carried gas and temperature).")
 
     # drawing --------------------------------------------------------------------------------------
     def _marks(self):
@@ -321,10 +367,16 @@ class SizingView(pn.viewable.Viewer):
             scale = p0.pop() if len(p0) == 1 else None
             low, high = (low * scale, high * scale) if scale else (0.0, -1.0)
         positive = p[p > 0]
-        y0 = min([positive.min() if positive.size else 1e-6] + ([low] if low > 0 else [])) / 3
-        y1 = max([positive.max() if positive.size else 1.0] + ([high] if high > 0 else [])) * 3
+        bands = self._band_layers()
+        edges = [v for _, p10, _, p90 in bands for v in (p10, p90) if v > 0]
+        y0 = min([positive.min() if positive.size else 1e-6] + ([low] if low > 0 else []) + edges) / 3
+        y1 = max([positive.max() if positive.size else 1.0] + ([high] if high > 0 else []) + edges) * 3
         layers = [] if high < 0 else [
             hv.HSpan(max(low, y0), min(high, y1) if high > 0 else y1).opts(color="#999999", alpha=0.18)]
+        for i, (_, p10, p50, p90) in enumerate(bands):
+            colour = BAND_COLOURS[i % len(BAND_COLOURS)]
+            layers += [hv.HSpan(p10, max(p90, p10 * 1.02)).opts(color=colour, alpha=0.3),
+                       hv.HLine(p50).opts(color=colour, line_width=2)]
         if marks:
             seg = hv.Segments([(x, lo, x, hi) for x, _, lo, hi in marks], kdims=["x", "p", "x1", "p1"])
             layers.append(seg.opts(color="black", alpha=0.35, line_width=7))
@@ -335,7 +387,8 @@ class SizingView(pn.viewable.Viewer):
             layers.append(pts.opts(color=colour, size=7, tools=["hover"]))
         fig = hv.Overlay(layers).opts(
             logy=True, width=_WIDTH, height=380, xlabel=x_label, ylabel="step pressure p (Pa)", ylim=(y0, y1),
-            legend_position="top_left", title="Layer steps; grey band: the apparatus's window; black bars: target met",
+            legend_position="top_left", title="Layer steps; grey band: the apparatus's window; black bars: target met"
+            + ("; coloured bands: layers in the measured sample" if bands else ""),
             toolbar="above")
         if mode != "d100":
             return fig
@@ -352,5 +405,5 @@ class SizingView(pn.viewable.Viewer):
         controls = pn.Column(self.mode, self.sizes, self.walls, self.temps, self.d100, self.model, self.points,
                              self.window_unit, self.low, self.high, self.target, self.layer, self.scheduler,
                              pn.Row(self.compute_button, self.stop_button), self.progress, width=310)
-        return pn.Row(controls, pn.Column(self.status, pn.Row(self._body, self.meets_list)),
+        return pn.Row(controls, pn.Column(self.status, pn.Row(self._body, self.meets_list), self.bands),
                       css_classes=["porefill-sizing"])

@@ -16,7 +16,17 @@ import numpy as np
 from porefill.physics.distribution.kernel import Kernel
 from porefill.physics.substances.units import amount_mmol_per_g
 
-__all__ = ["CarriedPrediction", "carry", "weighted_quantiles", "layer_name"]
+__all__ = ["CarriedPrediction", "carry", "carried_base", "weighted_quantiles", "layer_name"]
+
+
+def carried_base(base, *, adsorbate: str, temperature_k: float, site_model: str | None = None):
+    """The kernel scenario of another gas in the same sample: ``base``'s pores (shape, wall, pore ends) with
+    ``adsorbate`` at ``temperature_k`` (K), that gas's own pair, bond and lattice spacing, and ``site_model``
+    (None: the gas's default, quantum for helium). ValueError (the scenario's own message) when the gas or
+    temperature is not one the model takes."""
+    return base.replace(adsorbate=adsorbate, temperature_k=float(temperature_k), pair_epsilon_k=None,
+                        pair_sigma_angstrom=None, bond_energy_k=None, lattice_spacing_angstrom=None,
+                        site_model=site_model, title="", notes="")
 
 
 def weighted_quantiles(values, weights, quantiles) -> np.ndarray:
