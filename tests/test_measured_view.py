@@ -44,6 +44,7 @@ def fitted():
     view._document_runs = runs
     view.sample_inputs["pore_volume_cm3_g"].value = 0.5
     view.model_arrived(BASE, fitted_isotherm(BASE))
+    view.amount_display.value = "per nm"          # the model's coverage: what these tests compare
     result = fit(FitRequest(BASE, runs, view.sample(), free=("size", "pore-volume"), **SMALL))
     return view, result, FitDone(result, fitted_isotherm(result.scenario))
 
@@ -133,3 +134,30 @@ def test_a_missing_sample_value_is_asked_for_once():
     view._document_runs = runs
     view.model_arrived(BASE, iso)
     assert view.caption.object.count("need the sample mass") == 1, view.caption.object
+
+
+def test_amounts_are_shown_in_the_files_own_unit():
+    """The file's own numbers are drawn as they are (mmol/g here), the model converted to that unit through the
+    sample's pore volume (1 mmol/g at 0.5 cm³/g is 2 mmol per cm³ of pore: units.amount_mmol_per_g)."""
+    from porefill.physics.substances.units import amount_mmol_per_g
+
+    runs = _runs()
+    iso = fitted_isotherm(BASE)
+    view = MeasuredView(state=ExplorerState.from_scenario(BASE))
+    view._document_runs = runs
+    view.sample_inputs["pore_volume_cm3_g"].value = 0.5
+    view.model_arrived(BASE, iso)
+    assert view.amount_display.value == "mmol/g"
+    assert view._fig.yaxis.axis_label == "amount (mmol/g)" and view._res_fig.yaxis.axis_label == "mmol/g"
+    y = np.asarray(view._sources[0].data["y"], float)
+    np.testing.assert_allclose(y, runs[0].amount, rtol=1e-12)
+    branch = iso.measured_branch("adsorption")
+    expected = amount_mmol_per_g(iso.per_angstrom(branch), cross_section_angstrom2=iso.stage.geometry.pore.area_angstrom2,
+                                 pore_volume_cm3_g=0.5)
+    np.testing.assert_allclose(view._model_src["adsorption"].data["y"], expected, rtol=1e-12)
+    # the user's pick holds; per nm draws the model's coverage again
+    view.amount_display.value = "per nm"
+    assert view._fig.yaxis.axis_label == "coverage (per nm)"
+    np.testing.assert_allclose(view._model_src["adsorption"].data["y"], iso.per_nm(branch), rtol=1e-12)
+    view.model_arrived(BASE, iso)
+    assert view.amount_display.value == "per nm"

@@ -26,7 +26,7 @@ from porefill.physics.substances.units import PRESSURE_UNITS
 
 from porefill.explorer.files.measured import ColumnMap, MeasuredFileError, read_measured
 from porefill.explorer.views.distribution import DistributionView
-from porefill.explorer.views.overlay import AXES, model_curves, overlay_run
+from porefill.explorer.views.overlay import AXES, PER_NM, display_scale, display_unit, model_curves, overlay_run
 from porefill.explorer.views.state import ExplorerState, describe
 from porefill.explorer.views.isotherm import ADS_COLOUR, DES_COLOUR, _key as model_key, _remember
 from porefill.explorer.views.potential import FRAME
@@ -69,6 +69,10 @@ class MeasuredView(pn.viewable.Viewer):
                               for name, label in SAMPLE_FIELDS}
         self.sample_note = pn.pane.HTML("", css_classes=["porefill-sample-note"], styles={"font-size": "12px"})
         self.axis = pn.widgets.RadioButtonGroup(options={AXIS_LABELS[k]: k for k in AXES}, value="pressure")
+        # amounts drawn in the files' own unit when they share one (and the sample allows it), else per nm
+        self.amount_display = pn.widgets.Select(name="Amounts shown in", options={"coverage per nm of pore": PER_NM},
+                                                value=PER_NM, width=220, css_classes=["porefill-amount-display"])
+        self._display_default = True       # the choice follows the files until the user picks one
         self.caption = pn.pane.HTML("", css_classes=["porefill-overlay-caption"], sizing_mode="stretch_width",
                                     styles={"font-size": "13px"})
         self.free = pn.widgets.CheckBoxGroup(options=list(FREE_PARAMETERS),
@@ -111,6 +115,7 @@ class MeasuredView(pn.viewable.Viewer):
         for w in self.sample_inputs.values():
             w.param.watch(self._sample_changed, "value")
         self.axis.param.watch(lambda *_: self._redraw(), "value")
+        self.amount_display.param.watch(self._display_picked, "value")
         self.fit_button.on_click(self._start_fit)
         self.cancel_button.on_click(self._cancel_fit)
         self.use_fit.on_click(self._use_fit)
@@ -120,6 +125,29 @@ class MeasuredView(pn.viewable.Viewer):
         self.state.param.watch(self._axis_for_gas, "adsorbate")
         # the pore-size distribution of the same runs, beside the single-pore fit (porefill.explorer.views.distribution)
         self.distribution = DistributionView(state=self.state, owner=self, run_colours=RUN_COLOURS)
+
+    def _display_picked(self, event) -> None:
+        if getattr(self, "_setting_display", False):
+            return
+        self._display_default = False
+        self._redraw()
+
+    def _display_choices(self, runs) -> str:
+        """Offer per nm and each file unit; keep the user's pick while it is offered, else the files' own."""
+        options = {"coverage per nm of pore": PER_NM}
+        for unit in dict.fromkeys(r.amount_unit for r in runs):
+            if unit != PER_NM:
+                options[f"{unit} (the file's unit)"] = unit
+        value = self.amount_display.value
+        if self._display_default or value not in options.values():
+            value = display_unit(runs)
+        self._setting_display = True
+        try:
+            self.amount_display.options = options
+            self.amount_display.value = value
+        finally:
+            self._setting_display = False
+        return value
 
     def _axis_for_gas(self, *_):
         """p/p0 on a linear axis is what nitrogen and argon users read; log p for the light gases, whose
@@ -334,19 +362,25 @@ class MeasuredView(pn.viewable.Viewer):
             self._plots.objects = [pn.pane.Bokeh(self._fig), pn.pane.Bokeh(self._res_fig)]
         axis = self.axis.value
         overlays, notes = [], []
+        unit = self._display_choices(runs)
+        try:
+            scale = display_scale(iso, unit, sample)
+        except ValueError as exc:
+            notes.append(f"shown per nm of pore: {exc}")
+            unit, scale = PER_NM, 1.0
         for run in runs:
             try:
-                overlays.append(overlay_run(iso, run, sample, axis))
+                overlays.append(_scaled(overlay_run(iso, run, sample, axis), axis, scale))
             except ValueError as exc:
                 notes.append(str(exc))
         with pn.io.hold():
-            self._set_axes(axis)
+            self._set_axes(axis, unit)
             for branch, (x, y) in model_curves(iso, axis).items():
-                self._model_src[branch].data = {"x": x, "y": y}
+                self._model_src[branch].data = _scaled_curve(x, y, axis, scale)
             before = model_curves(self._iso, axis) if fitted is not None and self._iso is not None else {}
             for branch, src in self._before_src.items():
                 x, y = before.get(branch, ([], []))
-                src.data = {"x": x, "y": y}
+                src.data = _scaled_curve(x, y, axis, scale) if branch in before else {"x": x, "y": y}
             self._before_legend.visible = fitted is not None
             self._fig.title.text = "Measured over the fitted model" if fitted is not None else "Measured over the model"
             self._res_fig.title.text = ("Residuals (measured − fitted model)" if fitted is not None
@@ -357,7 +391,7 @@ class MeasuredView(pn.viewable.Viewer):
                 o = overlays[i] if i < len(overlays) else None
                 src.data = ({"x": o.x, "y": o.y, "r": o.residual, "row": o.rows} if o is not None
                             else {"x": [], "y": [], "r": [], "row": []})
-            self._fit_ranges(iso, axis, overlays)
+            self._fit_ranges(iso, axis, overlays, scale)
             for o in overlays:
                 if o.note:
                     notes.append(f"{o.run.name}: {o.note}")
@@ -392,16 +426,19 @@ class MeasuredView(pn.viewable.Viewer):
         self._res_fig.scatter("x", "r", source=src, size=5, color=colour)
         self._sources.append(src)
 
-    def _set_axes(self, axis: str) -> None:
+    def _set_axes(self, axis: str, unit: str = PER_NM) -> None:
+        amount = "coverage (per nm)" if unit == PER_NM else f"amount ({unit})"
         x_label = {"pressure": "pressure p (Pa)", "relative-pressure": "relative pressure p/p₀",
-                   "chemical-potential": "chemical potential μ (K)", "coverage": "coverage (per nm)"}[axis]
+                   "chemical-potential": "chemical potential μ (K)", "coverage": amount}[axis]
         self._fig.xaxis.axis_label = x_label
-        self._fig.yaxis.axis_label = "pressure p (Pa)" if axis == "coverage" else "coverage (per nm)"
-        self._res_fig.yaxis.axis_label = "log₁₀(p/p_model)" if axis == "coverage" else "per nm"
+        self._fig.yaxis.axis_label = "pressure p (Pa)" if axis == "coverage" else amount
+        self._res_fig.yaxis.axis_label = ("log₁₀(p/p_model)" if axis == "coverage"
+                                          else ("per nm" if unit == PER_NM else unit))
 
-    def _fit_ranges(self, iso, axis, overlays) -> None:
-        xs = [c[0] for c in model_curves(iso, axis).values()] + [o.x for o in overlays]
-        ys = [c[1] for c in model_curves(iso, axis).values()] + [o.y for o in overlays]
+    def _fit_ranges(self, iso, axis, overlays, scale: float = 1.0) -> None:
+        curves = [_scaled_curve(x, y, axis, scale) for x, y in model_curves(iso, axis).values()]
+        xs = [c["x"] for c in curves] + [o.x for o in overlays]
+        ys = [c["y"] for c in curves] + [o.y for o in overlays]
         x = np.concatenate([np.asarray(a, float).ravel() for a in xs])
         y = np.concatenate([np.asarray(a, float).ravel() for a in ys])
         x, y = x[np.isfinite(x)], y[np.isfinite(y)]
@@ -568,6 +605,24 @@ class MeasuredView(pn.viewable.Viewer):
                                                 self.download_model, styles={"flex-wrap": "wrap"}),
                         css_classes=["porefill-fit"])
         return pn.Column(pn.pane.HTML("<h3>Measured isotherms</h3>"), self.dropper, mapping, self.reread,
-                         self.problems, pn.pane.HTML("<b>Sample</b>"), sample, self.sample_note, self.axis,
+                         self.problems, pn.pane.HTML("<b>Sample</b>"), sample, self.sample_note,
+                         pn.FlexBox(self.axis, self.amount_display, flex_wrap="wrap", align_items="center"),
                          self.caption, self._plots, fit, self.distribution, sizing_mode="stretch_width",
                          css_classes=["porefill-measured"])
+
+
+def _scaled_curve(x, y, axis: str, scale: float) -> dict:
+    """A model curve in the shown unit: the amount is y on the pressure axes, x on the coverage axis."""
+    x, y = np.asarray(x, float), np.asarray(y, float)
+    return {"x": x * scale, "y": y} if axis == "coverage" else {"x": x, "y": y * scale}
+
+
+def _scaled(o, axis: str, scale: float):
+    """A run's overlay in the shown unit (its residual too, on the pressure axes: measured − model)."""
+    if scale == 1.0:
+        return o
+    from dataclasses import replace
+
+    if axis == "coverage":
+        return replace(o, x=o.x * scale)
+    return replace(o, y=o.y * scale, residual=o.residual * scale)

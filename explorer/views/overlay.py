@@ -3,7 +3,8 @@
 Axes (``AXES``): log pressure (Pa), p/p0 (linear: what nitrogen users read), chemical potential μ (K), and
 coverage — amount on x, pressure on y — where dosed points without a usable pressure still have a place (at
 the foot of the plot). Amounts are the model's: per nm of pore (slit: per nm²), from the sample description
-(`porefill.physics.fitting.measured.amount_to_model`). Each leg is compared with the branch it was measured on (adsorption
+(`porefill.physics.fitting.measured.amount_to_model`); the view multiplies them by `display_scale` to draw
+everything in a file's own unit (cm³(STP)/g, mmol/g, ...) instead. Each leg is compared with the branch it was measured on (adsorption
 leg → adsorption branch, desorption leg → desorption branch). Residuals are measured − model in amount on the
 pressure axes, and log10(p_measured / p_model) at equal coverage on the coverage axis.
 """
@@ -17,7 +18,9 @@ from porefill.physics.choices import AXES as CHOICE_AXES
 from porefill.physics.fitting.measured import MeasuredRun, Sample, amount_to_model
 from porefill.physics.substances.units import from_atoms_per_angstrom
 
-__all__ = ["AXES", "RunOverlay", "model_curves", "overlay_run"]
+__all__ = ["AXES", "RunOverlay", "model_curves", "overlay_run", "display_unit", "display_scale", "PER_NM"]
+
+PER_NM = "per nm"
 
 AXES = CHOICE_AXES                 # porefill.physics.choices
 
@@ -34,6 +37,29 @@ class RunOverlay:
     residual: np.ndarray
     without_pressure: int
     note: str
+
+
+def display_unit(runs) -> str:
+    """The amount unit the overlay shows by default: the runs' own when they all share one, else
+    `PER_NM` (the model's coverage per nm of pore)."""
+    units = {r.amount_unit for r in runs}
+    return units.pop() if len(units) == 1 else PER_NM
+
+
+def display_scale(iso, unit: str, sample: Sample) -> float:
+    """Amount in ``unit`` per (amount per nm of pore): the factor that draws the model and the overlay in a
+    file's own unit (`porefill.physics.fitting.model.unit_factor`: per gram through the sample's pore
+    volume, dosed amounts through its mass too). ValueError names the missing sample value."""
+    if unit == PER_NM:
+        return 1.0
+    from porefill.physics.fitting.model import unit_factor
+
+    probe = MeasuredRun("unit", "unit", [np.nan], "Pa", [1.0], unit)
+    volume = sample.pore_volume_cm3_g
+    if unit in ("mmol/g", "mol/g", "cm3(STP)/g", "mol", "cm3(STP)") and volume is None:
+        raise ValueError(f"amounts in {unit} need the sample's pore volume (cm³/g)")
+    per_angstrom = unit_factor(probe, iso.stage.geometry.pore, sample, volume or 1.0)
+    return float(per_angstrom) / 10.0          # per nm = 10 × per Å
 
 
 def _x_of(iso, pressure_pa: np.ndarray, axis: str) -> np.ndarray:
