@@ -33,7 +33,8 @@ from porefill.physics.choices import DEFAULT_POINTS, TARGET_KINDS
 from porefill.physics.scenario import Scenario
 
 __all__ = ["SweepSpec", "parse_range", "sweep_point", "fill_class", "step_fill_class", "occupancy_profile",
-           "Target", "TARGET_KINDS", "meets", "holding_intervals", "wall_from_d100", "FILL_CLASSES",
+           "Target", "TARGET_KINDS", "meets", "holding_intervals", "range_edges", "edge_words", "wall_from_d100",
+           "FILL_CLASSES",
            "MAX_SWEEP_PORES"]
 
 MAX_SWEEP_PORES = 5000         # pores in one sweep: a few hours on a laptop with the classical model
@@ -337,6 +338,27 @@ def holding_intervals(target: Target, result) -> list[tuple[float, float]]:
     edges = np.diff(np.concatenate([[0], ok.astype(np.int8), [0]]))
     starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1) - 1
     return [(float(p[a]), float(p[b])) for a, b in zip(starts, ends)]
+
+
+def range_edges(result, interval: tuple[float, float]) -> tuple[bool, bool]:
+    """Whether a holding interval (Pa) starts at the first and ends at the last pressure the isotherm was
+    computed at: there the configuration may hold further than the computed range shows."""
+    p = [v for v in _profile_of(result)["pressure_pa"] if v is not None]
+    lo, hi = interval
+    return bool(lo <= p[0] * (1 + 1e-9)), bool(hi >= p[-1] * (1 - 1e-9))
+
+
+def edge_words(result, interval: tuple[float, float], unit: str = "Pa") -> str:
+    """``lo – hi`` with what is known past an end that is the computed range's: "to p₀ and beyond the
+    computed range" rather than a last grid point that reads as a limit."""
+    lo, hi = interval
+    first, last = range_edges(result, interval)
+    text = f"{'≤ ' if first else ''}{lo:.3g} – {hi:.3g}{' ' + unit if unit else ''}"
+    if last:
+        text += " (the computed range ends there: it holds up to at least that)"
+    elif first:
+        text += " (the computed range starts there)"
+    return text
 
 
 def meets(target: Target, result) -> tuple[bool, tuple[float, float] | None]:

@@ -401,3 +401,19 @@ def test_layers_of_a_computed_pore_fill_from_the_wall_inwards(iso14):
     assert first_full == sorted(first_full)
     walls_full = holding_intervals(Target("walls-full-centre-empty"), iso14)
     assert walls_full and walls_full[0][0] == pytest.approx(meets(Target("first-layer"), iso14)[1][0])
+
+
+def test_a_holding_range_that_reaches_the_computed_end_says_so():
+    # common practice, no source: a range cut by the computed grid is a lower bound on where the target holds
+    from porefill.physics.sweep import edge_words, range_edges, sweep_point
+
+    sc = Scenario(shape="hexagon", size_angstrom=14.0, wall_angstrom=8.0, adsorbate="helium-4", temperature_k=1.5,
+                  site_model="classical")
+    point = sweep_point(sc, 150)
+    p = [v for v in point["profile"]["pressure_pa"] if v is not None]
+    ok, rng = meets(Target("full-pore"), point)
+    assert ok and rng[1] == pytest.approx(p[-1])
+    assert range_edges(point, rng) == (False, True)
+    assert "the computed range ends there" in edge_words(point, rng)
+    inside = (p[10], p[20])
+    assert range_edges(point, inside) == (False, False) and "computed range" not in edge_words(point, inside)

@@ -127,9 +127,9 @@ def _summary(result, target) -> str:
             continue
         steps = ", ".join(f"{f} {s['pressure_pa']:.3g} Pa" for s, f in zip(p["steps"], p["step_fills"])) or "no steps"
         if target is not None:
-            from porefill.physics.sweep import meets
+            from porefill.physics.sweep import edge_words, meets
             ok, rng = meets(target, p)
-            steps += f"; meets the target at {rng[0]:.3g}–{rng[1]:.3g} Pa" if ok else "; does not meet the target"
+            steps += f"; meets the target at {edge_words(p, rng)}" if ok else "; does not meet the target"
         lines.append(f"{head}: {steps}")
     if result.stopped:
         lines.append(f"stopped: {len(result.done)} of {len(result.points)} pores computed")

@@ -29,6 +29,12 @@ def _pore(point: dict, target: Target | None) -> dict:
     if target is not None and "error" not in point:
         ok, rng = meets(target, point)
         d["target"] = {"met": ok, "pressure_range_pa": None if rng is None else list(rng)}
+        if rng is not None:
+            from porefill.physics.sweep import range_edges
+
+            first, last = range_edges(point, rng)
+            d["target"]["range_starts_at_computed_start"] = first
+            d["target"]["range_ends_at_computed_end"] = last
     return d
 
 

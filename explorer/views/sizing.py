@@ -24,7 +24,7 @@ import param
 
 from porefill.explorer.jobs.background import ThreadJob
 from porefill.physics.choices import DEFAULT_POINTS, SIZE_NAMES
-from porefill.physics.sweep import TARGET_KINDS, SweepSpec, Target, meets, parse_range, wall_from_d100
+from porefill.physics.sweep import TARGET_KINDS, SweepSpec, Target, edge_words, meets, parse_range, wall_from_d100
 
 from porefill.explorer.jobs.compute import on_session, short_error
 from porefill.explorer.views.distribution import BAND_COLOURS
@@ -140,6 +140,7 @@ class SizingView(pn.viewable.Viewer):
         self._plot = None
         self._body = pn.Column(css_classes=["porefill-sizing-body"], min_height=40)
         self._result = None
+        self._edges: dict = {}            # (x, wall) -> where the target holds, in words (`edge_words`)
         self._mode_shown = "size"
         self._job: ThreadJob | None = None        # the sweep under way (porefill.explorer.jobs.background)
         self.compute_button.on_click(self.compute)
@@ -322,6 +323,7 @@ class SizingView(pn.viewable.Viewer):
             ok, rng = meets(target, pt)
             if ok:
                 out.append((pt[x_key], pt["wall_angstrom"], rng[0], rng[1]))
+                self._edges[(pt[x_key], pt["wall_angstrom"])] = edge_words(pt, rng, unit="")
         return target, out
 
     def _redraw(self, *_) -> None:
@@ -347,7 +349,8 @@ class SizingView(pn.viewable.Viewer):
                 f"{target.high_pa:.3g} {target.window_unit}: {len(marks)} of {len(self._result.done)} pores.</p>")
         if not marks:
             return head + "<p>No pore of this sweep meets it.</p>"
-        rows = "".join(f"<tr><td>{x:.4g}</td><td>{'—' if w is None else f'{w:.3g}'}</td><td>{lo:.3g} – {hi:.3g}</td></tr>"
+        rows = "".join(f"<tr><td>{x:.4g}</td><td>{'—' if w is None else f'{w:.3g}'}</td>"
+                       f"<td>{html.escape(self._edges.get((x, w), f'{lo:.3g} – {hi:.3g}'))}</td></tr>"
                        for x, w, lo, hi in marks)
         return (head + f"<table><thead><tr><th>{x_name}</th><th>Wall (Å)</th><th>where it holds (Pa)</th></tr>"
                 f"</thead><tbody>{rows}</tbody></table>")
