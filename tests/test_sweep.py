@@ -417,3 +417,20 @@ def test_a_holding_range_that_reaches_the_computed_end_says_so():
     assert "the computed range ends there" in edge_words(point, rng)
     inside = (p[10], p[20])
     assert range_edges(point, inside) == (False, False) and "computed range" not in edge_words(point, inside)
+
+
+def test_a_sweeps_time_is_estimated_before_it_starts():
+    # common practice, no source: the estimate grows with pore size and count, quantum pores cost more, the
+    # workers share it, and pores already in the cache cost nothing
+    from porefill.explorer.jobs.sweep_runner import estimate_seconds
+
+    small = SweepSpec(BASE, sizes_angstrom=parse_range("10:20:5"), n_points=300)
+    large = SweepSpec(BASE, sizes_angstrom=parse_range("30:40:5"), n_points=300)
+    quantum = SweepSpec(BASE.replace(site_model="quantum"), sizes_angstrom=parse_range("10:20:5"), n_points=300)
+    assert 0 < estimate_seconds(small, 1) < estimate_seconds(large, 1)
+    assert estimate_seconds(quantum, 1) > 5 * estimate_seconds(small, 1)
+    assert estimate_seconds(small, 2) == pytest.approx(estimate_seconds(small, 1) / 2)
+    cache = ResultCache()
+    for sc in small.scenarios():
+        cache.put(sc, small.n_points, {"done": True})
+    assert estimate_seconds(small, 1, cache) == 0.0

@@ -33,7 +33,7 @@ from porefill.physics.limits import estimated_sites
 from porefill.physics.scenario import Scenario
 from porefill.physics.sweep import SweepSpec
 
-__all__ = ["point_job", "ResultCache", "SweepResult", "SweepRunner", "SWEEP_CACHE", "ClusterError"]
+__all__ = ["point_job", "ResultCache", "SweepResult", "SweepRunner", "SWEEP_CACHE", "ClusterError", "estimate_seconds"]
 
 _POLL_S = 0.2                  # how often a waiting sweep looks at its stop flag
 
@@ -123,6 +123,29 @@ def _cost(scenario: Scenario) -> float:
     """Rough relative cost of a pore: its number of sites (default spacing ~3.6 Å for the estimate)."""
     spacing = scenario.lattice_spacing_angstrom or 3.6
     return estimated_sites(scenario.shape, scenario.size_angstrom, spacing)
+
+
+# seconds for a 15 Å helium hexagon (300 points) on this project's 2-core development machine, and how the
+# time grows with the number of sites (benchmarks/bench_isotherm.py, bench_quantum.py: classical 15/50/100 Å
+# 0.054/0.30/1.27 s; quantum one-atom states at 15/30 Å about 0.5/4 s)
+_SECONDS_15A = {"classical": 0.054, "quantum": 0.5}
+_GROWTH = {"classical": 0.8, "quantum": 1.4}
+
+
+def estimate_seconds(spec: SweepSpec, workers: int | None = None, cache: ResultCache | None = None) -> float:
+    """A rough wall time (s) for the pores of ``spec`` not in ``cache``, shared among ``workers`` processes:
+    each pore's time scaled from a 15 Å helium hexagon by its number of sites and its site model. For the
+    page to say before a sweep starts; within a factor of ~2-3 on a laptop like the development machine."""
+    reference = estimated_sites("hexagon", 15.0, 3.6)
+    total = 0.0
+    for sc in spec.scenarios():
+        if cache is not None and cache.get(sc, spec.n_points) is not None:
+            continue
+        model = sc.site_model_used if sc.site_model_used in _SECONDS_15A else "classical"
+        ratio = max(_cost(sc) / reference, 0.05)
+        total += _SECONDS_15A[model] * ratio ** _GROWTH[model] * spec.n_points / 300.0
+    n = max(1, min(workers or os.cpu_count() or 1, len(spec.scenarios())))
+    return total / n
 
 
 def _init_worker() -> None:

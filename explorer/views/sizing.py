@@ -29,13 +29,22 @@ from porefill.physics.sweep import TARGET_KINDS, SweepSpec, Target, edge_words, 
 from porefill.explorer.jobs.compute import on_session, short_error
 from porefill.explorer.views.distribution import BAND_COLOURS
 from porefill.explorer.views.state import ExplorerState, describe
-from porefill.explorer.jobs.sweep_runner import SWEEP_CACHE, ClusterError, SweepRunner
+from porefill.explorer.jobs.sweep_runner import SWEEP_CACHE, ClusterError, SweepRunner, estimate_seconds
 
 __all__ = ["SizingView", "FILL_COLOURS"]
 
 FILL_COLOURS = {"corner": "#d1495b", "face": "#1b6ca8", "ring": "#2e8540", "centre": "#e08a00", "spread": "#777777"}
 MODES = {"side length": "size", "temperature (fixed side)": "temperature", "side length at a known d100": "d100"}
 _NO_TARGET = "(no target)"
+
+
+def _duration(seconds: float) -> str:
+    """", about 2 min" — the sweep's rough time, said before it starts."""
+    if seconds < 1.0:
+        return ""
+    if seconds < 90:
+        return f", about {seconds:.0f} s"
+    return f", about {seconds / 60:.0f} min" if seconds < 5400 else f", about {seconds / 3600:.1f} h"
 
 
 def _size_words(shape: str) -> str:
@@ -220,7 +229,8 @@ class SizingView(pn.viewable.Viewer):
         self.compute_button.disabled, self.stop_button.disabled = True, False
         self.progress.max, self.progress.value, self.progress.visible = spec.size, 0, True
         where = "this machine" if runner.cluster is None else html.escape(runner.cluster)
-        self.status.object = f"<p>Computing {spec.size} pores on {where} …</p>"
+        guess = "" if runner.cluster is not None else _duration(estimate_seconds(spec, runner.workers, runner.cache))
+        self.status.object = f"<p>Computing {spec.size} pores on {where}{guess} …</p>"
 
         total = spec.size
 
