@@ -493,6 +493,14 @@ def test_password_problems_exit_2(tmp_path):
     assert "POREFILL_PASSWORD" in _serve_fails(env={"POREFILL_PASSWORD": ""})
 
 
+def test_password_file_is_read_only_up_to_its_limit():
+    # issue 22: a pipe or device given as --password-file was read whole (common practice, no source)
+    from porefill.explorer.server.security import ServeError, read_password
+
+    with pytest.raises(ServeError, match="more than the 64 kB a password file holds"):
+        read_password("/dev/zero")
+
+
 def test_other_address_needs_origins_and_password(tmp_path):
     # 0.0.0.0 would listen everywhere: both refusals come before anything is bound
     assert "--allow-origin" in _serve_fails("--address", "0.0.0.0")

@@ -44,6 +44,7 @@ PASSWORD_ENV = "POREFILL_PASSWORD"
 LOGIN_PATH = "/login"
 LOGOUT_PATH = "/logout"
 _COOKIE_MAX_AGE_DAYS = 1
+MAX_PASSWORD_FILE_BYTES = 64 * 1024
 
 # What the Panel 1.9 / Bokeh 3.9 page needs in Chromium (measured by removing one source at a time and
 # loading the page, switching every tab, opening a scenario and a measured file; tests/test_server.py keeps
@@ -199,13 +200,17 @@ def read_password(path: str | None, environ: os._Environ | dict | None = None) -
     """
     environ = os.environ if environ is None else environ
     if path is not None:
-        p = Path(path)
-        if p.is_dir():
-            raise ServeError(f"--password-file {path}: is a directory, not a file")
-        try:
-            text = p.read_text(encoding="utf-8-sig")   # an editor's byte-order mark is not part of the password
+        from porefill.explorer.files.bounded import FileTooLarge, read_bounded, size_text
+
+        try:   # at most MAX_PASSWORD_FILE_BYTES, also from a pipe or a device
+            text = read_bounded(path, MAX_PASSWORD_FILE_BYTES).decode("utf-8-sig")   # a byte-order mark is no part of it
+        except IsADirectoryError:
+            raise ServeError(f"--password-file {path}: is a directory, not a file") from None
         except FileNotFoundError:
             raise ServeError(f"--password-file {path}: no such file") from None
+        except FileTooLarge:
+            raise ServeError(f"--password-file {path}: more than the {size_text(MAX_PASSWORD_FILE_BYTES)} a "
+                             "password file holds (the password is its first line)") from None
         except (OSError, UnicodeDecodeError) as exc:
             raise ServeError(f"--password-file {path}: cannot read it ({getattr(exc, 'strerror', None) or exc})"
                              ) from None
