@@ -143,7 +143,9 @@ class MeasuredView(pn.viewable.Viewer):
         for name, data in value.items():
             if name not in self._files:
                 raw = data.encode("utf-8") if isinstance(data, str) else bytes(data)
-                self._files[name] = {"data": raw, "choices": ColumnMap(), "sheet": None}
+                # shown as it is while the worker reads it (another event may redraw meanwhile)
+                self._files[name] = {"data": raw, "choices": ColumnMap(), "sheet": None, "result": None,
+                                     "error": f"{name}: still being read"}
                 await self._read(name)
                 newest = name
         self._fitted = None
