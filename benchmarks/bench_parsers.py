@@ -93,7 +93,7 @@ def main() -> None:
     from porefill.explorer.jobs.file_parse import parse_in_worker
 
     start = time.perf_counter()
-    parse_in_worker(read_measured, "rows.csv", csv_rows(10_000), name="rows.csv", refusals=(MeasuredFileError,))
+    parse_in_worker(read_measured, "rows.csv", csv_rows(10_000), file_name="rows.csv", refusals=(MeasuredFileError,))
     print(f"worker start and a 10 kB read in it: {(time.perf_counter() - start) * 1e3:.0f} ms")
 
 

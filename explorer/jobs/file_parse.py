@@ -40,7 +40,8 @@ def _parse_task(fn: Callable, args: tuple, kwargs: dict, refusals: tuple, *, pro
 
 
 class _Parse:
-    def __init__(self, fn, args, kwargs, *, name: str, refusals, time_limit_s: float, memory_bytes: int):
+    def __init__(self, fn, args, kwargs, *, file_name: str, refusals, time_limit_s: float, memory_bytes: int):
+        name = file_name
         self.name, self.time_limit_s, self.memory_bytes = name, time_limit_s, memory_bytes
         self.job = ProcessJob(_parse_task, (fn, args, kwargs, tuple(refusals)), name=f"reading {name}",
                               memory_limit_bytes=memory_bytes, compiled=False)
@@ -67,7 +68,7 @@ class _Parse:
         return False, None
 
 
-async def parse_off_loop(fn: Callable, *args, name: str, refusals: tuple = (), time_limit_s: float = PARSE_TIME_LIMIT_S,
+async def parse_off_loop(fn: Callable, *args, file_name: str, refusals: tuple = (), time_limit_s: float = PARSE_TIME_LIMIT_S,
                          memory_bytes: int = PARSE_MEMORY_BYTES, **kwargs):
     """``fn(*args, **kwargs)`` in a worker process, awaited without blocking the event loop.
 
@@ -75,8 +76,8 @@ async def parse_off_loop(fn: Callable, *args, name: str, refusals: tuple = (), t
     ----------
     fn
         The parser; importable by name (it is sent to a spawned process), as are its arguments and value.
-    name
-        The file's name, for the messages.
+    file_name
+        The file's name, for the messages (``fn``'s own keywords, ``name`` included, go to ``fn``).
     refusals
         Exception classes whose message is the parser's own refusal (it names the file already).
     time_limit_s, memory_bytes
@@ -87,7 +88,7 @@ async def parse_off_loop(fn: Callable, *args, name: str, refusals: tuple = (), t
     ParseRefused
         One line naming the file: the parser's refusal, a time or memory overrun, or a failure.
     """
-    parse = _Parse(fn, args, kwargs, name=name, refusals=refusals, time_limit_s=time_limit_s,
+    parse = _Parse(fn, args, kwargs, file_name=file_name, refusals=refusals, time_limit_s=time_limit_s,
                    memory_bytes=memory_bytes)
     try:
         while True:
@@ -100,10 +101,10 @@ async def parse_off_loop(fn: Callable, *args, name: str, refusals: tuple = (), t
         raise
 
 
-def parse_in_worker(fn: Callable, *args, name: str, refusals: tuple = (), time_limit_s: float = PARSE_TIME_LIMIT_S,
+def parse_in_worker(fn: Callable, *args, file_name: str, refusals: tuple = (), time_limit_s: float = PARSE_TIME_LIMIT_S,
                     memory_bytes: int = PARSE_MEMORY_BYTES, **kwargs):
     """`parse_off_loop` for a caller without an event loop: waits for the worker (same limits, same refusals)."""
-    parse = _Parse(fn, args, kwargs, name=name, refusals=refusals, time_limit_s=time_limit_s,
+    parse = _Parse(fn, args, kwargs, file_name=file_name, refusals=refusals, time_limit_s=time_limit_s,
                    memory_bytes=memory_bytes)
     while True:
         finished, value = parse.step()

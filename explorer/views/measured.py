@@ -163,7 +163,7 @@ class MeasuredView(pn.viewable.Viewer):
         entry = self._files[name]
         try:
             entry["result"], entry["error"] = await parse_off_loop(
-                read_measured, name, entry["data"], columns=entry["choices"], sheet=entry["sheet"], name=name,
+                read_measured, name, entry["data"], columns=entry["choices"], sheet=entry["sheet"], file_name=name,
                 refusals=(MeasuredFileError,)), None
         except ParseRefused as exc:
             entry["result"], entry["error"] = None, str(exc)

@@ -230,7 +230,8 @@ class ScenarioIO(pn.viewable.Viewer):
             self._say(f"{name}: not UTF-8 text (byte {exc.start}); nothing was changed.")
             return
         try:     # parsed in a worker process of its own, with a time and a memory limit (jobs.file_parse)
-            doc = await parse_off_loop(parse_document, text, name=name, refusals=(ScenarioFileError, ValueError))
+            doc = await parse_off_loop(parse_document, text, name=name, file_name=name,
+                                       refusals=(ScenarioFileError, ValueError))
             self.apply_document(doc)
         except (ParseRefused, ValueError) as exc:
             self._say(f"{exc} Nothing was changed.")
