@@ -421,7 +421,13 @@ GALLERY = [
     ("too many columns", "a.csv", (",".join(f"c{i} (Pa)" for i in range(150)) + "\n" +
                                    ",".join("1" for _ in range(150)) + "\n").encode(), {},
      ("error", ["has at least 150 columns, more than the 100"])),
-    ("one giant line", "a.csv", b"1," * 5_000_000 + b"2\n", {}, ("error", ["columns, more than the 100"])),
+    # a line past LIMITS["max_line_chars"] is refused before it is split (issue 22: linear work per input)
+    ("one giant line", "a.csv", b"1," * 5_000_000 + b"2\n", {},
+     ("error", ["row 1 has 10000001 characters, more than the 65536"])),
+    ("a long data line", "a.csv", (HEAD + "1,2\n" + "3," + "4" * 70_000 + "\n").encode(), {},
+     ("error", ["row 3 has 70002 characters"])),
+    ("a header name past the cell limit", "a.csv", (f"P (Pa),{'n' * 300}\n1,2\n3,4\n").encode(), {},
+     ("error", ["row 1: header name 2 has 300 characters, more than the 256"])),
     ("a million rows", "a.csv", HEAD.encode() + b"1,2\n" * 1_000_001, {}, ("error", ["1000003 lines", "split"])),
     ("deep quoting", "a.csv", (HEAD + "1,2\n" + '"' * 5000 + "\n3,4\n").encode(), {},
      ("problem", ["row 3", "column 'P (Pa)'", "…", "not a number"])),
@@ -431,8 +437,10 @@ GALLERY = [
      ("problem", ["row 1", 'an unterminated quote (")', "read as if it were not there"])),
     ("control char in a cell", "a.csv", (HEAD + "1,2\n2,3\x074\n5,6\n").encode(), {},
      ("problem", ["row 3", "value '3\\x074'", "not a number"])),
-    ("very long cell", "a.csv", (HEAD + "1,2\n" + "9" * 100 + "x" * 100_000 + ",3\n5,6\n").encode(), {},
+    ("very long cell", "a.csv", (HEAD + "1,2\n" + "9" * 100 + "x" * 60_000 + ",3\n5,6\n").encode(), {},
      ("problem", ["row 3", "…", "not a number"])),
+    ("very long cell named", "a.csv", (HEAD + "1,2\n" + "9" * 100 + "x" * 60_000 + ",3\n5,6\n").encode(), {},
+     ("problem", ["row 3", "column 'P (Pa)'", "a cell of 60100 characters, more than the 256"])),
     ("psi unit", "a.csv", b"P (psi),n (mmol/g)\n1,2\n2,3\n", {},
      ("problem", ["column 'P (psi)'", "does not read the unit 'psi'", "Torr"])),
     ("cm3/g without STP", "a.csv", b"P (Pa),V (cm3/g)\n1,2\n2,3\n", {},
@@ -644,3 +652,57 @@ def test_a_long_comment_line_is_read_in_one_pass(spaces, word):
     result = read_measured("long.csv", text.encode())
     run = _one_run(result)
     assert run.temperature_k == 77.35 and run.pressure.size == 3
+
+
+# --- long lines and long cells (issue 22, point 3): a clean refusal or a correct read, in one pass ------------
+
+# none of them extends a number into another number, so a cell is either the number it was or not a number
+LONG_CHARS = st.sampled_from(["x", " ", '"', ",", ";", "\t", "e", ".", "-", "#", "[", "\u00b5"])
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(length=st.integers(min_value=0, max_value=120_000), char=LONG_CHARS, where=st.sampled_from(
+       ["pressure", "amount", "comment", "header", "preamble"]), row=st.integers(min_value=0, max_value=2))
+def test_long_lines_and_cells_are_refused_cleanly_or_read_correctly(length, char, where, row):
+    # common practice, no source: a long cell or line (past LIMITS' line and cell caps, or not) gives either a
+    # refusal naming the file, or a read in which every untouched row is exact and the touched row is exact
+    # or skipped with its row named; nothing else (no traceback, no hang: each step is one pass)
+    rows = [(1.0, 0.5), (2.0, 0.75), (3.0, 0.875)]
+    long = char * length
+    lines = [f"{p:g},{n:g}" for p, n in rows]
+    header = "P (Pa),n (mmol/g)"
+    above = []
+    if where == "pressure":
+        lines[row] = f"{rows[row][0]:g}{long},{rows[row][1]:g}"
+    elif where == "amount":
+        lines[row] = f"{rows[row][0]:g},{rows[row][1]:g}{long}"
+    elif where == "comment":
+        above = [f"# T = 77 K {long}"]
+    elif where == "header":
+        header = f"P (Pa),n (mmol/g){long}"
+    else:
+        above = [f"instrument{long}"]
+    text = "\n".join([*above, header, *lines]) + "\n"
+    try:
+        result = read_measured("long.csv", text.encode())
+    except MeasuredFileError as exc:
+        message = str(exc)
+        assert message.startswith("long.csv:") and not _TRACEBACK_WORDS.search(message), message
+        assert len(message.splitlines()) <= 6
+        return
+    read = {(float(p), float(n)) for run in result.runs for p, n in zip(run.pressure, run.amount)}
+    if not result.ok:                                  # the header's unit no longer reads: nothing is guessed
+        assert read == set() and result.to_choose
+        return
+    touched = rows[row] if where in ("pressure", "amount") else None
+    assert {r for r in rows if r != touched} <= read <= set(rows)
+    if touched is not None and touched not in read:
+        line = len(above) + 2 + row                    # the row as the user sees it
+        assert any(p.row == line for p in result.problems), result.problems
+
+
+def test_a_device_or_pipe_is_read_only_up_to_the_limit():
+    # issue 22: `fit /dev/zero` read 3.8 GB before failing; stat says 0 bytes for a device or a pipe, so the
+    # read itself stops at the limit (common practice, no source)
+    with pytest.raises(MeasuredFileError, match="larger than"):
+        read_measured_path("/dev/zero", max_bytes=4096)

@@ -10,6 +10,8 @@ import tomllib
 
 import numpy as np
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from porefill.explorer.files.saved_fit import FitParameter, SavedFit
 from porefill.explorer.files.scenario_file import (ScenarioDocument, ScenarioFileError, ViewChoices, demo_names, dump_document,
@@ -269,3 +271,49 @@ def test_a_bad_file_is_one_line_naming_the_problem(text, words):
         parse_document(text, name="bad.toml")
     message = str(info.value)
     assert message.startswith("bad.toml") and words in message and "\n" not in message
+
+
+# --- long lines and long values (issue 22, point 3): a clean refusal or a correct read, in one pass ----------
+
+_BASE = '[scenario]\nshape = "hexagon"\nsize_angstrom = 15.0\nwall_angstrom = 8.0\nadsorbate = "helium-4"\n'
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(length=st.integers(min_value=0, max_value=60_000), char=st.sampled_from([" ", "[", "x", "]", "#", "\t", '"']),
+       where=st.sampled_from(["title", "notes line", "key line", "comment"]), bad_key=st.booleans())
+def test_long_lines_and_values_are_refused_cleanly_or_read_correctly(length, char, where, bad_key):
+    # common practice, no source: a long value, a long line inside a multi-line string (where a table header
+    # "[" followed by spaces once made the line search cubic: 2 kB took seconds, 8 000 spaces minutes) or a
+    # long comment gives a refusal naming the file and a line, or the value read back exactly
+    long = char * length
+    tail = "bogus_key = 1\n" if bad_key else ""
+    if where == "title":
+        value = f"t{long}".replace("\\", "")
+        text = _BASE + f"title = {toml_value(value)}\n" + tail
+    elif where == "notes line":
+        value = f"[{long}x"
+        text = _BASE + 'title = """\n' + value.replace('"', "'") + '\n"""\n' + tail
+        value = value.replace('"', "'") + "\n"
+    elif where == "key line":
+        value = None
+        text = _BASE + f"temperature_k{long} = 1.5\n" + tail
+    else:
+        value = None
+        text = _BASE + f"# {long}\n" + tail
+    try:
+        doc = parse_document(text, name="long.toml")
+    except ScenarioFileError as exc:
+        message = str(exc)
+        assert message.startswith("long.toml") and "Traceback" not in message and "\n" not in message
+        if bad_key and where != "key line":
+            assert "bogus_key" in message and ", line " in message
+        return
+    assert not bad_key
+    if value is not None:
+        assert doc.scenario.title == value
+
+
+def test_a_device_is_read_only_up_to_the_limit():
+    # issue 22: a pipe or device was read whole before the size check (common practice, no source)
+    with pytest.raises(ScenarioFileError, match="more than the 4 MB a scenario file holds"):
+        load_document("/dev/zero")

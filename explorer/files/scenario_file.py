@@ -33,10 +33,11 @@ from porefill.explorer.files.toml_writer import dump_table
 from porefill.physics.choices import BRANCHES, TABS
 from porefill.physics.choices import ISOTHERM_AXES as AXES
 
-__all__ = ["FORMAT", "ScenarioFileError", "ScenarioDocument", "ViewChoices", "load_scenario", "dump_scenario",
+__all__ = ["FORMAT", "MAX_SCENARIO_BYTES", "ScenarioFileError", "ScenarioDocument", "ViewChoices", "load_scenario", "dump_scenario",
            "load_document", "parse_document", "dump_document", "DEMO_DIR", "demo_names", "resolve_scenario"]
 
 FORMAT = 1
+MAX_SCENARIO_BYTES = 4 * 1024 * 1024      # a scenario with many measured runs is well under 1 MB
 # the repository's scenarios/ folder: beside porefill's physics/ and explorer/ in a checkout (editable install)
 # and installed as porefill/scenarios/ by the wheel (pyproject.toml), two folders up from here in both
 DEMO_DIR = Path(__file__).resolve().parents[2] / "scenarios"
@@ -101,7 +102,9 @@ class ScenarioDocument:
 
 
 # reading ---------------------------------------------------------------------------------------------
-_HEADER = re.compile(r"^\s*(\[\[?)\s*([^\]#]+?)\s*\]\]?\s*(#.*)?$")
+# possessive and without a lazy name: one pass per line (the lazy "([^\]#]+?)\s*\]" tried every end of the
+# name against every run of spaces: a 2 kB file with a line "[" and spaces took seconds, 8 000 spaces minutes)
+_HEADER = re.compile(r"^\s*+(\[\[?+)\s*+([^\]#\s][^\]#]*+)\]\]?+\s*+(#.*)?$")
 
 
 def _key_pattern(key: str) -> re.Pattern:
@@ -117,7 +120,7 @@ def line_of(text: str, section: str, key: str | None = None, index: int = 0) -> 
     for number, line in enumerate(text.splitlines(), 1):
         m = _HEADER.match(line)
         if m:
-            table = m.group(2).replace(" ", "").replace('"', "")
+            table = "".join(m.group(2).split()).replace('"', "")
             if m.group(1) == "[[":
                 counts[table] = counts.get(table, -1) + 1
             current = (table, counts.get(table, 0) if m.group(1) == "[[" else 0)
@@ -298,11 +301,18 @@ def load_document(path: str | Path) -> ScenarioDocument:
 
     The physics (numpy, scipy) is imported only once the file has been read, so a missing file is
     reported at once."""
+    from porefill.explorer.files.bounded import FileTooLarge, read_bounded, size_text
+
     path = Path(path)
     try:
-        text = path.read_text(encoding="utf-8")
+        text = read_bounded(path, MAX_SCENARIO_BYTES).decode("utf-8")
     except FileNotFoundError:
         raise ScenarioFileError(f"{path}: no such scenario file", path=str(path)) from None
+    except IsADirectoryError:
+        raise ScenarioFileError(f"{path}: is a directory, not a scenario file", path=str(path)) from None
+    except FileTooLarge:
+        raise ScenarioFileError(f"{path}: more than the {size_text(MAX_SCENARIO_BYTES)} a scenario file holds",
+                                path=str(path)) from None
     except UnicodeDecodeError as exc:
         raise ScenarioFileError(f"{path}: not UTF-8 text ({exc.reason} at byte {exc.start})",
                                 path=str(path)) from None

@@ -25,18 +25,19 @@ import time
 from concurrent.futures import Executor, Future
 from typing import Callable
 
-__all__ = ["start_worker", "Cancelled", "Job", "PoolJob", "ProcessJob", "ThreadJob", "time_limit_text", "error_text"]
+__all__ = ["start_worker", "limit_memory", "Cancelled", "Job", "PoolJob", "ProcessJob", "ThreadJob", "time_limit_text", "error_text"]
 
 log = logging.getLogger("porefill.explorer")
 FINAL = ("done", "cancelled", "error")
 
 
-def start_worker(*, nice: int = 5, ignore_interrupt: bool = False) -> None:
+def start_worker(*, nice: int = 5, ignore_interrupt: bool = False, compiled: bool = True) -> None:
     """What every background process does first (pool workers, sweep workers, a fit's process): run below
     the server's priority (the event loop and a browser on the same laptop stay responsive), end itself
     when its parent is gone (a killed server's SIGTERM skips the pool's shutdown; no orphan keeps
     computing), use one BLAS thread (`porefill.explorer.jobs.threads`) and, for a sweep on a terminal,
-    leave Ctrl-C to the parent, which stops the sweep and ends its workers."""
+    leave Ctrl-C to the parent, which stops the sweep and ends its workers. ``compiled=False`` (a worker that
+    only reads a file) skips loading the compiled physics kernels."""
     import os
     import signal
 
@@ -50,10 +51,33 @@ def start_worker(*, nice: int = 5, ignore_interrupt: bool = False) -> None:
     threading.Thread(target=_exit_with_parent, args=(os.getppid(),), daemon=True,
                      name="porefill-parent-watch").start()
     from porefill.explorer.jobs.threads import one_blas_thread
-    from porefill.physics.pore import compiled
 
     one_blas_thread()
-    compiled.enable()          # a worker lives long enough to repay loading the compiled kernels
+    if compiled:
+        from porefill.physics.pore import compiled as kernels
+
+        kernels.enable()       # a worker lives long enough to repay loading the compiled kernels
+
+
+def limit_memory(extra_bytes: int) -> None:
+    """Let this process map at most ``extra_bytes`` more than it has now (RLIMIT_AS, Linux and macOS): past
+    it an allocation raises MemoryError in this process instead of squeezing the server's. No-op where the
+    platform has no such limit."""
+    try:
+        import resource
+    except ImportError:             # pragma: no cover - Windows
+        return
+    now = 0
+    try:
+        with open("/proc/self/status") as status:
+            now = next(int(line.split()[1]) * 1024 for line in status if line.startswith("VmSize:"))
+    except (OSError, StopIteration, ValueError):
+        pass
+    _, hard = resource.getrlimit(resource.RLIMIT_AS)
+    soft = now + int(extra_bytes)
+    if hard != resource.RLIM_INFINITY:
+        soft = min(soft, hard)
+    resource.setrlimit(resource.RLIMIT_AS, (soft, hard))
 
 
 def _exit_with_parent(parent: int) -> None:
@@ -217,20 +241,26 @@ class ThreadJob(Job):
         self._stop.set()
 
 
-def _process_main(fn, args, messages, stop) -> None:
-    start_worker()
+def _process_main(fn, args, messages, stop, memory_limit_bytes=None, compiled=True) -> None:
+    start_worker(compiled=compiled)
+    if memory_limit_bytes is not None:
+        limit_memory(memory_limit_bytes)
     _report_to(messages.put, fn, args, stop.is_set)
 
 
 class ProcessJob(Job):
     """``fn(*args, progress=, should_stop=)`` in a spawned process of its own (spawn, not fork: the server
-    has threads), talking through a queue; `kill` ends it at once. ``fn`` must be importable by name."""
+    has threads), talking through a queue; `kill` ends it at once. ``fn`` must be importable by name.
+    ``memory_limit_bytes``: how much more address space the process may map once started (`limit_memory`);
+    ``compiled``: whether it loads the compiled physics kernels (`start_worker`)."""
 
-    def __init__(self, fn: Callable, args: tuple = (), *, name: str, time_limit_s: float | None = None):
+    def __init__(self, fn: Callable, args: tuple = (), *, name: str, time_limit_s: float | None = None,
+                 memory_limit_bytes: int | None = None, compiled: bool = True):
         ctx = multiprocessing.get_context("spawn")
         self._messages = ctx.Queue()
         self._stop = ctx.Event()
-        self.process = ctx.Process(target=_process_main, args=(fn, args, self._messages, self._stop),
+        self.process = ctx.Process(target=_process_main,
+                                   args=(fn, args, self._messages, self._stop, memory_limit_bytes, compiled),
                                    daemon=True, name=name)
         super().__init__(name=name, time_limit_s=time_limit_s)
         self.process.start()

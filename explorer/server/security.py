@@ -35,33 +35,77 @@ from dataclasses import dataclass
 from pathlib import Path
 from urllib.parse import urlsplit
 
-__all__ = ["AccessPolicy", "ServeError", "AUTH_COOKIE", "PASSWORD_ENV", "SECURITY_HEADERS",
-           "answer_bad_requests", "check_address", "check_can_listen", "install", "is_loopback", "parse_allowed_origin",
-           "read_password"]
+__all__ = ["AccessPolicy", "ServeError", "AUTH_COOKIE", "PAGE_TEMPLATE", "PASSWORD_ENV", "SECURITY_HEADERS",
+           "answer_bad_requests", "check_address", "check_can_listen", "content_security_policy", "install",
+           "is_loopback", "page_nonce", "parse_allowed_origin", "read_password"]
 
 AUTH_COOKIE = "porefill_auth"
 PASSWORD_ENV = "POREFILL_PASSWORD"
 LOGIN_PATH = "/login"
 LOGOUT_PATH = "/logout"
 _COOKIE_MAX_AGE_DAYS = 1
+MAX_PASSWORD_FILE_BYTES = 64 * 1024
 
-# What the Bokeh/Panel page needs in Chromium (measured by starting from "'self'" everywhere and adding
-# what the page asked for): inline <script> blocks that start the document (they hold the session token, so
-# no fixed hash), 'unsafe-eval' for panel.min.js, a blob: script from Panel's module shims, inline styles
-# in the widgets' shadow roots and data: images in Bokeh's toolbar. The websocket goes back to 'self'.
-CONTENT_SECURITY_POLICY = "; ".join([
-    "default-src 'self'",
-    "script-src 'self' 'unsafe-inline' 'unsafe-eval' blob:",
-    "style-src 'self' 'unsafe-inline'",
-    "img-src 'self' data:",
-    "font-src 'self'",
-    "connect-src 'self'",
-    "worker-src 'self'",
-    "object-src 'none'",
-    "base-uri 'none'",
-    "form-action 'self'",
-    "frame-ancestors 'none'",
-])
+# What the Panel 1.9 / Bokeh 3.9 page needs in Chromium (measured by removing one source at a time and
+# loading the page, switching every tab, opening a scenario and a measured file; tests/test_server.py keeps
+# the page free of violations under it):
+# - script-src: the page's inline <script> blocks (Bokeh's set_log_level, and the block that starts the
+#   document, which holds the session token, so no fixed hash would do) carry this response's nonce
+#   (`PAGE_TEMPLATE`); 'unsafe-inline' is gone, so an injected inline handler or <script> does not run.
+#   'unsafe-eval' stays: Panel's ReactiveHTML components (pn.FlexBox, which lays out the Pore and Measured
+#   tabs, is one) compile their HTML templates with `new Function` in panel.min.js; without it no root
+#   renders. blob: is not needed (es-module-shims, Panel's loader for ES-module components, found no module
+#   to load on this page).
+# - style-src 'unsafe-inline': Bokeh writes thousands of <style> elements into its views' shadow roots
+#   (bokeh.min.js) and Panel sets style="" attributes at run time; neither can carry a nonce.
+# - img-src data: for the icons of Bokeh's toolbar. The websocket goes back to 'self'.
+SCRIPT_SOURCES = "'self' 'unsafe-eval'"
+
+
+def content_security_policy(nonce: str | None = None) -> str:
+    """The Content-Security-Policy of a response; ``nonce`` lets the inline scripts that carry it run."""
+    scripts = SCRIPT_SOURCES if nonce is None else f"{SCRIPT_SOURCES} 'nonce-{nonce}'"
+    return "; ".join([
+        "default-src 'self'",
+        f"script-src {scripts}",
+        "style-src 'self' 'unsafe-inline'",
+        "img-src 'self' data:",
+        "font-src 'self'",
+        "connect-src 'self'",
+        "worker-src 'self'",
+        "object-src 'none'",
+        "base-uri 'none'",
+        "form-action 'self'",
+        "frame-ancestors 'none'",
+    ])
+
+
+# A response without a page of its own (login, refusals, Tornado's 400) allows no inline script at all.
+CONTENT_SECURITY_POLICY = content_security_policy()
+
+# The request attribute that holds its response's nonce (set by the gate's output transform before any
+# handler runs; Bokeh's session context passes attribute reads through to the request).
+NONCE_ATTRIBUTE = "porefill_csp_nonce"
+
+# The dashboard page's template: Panel's own (``base``), with the response's nonce added to the inline
+# <script> tags Bokeh and Panel write themselves (their resources block and the block that starts the
+# document). Only those two strings, made by Bokeh from our scripts and ids, are touched: user text never
+# reaches the HTML page (it arrives over the websocket), and a tag without a nonce stays blocked. The nonce
+# on the es-module-shims options block is how that library finds the nonce for the scripts it adds.
+PAGE_TEMPLATE = """\
+{% set nonced = ' nonce="' ~ csp_nonce ~ '">' %}
+{% block js_resources %}{% filter replace('<script type="esms-options">', '<script type="esms-options"' ~ nonced)
+  | replace('<script type="text/javascript">', '<script type="text/javascript"' ~ nonced)
+  | replace('<script type="module">', '<script type="module"' ~ nonced) %}{{ super() }}{% endfilter %}{% endblock %}
+{% block inner_body %}{% filter replace('<script>', '<script' ~ nonced) %}{{ super() }}{% endfilter %}{% endblock %}
+"""
+
+
+def page_nonce(request) -> str | None:
+    """The CSP nonce of the response to ``request`` (a Tornado request or Bokeh's proxy of one), or None
+    when no gate is installed."""
+    return getattr(request, NONCE_ATTRIBUTE, None)
+
 
 SECURITY_HEADERS = {
     "Content-Security-Policy": CONTENT_SECURITY_POLICY,
@@ -156,13 +200,17 @@ def read_password(path: str | None, environ: os._Environ | dict | None = None) -
     """
     environ = os.environ if environ is None else environ
     if path is not None:
-        p = Path(path)
-        if p.is_dir():
-            raise ServeError(f"--password-file {path}: is a directory, not a file")
-        try:
-            text = p.read_text(encoding="utf-8-sig")   # an editor's byte-order mark is not part of the password
+        from porefill.explorer.files.bounded import FileTooLarge, read_bounded, size_text
+
+        try:   # at most MAX_PASSWORD_FILE_BYTES, also from a pipe or a device
+            text = read_bounded(path, MAX_PASSWORD_FILE_BYTES).decode("utf-8-sig")   # a byte-order mark is no part of it
+        except IsADirectoryError:
+            raise ServeError(f"--password-file {path}: is a directory, not a file") from None
         except FileNotFoundError:
             raise ServeError(f"--password-file {path}: no such file") from None
+        except FileTooLarge:
+            raise ServeError(f"--password-file {path}: more than the {size_text(MAX_PASSWORD_FILE_BYTES)} a "
+                             "password file holds (the password is its first line)") from None
         except (OSError, UnicodeDecodeError) as exc:
             raise ServeError(f"--password-file {path}: cannot read it ({getattr(exc, 'strerror', None) or exc})"
                              ) from None
@@ -553,9 +601,16 @@ def install(app, policy: AccessPolicy, *, session_secret: str) -> None:
             self.redirect(LOGIN_PATH, status=303)
 
     class Headers(OutputTransform):
+        def __init__(self, request) -> None:
+            # made before any handler runs, so the page's template and this header share it
+            super().__init__(request)
+            self.nonce = secrets.token_urlsafe(18)
+            setattr(request, NONCE_ATTRIBUTE, self.nonce)
+
         def transform_first_chunk(self, status_code, headers, chunk, finishing):
             for name, value in SECURITY_HEADERS.items():
                 headers[name] = value
+            headers["Content-Security-Policy"] = content_security_policy(self.nonce)
             headers.pop("Server", None)
             return status_code, headers, chunk
 

@@ -7,7 +7,8 @@ import secrets
 
 from porefill.physics.scenario import Scenario
 
-from porefill.explorer.server.security import AUTH_COOKIE, AccessPolicy, ServeError, answer_bad_requests, install
+from porefill.explorer.server.security import (AUTH_COOKIE, PAGE_TEMPLATE, AccessPolicy, ServeError,
+                                               answer_bad_requests, install, page_nonce)
 
 __all__ = ["serve", "start_server", "quiet_closed_pages"]
 
@@ -53,6 +54,16 @@ def quiet_closed_pages(loop) -> None:
             writer.addFilter(_ClosedPageFilter())
 
 
+def use_nonce(doc) -> None:
+    """Render the page of ``doc`` (a Bokeh document being served) with its response's CSP nonce on the inline
+    scripts (`porefill.explorer.server.security.PAGE_TEMPLATE`); without the gate's nonce, nothing changes."""
+    context = doc.session_context
+    nonce = page_nonce(context.request) if context is not None and context.request is not None else None
+    if nonce is not None:
+        doc.template = PAGE_TEMPLATE
+        doc.template_variables["csp_nonce"] = nonce
+
+
 def _secret_key() -> str:
     """Key that signs the Bokeh session ids: ``$BOKEH_SECRET_KEY`` if set, else random for this run."""
     return os.environ.get("BOKEH_SECRET_KEY") or secrets.token_urlsafe(48)
@@ -77,6 +88,7 @@ def start_server(scenario: Scenario | None, *, address: str, port: int, policy: 
     from porefill.explorer.server.session_memory import session_closed, session_opened
 
     def page():
+        use_nonce(pn.state.curdoc)
         try:
             pn.state.on_session_destroyed(session_closed)     # the last one out gives the caches back
             session_opened()

@@ -25,6 +25,7 @@ from porefill.physics.fitting.measured import MEASURED_AMOUNT_UNITS, Sample
 from porefill.physics.substances.units import PRESSURE_UNITS
 
 from porefill.explorer.files.measured import ColumnMap, MeasuredFileError, read_measured
+from porefill.explorer.jobs.file_parse import ParseRefused, parse_off_loop
 from porefill.explorer.views.distribution import DistributionView
 from porefill.explorer.views.overlay import AXES, PER_NM, display_scale, display_unit, model_curves, overlay_run
 from porefill.explorer.views.state import ExplorerState, describe
@@ -164,7 +165,7 @@ class MeasuredView(pn.viewable.Viewer):
         self._redraw()
 
     # files -------------------------------------------------------------------------------------------
-    def _dropped(self, event) -> None:
+    async def _dropped(self, event) -> None:
         value = event.new or {}
         for name in list(self._files):
             if name not in value:
@@ -173,8 +174,10 @@ class MeasuredView(pn.viewable.Viewer):
         for name, data in value.items():
             if name not in self._files:
                 raw = data.encode("utf-8") if isinstance(data, str) else bytes(data)
-                self._files[name] = {"data": raw, "choices": ColumnMap(), "sheet": None}
-                self._read(name)
+                # shown as it is while the worker reads it (another event may redraw meanwhile)
+                self._files[name] = {"data": raw, "choices": ColumnMap(), "sheet": None, "result": None,
+                                     "error": f"{name}: still being read"}
+                await self._read(name)
                 newest = name
         self._fitted = None
         self.file_select.options = list(self._files)
@@ -185,12 +188,15 @@ class MeasuredView(pn.viewable.Viewer):
         self._show_file()
         self._redraw()
 
-    def _read(self, name: str) -> None:
+    async def _read(self, name: str) -> None:
+        """Read a dropped file in a worker process of its own (`porefill.explorer.jobs.file_parse`): other
+        sessions go on meanwhile, and a file past the time or memory limit gets one line naming it."""
         entry = self._files[name]
         try:
-            entry["result"], entry["error"] = read_measured(name, entry["data"], columns=entry["choices"],
-                                                           sheet=entry["sheet"]), None
-        except MeasuredFileError as exc:
+            entry["result"], entry["error"] = await parse_off_loop(
+                read_measured, name, entry["data"], columns=entry["choices"], sheet=entry["sheet"], file_name=name,
+                refusals=(MeasuredFileError,)), None
+        except ParseRefused as exc:
             entry["result"], entry["error"] = None, str(exc)
         except Exception as exc:        # noqa: BLE001 - a reader bug must not take the session with it
             entry["result"], entry["error"] = None, f"{name}: could not be read ({type(exc).__name__})"
@@ -228,7 +234,7 @@ class MeasuredView(pn.viewable.Viewer):
                          + (f"<li>… and {more} more</li>" if more else "") + "</ul>")
         self.problems.object = "".join(lines)
 
-    def _reread(self, *_):
+    async def _reread(self, *_):
         name = self.file_select.value
         if name not in self._files:
             return
@@ -242,7 +248,7 @@ class MeasuredView(pn.viewable.Viewer):
                                                  leg=pick("leg"), temperature=pick("temperature"),
                                                  pressure_unit=unit(self.pressure_unit),
                                                  amount_unit=unit(self.amount_unit))
-        self._read(name)
+        await self._read(name)
         self._fitted = None
         self._show_file()
         self._redraw()

@@ -26,8 +26,9 @@ import param
 
 from porefill.explorer.jobs.background import PoolJob
 from porefill.explorer.jobs.compute import TIME_LIMIT_S, isotherm_pool, short_error
+from porefill.explorer.jobs.file_parse import ParseRefused, parse_off_loop
 from porefill.explorer.outputs.figures import FIGURES, figure_job
-from porefill.explorer.files.scenario_file import TABS, ScenarioDocument, ScenarioFileError, ViewChoices, dump_document, parse_document
+from porefill.explorer.files.scenario_file import MAX_SCENARIO_BYTES, TABS, ScenarioDocument, ScenarioFileError, ViewChoices, dump_document, parse_document
 from porefill.explorer.views.state import ExplorerState
 
 __all__ = ["ScenarioIO", "URL_KEYS", "MAX_SCENARIO_BYTES", "report_job"]
@@ -37,7 +38,6 @@ URL_KEYS = ("shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", 
             "site_model")
 _APPLY_ORDER = ("adsorbate", "shape", "isolated", "wall_angstrom", "size_angstrom", "temperature_k", "pore_ends",
                 "site_model")
-MAX_SCENARIO_BYTES = 4 * 1024 * 1024      # a scenario with many measured runs is well under 1 MB
 # the first word of each tab's title (explorer.views.dashboard), for every name in porefill.physics.choices.TABS
 _TAB_NAMES = {"pore": "Pore", "quantum": "Quantum", "measured": "Measured", "sizing": "Sizing", "about": "About"}
 WIDTH = 220
@@ -219,7 +219,7 @@ class ScenarioIO(pn.viewable.Viewer):
         self.message.object = f"<p>{html.escape(text)}</p>" if text else ""
         self.message.visible = bool(text)
 
-    def _opened(self, event) -> None:
+    async def _opened(self, event) -> None:
         data, name = event.new, str(self.open.filename or "scenario.toml")
         if not data:
             return
@@ -232,10 +232,11 @@ class ScenarioIO(pn.viewable.Viewer):
         except UnicodeDecodeError as exc:
             self._say(f"{name}: not UTF-8 text (byte {exc.start}); nothing was changed.")
             return
-        try:
-            doc = parse_document(text, name=name)
+        try:     # parsed in a worker process of its own, with a time and a memory limit (jobs.file_parse)
+            doc = await parse_off_loop(parse_document, text, name=name, file_name=name,
+                                       refusals=(ScenarioFileError, ValueError))
             self.apply_document(doc)
-        except (ScenarioFileError, ValueError) as exc:
+        except (ParseRefused, ValueError) as exc:
             self._say(f"{exc} Nothing was changed.")
             return
         self._say("")

@@ -17,6 +17,11 @@ LIMITS = {
     "max_problems": 200,        # listed one by one; the rest are counted in one summary problem
     "max_unzipped_bytes": 256 * 2**20,   # total unpacked size of an .xlsx (a zip): guards against zip bombs
     "max_workbook_cells": 1_000_000,     # rows × columns a sheet says it has (openpyxl: ~30–60 µs a cell)
+    # a line of the table (comment lines are not counted: only their first few hundred characters are read)
+    "max_line_chars": 65_536,
+    # a header name or a cell of a column that is read: no number, unit or label needs more, and every
+    # per-cell step (number and unit patterns) then costs a bounded time
+    "max_cell_chars": 256,
 }
 
 _SHOWN_VALUE_CHARS = 60

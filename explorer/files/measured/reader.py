@@ -142,25 +142,23 @@ def read_measured(name: str, data: bytes, *, columns: ColumnMap | None = None, s
 
 
 def read_measured_path(path: str | os.PathLike, **kw) -> ReadResult:
-    """`read_measured` on a file on disk (for the command line); too large a file is refused unread."""
+    """`read_measured` on a file on disk, a pipe or a device (for the command line): at most ``max_bytes``
+    (plus one) are read, whatever `stat` says, so ``/dev/zero`` or an endless pipe is refused after the limit."""
+    from porefill.explorer.files.bounded import FileTooLarge, read_bounded
+
     path = Path(path)
     problems = Problems(str(path))
     max_bytes = kw.get("max_bytes", _DEFAULT_MAX_BYTES)
     try:
-        size = path.stat().st_size
-        if path.is_dir():
-            raise problems.refuse("is a directory, not a file")
-        if size > max_bytes:
-            raise problems.refuse(f"the file is {size / 2**20:.0f} MB, larger than the {max_bytes / 2**20:.0f} MB "
-                                  "porefill reads")
-        data = path.read_bytes()
+        data = read_bounded(path, max_bytes)
+    except FileTooLarge:
+        raise problems.refuse(f"larger than the {max_bytes / 2**20:.0f} MB porefill reads") from None
+    except IsADirectoryError:
+        raise problems.refuse("is a directory, not a file") from None
     except FileNotFoundError:
         raise problems.refuse("no such file") from None
     except PermissionError:
         raise problems.refuse("cannot be read (permission denied)") from None
-    except MeasuredFileError:
-        raise
     except OSError as exc:
         raise problems.refuse(f"cannot be read ({shown(exc.strerror or exc)})") from None
     return read_measured(str(path), data, **kw)
-

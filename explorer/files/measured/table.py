@@ -28,7 +28,9 @@ __all__ = ["Table", "table_from_text", "table_from_workbook", "is_number"]
 
 _SAMPLE_LINES = 500
 _SAMPLE_CHARS = 65536     # of each sampled line: enough for any header, no time lost on a single giant line
-_NUMBER = re.compile(r"[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?")
+# possessive: a run of digits is never given back, so a long cell that is not a number fails in one pass (the
+# plain "\d+\.?\d*" tried every split of the run: 16 000 digits and a letter took 11 s)
+_NUMBER = re.compile(r"[+-]?+(?:\d++(?:\.\d*+)?+|\.\d++)(?:[eE][+-]?+\d++)?+")
 _NON_FINITE = {"nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"}
 _CANDIDATES = (("\t", False), ("\t", True), (";", False), (";", True), (",", False), ("|", False), ("|", True),
                (" ", False), (" ", True))
@@ -64,6 +66,7 @@ class Table:
     load: Callable[[list[int]], dict[int, pd.Series]]
     positions: tuple[int, ...] = ()
     _cache: dict = field(default_factory=dict)
+    problems: Problems | None = None      # when given, cells past LIMITS["max_cell_chars"] are cut and named
 
     def __post_init__(self) -> None:
         self.positions = self.positions or tuple(range(len(self.columns)))
@@ -73,13 +76,31 @@ class Table:
         wanted = [self.positions[self.columns.index(n)] for n in names]
         missing = sorted({p for p in wanted if p not in self._cache})
         if missing:
-            self._cache.update(self.load(missing))
+            loaded = self.load(missing)
+            if self.problems is not None:
+                self._cut_long_cells(loaded)
+            self._cache.update(loaded)
         return [self._cache[p] for p in wanted]
+
+    def _cut_long_cells(self, loaded: dict[int, pd.Series]) -> None:
+        """Cells past ``LIMITS["max_cell_chars"]`` are cut there (with "…"): read as text, so the row is
+        skipped as not a number, and the first such cell of each column is named."""
+        cap = LIMITS["max_cell_chars"]
+        for position, cells in loaded.items():
+            lengths = cells.str.len().to_numpy(dtype=float, na_value=0.0)
+            over = lengths > cap
+            if over.any():
+                k = int(np.flatnonzero(over)[0])
+                name = self.columns[self.positions.index(position)] if position in self.positions else None
+                self.problems.add(f"a cell of {int(lengths[k])} characters, more than the {cap} porefill reads in "
+                                  f"one cell; read as text", row=int(self.rows[k]), column=name, value=cells.iat[k])
+                loaded[position] = cells.where(~over, cells.str.slice(0, cap) + "…")
 
     def keeping(self, indices: list[int]) -> "Table":
         """The same table with only the columns at ``indices``."""
         return Table(tuple(self.columns[i] for i in indices), self.rows, self.decimal_comma, self.has_header,
-                     self.header_temperature_k, self.load, tuple(self.positions[i] for i in indices), self._cache)
+                     self.header_temperature_k, self.load, tuple(self.positions[i] for i in indices), self._cache,
+                     self.problems)
 
 
 def is_number(cell: str, comma: bool) -> bool:
@@ -234,6 +255,11 @@ def _layout(sample: list[list[str]], comma: bool, problems: Problems, rows: list
                          "numbered — choose them", row=rows[header_from])
             names = None
     if names is not None:
+        longest = max(range(len(names)), key=lambda i: len(names[i]))
+        if len(names[longest]) > LIMITS["max_cell_chars"]:
+            raise problems.refuse(f"{where}row {rows[header_from]}: header name {longest + 1} has "
+                                  f"{len(names[longest])} characters, more than the {LIMITS['max_cell_chars']} "
+                                  "porefill reads in one cell")
         if len(names) < width:
             problems.add(f"the header has {len(names)} names for {width} columns; the rest are numbered",
                          row=rows[header_from])
@@ -263,6 +289,11 @@ def table_from_text(text: str, problems: Problems) -> Table:
     comments = [(i + 1, lines[i].strip()) for i, c in enumerate(starts) if c == "#" or c == "%"]
     if not data_at:
         raise problems.refuse("has only comment lines, no table" if comments else "the file is empty")
+    cap = LIMITS["max_line_chars"]
+    long_line = next((i for i in data_at if len(lines[i]) > cap), None)
+    if long_line is not None:
+        raise problems.refuse(f"row {long_line + 1} has {len(lines[long_line])} characters, more than the {cap} "
+                              "porefill reads in one line of a table")
     quoted = '"' in text
     # a line with an odd number of quotes opens a quote it never closes (doubled quotes inside one count two)
     unclosed = [i for i in data_at if lines[i].count('"') % 2] if quoted else []
@@ -344,7 +375,7 @@ def table_from_text(text: str, problems: Problems) -> Table:
                 raise problems.refuse("could not be split into rows consistently (a stray line break?)")
             return {p: frame[p].astype(object) for p in positions}
     names = _clean_names(layout.names or [], width, problems)
-    return Table(names, rows, comma, layout.names is not None, temperature, load)
+    return Table(names, rows, comma, layout.names is not None, temperature, load, problems=problems)
 
 
 def _cell_text(value) -> str:
@@ -436,4 +467,5 @@ def table_from_workbook(data: bytes, sheet: str | None, problems: Problems) -> t
         return {p: cells[p].astype(object) if p < cells.shape[1] else pd.Series([""] * len(cells), dtype=object)
                 for p in positions}
     names = _clean_names(layout.names or [], layout.width, problems)
-    return Table(names, rows[layout.start:].astype(int), False, layout.names is not None, temperature, load), sheets
+    return Table(names, rows[layout.start:].astype(int), False, layout.names is not None, temperature, load,
+                 problems=problems), sheets

@@ -1,0 +1,86 @@
+"""A user's file parsed in a worker process with a time and a memory limit (`porefill.explorer.jobs.file_parse`):
+the parser's own refusal, a time or memory overrun, each one line naming the file; the caller's event loop
+keeps running meanwhile (issue 22, point 3)."""
+from __future__ import annotations
+
+import asyncio
+import multiprocessing
+import time
+
+import numpy as np
+import pytest
+
+from porefill.explorer.files.measured import MeasuredFileError, read_measured
+from porefill.explorer.files.scenario_file import ScenarioFileError, dump_document, parse_document
+from porefill.explorer.jobs.file_parse import ParseRefused, parse_in_worker, parse_off_loop
+
+CSV = b"P (Pa),n (mmol/g)\n1,0.5\n3,0.9\n"
+
+
+def _no_parse_workers_left() -> bool:
+    return not [p for p in multiprocessing.active_children() if p.name.startswith("reading ")]
+
+
+def test_a_file_read_in_the_worker_equals_the_direct_read():
+    # common practice, no source: the worker changes where the parser runs, not what it returns
+    direct = read_measured("run.csv", CSV)
+    through = parse_in_worker(read_measured, "run.csv", CSV, file_name="run.csv", refusals=(MeasuredFileError,))
+    np.testing.assert_array_equal(through.runs[0].amount, direct.runs[0].amount)
+    np.testing.assert_array_equal(through.runs[0].pressure, direct.runs[0].pressure)
+    text = dump_document(parse_document('[scenario]\nshape = "slit"\nsize_angstrom = 20.0\n'))
+    doc = parse_in_worker(parse_document, text, file_name="s.toml", refusals=(ScenarioFileError,))
+    assert doc.scenario == parse_document(text).scenario
+
+
+@pytest.mark.parametrize("fn,args,refusals,words", [
+    (read_measured, ("empty.csv", b""), (MeasuredFileError,), "empty.csv: the file is empty"),
+    (parse_document, ("[scenario\n",), (ScenarioFileError,), "scenario.toml, line 1"),
+])
+def test_the_parsers_own_refusal_comes_back_as_one_line(fn, args, refusals, words):
+    with pytest.raises(ParseRefused) as caught:
+        parse_in_worker(fn, *args, file_name="the file", refusals=refusals)
+    assert str(caught.value).startswith(words) and "Traceback" not in str(caught.value)
+
+
+def test_a_parse_past_the_time_limit_is_refused_while_the_loop_runs_on():
+    # common practice, no source: a slow parser (here one that sleeps a minute) is ended at the limit, and
+    # the caller's event loop serves other work while it waits (ticks counted, no duration asserted)
+    ticks = []
+
+    async def other_session():
+        while True:
+            ticks.append(1)
+            await asyncio.sleep(0.05)
+
+    async def main():
+        other = asyncio.create_task(other_session())
+        try:
+            with pytest.raises(ParseRefused) as caught:
+                await parse_off_loop(time.sleep, 60, file_name="slow.csv", time_limit_s=2)
+            return str(caught.value), len(ticks)
+        finally:
+            other.cancel()
+
+    message, ticked = asyncio.run(main())
+    assert message == "slow.csv: reading it took longer than 2 s; refused"
+    assert ticked >= 3                                 # the loop turned while the worker was busy
+    assert _no_parse_workers_left()
+
+
+def test_a_parse_past_the_memory_limit_is_refused():
+    # common practice, no source: RLIMIT_AS makes the worker's own allocation fail (4 GiB asked, 256 MiB allowed)
+    with pytest.raises(ParseRefused, match=r"^huge\.csv: reading it needed more than 256 MB of memory; refused$"):
+        parse_in_worker(bytearray, 2**32, file_name="huge.csv", memory_bytes=256 * 2**20)
+    assert _no_parse_workers_left()
+
+
+def test_an_unexpected_failure_names_the_file():
+    with pytest.raises(ParseRefused, match=r"^odd\.csv: could not be read \(.*ZeroDivisionError"):
+        parse_in_worker(divmod, 1, 0, file_name="odd.csv")
+
+
+def test_the_parsers_own_keywords_reach_it():
+    # a parser's own ``name`` keyword is the parser's (the file name of the messages is ``file_name``)
+    with pytest.raises(ParseRefused, match=r"^bad\.toml, line 1"):
+        parse_in_worker(parse_document, "[scenario\n", name="bad.toml", file_name="bad.toml",
+                        refusals=(ScenarioFileError,))
