@@ -706,3 +706,28 @@ def test_a_device_or_pipe_is_read_only_up_to_the_limit():
     # read itself stops at the limit (common practice, no source)
     with pytest.raises(MeasuredFileError, match="larger than"):
         read_measured_path("/dev/zero", max_bytes=4096)
+
+
+def test_adsorption_then_desorption_each_in_rising_pressure():
+    # as papers print a loop: adsorption points, then the desorption points again from low pressure; the
+    # restart and the higher amounts (hysteresis) make it the desorption leg (common practice, no source)
+    x = [0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9]
+    ads = [1.0, 1.2, 1.4, 1.6, 1.9, 2.4, 5.0, 5.4, 5.5, 5.6]
+    des_x = [0.1, 0.3, 0.45, 0.5, 0.55, 0.7, 0.9]
+    des = [1.3, 1.7, 2.2, 4.9, 5.1, 5.45, 5.62]
+    result = read_measured("paper.csv", _text("p/p0,n (mmol/g)", x + des_x, ads + des).encode(), temperature_k=77.35)
+    up, down = result.runs
+    assert (up.leg, down.leg) == ("adsorption", "desorption")
+    assert up.pressure.tolist() == x and down.pressure.tolist() == des_x
+    notes = [str(p) for p in result.problems]
+    assert any("starts again at row 12" in n and "desorption leg" in n for n in notes)
+    assert not any("rises within the desorption leg" in n for n in notes)
+
+
+def test_two_rising_parts_without_hysteresis_stay_one_leg():
+    # a second pass that holds less than the first is no desorption leg: kept as before, with its note
+    x = [0.1, 0.2, 0.4, 0.8, 0.1, 0.2, 0.4, 0.8]
+    a = [1.0, 2.0, 3.0, 4.0, 0.5, 1.0, 1.5, 2.0]
+    result = read_measured("again.csv", _text("p/p0,n (mmol/g)", x, a).encode(), temperature_k=77.35)
+    assert [r.leg for r in result.runs] == ["adsorption"] * len(result.runs)
+    assert not any("starts again" in str(p) for p in result.problems)

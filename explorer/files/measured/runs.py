@@ -12,8 +12,10 @@ Rules (each skipped or doubtful cell becomes a problem naming row, column and va
 - legs: by the leg column, else by the direction of pressure. Rows up to the highest pressure are the
   adsorption leg (the turning point belongs to adsorption only, so no point counts twice); the rows after it
   are the desorption leg when there are at least two of them and the pressure falls more often than it
-  rises, otherwise they stay in the adsorption leg. Rows keep file order within a leg; pressures going the
-  other way are noted.
+  rises, otherwise they stay in the adsorption leg. A table that lists the adsorption points and then the
+  desorption points, each in rising pressure (as papers print them), is found by its one restart of the
+  pressure and the second part's higher amounts (hysteresis), and said so. Rows keep file order within a
+  leg; pressures going the other way are noted.
 """
 from __future__ import annotations
 
@@ -94,12 +96,48 @@ def _temperature_clusters(values: np.ndarray) -> np.ndarray:
     return labels
 
 
-def _direction_legs(pressure: np.ndarray) -> np.ndarray:
+def _restart_legs(pressure: np.ndarray, amount: np.ndarray) -> np.ndarray | None:
+    """Legs of a table that lists the adsorption points and then the desorption points, each in rising
+    pressure (as papers print them): the pressure restarts once — falls to below a fifth of its value, at
+    or near the top — and the second part holds more than the first at the pressures both cover (the
+    hysteresis a desorption leg shows). None when the table is not of that shape."""
+    finite = np.flatnonzero(np.isfinite(pressure))
+    if finite.size < 6:
+        return None
+    p = pressure[finite]
+    drops = np.flatnonzero(p[1:] < 0.2 * p[:-1])
+    if drops.size != 1:
+        return None
+    cut = int(drops[0]) + 1
+    first, second = finite[:cut], finite[cut:]
+    if first.size < 3 or second.size < 3 or p[cut - 1] < 0.5 * p.max():
+        return None
+    rising = lambda q: (np.diff(q) > 0).sum() >= 0.8 * (q.size - 1)                 # noqa: E731
+    if not (rising(pressure[first]) and rising(pressure[second])):
+        return None
+    order = np.argsort(pressure[first])
+    lo, hi = pressure[first].min(), pressure[first].max()
+    shared = second[(pressure[second] >= lo) & (pressure[second] <= hi)]
+    if shared.size < 2:
+        return None
+    below = np.interp(np.log(pressure[shared]), np.log(pressure[first][order]), amount[first][order])
+    if np.mean(amount[shared] >= below * (1 - 1e-3)) < 0.8:
+        return None
+    legs = np.zeros(pressure.size, int)
+    legs[finite[cut]:] = 1
+    return legs
+
+
+def _direction_legs(pressure: np.ndarray, amount: np.ndarray | None = None) -> np.ndarray:
     """0 (adsorption) or 1 (desorption) per point from the direction of pressure (see the module notes)."""
     legs = np.zeros(pressure.size, int)
     finite = np.flatnonzero(np.isfinite(pressure))
     if finite.size < 3:
         return legs
+    if amount is not None:
+        restarted = _restart_legs(pressure, amount)
+        if restarted is not None:
+            return restarted
     top = finite[np.argmax(pressure[finite])]
     after = np.diff(pressure[finite[finite >= top]])
     if after.size >= 2 and (after < 0).sum() > (after > 0).sum():
@@ -202,12 +240,20 @@ def build_runs(table: Table, used: ColumnMap, problems: Problems, *, temperature
             if t_high - t_low > 0.002 * t_run:
                 problems.add(f"temperature varies from {t_low:g} to {t_high:g} K within one run; named by its "
                              f"median, {t_run:.6g} K", row=int(rows[members[0]]), column=used.temperature)
-        legs = leg_code[members] if used.column("leg") else _direction_legs(pressure[members])
+        legs = leg_code[members] if used.column("leg") else _direction_legs(pressure[members], amount[members])
+        if not used.column("leg") and _restart_legs(pressure[members], amount[members]) is not None:
+            start = members[legs == 1][0]
+            problems.add(f"the pressure starts again at row {int(rows[start])} and the points from there hold "
+                         "more than those before at equal pressure: read as the desorption leg, listed in rising "
+                         "pressure (add a leg column to say otherwise)", row=int(rows[start]), column=p_col.name,
+                         value=p_text[start])
         for code, leg in enumerate(LEGS):
             part = members[legs == code]
             if part.size == 0:
                 continue
-            _note_direction(problems, leg, pressure[part], rows[part], p_text[part], p_col.name)
+            if not (leg == "desorption" and not used.column("leg")
+                    and _restart_legs(pressure[members], amount[members]) is not None):
+                _note_direction(problems, leg, pressure[part], rows[part], p_text[part], p_col.name)
             no_p = part[~np.isfinite(pressure[part])]
             zero = no_p[zero_pressure[no_p]]
             if no_p.size > zero.size:
