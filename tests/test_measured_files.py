@@ -731,3 +731,27 @@ def test_two_rising_parts_without_hysteresis_stay_one_leg():
     result = read_measured("again.csv", _text("p/p0,n (mmol/g)", x, a).encode(), temperature_k=77.35)
     assert [r.leg for r in result.runs] == ["adsorption"] * len(result.runs)
     assert not any("starts again" in str(p) for p in result.problems)
+
+
+@pytest.mark.parametrize("header", ["# P/P0 nsorb [mmol/g]", "% p/p0, n (mmol/g)"])
+def test_a_commented_header_line_names_the_columns(header):
+    # digitised and exported data often put the column names in a comment line (common practice, no source)
+    delim = "," if "," in header else " "
+    lines = [f"# digitised for a test", header] + [f"{x}{delim}{y}" for x, y in ((0.1, 1.0), (0.2, 1.5), (0.3, 2.0))]
+    result = read_measured("commented.txt", ("\n".join(lines) + "\n").encode(), temperature_k=77.35)
+    run = _one_run(result)
+    assert (run.pressure_unit, run.amount_unit) == ("p/p0", "mmol/g")
+    assert run.pressure.tolist() == [0.1, 0.2, 0.3]
+    assert any("read from the comment line 2" in str(p) for p in result.problems)
+
+
+def test_a_comment_that_is_no_header_is_left_alone():
+    text = "# measured on a sunny day\n0.1,1.0\n0.2,1.5\n0.3,2.0\n"
+    result = read_measured("plain.csv", text.encode(), temperature_k=77.35)
+    assert result.columns == ("column 1", "column 2")
+
+
+def test_a_comment_with_as_many_words_but_no_unit_is_no_header():
+    text = "# sample A, batch 3\n0.1,1.0\n0.2,1.5\n0.3,2.0\n"
+    result = read_measured("batch.csv", text.encode(), temperature_k=77.35)
+    assert result.columns == ("column 1", "column 2")

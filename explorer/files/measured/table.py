@@ -208,6 +208,34 @@ def _bracket_words(words: list[str]) -> list[str]:
     return out
 
 
+def _header_from_comment(layout, lines: list[str], first_data: int, delim: str, comma: bool,
+                         problems: Problems) -> None:
+    """A table without a header row whose last comment line above the data names one field per column
+    ("# P/P0 nsorb [mmol/g]", as digitised and exported data often are) takes its names from that line."""
+    above = [i for i in range(first_data) if lines[i].lstrip()[:1] in ("#", "%")]
+    if not above:
+        return
+    k = above[-1]
+    text = lines[k].strip().lstrip("#%").strip()
+    if not text or len(text) > LIMITS["max_cell_chars"] * layout.width:
+        return
+    if delim != " ":
+        fields = _trimmed(_split(text, delim, True))
+    else:
+        fields = [f for f in re.split(r"\t|\s{2,}", text) if f]
+        if len(fields) != layout.width:
+            fields = _bracket_words(text.split())
+    if len(fields) != layout.width or any(is_number(f, comma) or not f for f in fields):
+        return
+    from porefill.explorer.files.measured.headers import parse_unit_from_header
+
+    if not any(parse_unit_from_header(f)[1] for f in fields):      # "# sample A, batch 3" names no column
+        return
+    layout.names = fields
+    problems.add(f"the table has no header row; its column names were read from the comment line {k + 1}",
+                 row=k + 1, value=lines[k].strip())
+
+
 @dataclass
 class _Layout:
     start: int            # index in the sample of the first data row
@@ -313,6 +341,8 @@ def table_from_text(text: str, problems: Problems) -> Table:
         return wide if len(wide) == width else _bracket_words(line.split())
 
     layout = _layout(sample, comma, problems, sample_rows, header_split, fixed_width=delim == " ")
+    if layout.names is None and layout.start == 0:
+        _header_from_comment(layout, lines, data_at[0], delim, comma, problems)
     temperature = _temperature_in(comments + [(sample_rows[k], sample_lines[k]) for k in range(layout.header_from)],
                                   problems)
     body_at = data_at[layout.start:]
