@@ -137,3 +137,18 @@ def test_fit_text_warns_when_the_scatter_is_far_above_the_assumed_noise(data_fil
     out = capsys.readouterr().out
     line = next(x for x in out.splitlines() if "much larger than the assumed noise" in x)
     assert line.startswith("warning: ") and "assumed 0.002" in line and "standard errors are scaled" in line
+
+
+def test_points_above_p0_are_named_and_can_be_left_out(data_file, tmp_path, capsys, monkeypatch):
+    # common practice, no source: the refusal names the row and says how to go on; --drop-above-p0 fits the rest
+    _fast(monkeypatch)
+    text = data_file.read_text().rstrip("\n") + "\n120,30\n"
+    path = tmp_path / "with-high.csv"
+    path.write_text(text)
+    assert main(["fit", str(path), *BASE_ARGS, "--free", "pore-volume", "--json"]) == 2
+    err = capsys.readouterr().err
+    assert "above the model's p0" in err and "leave out the points above p0" in err
+    assert main(["fit", str(path), *BASE_ARGS, "--free", "pore-volume", "--json", "--drop-above-p0"]) == 0
+    captured = capsys.readouterr()
+    assert json.loads(captured.out)["statistics"]["points"] == 16
+    assert "1 point(s) above p0 left out" in captured.err

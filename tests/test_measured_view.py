@@ -161,3 +161,25 @@ def test_amounts_are_shown_in_the_files_own_unit():
     np.testing.assert_allclose(view._model_src["adsorption"].data["y"], iso.per_nm(branch), rtol=1e-12)
     view.model_arrived(BASE, iso)
     assert view.amount_display.value == "per nm"
+
+
+def test_points_above_p0_are_named_and_offered_to_drop(monkeypatch):
+    # common practice, no source: one point above p0 does not refuse the fit silently; it is named, and
+    # leaving it out is one tick away
+    runs = _runs()
+    p0 = fitted_isotherm(BASE).stage.saturation_pressure_pa
+    high = MeasuredRun("high", "high.csv", [*runs[0].pressure, 1.02 * p0 / 1e3], "kPa", [*runs[0].amount, 9.0],
+                       "mmol/g", "adsorption", 77.35)
+    view = MeasuredView(state=ExplorerState.from_scenario(BASE))
+    view._document_runs = (high,)
+    started = []
+    import porefill.explorer.jobs.fit_job as fit_job
+    monkeypatch.setattr(fit_job, "start_fit", lambda request: started.append(request) or SimpleNamespace())
+    monkeypatch.setattr("panel.state.add_periodic_callback", lambda *a, **k: None)
+    view._start_fit()
+    assert not started and "above the model's p₀" in view.fit_status.object
+    assert f"rows {high.rows[-1]}" in view.fit_status.object and "Leave out points above p₀" in view.fit_status.object
+    view.drop_high.value = True
+    view._start_fit()
+    assert len(started) == 1 and started[0].runs[0].amount.size == high.amount.size - 1
+    assert "left out" in view.fit_status.object

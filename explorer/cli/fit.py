@@ -71,6 +71,8 @@ def register(sub) -> None:
                         "term of their residual (measured − model), and beside it fit-parameters.csv (the fitted "
                         "parameters and statistics) and fit-model.csv (the fitted model curves)")
     p.add_argument("--force", action="store_true", help="replace existing --csv files")
+    p.add_argument("--drop-above-p0", action="store_true",
+                   help="leave out the points recorded above the model's p0 (each named on standard error)")
     add_distribution_options(p)
     p.set_defaults(func=_cmd_fit)
 
@@ -127,6 +129,19 @@ def _request(args, runs):
                           pressure_noise=args.pressure_noise, gauge_floor_pa=args.gauge_floor, seed=args.seed)
     except ValueError as exc:
         raise UsageError(str(exc)) from None
+
+
+def _dropped(args, runs, scenario, notes) -> list:
+    """The runs without their points above p0 when --drop-above-p0 is given (each run's rows told)."""
+    if not getattr(args, "drop_above_p0", False):
+        return runs
+    from porefill.physics.fitting.model import drop_above_p0
+
+    kept, said = drop_above_p0(runs, scenario.adsorbate, scenario.temperature_k)
+    notes.extend(said)
+    if not kept:
+        raise UsageError("every point lies above p0: nothing is left to fit")
+    return list(kept)
 
 
 def _number(v):
@@ -206,9 +221,12 @@ def _cmd_fit(args) -> int:
     if args.distribution:
         runs, notes = _read_runs(args)
         scenario, sample = _scenario_and_sample(args, runs)
+        runs = _dropped(args, runs, scenario, notes)
         return run_distribution(args, runs, notes, scenario, sample, csv_path)
     csv_places = None if csv_path is None else _csv_places(args, csv_path)
     runs, notes = _read_runs(args)
+    if args.drop_above_p0:
+        runs = _dropped(args, runs, _scenario_and_sample(args, runs)[0], notes)
     request = _request(args, runs)
     try:
         result = fit(request)

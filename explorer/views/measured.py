@@ -81,6 +81,8 @@ class MeasuredView(pn.viewable.Viewer):
         self.fit_button = pn.widgets.Button(name="Fit", button_type="primary", width=120,
                                             css_classes=["porefill-fit-button"])
         self.cancel_button = pn.widgets.Button(name="Cancel", width=100, disabled=True)
+        self.drop_high = pn.widgets.Checkbox(name="Leave out points above p₀", value=False,
+                                             css_classes=["porefill-drop-above-p0"])
         self.progress = pn.indicators.Progress(value=0, max=1000, width=300, visible=False)
         self.fit_status = pn.pane.HTML("", css_classes=["porefill-fit-status"], sizing_mode="stretch_width")
         self.fit_result = pn.pane.HTML("", css_classes=["porefill-fit-result"], sizing_mode="stretch_width")
@@ -469,8 +471,20 @@ class MeasuredView(pn.viewable.Viewer):
         if not runs:
             self.fit_status.object = "<p class='porefill-fit-error'>Drop a measured isotherm first.</p>"
             return
+        from porefill.physics.fitting.model import drop_above_p0
+
+        scenario = self.state.scenario()
+        kept, said = drop_above_p0(runs, scenario.adsorbate, scenario.temperature_k)
+        if said and not self.drop_high.value:
+            self.fit_status.object = ("<p class='porefill-fit-error'>Points above the model's p₀: "
+                                      + "; ".join(html.escape(t) for t in said).replace("left out", "recorded")
+                                      + ". Tick “Leave out points above p₀” to fit the rest.</p>")
+            return
+        if not kept:
+            self.fit_status.object = "<p class='porefill-fit-error'>Every point lies above p₀: nothing to fit.</p>"
+            return
         try:
-            request = FitRequest(scenario=self.state.scenario(), runs=tuple(runs), sample=self.sample(),
+            request = FitRequest(scenario=scenario, runs=tuple(kept), sample=self.sample(),
                                  free=tuple(self.free.value))
         except ValueError as exc:
             self.fit_status.object = f"<p class='porefill-fit-error'>{html.escape(str(exc))}</p>"
@@ -480,7 +494,8 @@ class MeasuredView(pn.viewable.Viewer):
         self._job = start_fit(request)
         self.fit_button.disabled, self.cancel_button.disabled = True, False
         self.progress.value, self.progress.visible = 0, True
-        self.fit_status.object = "<p>Starting the fit …</p>"
+        self.fit_status.object = "<p>Starting the fit …" + "".join(
+            f" {html.escape(t)}." for t in said) + "</p>"
         self._poller = pn.state.add_periodic_callback(self._poll, period=300)
 
     def _cancel_fit(self, *_):
@@ -606,7 +621,8 @@ class MeasuredView(pn.viewable.Viewer):
                              flex_wrap="wrap", sizing_mode="stretch_width")
         sample = pn.FlexBox(*self.sample_inputs.values(), flex_wrap="wrap", sizing_mode="stretch_width")
         fit = pn.Column(pn.pane.HTML("<b>Free parameters</b>"), self.free,
-                        pn.Row(self.fit_button, self.cancel_button, self.progress), self.fit_status,
+                        pn.Row(self.fit_button, self.cancel_button, self.progress), self.drop_high,
+                        self.fit_status,
                         self.fit_result, pn.Row(self.use_fit, self.download, self.download_parameters,
                                                 self.download_model, styles={"flex-wrap": "wrap"}),
                         css_classes=["porefill-fit"])

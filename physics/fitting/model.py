@@ -35,7 +35,7 @@ from porefill.physics.scenario import Scenario
 from porefill.physics.substances.units import AmountBasis, from_pascal
 from porefill.physics.substances.vapour_pressure import saturated_vapour_pressure
 
-__all__ = ["PER_GRAM_UNITS", "RunData", "RunCurve", "prepare_runs", "pressure_ranges", "predict", "residuals",
+__all__ = ["above_p0", "drop_above_p0", "PER_GRAM_UNITS", "RunData", "RunCurve", "prepare_runs", "pressure_ranges", "predict", "residuals",
            "compare_points", "solve_pore_volume", "estimate_pore_volume", "unit_factor", "simulated_run"]
 
 PER_GRAM_UNITS = ("mmol/g", "mol/g", "cm3(STP)/g") + DOSED_UNITS
@@ -83,6 +83,31 @@ def _brackets(pressure_pa: np.ndarray, amount: np.ndarray, top_pa: float, floor_
     return out
 
 
+def above_p0(run: MeasuredRun, adsorbate: str, temperature_k: float) -> np.ndarray:
+    """(n,) bool: the run's points recorded above the model's p0 of ``adsorbate`` at the run's temperature
+    (or ``temperature_k`` when the run does not say)."""
+    t = run.temperature_k if run.temperature_k is not None else temperature_k
+    p0 = saturated_vapour_pressure(adsorbate, t)
+    p = run.pressure_pa(p0)
+    return np.isfinite(p) & (p > p0 * (1.0 + 1e-9))
+
+
+def drop_above_p0(runs, adsorbate: str, temperature_k: float) -> tuple[tuple, list[str]]:
+    """The runs without their points above p0, and one sentence per run that lost any (naming its rows); a
+    run left with no point is dropped whole."""
+    out, said = [], []
+    for run in runs:
+        high = above_p0(run, adsorbate, temperature_k)
+        if not high.any():
+            out.append(run)
+            continue
+        rows = ", ".join(str(int(r)) for r in run.rows[high][:8]) + (" …" if high.sum() > 8 else "")
+        said.append(f"{run.source}: run {run.name!r}: {int(high.sum())} point(s) above p0 left out (rows {rows})")
+        if (~high).any():
+            out.append(replace(run, pressure=run.pressure[~high], amount=run.amount[~high], rows=run.rows[~high]))
+    return tuple(out), said
+
+
 def prepare_runs(runs, *, scenario: Scenario, sample: Sample, branches: dict, noise_relative: float,
                  noise_floor: float, gauge_floor_pa: float | None) -> tuple[RunData, ...]:
     """Each run's pressures in Pa, noise scale and brackets; ValueError naming the run and row when a run
@@ -97,7 +122,9 @@ def prepare_runs(runs, *, scenario: Scenario, sample: Sample, branches: dict, no
         if high.any():
             k = int(np.flatnonzero(high)[0])
             raise ValueError(f"{run.source}: run {run.name!r}, row {run.rows[k]}: pressure {p[k]:.6g} Pa is above "
-                             f"the model's p0 = {p0:.6g} Pa of {scenario.adsorbate} at {t:g} K")
+                             f"the model's p0 = {p0:.6g} Pa of {scenario.adsorbate} at {t:g} K"
+                             + (f" ({int(high.sum())} points in all)" if high.sum() > 1 else "")
+                             + "; leave out the points above p0 to fit the rest")
         if not known.any() and gauge_floor_pa is None:
             raise ValueError(f"{run.source}: run {run.name!r} records no pressure at all; give the lowest "
                              "pressure the gauge reads (gauge floor) to compare it at equal coverage")
