@@ -41,7 +41,8 @@ DEFAULT_POINTS = 300
 # the parameters a fit may free (porefill.physics.fitting.params), and the amount units a measured run may
 # be in (porefill.physics.fitting.measured)
 FREE_PARAMETERS = ("wall-strength", "size", "wall", "a0", "pore-volume")
-MEASURED_AMOUNT_UNITS = ("mmol/g", "mol/g", "cm3(STP)/g", "per nm2 wall", "per nm", "mol", "cm3(STP)")
+MEASURED_AMOUNT_UNITS = ("mmol/g", "mol/g", "cm3(STP)/g", "mmol/m2", "umol/m2", "per nm2 wall", "per nm", "mol",
+                         "cm3(STP)")
 
 # how the fluid bond ε_b is calibrated (porefill.physics.lattice_gas.bond)
 BOND_RULES = ("vapour-pressure", "critical-temperature", "binding-energy")

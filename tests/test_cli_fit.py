@@ -152,3 +152,20 @@ def test_points_above_p0_are_named_and_can_be_left_out(data_file, tmp_path, caps
     captured = capsys.readouterr()
     assert json.loads(captured.out)["statistics"]["points"] == 16
     assert "1 point(s) above p0 left out" in captured.err
+
+
+def test_amounts_per_square_metre_need_and_take_the_surface_area(data_file, tmp_path, capsys, monkeypatch):
+    # the same data per m² of a 400 m²/g sample (mmol/g ÷ 400 × 1000 = µmol/m²) fit to the same pore volume
+    _fast(monkeypatch)
+    lines = data_file.read_text().splitlines()
+    rows = [line.split(",") for line in lines[2:]]
+    path = tmp_path / "per-area.csv"
+    path.write_text("pressure (kPa),amount (umol/m2)\n"
+                    + "".join(f"{p},{float(a) / 400 * 1000:.10g}\n" for p, a in rows))
+    assert main(["fit", str(path), *BASE_ARGS, "--free", "pore-volume", "--json"]) == 2
+    assert "specific surface area" in capsys.readouterr().err
+    assert main(["fit", str(path), *BASE_ARGS, "--free", "pore-volume", "--json", "--surface-area", "400"]) == 0
+    per_area = json.loads(capsys.readouterr().out)["parameters"]["pore-volume"]["value"]
+    assert main(["fit", str(data_file), *BASE_ARGS, "--free", "pore-volume", "--json"]) == 0
+    per_gram = json.loads(capsys.readouterr().out)["parameters"]["pore-volume"]["value"]
+    assert per_area == pytest.approx(per_gram, rel=1e-6)

@@ -755,3 +755,9 @@ def test_a_comment_with_as_many_words_but_no_unit_is_no_header():
     text = "# sample A, batch 3\n0.1,1.0\n0.2,1.5\n0.3,2.0\n"
     result = read_measured("batch.csv", text.encode(), temperature_k=77.35)
     assert result.columns == ("column 1", "column 2")
+
+
+def test_amounts_per_square_metre_are_read():
+    text = "p/p0,n (µmol/m²)\n0.1,1.0\n0.2,1.5\n0.3,2.0\n"
+    run = _one_run(read_measured("area.csv", text.encode(), temperature_k=77.35))
+    assert run.amount_unit == "umol/m2"

@@ -77,3 +77,21 @@ def test_particle_word():
     # nitrogen and hydrogen are diatomic molecules; helium, neon, argon monatomic (chemistry)
     assert units.particle_word("nitrogen") == "molecules" and units.particle_word("hydrogen") == "molecules"
     assert units.particle_word("helium-4") == "atoms" and units.particle_word("argon") == "atoms"
+
+
+def test_amounts_per_square_metre_of_sample_surface():
+    # per m² of the sample (BET) area × the specific area = per gram: 1 µmol/m² × 500 m²/g = 0.5 mmol/g
+    # (SI prefixes; common practice, no source)
+    from porefill.physics.fitting.measured import MeasuredRun, Sample, amount_to_model
+
+    basis = units.AmountBasis.of(HexagonPore(15.0, 8.0))
+    sample = Sample(pore_volume_cm3_g=0.6, surface_area_m2_g=500.0)
+    per_area = MeasuredRun("a", "a.csv", [1.0, 2.0], "Pa", [1.0, 3.0], "umol/m2")
+    per_gram = MeasuredRun("g", "g.csv", [1.0, 2.0], "Pa", [0.5, 1.5], "mmol/g")
+    np.testing.assert_allclose(amount_to_model(per_area, basis, sample), amount_to_model(per_gram, basis, sample),
+                               rtol=1e-14)
+    milli = MeasuredRun("m", "m.csv", [1.0], "Pa", [1e-3], "mmol/m2")
+    np.testing.assert_allclose(amount_to_model(milli, basis, sample), amount_to_model(per_area, basis, sample)[:1],
+                               rtol=1e-14)
+    with pytest.raises(ValueError, match="need the sample's specific surface area"):
+        amount_to_model(per_area, basis, Sample(pore_volume_cm3_g=0.6))

@@ -48,6 +48,8 @@ def register(sub) -> None:
     p.add_argument("--bounds", action="append", metavar="NAME=LOW:HIGH",
                    help="bounds of a free parameter in its unit (e.g. size=10:20); repeatable or comma-separated")
     p.add_argument("--mass", type=float, metavar="g", help="sample mass, g (needed for dosed amounts)")
+    p.add_argument("--surface-area", type=float, metavar="m²/g",
+                   help="specific surface area of the sample, m²/g (needed for amounts per m², e.g. µmol/m²)")
     p.add_argument("--d100", type=float, metavar="Å",
                    help="X-ray (100) spacing, Å: fixes a0 = 2·d100/√3 and ties the hexagon's wall to its side")
     p.add_argument("--pressure-column", help="column of pressures (default: guessed from the header)")
@@ -113,7 +115,8 @@ def _scenario_and_sample(args, runs):
         args.temperature = temps[0]
     scenario = model_scenario(args)
     try:
-        return scenario, Sample(mass_g=args.mass, pore_volume_cm3_g=args.pore_volume, d100_angstrom=args.d100)
+        return scenario, Sample(mass_g=args.mass, pore_volume_cm3_g=args.pore_volume, d100_angstrom=args.d100,
+                                surface_area_m2_g=args.surface_area)
     except ValueError as exc:
         raise UsageError(str(exc)) from None
 

@@ -52,11 +52,11 @@ def display_scale(iso, unit: str, sample: Sample) -> float:
     volume, dosed amounts through its mass too). ValueError names the missing sample value."""
     if unit == PER_NM:
         return 1.0
-    from porefill.physics.fitting.model import unit_factor
+    from porefill.physics.fitting.model import PER_GRAM_UNITS, unit_factor
 
     probe = MeasuredRun("unit", "unit", [np.nan], "Pa", [1.0], unit)
     volume = sample.pore_volume_cm3_g
-    if unit in ("mmol/g", "mol/g", "cm3(STP)/g", "mol", "cm3(STP)") and volume is None:
+    if unit in PER_GRAM_UNITS and volume is None:
         raise ValueError(f"amounts in {unit} need the sample's pore volume (cm³/g)")
     per_angstrom = unit_factor(probe, iso.stage.geometry.pore, sample, volume or 1.0)
     return float(per_angstrom) / 10.0          # per nm = 10 × per Å

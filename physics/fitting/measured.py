@@ -7,7 +7,9 @@ that turns a measured amount into the model's amount per Å of one pore.
 Amount units a lab writes (``MEASURED_AMOUNT_UNITS``):
 - specific amounts: mmol/g, mol/g, cm³(STP)/g (STP as in `porefill.physics.substances.units`: 273.15 K, 101.325 kPa);
 - amounts per pore: molecules per nm² of wall, per nm of pore length (slit: per nm²);
-- dosed amounts: mol, cm³(STP) — divided by the sample mass into mol/g.
+- dosed amounts: mol, cm³(STP) — divided by the sample mass into mol/g;
+- amounts per m² of the sample's surface (as papers normalise by the BET area): mmol/m², µmol/m² —
+  multiplied by the sample's specific surface area into mmol/g.
 Pressures: any of `porefill.physics.substances.units.PRESSURE_UNITS`; p/p0 needs the model's p0 at the run's temperature. NaN
 marks a point with an amount but no usable pressure (a dosed point below what the gauge reads): it is kept,
 and compared with the model at equal coverage.
@@ -24,9 +26,11 @@ import numpy as np
 from porefill.physics.substances.units import PRESSURE_UNITS, AmountBasis, STP_CM3_PER_MMOL, to_atoms_per_angstrom, to_pascal
 from porefill.physics.choices import LEGS, MEASURED_AMOUNT_UNITS
 
-__all__ = ["MEASURED_AMOUNT_UNITS", "LEGS", "Sample", "MeasuredRun", "amount_to_model"]
+__all__ = ["MEASURED_AMOUNT_UNITS", "LEGS", "Sample", "MeasuredRun", "amount_to_model", "PER_AREA_UNITS", "DOSED_UNITS"]
 
 DOSED_UNITS = ("mol", "cm3(STP)")
+PER_AREA_UNITS = ("mmol/m2", "umol/m2")
+_PER_AREA_MMOL = {"mmol/m2": 1.0, "umol/m2": 1e-3}       # mmol per m² in each
 SOURCES = ("typed", "fitted", "default", "file")
 
 
@@ -178,6 +182,10 @@ def amount_to_model(run: MeasuredRun, basis: AmountBasis, sample: Sample, *, sca
     Raises ValueError naming the missing sample value.
     """
     unit, values = run.amount_unit, np.asarray(run.amount, float)
+    if unit in PER_AREA_UNITS:
+        if sample.surface_area_m2_g is None:
+            raise ValueError(f"{run.source}: amounts in {unit} need the sample's specific surface area (m²/g)")
+        values, unit = values * _PER_AREA_MMOL[unit] * sample.surface_area_m2_g, "mmol/g"
     if unit in DOSED_UNITS:
         if sample.mass_g is None:
             raise ValueError(f"{run.source}: dosed amounts in {unit} need the sample mass (g)")

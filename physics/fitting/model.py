@@ -30,7 +30,7 @@ import numpy as np
 
 from porefill.physics.lattice_gas.adsorption import compute_isotherm
 from porefill.physics.lattice_gas.jumps import branch_curve
-from porefill.physics.fitting.measured import DOSED_UNITS, MeasuredRun, Sample, amount_to_model
+from porefill.physics.fitting.measured import DOSED_UNITS, PER_AREA_UNITS, MeasuredRun, Sample, amount_to_model
 from porefill.physics.scenario import Scenario
 from porefill.physics.substances.units import AmountBasis, from_pascal
 from porefill.physics.substances.vapour_pressure import saturated_vapour_pressure
@@ -38,7 +38,7 @@ from porefill.physics.substances.vapour_pressure import saturated_vapour_pressur
 __all__ = ["above_p0", "drop_above_p0", "PER_GRAM_UNITS", "RunData", "RunCurve", "prepare_runs", "pressure_ranges", "predict", "residuals",
            "compare_points", "solve_pore_volume", "estimate_pore_volume", "unit_factor", "simulated_run"]
 
-PER_GRAM_UNITS = ("mmol/g", "mol/g", "cm3(STP)/g") + DOSED_UNITS
+PER_GRAM_UNITS = ("mmol/g", "mol/g", "cm3(STP)/g") + PER_AREA_UNITS + DOSED_UNITS
 
 
 def unit_factor(run: MeasuredRun, pore, sample: Sample, pore_volume_cm3_g: float = 1.0) -> float:

@@ -30,6 +30,7 @@ _PRESSURE_KEYS = {
 _AMOUNT_KEYS = {
     "mmol/g": "mmol/g", "mol/g": "mol/g", "cm3/g+stp": "cm3(STP)/g", "cm3+stp": "cm3(STP)",
     "/nm2": "per nm2 wall", "/nm": "per nm", "mol": "mol",
+    "mmol/m2": "mmol/m2", "μmol/m2": "umol/m2", "umol/m2": "umol/m2", "µmol/m2": "umol/m2",
 }
 _TEMPERATURE_KEYS = {"k": "K", "kelvin": "K"}
 
@@ -55,6 +56,7 @@ def _unit_key(unit: str) -> str:
     key = re.sub(r"\b(cc|ml|cm3|cm\s*3)\b", "cm3", key)
     key = re.sub(r"[\s.\[\]\(\)]+", "", key)
     key = key.replace("g-1", "/g").replace("nm-2", "/nm2").replace("nm-1", "/nm").replace("1/", "/")
+    key = re.sub(r"(?<![n/])m-2", "/m2", key)
     key = key.replace("//", "/").replace("gram", "g")
     if stp and key in ("cm3/g", "cm3"):
         key += "+stp"
