@@ -169,3 +169,19 @@ def test_amounts_per_square_metre_need_and_take_the_surface_area(data_file, tmp_
     assert main(["fit", str(data_file), *BASE_ARGS, "--free", "pore-volume", "--json"]) == 0
     per_gram = json.loads(capsys.readouterr().out)["parameters"]["pore-volume"]["value"]
     assert per_area == pytest.approx(per_gram, rel=1e-6)
+
+
+def test_the_readmes_example_fit_finds_the_size_its_file_was_made_with(capsys, monkeypatch):
+    # the invented file's first lines say it was made at side 17.3 Å and 0.62 cm³/g (scenarios/make_invented_data.py)
+    import shlex
+
+    root = Path(__file__).resolve().parents[1]
+    line = next(t for t in (root / "README.md").read_text().splitlines()
+                if t.startswith(".venv/bin/porefill fit scenarios/invented-nitrogen-77K.csv") and "--distribution" not in t)
+    args = shlex.split(line.split("#")[0])[1:]
+    args[1] = str(root / args[1])
+    monkeypatch.chdir(root)
+    assert main(args) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["parameters"]["size"]["value"] == pytest.approx(17.3, abs=0.1)
+    assert data["parameters"]["pore-volume"]["value"] == pytest.approx(0.62, rel=0.01)
