@@ -38,7 +38,7 @@ __all__ = ["SweepSpec", "parse_range", "sweep_point", "fill_class", "step_fill_c
            "MAX_SWEEP_PORES"]
 
 MAX_SWEEP_PORES = 5000         # pores in one sweep: a few hours on a laptop with the classical model
-FILL_CLASSES = ("corner", "face", "ring", "centre")
+FILL_CLASSES = ("corner", "face", "wall", "ring", "centre")
 _NUMBER = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"
 
 
@@ -172,10 +172,10 @@ class SweepSpec:
 
 # what fills -----------------------------------------------------------------------------------------
 def fill_class(label: str) -> str:
-    """The class of a site label: 'corner', 'face' (a polygon's face, or the wall of a cylinder or slit),
-    'ring' (any inner ring) or 'centre'."""
+    """The class of a site label: 'corner', 'face' (a polygon's face), 'wall' (the wall of a cylinder or
+    slit: the word the step table uses for them), 'ring' (any inner ring) or 'centre'."""
     if label in ("face", "wall"):
-        return "face"
+        return label
     if label.startswith("ring"):
         return "ring"
     if label in ("corner", "centre"):

@@ -100,7 +100,7 @@ def test_wall_from_d100_matches_the_array_spacing():
 
 
 # what fills ---------------------------------------------------------------------------------------
-@pytest.mark.parametrize("label, cls", [("corner", "corner"), ("face", "face"), ("wall", "face"),
+@pytest.mark.parametrize("label, cls", [("corner", "corner"), ("face", "face"), ("wall", "wall"),
                                         ("ring 1", "ring"), ("ring 12", "ring"), ("centre", "centre")])
 def test_fill_class(label, cls):
     assert fill_class(label) == cls

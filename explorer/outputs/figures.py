@@ -19,10 +19,14 @@ from matplotlib.figure import Figure
 __all__ = ["FIGURES", "SLIDE_WIDTH_PX", "render", "figure_job", "potential_map_figure", "line_cuts_figure",
            "isotherm_figure", "compressibility_figure", "occupancy_figure", "quantum_density_figure",
            "site_models_figure", "measured_figure", "sizing_figure", "measured_points", "literal",
-           "distribution_figure", "caption"]
+           "distribution_figure", "caption", "SITE_FAMILY_COLOURS"]
 
 SLIDE_WIDTH_PX = 1920
 ADS, DES, EQ, STEP = "#1b6ca8", "#d1495b", "#333333", "#f4a259"
+# one colour per site family, on the page (Sizing tab) and in every figure and report; the wall of a cylinder
+# or slit is drawn as a polygon's face is
+SITE_FAMILY_COLOURS = {"corner": "#d1495b", "face": "#1b6ca8", "wall": "#1b6ca8", "ring": "#2e8540",
+                       "centre": "#e08a00", "spread": "#777777"}
 FIGURES = {                        # name -> what the dashboard's menu says
     "potential-map": "Wall potential map",
     "line-cuts": "Line cuts of the wall potential",
@@ -250,7 +254,7 @@ def measured_figure(iso, runs, sample, *, fitted=None) -> Figure:
 def sizing_figure(points: list[dict], *, window_pa: tuple[float, float] | None = None) -> Figure:
     """Pressure of every layer step against pore size (`porefill.physics.sweep.sweep_point` results), coloured by
     what fills; the apparatus's pressure window shaded when given."""
-    colours = {"corner": "#1b6ca8", "face": "#d1495b", "ring": "#2e8540", "centre": "#f4a259"}
+    colours = SITE_FAMILY_COLOURS
     fig = _figure()
     ax = fig.add_subplot()
     seen = set()

@@ -29,11 +29,12 @@ from porefill.physics.sweep import TARGET_KINDS, SweepSpec, Target, edge_words, 
 from porefill.explorer.jobs.compute import on_session, short_error
 from porefill.explorer.views.distribution import BAND_COLOURS
 from porefill.explorer.views.state import ExplorerState, describe
+from porefill.explorer.outputs.figures import SITE_FAMILY_COLOURS
 from porefill.explorer.jobs.sweep_runner import SWEEP_CACHE, ClusterError, SweepRunner, estimate_seconds
 
 __all__ = ["SizingView", "FILL_COLOURS"]
 
-FILL_COLOURS = {"corner": "#d1495b", "face": "#1b6ca8", "ring": "#2e8540", "centre": "#e08a00", "spread": "#777777"}
+FILL_COLOURS = SITE_FAMILY_COLOURS       # porefill.explorer.outputs.figures: the same everywhere
 MODES = {"side length": "size", "temperature (fixed side)": "temperature", "side length at a known d100": "d100"}
 _NO_TARGET = "(no target)"
 
