@@ -8,7 +8,8 @@ from __future__ import annotations
 
 __all__ = ["SHAPES", "SIZE_NAMES", "size_label", "PORE_ENDS", "DEFAULT_PORE_ENDS", "SITE_MODELS", "LEGS",
            "BRANCHES", "AXES", "ISOTHERM_AXES", "AXIS_LABELS", "TABS", "DEFAULT_POINTS", "FREE_PARAMETERS",
-           "MEASURED_AMOUNT_UNITS", "TARGET_KINDS", "WINDOW_UNITS", "BOND_RULES"]
+           "MEASURED_AMOUNT_UNITS", "TARGET_KINDS", "WINDOW_UNITS", "BOND_RULES", "PLATING_GASES",
+           "MAX_PLATING_LAYERS"]
 
 # pore cross-sections, and what the one size number of each means
 SHAPES = ("hexagon", "cylinder", "slit")
@@ -43,6 +44,10 @@ DEFAULT_POINTS = 300
 FREE_PARAMETERS = ("wall-strength", "size", "wall", "a0", "pore-volume")
 MEASURED_AMOUNT_UNITS = ("mmol/g", "mol/g", "cm3(STP)/g", "mmol/m2", "umol/m2", "per nm2 wall", "per nm", "mol",
                          "cm3(STP)")
+
+# gases whose adsorbed layers may cover the wall first (porefill.physics.pore.plating), and how many layers
+PLATING_GASES = ("argon", "krypton", "neon", "hydrogen")
+MAX_PLATING_LAYERS = 3
 
 # how the fluid bond ε_b is calibrated (porefill.physics.lattice_gas.bond)
 BOND_RULES = ("vapour-pressure", "critical-temperature", "binding-energy")

@@ -16,7 +16,8 @@ from porefill.physics.sites.site_models import SITE_MODEL_NAMES, default_site_mo
 __all__ = ["Scenario"]
 
 _GEOMETRY_FIELDS = ("shape", "size_angstrom", "wall_angstrom", "adsorbate", "solid", "pair_epsilon_k",
-                    "pair_sigma_angstrom", "solid_density_per_a3", "lattice_spacing_angstrom")
+                    "pair_sigma_angstrom", "solid_density_per_a3", "lattice_spacing_angstrom", "plating",
+                    "plating_layers")
 
 
 @dataclass(frozen=True)
@@ -30,7 +31,8 @@ class Scenario:
     `porefill.physics.lattice_gas.bond`), the site model (how site free energies are computed; None: the adsorbate's default,
     `site_model_used`) and, for amounts per gram, the sample's specific pore volume. ``pore_ends`` says
     which branch a measurement follows (`porefill.physics.lattice_gas.branches`: "open" at both ends, the default; "closed-end";
-    "infinite").
+    "infinite"). ``plating`` names a gas whose ``plating_layers`` adsorbed layers (default 1) cover the wall
+    before the adsorbate comes in (`porefill.physics.pore.plating`); None: the bare wall.
     """
 
     shape: str = "hexagon"
@@ -48,6 +50,8 @@ class Scenario:
     site_model: str | None = None
     pore_volume_cm3_g: float | None = None
     pore_ends: str = "open"
+    plating: str | None = None
+    plating_layers: int | None = None
     title: str = ""
     notes: str = ""
 
@@ -75,6 +79,8 @@ class Scenario:
         if self.bond_calibration is not None and self.bond_calibration not in BOND_RULES:
             raise ValueError(f"bond_calibration must be one of {', '.join(BOND_RULES)}; "
                              f"got {self.bond_calibration!r}")
+        if self.plating_layers is not None and self.plating is None:
+            raise ValueError("plating_layers needs a plating gas (plating = \"argon\", ...)")
         pair = self.pair()
         check_geometry(self.shape, self.size_angstrom, self.effective_wall_angstrom,
                        solid_density_per_a3=pair.density_per_a3, spacing_angstrom=self.lattice_spacing_angstrom)
@@ -95,9 +101,15 @@ class Scenario:
         return make_pore(self.shape, self.size_angstrom, self.effective_wall_angstrom)
 
     def pair(self) -> PairParameters:
-        return pair_parameters(self.adsorbate, self.solid, epsilon_k=self.pair_epsilon_k,
+        pair = pair_parameters(self.adsorbate, self.solid, epsilon_k=self.pair_epsilon_k,
                                sigma_angstrom=self.pair_sigma_angstrom,
                                density_per_a3=self.solid_density_per_a3)
+        if self.plating is None:
+            return pair
+        from dataclasses import replace
+
+        from porefill.physics.pore.plating import make_plating
+        return replace(pair, plating=make_plating(self.plating, self.plating_layers or 1, self.adsorbate, self.solid))
 
     def geometry_key(self) -> tuple:
         """The inputs the temperature-independent stage depends on (hashable): pore, pair, lattice."""

@@ -47,6 +47,11 @@ def add_pore_options(p: argparse.ArgumentParser, *, scenario_positional: bool = 
     else:
         p.add_argument("--scenario", metavar="SCENARIO", help=help_text)
     p.add_argument("--pore", choices=SHAPES, default=None, help="pore shape (default hexagon)")
+    from porefill.physics.choices import MAX_PLATING_LAYERS, PLATING_GASES
+    p.add_argument("--plating", choices=PLATING_GASES, default=None,
+                   help="a gas whose adsorbed layers cover the wall first (pre-plated pore; default: the bare wall)")
+    p.add_argument("--plating-layers", type=int, default=None, metavar="N",
+                   help=f"plating layers, 1 to {MAX_PLATING_LAYERS} (default 1)")
     p.add_argument("--size", type=float, default=None,
                    help="hexagon side length (centre to corner), cylinder radius or slit width, Å (default 15)")
     p.add_argument("--wall", type=float, default=None,
@@ -84,6 +89,7 @@ def scenario_from_args(args, **extra):
     base = base_scenario(args)
     fields = {} if base is not None else dict(CLI_DEFAULTS)
     given = {"shape": args.pore, "size_angstrom": args.size, "wall_angstrom": args.wall,
+             "plating": getattr(args, "plating", None), "plating_layers": getattr(args, "plating_layers", None),
              "adsorbate": args.adsorbate, "solid": args.solid, "pair_epsilon_k": args.pair_epsilon,
              "pair_sigma_angstrom": args.pair_sigma, "solid_density_per_a3": args.solid_density, **extra}
     fields.update({k: v for k, v in given.items() if v is not None})

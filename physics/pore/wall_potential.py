@@ -390,6 +390,10 @@ def wall_potential(x, y, *, pore: Pore, pair: PairParameters) -> np.ndarray:
     out = np.full(x.shape, np.inf)
     inside = np.asarray(pore.contains(x, y), bool)
     out[inside] = pore._potential_inside(x[inside], y[inside], pair)    # each shape knows its kernel
+    if pair.plating is not None:          # layers of another gas on the wall (porefill.physics.pore.plating)
+        from porefill.physics.pore.plating import plating_potential
+
+        out[inside] += plating_potential(x[inside], y[inside], pore, pair.plating)
     return out
 
 

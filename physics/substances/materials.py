@@ -88,6 +88,7 @@ class PairParameters:
     sigma_angstrom: float
     density_per_a3: float
     origin: str = "user"
+    plating: object = None             # porefill.physics.pore.plating.Plating: layers of another gas on the wall
 
     def __post_init__(self) -> None:
         for attr in ("epsilon_k", "sigma_angstrom", "density_per_a3"):
@@ -96,8 +97,11 @@ class PairParameters:
                 raise ValueError(f"pair {attr} must be a positive finite number, got {value!r}")
 
     def to_dict(self) -> dict:
-        return {"epsilon_k": self.epsilon_k, "sigma_angstrom": self.sigma_angstrom,
-                "density_per_a3": self.density_per_a3, "origin": self.origin}
+        out = {"epsilon_k": self.epsilon_k, "sigma_angstrom": self.sigma_angstrom,
+               "density_per_a3": self.density_per_a3, "origin": self.origin}
+        if self.plating is not None:
+            out["plating"] = self.plating.to_dict()
+        return out
 
 
 def number_density_from_mass_density(mass_density_g_cm3: float, molar_mass_g_mol: float,
