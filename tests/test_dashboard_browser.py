@@ -417,3 +417,19 @@ def test_the_site_model_control_switches_the_main_view(page):
     assert "changed on the page" in page.locator(".porefill-header h1").first.inner_text()
     assert "site_model=quantum" in page.url
     assert page.console_errors == []
+
+
+def test_wall_plating_is_chosen_on_the_main_view(page):
+    # an argon layer on the wall moves the deepest well inwards by the layer's distance (porefill.physics.pore.plating)
+    page.locator(".porefill-map canvas").first.wait_for(timeout=30_000)
+    page.wait_for_timeout(1000)
+    before = readout_text(page)
+    page.locator(".porefill-plating select").first.select_option("argon")
+    wait_for_readout_change(page, before)
+    page.wait_for_timeout(800)
+    after = readout_text(page)
+    r_before = float(re.search(r"\(([\d.]+) Å from the centre", before).group(1))
+    r_after = float(re.search(r"\(([\d.]+) Å from the centre", after).group(1))
+    assert r_after < r_before - 2.0
+    assert "plating=argon" in page.url
+    assert page.console_errors == []

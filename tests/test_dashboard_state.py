@@ -11,7 +11,8 @@ def test_every_scenario_field_survives_the_page():
     full = Scenario(shape="hexagon", size_angstrom=17.5, wall_angstrom=9.0, adsorbate="helium-4", solid="silica",
                     temperature_k=1.8, pair_epsilon_k=30.0, pair_sigma_angstrom=2.95, solid_density_per_a3=0.045,
                     lattice_spacing_angstrom=3.6, bond_energy_k=2.5, bond_calibration="critical-temperature",
-                    site_model="classical", pore_volume_cm3_g=0.75, title="a <b>title</b>", notes="some notes")
+                    site_model="classical", pore_volume_cm3_g=0.75, plating="argon", plating_layers=2,
+                    title="a <b>title</b>", notes="some notes")
     assert all(getattr(full, f.name) is not None for f in dataclasses.fields(Scenario))   # every field set
     state = ExplorerState.from_scenario(full)
     assert state.scenario() == full
@@ -67,3 +68,21 @@ def test_the_site_model_is_a_control_that_round_trips():
     assert state.site_model == "quantum"
     named = ExplorerState.from_scenario(plain.replace(site_model="classical"))
     assert named.site_model == "classical" and named.scenario().site_model == "classical"
+
+
+def test_wall_plating_on_the_page_round_trips_with_the_scenario():
+    # the plating controls hold a scenario's plating, and a bare one stays without the lines (common practice)
+    from porefill.explorer.views.state import ExplorerState
+    from porefill.physics.scenario import Scenario
+
+    plated = Scenario(shape="hexagon", size_angstrom=18.0, wall_angstrom=8.0, plating="argon", plating_layers=2)
+    state = ExplorerState.from_scenario(plated)
+    assert (state.plating, state.plating_layers) == ("argon", 2)
+    assert state.scenario().model_key() == plated.model_key() and state.changes() == []
+    state.plating = "none"
+    sc = state.scenario()
+    assert sc.plating is None and sc.plating_layers is None
+    assert any("plating argon → none" in c for c in state.changes())
+    bare = ExplorerState.from_scenario(Scenario())
+    bare.plating = "hydrogen"
+    assert bare.scenario().plating == "hydrogen" and bare.scenario().plating_layers is None

@@ -60,10 +60,14 @@ def controls(state: ExplorerState) -> pn.viewable.Viewable:
     state.param.watch(fit_wall, ["shape", "isolated"])
     site_model = pn.widgets.RadioButtonGroup.from_param(state.param.site_model, width=width,
                                                         css_classes=["porefill-site-model"])
+    plating = pn.widgets.Select.from_param(state.param.plating, width=width, css_classes=["porefill-plating"])
+    layers = pn.widgets.IntSlider.from_param(state.param.plating_layers, width=width,
+                                             disabled=state.plating == "none")
+    state.param.watch(lambda event: setattr(layers, "disabled", event.new == "none"), "plating")
     return pn.Column(shape, size, wall, wall_note, isolated, adsorbate, temperature,
                      pn.pane.HTML("<span style='font-size:13px'>Site model (how a site's free energy is found)</span>",
                                   margin=(6, 10, 0, 10)),
-                     site_model, width=CONTROLS_WIDTH, css_classes=["porefill-controls"])
+                     site_model, plating, layers, width=CONTROLS_WIDTH, css_classes=["porefill-controls"])
 
 
 def header(title: str) -> pn.pane.HTML:

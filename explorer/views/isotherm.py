@@ -30,7 +30,7 @@ from porefill.explorer.views.potential import FRAME, outline
 
 ADS_COLOUR, DES_COLOUR, EQ_COLOUR = "#1b6ca8", "#d1495b", "#333333"
 MODEL_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k", "pore_ends",
-              "site_model"]
+              "site_model", "plating", "plating_layers"]
 # a change of these moves the pressure range so much that the picked pressure starts afresh
 RANGE_KEYS = ("shape", "adsorbate", "temperature_k")
 PICK_FRACTION = 0.8      # where in the log-pressure range the occupancy map starts: the upper layers

@@ -29,7 +29,7 @@ MAP_POINTS = 200
 _STALE_AFTER_MS = 250
 CUT_POINTS = 300
 FRAME = 290            # px: frame width of every plot, so that two plots fit side by side at 1024 px
-GEOMETRY_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate"]
+GEOMETRY_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "plating", "plating_layers"]
 
 
 def geometry_only(scenario: Scenario) -> Scenario:

@@ -65,7 +65,8 @@ class QuantumView(pn.viewable.Viewer):
         self.map_choice.param.watch(self._show_map, "value")
         self.energy_axis.param.watch(self._show_energies, "value")
         self.state.param.watch(self._mark_stale, ["shape", "size_angstrom", "wall_angstrom", "isolated",
-                                                  "adsorbate", "temperature_k", "site_model"])
+                                                  "adsorbate", "temperature_k", "site_model", "plating",
+                                                  "plating_layers"])
         # the figures join the page with the first result, when this tab is on show: Bokeh figures that sit
         # in a hidden tab before they were ever laid out stall the painting of every other plot on the page
         self._body = pn.Column(css_classes=["porefill-quantum-body"], sizing_mode="stretch_width",

@@ -35,9 +35,9 @@ __all__ = ["ScenarioIO", "URL_KEYS", "MAX_SCENARIO_BYTES", "report_job"]
 
 log = logging.getLogger("porefill.explorer")
 URL_KEYS = ("shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k", "pore_ends",
-            "site_model")
+            "site_model", "plating", "plating_layers")
 _APPLY_ORDER = ("adsorbate", "shape", "isolated", "wall_angstrom", "size_angstrom", "temperature_k", "pore_ends",
-                "site_model")
+                "site_model", "plating", "plating_layers")
 # the first word of each tab's title (explorer.views.dashboard), for every name in porefill.physics.choices.TABS
 _TAB_NAMES = {"pore": "Pore", "quantum": "Quantum", "measured": "Measured", "sizing": "Sizing", "about": "About"}
 WIDTH = 220
@@ -248,7 +248,8 @@ class ScenarioIO(pn.viewable.Viewer):
         sc = doc.scenario
         values = {"shape": sc.shape, "size_angstrom": sc.size_angstrom, "isolated": sc.wall_angstrom is None,
                   "adsorbate": sc.adsorbate, "temperature_k": sc.temperature_k, "pore_ends": sc.pore_ends,
-                  "site_model": sc.site_model_used}
+                  "site_model": sc.site_model_used, "plating": sc.plating or "none",
+                  "plating_layers": sc.plating_layers or 1}
         if sc.wall_angstrom is not None:
             values["wall_angstrom"] = sc.wall_angstrom
         self._check_on_probe(sc, values)

@@ -4,10 +4,13 @@ from __future__ import annotations
 import numpy as np
 import param
 
-from porefill.physics.choices import DEFAULT_PORE_ENDS, PORE_ENDS, SHAPES, SITE_MODELS, SIZE_NAMES
+from porefill.physics.choices import (DEFAULT_PORE_ENDS, MAX_PLATING_LAYERS, PLATING_GASES, PORE_ENDS, SHAPES,
+                                     SITE_MODELS, SIZE_NAMES)
 from porefill.physics.limits import MAX_WALL_ANGSTROM, SIZE_RANGE_ANGSTROM, check_number, minimum_wall_angstrom
 from porefill.physics.substances.materials import ADSORBATES, SOLIDS
 from porefill.physics.scenario import Scenario
+
+NO_PLATING = "none"          # the wall plating control: the bare wall
 
 # the thinnest wall the scenario accepts (one spacing of silica's force centres), on the slider's 0.5 Å steps
 _WALL_MIN = float(np.ceil(2.0 * minimum_wall_angstrom(SOLIDS["silica"].density_per_a3)) / 2.0)
@@ -73,6 +76,12 @@ class ExplorerState(param.Parameterized):
                                     "cross-section (helium, hydrogen and neon default; slower, and for helium the "
                                     "layer steps move by orders of magnitude in pressure). The Quantum states tab "
                                     "compares the two.")
+    plating = param.Selector(default=NO_PLATING, objects=[NO_PLATING, *PLATING_GASES], label="Wall plating",
+                             doc="Layers of another gas adsorbed on the wall before the adsorbate comes in, as "
+                                 "helium experiments prepare them (porefill.physics.pore.plating): the pore's free "
+                                 "radius shrinks and the wall binds as the plating gas does.")
+    plating_layers = param.Integer(default=1, bounds=(1, MAX_PLATING_LAYERS), label="Plating layers",
+                                   doc="How many layers of the plating gas cover the wall.")
     solid = param.String(default="silica", constant=True, doc="Solid (catalog name)")
     title = param.String(default="", doc="Scenario title (from the scenario file; shown as plain text)")
     base = param.ClassSelector(class_=Scenario, default=Scenario(), precedence=-1,
@@ -130,7 +139,8 @@ class ExplorerState(param.Parameterized):
         for name, label, unit in (("shape", "shape", ""), ("size_angstrom", "size", " Å"),
                                   ("wall_angstrom", "walls", " Å"), ("adsorbate", "gas", ""),
                                   ("temperature_k", "temperature", " K"), ("pore_ends", "pore ends", ""),
-                                  ("site_model_used", "site model", "")):
+                                  ("site_model_used", "site model", ""), ("plating", "plating", ""),
+                                  ("plating_layers", "plating layers", "")):
             old, new = getattr(base, name), getattr(held, name)
             if old != new:
                 show = (lambda v: "none (isolated)" if v is None else (f"{v:g}{unit}" if isinstance(v, float)
@@ -139,7 +149,7 @@ class ExplorerState(param.Parameterized):
         return words
 
     @param.depends("shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k",
-                   "pore_ends", "site_model", watch=True)
+                   "pore_ends", "site_model", "plating", "plating_layers", watch=True)
     def _retitle(self):
         """The title says what is on show: the loaded scenario's own while the controls hold its inputs, and a
         new one naming the inputs (and where they came from) once they differ."""
@@ -154,10 +164,19 @@ class ExplorerState(param.Parameterized):
         held = self.base.replace(shape=self.shape, size_angstrom=float(self.size_angstrom),
                                  wall_angstrom=None if self.isolated else float(self.wall_angstrom),
                                  adsorbate=self.adsorbate, solid=self.solid, temperature_k=float(self.temperature_k),
-                                 pore_ends=self.pore_ends)
+                                 pore_ends=self.pore_ends, **self._plating_fields())
         # the gas's default stays unnamed (None) as a file without the line has it
         unnamed = self.base.site_model is None and self.site_model == held.replace(site_model=None).site_model_used
         return held.replace(site_model=None if unnamed else self.site_model)
+
+    def _plating_fields(self) -> dict:
+        """The scenario's plating fields from the controls: none, or the gas with its layers (one layer left
+        unnamed, as a file without the line has it)."""
+        if self.plating == NO_PLATING:
+            return {"plating": None, "plating_layers": None}
+        layers = int(self.plating_layers)
+        named = layers != 1 or self.base.plating_layers == 1
+        return {"plating": self.plating, "plating_layers": layers if named else None}
 
     @param.depends("adsorbate", watch=True)
     def _fit_site_model(self):
@@ -174,7 +193,8 @@ class ExplorerState(param.Parameterized):
                    wall_angstrom=wall if wall is not None else 8.0,
                    isolated=wall is None, adsorbate=scenario.adsorbate,
                    temperature_k=scenario.temperature_k, solid=scenario.solid, title=scenario.title,
-                   pore_ends=scenario.pore_ends, site_model=scenario.site_model_used, base=scenario)
+                   pore_ends=scenario.pore_ends, site_model=scenario.site_model_used,
+                   plating=scenario.plating or NO_PLATING, plating_layers=scenario.plating_layers or 1, base=scenario)
 
     def scenario(self) -> Scenario:
         """The loaded scenario with what the controls hold: every other field (pair overrides, lattice,
