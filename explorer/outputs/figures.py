@@ -343,6 +343,8 @@ def caption(scenario) -> str:
 
     wall = scenario.effective_wall_angstrom
     where = "isolated" if wall is None else f"{wall:g} Å walls"
+    if scenario.plating is not None:
+        where += f", {scenario.plating}-plated ×{scenario.plating_layers or 1}"
     return (f"{scenario.adsorbate} at {scenario.temperature_k:g} K in a {scenario.shape} pore, "
             f"{SIZE_NAMES[scenario.shape]} {scenario.size_angstrom:g} Å ({where}), {scenario.solid}; "
             f"{scenario.site_model_used} sites, pore ends {scenario.pore_ends}")

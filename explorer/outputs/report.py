@@ -81,6 +81,12 @@ def _inputs(doc, iso) -> str:
             ["site model", sc.site_model_used, given if sc.site_model else "porefill's default for the gas"],
             ["pore volume", "—" if sc.pore_volume_cm3_g is None else f"{sc.pore_volume_cm3_g:g} cm³/g",
              given if sc.pore_volume_cm3_g is not None else "not given"]]
+    if pair.plating is not None:
+        pl = pair.plating
+        rows.insert(3, ["wall plating", f"{pl.layers} layer(s) of {pl.gas} at "
+                        + ", ".join(f"{z:.3g}" for z in pl.distances_angstrom) + f" Å from the solid, "
+                        f"{pl.areal_density_per_a2:.4g} Å⁻² each; {sc.adsorbate}–{pl.gas} ε {pl.epsilon_k:.4g} K, "
+                        f"σ {pl.sigma_angstrom:.4g} Å", pl.source])
     out = _table(["quantity", "value", "source"], rows)
     if doc.sample is not None:
         names = {"mass_g": "mass (g)", "pore_volume_cm3_g": "pore volume (cm³/g)",

@@ -32,6 +32,9 @@ def describe(scenario: Scenario, *, temperature: bool = True) -> str:
     parts = [f"{scenario.shape}, {SIZE_NAMES[scenario.shape]} {scenario.size_angstrom:g} Å"]
     if scenario.shape != "cylinder":
         parts.append("isolated" if scenario.wall_angstrom is None else f"walls {scenario.wall_angstrom:g} Å")
+    if scenario.plating is not None:
+        layers = scenario.plating_layers or 1
+        parts.append(f"{scenario.plating}-plated ({layers} layer{'s' if layers > 1 else ''})")
     parts.append(scenario.adsorbate)
     if temperature:
         parts.append(f"{scenario.temperature_k:.2f} K")
