@@ -7,7 +7,6 @@ JSON, a table or CSV.
 """
 from __future__ import annotations
 
-import json
 import sys
 
 from porefill.explorer.cli.main import UsageError
@@ -118,12 +117,9 @@ def run_distribution(args, runs, notes, scenario, sample, csv_path) -> int:
         from porefill.explorer.cli.main import write_output
 
         write_output(csv_path, distribution_csv(dist))
-    if args.json:
-        json.dump(data, sys.stdout)
-        sys.stdout.write("\n")
-    else:
-        print(_table(data))
-    return 0
+    from porefill.explorer.cli.fit import emit
+
+    return emit(args, data, _table, notes)
 
 
 def _table(data: dict) -> str:

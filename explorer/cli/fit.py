@@ -243,11 +243,17 @@ def _cmd_fit(args) -> int:
         write_output(points, points_csv(result, name=points.name))
         write_output(params, parameters_csv(result))
         write_output(model, model_csv(result))
+    return emit(args, data, _table, notes)
+
+
+def emit(args, data: dict, table, notes) -> int:
+    """Print ``data`` as JSON (--json) or as ``table(data)``, and the notes about the files on standard
+    error (the first few, then how many more)."""
     if args.json:
         json.dump(data, sys.stdout)
         sys.stdout.write("\n")
     else:
-        print(_table(data))
+        print(table(data))
     for note in notes[:_MAX_PROBLEM_LINES]:
         sys.stderr.write(f"porefill: note: {note}\n")
     if len(notes) > _MAX_PROBLEM_LINES:
