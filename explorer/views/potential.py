@@ -106,8 +106,19 @@ def readout_html(sc: Scenario) -> str:
         f"&nbsp; <b>Pore:</b> {html.escape(sc.shape)}, {html.escape(layout)}, "
         f"side / radius / width {sc.size_angstrom:g} Å, {html.escape(sc.adsorbate)}<br>"
         f"<b>Pair:</b> ε = {pair.epsilon_k:.2f} K, σ = {pair.sigma_angstrom:.3f} Å, "
-        f"ρ = {pair.density_per_a3:.4f} Å⁻³ — {html.escape(pair.origin)}</p>"
+        f"ρ = {pair.density_per_a3:.4f} Å⁻³ — {html.escape(pair.origin)}{_plating_words(sc, pair)}</p>"
     )
+
+
+def _plating_words(sc, pair) -> str:
+    """The plating line of the readout (empty for a bare wall)."""
+    pl = pair.plating
+    if pl is None:
+        return ""
+    where = ", ".join(f"{z:.2f}" for z in pl.distances_angstrom)
+    return (f"<br><b>Plating:</b> {pl.layers} layer(s) of {html.escape(pl.gas)} at {where} Å from the solid, "
+            f"{pl.areal_density_per_a2:.4f} Å⁻² each; {html.escape(sc.adsorbate)}–{html.escape(pl.gas)} "
+            f"ε = {pl.epsilon_k:.2f} K, σ = {pl.sigma_angstrom:.3f} Å (Lorentz–Berthelot) — {html.escape(pl.source)}")
 
 
 class PotentialView(pn.viewable.Viewer):
