@@ -160,3 +160,16 @@ def test_every_orbit_says_where_its_free_energy_comes_from():
         if r["source"] == "classical":
             assert r["free_energy_k"] == r["classical_free_energy_k"]
     assert {r["label"] for r in rows if r["source"] == "quantum states"} >= {"corner", "face"}
+
+
+def test_a_grid_with_fewer_states_than_the_temperature_asks_for_ends():
+    # a free region so small that its grid holds fewer states than the temperature would want: the search
+    # for more stops when the grid has no more to give (it once looped for ever), and the result says capped
+    from porefill.physics.sites.quantum import solve_states
+    from porefill.physics.substances.materials import get_adsorbate
+
+    sc = Scenario(shape="hexagon", size_angstrom=14.0, wall_angstrom=8.0, adsorbate="nitrogen",
+                  temperature_k=77.35, plating="argon", plating_layers=2)
+    states = solve_states(sc.pore(), sc.pair(), get_adsorbate("nitrogen").hbar2_over_mk, temperature_k=77.35)
+    assert states.capped and states.energies_k.size >= 6
+    assert np.all(np.diff(states.energies_k) >= -1e-9)

@@ -99,10 +99,36 @@ def grid_states(v: np.ndarray, pairs, h: float, hbar2_over_mk: float, *, k: int,
     return block_states(hamiltonian, symmetry_blocks(points, v), k=k, shift=shift, solve=_shift_invert)
 
 
-def _shift_invert(hamiltonian: sparse.csc_matrix, k: int, shift: float) -> tuple[np.ndarray, np.ndarray]:
-    """The k eigenpairs of one (block of the) Hamiltonian nearest above ``shift``, ascending."""
+_DENSE_BELOW = 800           # blocks this small are solved densely: exact, quicker, and no Krylov space to converge
+
+
+def _dense_lowest(hamiltonian, k: int) -> tuple[np.ndarray, np.ndarray]:
+    from scipy.linalg import eigh
+
     n = hamiltonian.shape[0]
+    e, vec = eigh(hamiltonian.toarray(), subset_by_index=(0, min(k, n) - 1))
+    return e, vec
+
+
+def _shift_invert(hamiltonian: sparse.csc_matrix, k: int, shift: float) -> tuple[np.ndarray, np.ndarray]:
+    """The k eigenpairs of one (block of the) Hamiltonian nearest above ``shift``, ascending. A block of
+    fewer than `_DENSE_BELOW` points is diagonalised densely (every state below the shift lies above it:
+    the shift is set below the lowest level)."""
+    from scipy.sparse.linalg import ArpackNoConvergence
+
+    n = hamiltonian.shape[0]
+    if n < _DENSE_BELOW:
+        return _dense_lowest(hamiltonian, k)
     k = int(min(k, n - 2))
+    try:
+        return _arpack(hamiltonian, k, shift)
+    except ArpackNoConvergence:
+        raise ValueError(f"the one-atom states did not converge on a grid block of {n} points; try a coarser "
+                         "setting or the classical site model") from None
+
+
+def _arpack(hamiltonian: sparse.csc_matrix, k: int, shift: float) -> tuple[np.ndarray, np.ndarray]:
+    n = hamiltonian.shape[0]
     lu = splu((hamiltonian - shift * sparse.identity(n, format="csc")).tocsc(), permc_spec="MMD_AT_PLUS_A")
     inverse = LinearOperator(hamiltonian.shape, matvec=lu.solve, dtype=float)
     # a wider Krylov space than ARPACK's default (2k + 1) converges in far fewer restarts, so far fewer
@@ -242,12 +268,15 @@ def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_
             (ec, ptc, vc, pc), k = coarse, len(coarse[0])
         # how many states the temperature needs, found on the coarse grid (four times fewer points), then
         # the fine grid solved once for that many and a few more
+        asked = None
         while ec is None or not (np.exp(-(ec[-1] - ec[0]) / kt) < weight_fraction or len(ec) >= max_states
-                                 or len(ec) >= vc.size - 2):
+                                 or len(ec) >= vc.size - 2 or (asked is not None and len(ec) < asked)):
             if ec is not None:
                 k = min(2 * k, max_states)
-            ec, _ = grid_states(vc, pc, 2.0 * h, hbar2_over_mk, k=min(k, vc.size - 2),
-                                shift=float(vc.min()) - 1.0, points=ptc)
+            asked = min(k, vc.size - 2)
+            # a grid split into symmetry blocks holds a few states fewer than its points: fewer than asked
+            # back means the grid has no more to give
+            ec, _ = grid_states(vc, pc, 2.0 * h, hbar2_over_mk, k=asked, shift=float(vc.min()) - 1.0, points=ptc)
         above = ec[0] - kt * np.log(weight_fraction)
         k = int(min(max(np.searchsorted(ec, above) + 6, _FIRST_STATES), len(ec), v.size - 2))
         # shift just below the ground state: the wanted eigenvalues of (H − σ)⁻¹ are then well apart
