@@ -183,3 +183,21 @@ def test_points_above_p0_are_named_and_offered_to_drop(monkeypatch):
     view._start_fit()
     assert len(started) == 1 and started[0].runs[0].amount.size == high.amount.size - 1
     assert "left out" in view.fit_status.object
+
+
+def test_the_overlay_axes_scale_as_their_labels_say():
+    # p/p0 and μ on linear axes, pressure on a log one; on the coverage axis pressure is the (log) y
+    # (the p/p0 axis was drawn logarithmic though labelled linear)
+    from bokeh.models import LinearScale, LogScale
+
+    view = MeasuredView(state=ExplorerState.from_scenario(BASE))
+    view._document_runs = _runs()
+    view.sample_inputs["pore_volume_cm3_g"].value = 0.5
+    view.model_arrived(BASE, fitted_isotherm(BASE))
+    expected = {"relative-pressure": (LinearScale, LinearScale), "pressure": (LogScale, LinearScale),
+                "chemical-potential": (LinearScale, LinearScale), "coverage": (LinearScale, LogScale)}
+    for axis, (x_scale, y_scale) in expected.items():
+        view.axis.value = axis
+        assert isinstance(view._fig.x_scale, x_scale) and isinstance(view._fig.y_scale, y_scale), axis
+        assert isinstance(view._res_fig.x_scale, x_scale)
+        assert len(view._sources) == 1 and len(view._sources[0].data["x"]) > 0      # the run drawn again

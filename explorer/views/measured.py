@@ -307,9 +307,15 @@ class MeasuredView(pn.viewable.Viewer):
                                   "need the mass; d₁₀₀ ties the wall to the side (a₀ = 2·d₁₀₀/√3).</p>"
 
     # drawing ------------------------------------------------------------------------------------------
-    def _figures(self):
-        fig = figure(title="Measured over the model", x_axis_type="log", frame_width=FRAME + 120, frame_height=260,
-                     x_range=Range1d(1e-3, 1e3), y_range=Range1d(0, 1), tools="pan,wheel_zoom,box_zoom,reset,save",
+    def _figures(self, axis: str = "pressure"):
+        """The overlay and residual figures for ``axis``: log pressure, linear p/p₀ and μ, and for the coverage
+        axis amount (linear) against pressure (log)."""
+        x_type, y_type = _AXIS_TYPES[axis]
+        self._axis_types = (x_type, y_type)
+        self._sources = []                 # the runs' glyphs belong to the figures: new figures, new sources
+        fig = figure(title="Measured over the model", x_axis_type=x_type, y_axis_type=y_type,
+                     frame_width=FRAME + 120, frame_height=260, x_range=Range1d(*_START[x_type]),
+                     y_range=Range1d(*_START[y_type]), tools="pan,wheel_zoom,box_zoom,reset,save",
                      toolbar_location="above", x_axis_label="pressure p (Pa)", y_axis_label="coverage (per nm)")
         fig.line("x", "y", source=self._model_src["adsorption"], color=ADS_COLOUR, line_width=2,
                  legend_label="model, adsorption")
@@ -322,7 +328,7 @@ class MeasuredView(pn.viewable.Viewer):
         self._before_legend.visible = False           # only while a fitted model is drawn
         fig.legend.location = "top_left"
         fig.legend.background_fill_alpha = 0.8
-        res = figure(title="Residuals (measured − model)", x_axis_type="log", frame_width=FRAME + 120,
+        res = figure(title="Residuals (measured − model)", x_axis_type=x_type, frame_width=FRAME + 120,
                      frame_height=140, x_range=fig.x_range, y_range=Range1d(-1, 1),
                      tools="pan,wheel_zoom,box_zoom,reset,save", toolbar_location="above",
                      y_axis_label="per nm")
@@ -381,6 +387,9 @@ class MeasuredView(pn.viewable.Viewer):
                 overlays.append(_scaled(overlay_run(iso, run, sample, axis), axis, scale))
             except ValueError as exc:
                 notes.append(str(exc))
+        if _AXIS_TYPES[axis] != self._axis_types:       # Bokeh cannot change an axis's scale in place
+            self._fig, self._res_fig = self._figures(axis)
+            self._plots.objects = [pn.pane.Bokeh(self._fig), pn.pane.Bokeh(self._res_fig)]
         with pn.io.hold():
             self._set_axes(axis, unit)
             for branch, (x, y) in model_curves(iso, axis).items():
@@ -648,3 +657,9 @@ def _scaled(o, axis: str, scale: float):
     if axis == "coverage":
         return replace(o, x=o.x * scale)
     return replace(o, y=o.y * scale, residual=o.residual * scale)
+
+
+# each overlay axis's scales (x, y): log pressure; p/p₀ and μ linear; on the coverage axis pressure is y
+_AXIS_TYPES = {"pressure": ("log", "linear"), "relative-pressure": ("linear", "linear"),
+               "chemical-potential": ("linear", "linear"), "coverage": ("linear", "log")}
+_START = {"log": (1e-3, 1e3), "linear": (0.0, 1.0)}
