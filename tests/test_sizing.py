@@ -84,3 +84,16 @@ def test_sizes_are_labelled_as_what_they_are(view):
     view.compute()
     view.target.value = "pore filled (every site)"
     assert "<th>Radius (diameter = 2 × radius) (Å)</th>" in view.meets_list.object
+
+
+def test_the_status_says_the_sweeps_size_and_rough_time_before_it_starts():
+    # common practice, no source: the page says what pressing Compute will cost
+    from porefill.explorer.views.sizing import SizingView
+    from porefill.explorer.views.state import ExplorerState
+    from porefill.physics.scenario import Scenario
+
+    view = SizingView(state=ExplorerState.from_scenario(Scenario(site_model="classical")))
+    view.sizes.value = "10:20:3"
+    assert "Press Compute: 3 pores" in view.status.object
+    view.sizes.value = "10:20:9"
+    assert "Press Compute: 9 pores" in view.status.object

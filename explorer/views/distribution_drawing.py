@@ -193,15 +193,24 @@ def layers_html(carried) -> str:
     """The table of where each layer forms in the carried gas (volume-weighted 10/50/90 % pressures)."""
     base = carried.kernel.spec.base
     p0 = carried.saturation_pressure_pa
-    rows = []
+    rows, groups = [], []
     for r in layer_rows(carried):
-        if r["median"] is None:
-            cells = "<td colspan='3'>does not form below p₀</td>"
+        key = (None if r["median"] is None else tuple(f"{r[k]:.3g}" for k in ("p10", "median", "p90")),
+               _fraction(r["fraction"]))
+        if groups and groups[-1][1] == key and r["name"].startswith("layer") and groups[-1][0][-1].startswith("layer"):
+            groups[-1][0].append(r["name"])          # layers that form together: one row
         else:
-            cells = "".join(f"<td>{r[k]:.3g}</td>" for k in ("p10", "median", "p90"))
-        rows.append(f"<tr><td>{html.escape(r['name'])}</td>{cells}<td>{_fraction(r['fraction'])}</td></tr>")
+            groups.append(([r["name"]], key, r))
+    for names, key, r in groups:
+        name = names[0] if len(names) == 1 else f"layers {names[0].removeprefix('layer ')} to {names[-1].removeprefix('layer ')}"
+        if r["median"] is None:
+            cells = "<td colspan='4'>does not form below p₀</td>"
+        else:
+            cells = "".join(f"<td>{r[k]:.3g}</td>" for k in ("p10", "median", "p90")) + f"<td>{r['median'] / p0:.3g}</td>"
+        rows.append(f"<tr><td>{html.escape(name)}</td>{cells}<td>{key[1]}</td></tr>")
     return (f"<p><b>{html.escape(base.adsorbate)} at {base.temperature_k:g} K</b> in the same sample "
             f"({html.escape(base.site_model_used)} sites, p₀ = {p0:.4g} Pa): the pressures (Pa) over which each "
             "layer forms, weighted by the pore volume of the sizes that form it.</p>"
-            "<table class='porefill-psd-layers-table'><tr><th>layer</th><th>10 %</th><th>median</th><th>90 %</th>"
+            "<table class='porefill-psd-layers-table' style='border-spacing: 12px 2px'><tr><th>layer</th>"
+            "<th>10 % (Pa)</th><th>median (Pa)</th><th>90 % (Pa)</th><th>median p/p₀</th>"
             f"<th>of the pore volume</th></tr>{''.join(rows)}</table>")

@@ -161,8 +161,27 @@ class SizingView(pn.viewable.Viewer):
             w.param.watch(self._redraw, "value")
         self.mode.param.watch(self._fit_inputs, "value")
         st.param.watch(lambda event: setattr(self.sizes, "name", _sizes_label(event.new)), "shape")
+        for w in (self.mode, self.sizes, self.walls, self.temps, self.d100, self.model, self.points):
+            w.param.watch(self._say_estimate, "value")
+        st.param.watch(self._say_estimate, ["shape", "adsorbate", "temperature_k", "plating", "plating_layers"])
         self._fit_inputs()
+        self._say_estimate()
         self._redraw()
+
+    def _say_estimate(self, *_) -> None:
+        """Before a sweep: how many pores the inputs ask for and roughly how long they take here."""
+        if self._job is not None and self._job.outcome is None:
+            return                                    # a sweep is under way: its status stays
+        if self._result is not None:
+            return                                    # a result is on show: its status stays
+        try:
+            spec = self.spec()
+        except ValueError:
+            self.status.object = "<p>Choose the sizes and press Compute.</p>"
+            return
+        runner = _runner(self.scheduler.value.strip())
+        guess = "" if runner.cluster is not None else _duration(estimate_seconds(spec, runner.workers, runner.cache))
+        self.status.object = f"<p>Press Compute: {spec.size} pores{guess or ', a moment'} on this machine.</p>"
 
     # inputs ---------------------------------------------------------------------------------------
     def _fit_inputs(self, *_):
