@@ -61,7 +61,9 @@ def test_a_parse_past_the_time_limit_is_refused_while_the_loop_runs_on():
         finally:
             other.cancel()
 
-    message, ticked = asyncio.run(main())
+    from run_apart import in_a_thread
+
+    message, ticked = in_a_thread(lambda: asyncio.run(main()))
     assert message == "slow.csv: reading it took longer than 2 s; refused"
     assert ticked >= 3                                 # the loop turned while the worker was busy
     assert _no_parse_workers_left()
@@ -84,3 +86,4 @@ def test_the_parsers_own_keywords_reach_it():
     with pytest.raises(ParseRefused, match=r"^bad\.toml, line 1"):
         parse_in_worker(parse_document, "[scenario\n", name="bad.toml", file_name="bad.toml",
                         refusals=(ScenarioFileError,))
+

@@ -218,6 +218,14 @@ def test_save_writes_what_the_controls_hold():
 
 
 def test_open_applies_a_good_file_and_refuses_a_bad_one():
+    # Open's callback is async (the file is parsed in a worker): param runs it at once where no event loop
+    # runs, so the test runs in a thread of its own (Playwright may have left one running in the main thread)
+    from run_apart import in_a_thread
+
+    in_a_thread(_open_applies_a_good_file_and_refuses_a_bad_one)
+
+
+def _open_applies_a_good_file_and_refuses_a_bad_one():
     io_view, state = _io()
     good = (ROOT / "scenarios" / "demo-cylinder-nitrogen.toml").read_bytes()
     io_view.open.param.update(filename="n.toml", value=good)

@@ -44,7 +44,8 @@ def controls(state: ExplorerState) -> pn.viewable.Viewable:
     shape = pn.widgets.RadioButtonGroup.from_param(state.param.shape, width=width)
     size, wall, temperature = slider("size_angstrom"), slider("wall_angstrom"), slider("temperature_k")
     isolated = pn.widgets.Checkbox.from_param(state.param.isolated, width=width)
-    adsorbate = pn.widgets.Select.from_param(state.param.adsorbate, width=width)
+    half = (width - 20) // 2          # two selects and their margins within the column
+    adsorbate = pn.widgets.Select.from_param(state.param.adsorbate, width=half)
     wall_note = pn.pane.HTML("", css_classes=["porefill-wall-note"], width=width, visible=False,
                              styles={"font-size": "12px", "color": "#555"})
 
@@ -60,14 +61,16 @@ def controls(state: ExplorerState) -> pn.viewable.Viewable:
     state.param.watch(fit_wall, ["shape", "isolated"])
     site_model = pn.widgets.RadioButtonGroup.from_param(state.param.site_model, width=width,
                                                         css_classes=["porefill-site-model"])
-    plating = pn.widgets.Select.from_param(state.param.plating, width=width, css_classes=["porefill-plating"])
+    plating = pn.widgets.Select.from_param(state.param.plating, width=half, css_classes=["porefill-plating"])
+    # the layers slider shows only with a plating chosen: the first screen keeps room for the scenario buttons
     layers = pn.widgets.IntSlider.from_param(state.param.plating_layers, width=width,
-                                             disabled=state.plating == "none")
-    state.param.watch(lambda event: setattr(layers, "disabled", event.new == "none"), "plating")
-    return pn.Column(shape, size, wall, wall_note, isolated, adsorbate, temperature,
+                                             visible=state.plating != "none")
+    state.param.watch(lambda event: setattr(layers, "visible", event.new != "none"), "plating")
+    # the gas and the gas plating the wall side by side: the first screen keeps room for the scenario buttons
+    return pn.Column(shape, size, wall, wall_note, isolated, pn.Row(adsorbate, plating, margin=0), layers, temperature,
                      pn.pane.HTML("<span style='font-size:13px'>Site model (how a site's free energy is found)</span>",
                                   margin=(6, 10, 0, 10)),
-                     site_model, plating, layers, width=CONTROLS_WIDTH, css_classes=["porefill-controls"])
+                     site_model, width=CONTROLS_WIDTH, css_classes=["porefill-controls"])
 
 
 def header(title: str) -> pn.pane.HTML:

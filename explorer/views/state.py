@@ -82,7 +82,9 @@ class ExplorerState(param.Parameterized):
     plating = param.Selector(default=NO_PLATING, objects=[NO_PLATING, *PLATING_GASES], label="Wall plating",
                              doc="Layers of another gas adsorbed on the wall before the adsorbate comes in, as "
                                  "helium experiments prepare them (porefill.physics.pore.plating): the pore's free "
-                                 "radius shrinks and the wall binds as the plating gas does.")
+                                 "radius shrinks and the wall binds as the plating gas does. The plating is "
+                                 "held fixed: its gas is taken to stay on the wall, far below its own p₀ at "
+                                 "the adsorbate's temperature.")
     plating_layers = param.Integer(default=1, bounds=(1, MAX_PLATING_LAYERS), label="Plating layers",
                                    doc="How many layers of the plating gas cover the wall.")
     solid = param.String(default="silica", constant=True, doc="Solid (catalog name)")
