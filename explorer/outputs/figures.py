@@ -277,11 +277,12 @@ def distribution_figure(saved) -> Figure:
     """A pore-size distribution (`porefill.explorer.files.saved_distribution.SavedDistribution`): pore volume
     per Å of size as bars with their bootstrap errors, and the cumulative pore volume on the right axis."""
     from porefill.physics.choices import SIZE_NAMES
+    from porefill.physics.distribution.inversion import bin_edges
     from porefill.physics.distribution.kernel import pore_diameter_angstrom
 
     s = np.asarray(saved.sizes_angstrom, float)
     w = np.asarray(saved.pore_volume_cm3_g, float)
-    edges = np.concatenate([[s[0] - 0.5 * (s[1] - s[0])], 0.5 * (s[1:] + s[:-1]), [s[-1] + 0.5 * (s[-1] - s[-2])]])
+    edges = bin_edges(s)
     width = np.diff(edges)
     err = np.asarray(saved.stderr_cm3_g, float) / width if saved.stderr_cm3_g else None
     fig = _figure()

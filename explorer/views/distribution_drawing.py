@@ -69,7 +69,9 @@ def kernel_spec(base, first, last, count) -> KernelSpec:
 
 
 def _edges(s: np.ndarray) -> np.ndarray:
-    return np.concatenate([[s[0] - 0.5 * (s[1] - s[0])], 0.5 * (s[1:] + s[:-1]), [s[-1] + 0.5 * (s[-1] - s[-2])]])
+    from porefill.physics.distribution.inversion import bin_edges
+
+    return bin_edges(s)
 
 
 def bar_columns(saved) -> dict[str, np.ndarray]:

@@ -36,7 +36,7 @@ from porefill.physics.fitting.measured import MeasuredRun, Sample
 from porefill.physics.fitting.model import PER_GRAM_UNITS, prepare_runs, unit_factor
 from porefill.physics.lattice_gas.branches import measured_branches
 
-__all__ = ["Distribution", "invert", "kernel_matrix", "ceiling_pa", "second_differences", "BOOTSTRAP_SAMPLES",
+__all__ = ["Distribution", "invert", "bin_edges", "kernel_matrix", "ceiling_pa", "second_differences", "BOOTSTRAP_SAMPLES",
            "MISFIT_REDUCED_CHI2", "EDGE_FRACTION"]
 
 BOOTSTRAP_SAMPLES = 200
@@ -92,10 +92,10 @@ class Distribution:
 
     def density_cm3_g_per_angstrom(self) -> np.ndarray:
         """dV/ds: each bin's volume over its width on the size grid (midpoints between sizes)."""
-        return self.pore_volume_cm3_g / np.diff(_bin_edges(self.sizes_angstrom))
+        return self.pore_volume_cm3_g / np.diff(bin_edges(self.sizes_angstrom))
 
 
-def _bin_edges(s: np.ndarray) -> np.ndarray:
+def bin_edges(s: np.ndarray) -> np.ndarray:
     """Edges of the bins around each size: midpoints between sizes, the ends as far out as their neighbours."""
     return np.concatenate([[s[0] - 0.5 * (s[1] - s[0])], 0.5 * (s[1:] + s[:-1]), [s[-1] + 0.5 * (s[-1] - s[-2])]])
 
@@ -166,7 +166,7 @@ def _summary(s: np.ndarray, w: np.ndarray) -> dict:
         return {"total_cm3_g": 0.0, "mean": float("nan"), "median": float("nan"), "mode": float("nan"),
                 "width": float("nan")}
     mean = float(w @ s / total)
-    edges = _bin_edges(s)
+    edges = bin_edges(s)
     cum = np.concatenate([[0.0], np.cumsum(w) / total])       # at the bins' edges
     keep = np.concatenate([[True], np.diff(cum) > 0])          # flat stretches would make the median ambiguous
     return {"total_cm3_g": total, "mean": mean, "median": float(np.interp(0.5, cum[keep], edges[keep])),
