@@ -91,3 +91,32 @@ def test_helium_critical_temperature_is_coolprops_without_loading_it():
             "print('CoolProp' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
     assert out.strip() == "False"
+
+
+@pytest.mark.parametrize("gas", ["hydrogen", "neon", "argon", "nitrogen"])
+def test_held_equation_temperatures_are_coolprops(gas):
+    # the held triple, critical and normal-boiling temperatures are CoolProp's own (reference library from
+    # the registry: PropsSI 'Ttriple', 'Tcrit', and T at 1 atm on the saturated liquid), to 1e-9 relative
+    from scipy import constants
+
+    from porefill.physics.substances.materials import get_adsorbate
+    CP = pytest.importorskip("CoolProp.CoolProp")
+    name = get_adsorbate(gas).coolprop_name
+    t_triple, t_crit, t_nbp = vp.EQUATION_TEMPERATURES_K[gas]
+    assert t_triple == pytest.approx(CP.PropsSI("Ttriple", name), rel=1e-9)
+    assert t_crit == pytest.approx(CP.PropsSI("Tcrit", name), rel=1e-9)
+    assert t_nbp == pytest.approx(CP.PropsSI("T", "P", constants.atm, "Q", 0, name), rel=1e-9)
+
+
+def test_temperature_windows_need_no_coolprop():
+    # every page's sliders ask for these; loading CoolProp (seconds) for them froze the first page
+    import subprocess
+    import sys
+
+    code = ("import sys; from porefill.physics.substances import vapour_pressure as vp\n"
+            "w = [vp.temperature_range(g)[:2] + (vp.typical_temperature(g),) for g in\n"
+            "     ('helium-4', 'hydrogen', 'neon', 'argon', 'nitrogen')]\n"
+            "print('CoolProp' in sys.modules, w[4][2])")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.split()
+    assert out[0] == "False"
+    assert float(out[1]) == pytest.approx(77.355, abs=1e-3)   # nitrogen's normal boiling point, CoolProp

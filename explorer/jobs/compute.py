@@ -17,7 +17,7 @@ import logging
 import multiprocessing
 import os
 import threading
-from concurrent.futures import Executor, Future, ProcessPoolExecutor, ThreadPoolExecutor
+from concurrent.futures import Executor, ProcessPoolExecutor, ThreadPoolExecutor
 from functools import partial
 from typing import Any, Callable
 
@@ -88,46 +88,16 @@ def isotherm_job(scenario):
     return compute_isotherm(scenario.replace(title="", notes=""), n_points=ISOTHERM_POINTS)
 
 
-def temperature_windows_job() -> dict[str, tuple[float, float, float]]:
-    """(lowest K, highest K, typical K) of every adsorbate's vapour-pressure equation.
+def temperature_window(adsorbate: str) -> tuple[float, float, float]:
+    """(lowest K, highest K, typical K) of ``adsorbate``'s vapour-pressure equation.
 
-    The classical gases need CoolProp, whose first import takes seconds: done in a worker, once.
+    The equations' limits are held constants (`porefill.physics.substances.vapour_pressure`), so this never
+    waits for CoolProp or a worker: the first page of a busy server used to block the event loop here.
     """
-    from porefill.physics.substances.materials import ADSORBATES
     from porefill.physics.substances.vapour_pressure import temperature_range, typical_temperature
 
-    out = {}
-    for name in ADSORBATES:
-        lo, hi, _ = temperature_range(name)
-        out[name] = (float(lo), float(hi), float(typical_temperature(name)))
-    return out
-
-
-_windows: Future | None = None
-_windows_lock = threading.Lock()
-
-
-def start_temperature_windows() -> Future:
-    """Start (once per server) computing every adsorbate's temperature window in the isotherm pool."""
-    global _windows
-    with _windows_lock:
-        if _windows is None:
-            _windows = isotherm_pool().submit(temperature_windows_job)
-        return _windows
-
-
-def temperature_window(adsorbate: str) -> tuple[float, float, float]:
-    """(lowest K, highest K, typical K) for ``adsorbate``.
-
-    Waits for the worker only in the first seconds after the server started (CoolProp loading there).
-    """
-    try:
-        return start_temperature_windows().result(timeout=TIME_LIMIT_S)[adsorbate]
-    except Exception:          # a broken pool or a slow start: compute it here rather than fail
-        log.exception("temperature windows from the worker failed; computing here")
-        from porefill.physics.substances.vapour_pressure import temperature_range, typical_temperature
-        lo, hi, _ = temperature_range(adsorbate)
-        return float(lo), float(hi), float(typical_temperature(adsorbate))
+    lo, hi, _ = temperature_range(adsorbate)
+    return float(lo), float(hi), float(typical_temperature(adsorbate))
 
 
 def short_error(exc: BaseException) -> str:

@@ -10,7 +10,6 @@ import panel as pn
 from porefill.physics.scenario import Scenario
 
 from porefill.explorer.views.about import ABOUT
-from porefill.explorer.jobs.compute import start_temperature_windows
 from porefill.explorer.files.scenario_file import ScenarioDocument
 from porefill.explorer.views.state import ExplorerState
 from porefill.explorer.views.isotherm import IsothermView
@@ -86,7 +85,6 @@ def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewab
     """Build one session's page (called by the server for every browser tab); a whole scenario file
     (`ScenarioDocument`) also brings its view choices, sample, measured runs and fit."""
     pn.extension("filedropper", notifications=True)
-    start_temperature_windows()        # CoolProp loads in a worker, not when someone picks nitrogen
     doc = scenario if isinstance(scenario, ScenarioDocument) else ScenarioDocument(scenario or Scenario(wall_angstrom=8.0))
     scenario = doc.scenario
     state = ExplorerState.from_scenario(scenario)

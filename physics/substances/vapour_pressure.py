@@ -85,9 +85,7 @@ def temperature_range(adsorbate: str) -> tuple[float, float, str]:
     if ads.name == "helium-4":
         return (HELIUM4_EXTRAPOLATION_MIN_K, 5.0,
                 "ITS-90 helium-4 equation, 1.25–5.0 K; ideal-vapour extrapolation with L0 = 59.83 J/mol below")
-    cp = _coolprop()
-    t_triple = float(cp.PropsSI("Ttriple", ads.coolprop_name))
-    t_crit = float(cp.PropsSI("Tcrit", ads.coolprop_name))
+    t_triple, t_crit, _ = EQUATION_TEMPERATURES_K[ads.name]
     if ads.name in SUPERCOOLED_MIN_K:
         return (SUPERCOOLED_MIN_K[ads.name], t_crit,
                 f"CoolProp reference equation of state for {ads.coolprop_name}, triple to critical point; "
@@ -161,6 +159,17 @@ def liquid_number_density(adsorbate: str) -> tuple[float, str]:
 
 HELIUM4_CRITICAL_K = 5.1953       # K, CoolProp's helium-4 equation of state (Tcrit)
 
+# (triple point, critical point, normal boiling point) in K of the CoolProp reference equations of state
+# (CoolProp 6.x: PropsSI 'Ttriple', 'Tcrit', and T at 1 atm on the saturated liquid), held here so that the
+# temperature windows (every page's sliders) need no CoolProp import, which takes seconds;
+# tests/test_vapour_pressure.py checks each against CoolProp itself.
+EQUATION_TEMPERATURES_K: dict[str, tuple[float, float, float]] = {
+    "hydrogen": (13.957, 33.1443326883113, 20.36890353912106),
+    "neon": (24.56, 44.39999970498691, 27.09997968642402),
+    "argon": (83.806, 150.68700000001058, 87.30213623016851),
+    "nitrogen": (63.151, 126.19199999958556, 77.3549939095929),
+}
+
 
 @lru_cache(maxsize=None)
 def critical_temperature(adsorbate: str) -> float:
@@ -178,5 +187,4 @@ def typical_temperature(adsorbate: str) -> float:
     boiling point (CoolProp)."""
     if adsorbate == "helium-4":
         return 1.5
-    from porefill.physics.substances.materials import get_adsorbate
-    return float(_coolprop().PropsSI("T", "P", constants.atm, "Q", 0, get_adsorbate(adsorbate).coolprop_name))
+    return EQUATION_TEMPERATURES_K[adsorbate][2]
