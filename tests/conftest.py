@@ -117,11 +117,42 @@ def pytest_collection_modifyitems(config, items):
 
 def pytest_configure(config):
     """Kernels the tests build go to a folder of this run (removed at the end), never the user's cache; the
-    served dashboard inherits it."""
+    served dashboard inherits it. Every process the run starts carries a marker (`leftover_processes`)."""
     import tempfile
+
+    from leftover_processes import mark_run
 
     config._porefill_cache = tempfile.mkdtemp(prefix="porefill-test-cache-")
     os.environ["POREFILL_CACHE_DIR"] = config._porefill_cache
+    config._porefill_run = mark_run()
+
+
+def pytest_sessionfinish(session, exitstatus):
+    """The run fails if it leaves a process behind (a served dashboard, a worker, a browser): each one still
+    alive 15 s after the last test is named, then killed."""
+    import signal
+
+    from leftover_processes import left_behind
+
+    marker = getattr(session.config, "_porefill_run", None)
+    if marker is None or session.config.option.collectonly:
+        return
+    alive = left_behind(marker)
+    if not alive:
+        return
+    for pid, _ in alive:
+        try:
+            os.kill(pid, signal.SIGKILL)
+        except OSError:
+            pass
+    reporter = session.config.pluginmanager.get_plugin("terminalreporter")
+    lines = [f"the test run left {len(alive)} process(es) behind (killed now):"]
+    lines += [f"  pid {pid}: {cmd}" for pid, cmd in alive]
+    if reporter is not None:
+        reporter.write_line("\n".join(lines), red=True)
+    else:
+        print("\n".join(lines), file=sys.stderr)
+    session.exitstatus = pytest.ExitCode.TESTS_FAILED
 
 
 def pytest_unconfigure(config):

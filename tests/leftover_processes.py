@@ -1,0 +1,48 @@
+"""Find processes a test run left behind: every process the run starts inherits a marker in its
+environment (``POREFILL_TEST_RUN``), so one found still alive at the end was started by the run, whoever its
+parent is now (an orphan is re-parented to init and is no longer a descendant). Linux only (/proc)."""
+from __future__ import annotations
+
+import os
+import time
+from pathlib import Path
+
+VARIABLE = "POREFILL_TEST_RUN"
+
+
+def mark_run() -> str:
+    """Put this run's marker in the environment (inherited by every process started from now on)."""
+    value = f"{os.getpid()}-{time.time_ns()}"
+    os.environ[VARIABLE] = value
+    return value
+
+
+def carrying(marker: str) -> list[tuple[int, str]]:
+    """(pid, command line) of every live process but this one whose environment holds ``marker``."""
+    if not Path("/proc").is_dir():
+        return []
+    want, me, found = f"{VARIABLE}={marker}".encode(), os.getpid(), []
+    for name in os.listdir("/proc"):
+        if not name.isdigit() or int(name) == me:
+            continue
+        try:
+            if want not in Path(f"/proc/{name}/environ").read_bytes().split(b"\0"):
+                continue
+            state = next((line.split()[1] for line in Path(f"/proc/{name}/status").read_text().splitlines()
+                          if line.startswith("State:")), "?")
+            cmd = Path(f"/proc/{name}/cmdline").read_bytes().replace(b"\0", b" ").decode(errors="replace")
+        except (OSError, StopIteration):
+            continue                        # ended meanwhile, or not ours to read
+        if state != "Z":                    # a zombie has ended; only its parent's reaping is pending
+            found.append((int(name), cmd.strip()[:160]))
+    return found
+
+
+def left_behind(marker: str, grace_s: float = 15.0) -> list[tuple[int, str]]:
+    """Processes still carrying ``marker`` after ``grace_s`` seconds for them to end on their own."""
+    deadline = time.monotonic() + grace_s
+    while True:
+        alive = carrying(marker)
+        if not alive or time.monotonic() > deadline:
+            return alive
+        time.sleep(0.5)
