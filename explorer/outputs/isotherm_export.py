@@ -29,7 +29,7 @@ __all__ = ["calibration", "calibration_note", "isotherm_json", "step_json", "iso
 EXPORTED_BRANCHES = {
     "adsorption_as_measured": ("adsorption", None, "the branch a measured adsorption follows"),
     "desorption_as_measured": ("desorption", None, "the branch a measured desorption follows"),
-    "equilibrium": (None, "equilibrium", "the lower grand potential of the two mean-field branches at each μ"),
+    "equilibrium": (None, "equilibrium", "the lowest grand potential among the mean-field states found at each μ (both branches and layered starts)"),
     "meanfield_adsorption_spinodal": (None, "adsorption", "the raw mean-field adsorption branch: the metastable "
                                       "film up to its spinodal (a limit, not a measurement)"),
     "meanfield_desorption_spinodal": (None, "desorption", "the raw mean-field desorption branch: the metastable "

@@ -18,6 +18,7 @@ from porefill.physics.choices import DEFAULT_POINTS
 from porefill.physics.limits import check_points, check_pressure_range
 
 from porefill.physics.lattice_gas.meanfield import Branch, solve_branch, solve_state
+from porefill.physics.lattice_gas.multistart import EquilibriumStates, equilibrium_states
 from porefill.physics.scenario import Scenario
 from porefill.physics.lattice_gas.stages import ThermalStage, thermal_stage
 from porefill.physics.lattice_gas.steps import Step, find_steps
@@ -28,13 +29,15 @@ __all__ = ["Isotherm", "compute_isotherm", "default_mu_range"]
 
 @dataclass(frozen=True, eq=False)
 class Isotherm:
-    """Both branches on a common μ grid (ascending), the equilibrium between them, and the layer steps."""
+    """Both branches on a common μ grid (ascending), the equilibrium (the lowest-Ω state found at each μ:
+    `porefill.physics.lattice_gas.multistart`), and the layer steps."""
 
     stage: ThermalStage
     mu: np.ndarray
     adsorption: Branch                 # on mu, ascending
     desorption: Branch                 # on mu, ascending (solved descending)
     steps: tuple[Step, ...]
+    equilibrium: EquilibriumStates
 
     @property
     def setup(self) -> ThermalStage:   # the name views and exports use
@@ -55,7 +58,7 @@ class Isotherm:
         return AmountBasis.of(self.stage.geometry.pore, self.stage.scenario.pore_volume_cm3_g)
 
     def branch(self, name: str):
-        """'adsorption', 'desorption' or 'equilibrium' (the lower-Ω state at each μ)."""
+        """'adsorption', 'desorption' or 'equilibrium' (the lowest-Ω state found at each μ)."""
         if name == "equilibrium":
             return self.equilibrium_occupancy()
         if name not in ("adsorption", "desorption"):
@@ -108,15 +111,10 @@ class Isotherm:
         return np.gradient(self.per_nm(branch), self.mu)
 
     # equilibrium -----------------------------------------------------------------------------
-    def equilibrium_is_desorption(self) -> np.ndarray:
-        """True where the desorption branch has the lower grand potential (beyond rounding)."""
-        d = self.desorption.grand_potential - self.adsorption.grand_potential
-        return d < -1e-9 * (1.0 + np.abs(self.adsorption.grand_potential))
-
     def equilibrium_occupancy(self) -> np.ndarray:
-        """(M, orbits) occupancy of the lower-Ω state at each μ."""
-        use = self.equilibrium_is_desorption()[:, None]
-        return np.where(use, self.desorption.occupancy, self.adsorption.occupancy)
+        """(M, orbits) occupancy of the lowest-Ω state found at each μ (the lower of the two branches, or a
+        state of neither where one lies below both)."""
+        return self.stage.problem.occupancy(self.equilibrium.logits)
 
     def site_occupancy(self, k: int, branch: str = "equilibrium") -> np.ndarray:
         """(N,) occupancy of every kept site at grid point k."""
@@ -181,12 +179,6 @@ def equilibrium_transition(problem, mu_low: float, x_low: np.ndarray, mu_high: f
     yh = solve_state(xh, mid, problem)[0]
     rise = occ(yh) - occ(yl)
     return mid, float(w @ rise), rise
-
-
-def _equilibrium_logits(ads: Branch, des: Branch) -> np.ndarray:
-    """(M, O) logits of the lower-Ω branch at each μ."""
-    use = des.grand_potential - ads.grand_potential < -1e-9 * (1.0 + np.abs(ads.grand_potential))
-    return np.where(use[:, None], des.logits, ads.logits)
 
 
 def compressibility(problem, x: np.ndarray, solve) -> float:
@@ -265,6 +257,7 @@ def compute_isotherm(scenario: Scenario, *, n_points: int = DEFAULT_POINTS, mu_r
     des_rev = solve_branch(mu[::-1], p, np.maximum(start_full, 30.0))
     des = Branch(mu, des_rev.logits[::-1], des_rev.grand_potential[::-1], des_rev.converged[::-1], p)
     labels = stage.orbit_labels()
+    eq = equilibrium_states(mu, p, ads, des, stage.lattice.ring[stage.representative])
     basis = AmountBasis.of(stage.geometry.pore, scenario.pore_volume_cm3_g)
     per_site = float(from_atoms_per_angstrom(_atoms_per_angstrom_per_site(stage), "per nm", basis))
     steps = find_steps(mu, ads.occupancy, des.occupancy, ads.grand_potential, des.grand_potential,
@@ -272,5 +265,8 @@ def compute_isotherm(scenario: Scenario, *, n_points: int = DEFAULT_POINTS, mu_r
                        pressure_pa=stage.scale.pressure_pa, saturation_pressure_pa=stage.saturation_pressure_pa,
                        per_site=per_site, refine=lambda k0, k1: equilibrium_transition(
                            p, mu[k0], ads.logits[k0], mu[k1], des.logits[k1]),
-                       refine_peak=lambda k0, k1: compressibility_peak(p, mu, _equilibrium_logits(ads, des), k0, k1))
-    return Isotherm(stage, mu, ads, des, steps)
+                       refine_peak=lambda k0, k1: compressibility_peak(p, mu, eq.logits, k0, k1),
+                       occupancy_eq=p.occupancy(eq.logits) if eq.found_below_both else None,
+                       transitions=lambda i0, i1: eq.transitions(i0, i1, ads, des, lambda m0, x0, m1, x1:
+                                                                 equilibrium_transition(p, m0, x0, m1, x1)))
+    return Isotherm(stage, mu, ads, des, steps, eq)

@@ -103,7 +103,7 @@ class IsothermEnergies:
 
 def _branch_logits(iso, branch: str) -> np.ndarray:
     if branch == "equilibrium":
-        return np.where(iso.equilibrium_is_desorption()[:, None], iso.desorption.logits, iso.adsorption.logits)
+        return iso.equilibrium.logits
     if branch not in ("adsorption", "desorption"):
         raise ValueError(f"branch must be adsorption, desorption or equilibrium; got {branch!r}")
     return getattr(iso, branch).logits

@@ -59,15 +59,21 @@ def _refine(problem, mu, logits, k: int, rising: bool, bisections: int):
 
 def _equilibrium_curve(iso, mu: np.ndarray, per: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """The equilibrium on the grid, each first-order transition a riser at its exact μ: below it the
-    adsorption branch's amount, above it the desorption branch's."""
+    adsorption branch's amount, above it the desorption branch's (where the equilibrium passes through a
+    state of neither branch, its amounts at the grid points either side)."""
     ads, des = iso.per_angstrom("adsorption"), iso.per_angstrom("desorption")
+    source = iso.equilibrium.source
     xs, ys, last = [], [], 0
     for mu_star in sorted(s.mu_k for s in iso.steps if s.kind == "first-order" and mu[0] < s.mu_k < mu[-1]):
         k = int(np.searchsorted(mu, mu_star))          # mu[k-1] < mu* <= mu[k]
         if k <= last:
             continue
+        if source[k - 1] == 0 and source[k] == 1:
+            riser = [np.interp(mu_star, mu, ads), np.interp(mu_star, mu, des)]
+        else:
+            riser = [per[k - 1], per[k]]
         xs += [mu[last:k], np.array([mu_star, mu_star])]
-        ys += [per[last:k], np.array([np.interp(mu_star, mu, ads), np.interp(mu_star, mu, des)])]
+        ys += [per[last:k], np.array(riser)]
         last = k
     xs.append(mu[last:])
     ys.append(per[last:])

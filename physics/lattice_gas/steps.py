@@ -1,6 +1,7 @@
 """Layer steps of an isotherm, found from the branch arrays: first-order jumps and continuous sharp rises.
 
-Everything is read off the *equilibrium* curve, the lower-Ω of the two branches at each μ:
+Everything is read off the *equilibrium* curve, the lower-Ω of the two branches at each μ (or, where a
+state of neither branch lies lower, the lowest of all states found: `porefill.physics.lattice_gas.multistart`):
 
 - a **first-order step** is a point where the equilibrium passes from the adsorption branch to a
   desorption branch that holds more (their grand potentials cross while the branches differ); its
@@ -74,7 +75,7 @@ def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
 
 def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weights, labels, order,
                pressure_pa, saturation_pressure_pa: float, per_site: float, refine=None,
-               refine_peak=None) -> tuple[Step, ...]:
+               refine_peak=None, occupancy_eq=None, transitions=None) -> tuple[Step, ...]:
     """Layer steps from the two branches on a common ascending μ grid.
 
     Parameters
@@ -91,6 +92,14 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
         grid points k0 < k1, from the adsorption state at k0 and the desorption state at k1 (see
         `porefill.physics.lattice_gas.adsorption`); without it, linear interpolation of Ω on the grid.
 
+    occupancy_eq : (M, O), optional
+        the equilibrium's occupancy when it is not simply the lower of the two branches (states found from
+        other starts, `porefill.physics.lattice_gas.multistart`)
+    transitions : callable, optional
+        ``transitions(i0, i1)``: the equilibrium's first-order transitions, each (μ_eq, sites added, (O,)
+        rise), over the run i0…i1 where the branches differ, or None where the equilibrium there is one of
+        the two branches (then the two-branch rule above applies)
+
     A first-order step's loop ends (``adsorption_jump_mu_k``, ``desorption_jump_mu_k``) are the first grid
     points past the jumps of the two branches, so the equilibrium always lies between them.
     """
@@ -102,7 +111,7 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
     d_omega = omega_ads - omega_des                      # > 0 where desorption is the lower state
     rounding = 1e-9 * (1.0 + np.abs(omega_ads))
     use_des = d_omega > rounding
-    occ_eq = np.where(use_des[:, None], occupancy_des, occupancy_ads)
+    occ_eq = np.where(use_des[:, None], occupancy_des, occupancy_ads) if occupancy_eq is None else occupancy_eq
     n_eq = occ_eq @ w
     differ = gap > _DIFFER_FRACTION * total
     min_add = _MIN_STEP_FRACTION * total
@@ -116,6 +125,14 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
         lo_k, hi_k = max(i0 - 1, 0), min(i1 + 1, mu.size - 1)
         if lo_k == i0 or hi_k == i1:
             continue                   # the loop runs off the grid: its transition is outside the range
+        several = transitions(i0, i1) if transitions is not None else None
+        if several is not None:        # the equilibrium passes through states of neither branch here
+            for mu_eq, added, rise in several:
+                if added > min_add:
+                    found.append((dict(kind="first-order", mu_k=float(mu_eq), added=float(added),
+                                       up=float(mu[hi_k]), down=float(mu[lo_k])), np.asarray(rise)))
+            jumps[lo_k:hi_k] = True
+            continue
         cross = [k for k in range(lo_k, hi_k) if not use_des[k] and use_des[k + 1]]
         if cross:
             k0, k1 = cross[0], cross[0] + 1

@@ -1,0 +1,188 @@
+"""The equilibrium as the lowest grand potential among all states found, not only the two branches'.
+
+Where the adsorption branch (continued up from an empty pore) and the desorption branch (continued down from
+a full one) differ, the pore is multistable, and a third state can lie below both: a pore whose outer rows
+are full and inner rows empty, say, while the adsorption branch still holds a thinner film and the
+desorption branch the full pore. Taking the lower of the two branches would then miss that layer's step
+and move the condensation with the μ grid.
+
+Over every μ interval where the branches differ, each *layered* start — the first r rows from the wall full,
+the rest empty, r = 1 … rows − 1 — is descended to a stable state (`porefill.physics.lattice_gas.meanfield.solve_state`) at up to
+eight grid points spread over the interval, and a state apart from both branches is continued up and down
+the interval for as long as it stays apart (a state that falls onto a branch is that branch). The equilibrium at each
+grid point is the lowest Ω among the two branches and these paths (the adsorption branch, then the
+desorption branch, win ties). Each change of the equilibrium state between neighbouring grid points is a
+first-order transition, placed exactly by `porefill.physics.lattice_gas.adsorption.equilibrium_transition`; at
+the transition's μ every other state is re-solved, and one that lies lower there splits the transition in
+two (a state that is the equilibrium only between two grid points is not lost on a coarse grid).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from porefill.physics.lattice_gas.meanfield import Branch, MeanFieldProblem, solve_state
+
+__all__ = ["EquilibriumStates", "equilibrium_states"]
+
+_SAME_STATE = 1e-3          # states whose orbit occupancies all agree to this are one state
+_DIFFER_FRACTION = 1e-6     # as in `porefill.physics.lattice_gas.steps`: branches that differ by more form a loop
+_FULL_LOGIT = 30.0          # a full site in a layered start (occupancy 1 − 1e-13); −30 for an empty one
+_SEEDS = 8                  # grid points of a run where each layered start is descended
+
+
+@dataclass(frozen=True, eq=False)
+class EquilibriumStates:
+    """The lowest-Ω state at every grid point and where it came from.
+
+    Attributes
+    ----------
+    logits : (M, O) logits of the equilibrium state
+    grand_potential : (M,) its Ω (K per slice)
+    source : (M,) 0 the adsorption branch, 1 the desorption branch, 2 + j path j of ``paths``
+    paths : (P, M, O) logits of the states found from layered starts (NaN where a path does not exist)
+    path_omega : (P, M) their Ω (NaN where they do not exist)
+    """
+
+    logits: np.ndarray
+    grand_potential: np.ndarray
+    source: np.ndarray
+    paths: np.ndarray
+    path_omega: np.ndarray
+    _problem: MeanFieldProblem = field(repr=False, default=None)
+
+    @property
+    def found_below_both(self) -> int:
+        """Grid points where a state of neither branch is the equilibrium."""
+        return int(np.count_nonzero(self.source >= 2))
+
+    def state_logits(self, which: int, ads: Branch, des: Branch) -> np.ndarray:
+        """(M, O) logits of source ``which`` (0 adsorption, 1 desorption, 2 + j path j)."""
+        return ads.logits if which == 0 else des.logits if which == 1 else self.paths[which - 2]
+
+    def transitions(self, i0: int, i1: int, ads: Branch, des: Branch, refine) -> list[tuple[float, float, np.ndarray]] | None:
+        """The first-order transitions of the equilibrium over the grid points i0 − 1 … i1 + 1 (one run where
+        the branches differ), each as ``refine``'s (μ_eq, sites added, (O,) rise); None where the equilibrium
+        there is only ever the two branches (the two-branch rule of `porefill.physics.lattice_gas.steps` applies).
+
+        ``refine(mu_lo, x_lo, mu_hi, x_hi)``: the equilibrium transition between a low state (logits x_lo,
+        stable at mu_lo) and a high one (`porefill.physics.lattice_gas.adsorption.equilibrium_transition`).
+        """
+        lo, hi = max(i0 - 1, 0), min(i1 + 1, self.source.size - 1)
+        src = self.source[lo:hi + 1]
+        if not np.any(src >= 2):
+            return None
+        mu = ads.mu
+        out = []
+        for k in range(lo, hi):
+            a, b = int(self.source[k]), int(self.source[k + 1])
+            if a == b:
+                continue
+            out += self._split(k, a, b, ads, des, refine, depth=0)
+        return out
+
+    def _split(self, k: int, a: int, b: int, ads: Branch, des: Branch, refine, depth: int):
+        mu = ads.mu
+        xa, xb = self.state_logits(a, ads, des)[k], self.state_logits(b, ads, des)[k + 1]
+        mu_eq, added, rise = refine(mu[k], xa, mu[k + 1], xb)
+        if depth > 4:
+            return [(mu_eq, added, rise)]
+        p = self._problem
+        omega_eq = solve_state(xa, mu_eq, p)[3]
+        for c in range(2 + self.paths.shape[0]):
+            if c in (a, b):
+                continue
+            xc = self.state_logits(c, ads, des)
+            start = xc[k] if np.all(np.isfinite(xc[k])) else xc[k + 1]
+            if not np.all(np.isfinite(start)):
+                continue
+            y, ok, _, om = solve_state(start, mu_eq, p)
+            occ = p.occupancy
+            if not ok or om >= omega_eq - 1e-9 * (1.0 + abs(omega_eq)):
+                continue
+            n_c = float(p.weights @ occ(y))
+            n_a, n_b = float(p.weights @ occ(xa)), float(p.weights @ occ(xb))
+            if not (min(n_a, n_b) < n_c < max(n_a, n_b)):
+                continue
+            # c lies lower at the transition: the equilibrium passes through it between the grid points
+            paths = self.paths.copy()
+            j = c - 2 if c >= 2 else None
+            if j is None:
+                continue
+            paths[j, k] = paths[j, k] if np.all(np.isfinite(paths[j, k])) else y
+            paths[j, k + 1] = paths[j, k + 1] if np.all(np.isfinite(paths[j, k + 1])) else y
+            sub = EquilibriumStates(self.logits, self.grand_potential, self.source, paths, self.path_omega, p)
+            return (sub._split(k, a, c, ads, des, refine, depth + 1)
+                    + sub._split(k, c, b, ads, des, refine, depth + 1))
+        return [(mu_eq, added, rise)]
+
+
+def _same(p: MeanFieldProblem, x: np.ndarray, y: np.ndarray) -> bool:
+    return bool(np.max(np.abs(p.occupancy(x) - p.occupancy(y))) < _SAME_STATE)
+
+
+def _follow(mu: np.ndarray, run: tuple[int, int], k0: int, x0: np.ndarray, p: MeanFieldProblem, ads: Branch,
+            des: Branch, paths: list[np.ndarray], omegas: list[np.ndarray]) -> None:
+    """Descend from ``x0`` at grid point ``k0`` and continue the state up and down the run (first, last grid
+    point) while it stays apart from both branches; add it to ``paths`` unless it is one found before."""
+    logits = np.full((mu.size, x0.size), np.nan)
+    omega = np.full(mu.size, np.nan)
+    for ks in (range(k0, run[1] + 1), range(k0, run[0] - 1, -1)):
+        x, solve, prev = x0, None, None
+        for k in ks:
+            if solve is not None:
+                x = x + solve(np.full(x.size, mu[k] - mu[prev]))   # tangent predictor, as on the branches
+            x, ok, solve, om = solve_state(x, mu[k], p)
+            if not ok or _same(p, x, ads.logits[k]) or _same(p, x, des.logits[k]):
+                break
+            if any(np.all(np.isfinite(q[k])) and _same(p, x, q[k]) for q in paths):
+                return                                              # found before, from another start
+            logits[k], omega[k], prev = x, om, k
+        if k0 not in range(run[0], run[1] + 1) or not np.isfinite(omega[k0]):
+            return                                                  # the start fell onto a branch
+        x0 = logits[k0]
+    paths.append(logits)
+    omegas.append(omega)
+
+
+def equilibrium_states(mu: np.ndarray, problem: MeanFieldProblem, ads: Branch, des: Branch,
+                       row: np.ndarray) -> EquilibriumStates:
+    """The equilibrium (lowest Ω among the branches and the layered starts' states) on the grid ``mu``.
+
+    ``row``: (O,) each orbit's row counted from the wall (0 = the first row).
+    """
+    p, w = problem, problem.weights
+    mu = np.asarray(mu, float)
+    gap = des.occupancy @ w - ads.occupancy @ w
+    differ = gap > _DIFFER_FRACTION * float(w.sum())
+    edges = np.diff(np.concatenate([[0], differ.astype(np.int8), [0]]))
+    runs = list(zip(np.flatnonzero(edges == 1), np.flatnonzero(edges == -1) - 1))
+    paths: list[np.ndarray] = []
+    omegas: list[np.ndarray] = []
+    rows = int(np.max(row)) + 1 if row.size else 1
+    for i0, i1 in runs:
+        seeds = np.unique(np.round(np.linspace(i0, i1, min(_SEEDS, i1 - i0 + 1))).astype(int))
+        for r in range(1, rows):
+            start = np.where(row < r, _FULL_LOGIT, -_FULL_LOGIT)
+            for k in seeds:
+                if not any(np.all(np.isfinite(q[k])) for q in paths):
+                    _follow(mu, (i0, i1), int(k), start, p, ads, des, paths, omegas)
+                else:
+                    x = solve_state(start, mu[k], p)[0]
+                    if not any(np.all(np.isfinite(q[k])) and _same(p, x, q[k]) for q in paths):
+                        _follow(mu, (i0, i1), int(k), x, p, ads, des, paths, omegas)
+    n_paths = len(paths)
+    path_logits = np.array(paths) if n_paths else np.zeros((0, mu.size, w.size))
+    path_omega = np.array(omegas) if n_paths else np.zeros((0, mu.size))
+    # lowest Ω, ties to the adsorption branch, then the desorption branch, then the paths in order
+    omega = np.vstack([ads.grand_potential, des.grand_potential, path_omega])
+    omega = np.where(np.isfinite(omega), omega, np.inf)
+    best = omega.min(axis=0)
+    tie = 1e-9 * (1.0 + np.abs(best))
+    source = np.argmax(omega <= (best + tie)[None, :], axis=0)
+    logits = np.where((source == 0)[:, None], ads.logits, des.logits)
+    for j in range(n_paths):
+        logits = np.where((source == 2 + j)[:, None], path_logits[j], logits)
+    grand = omega[source, np.arange(mu.size)]
+    return EquilibriumStates(logits, grand, source, path_logits, path_omega, p)
