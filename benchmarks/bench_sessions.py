@@ -28,7 +28,10 @@ Modes
     close.
 ``--mode soak --minutes N`` (3 sessions)
     Each session opens a fresh context, does the scripted use with the upload, closes it and starts again,
-    until N minutes have passed; memory every ~10 s, then after close against the baseline.
+    until N minutes have passed; memory every ~10 s, then after close against the baseline. In the load and
+    soak modes the warm-up is one round of the same use with the upload by as many sessions at once as the
+    run has (`warm_up`), so what the server takes once for that use is part of the baseline;
+    ``cold_server_mb`` is printed beside it, and each sample carries the server process's own RSS.
 
 Run: ``.venv/bin/python benchmarks/bench_sessions.py --mode memory`` (or ``--mode load --sessions 20``,
 ``--mode soak --minutes 10``). The figures depend on what else the machine runs: on a 2-core machine the
@@ -116,7 +119,8 @@ def server_memory(root: int) -> dict:
     tree = process_tree(root)
     rss = sum(_kb(f"/proc/{pid}/status", "VmRSS:") for pid in tree)
     pss = sum(_kb(f"/proc/{pid}/smaps_rollup", "Pss:") for pid in tree)
-    return {"rss_mb": round(rss / 1024, 1), "pss_mb": round(pss / 1024, 1), "processes": len(tree)}
+    return {"rss_mb": round(rss / 1024, 1), "pss_mb": round(pss / 1024, 1), "processes": len(tree),
+            "server_rss_mb": round(_kb(f"/proc/{root}/status", "VmRSS:") / 1024, 1)}
 
 
 def process_table(root: int) -> list[dict]:
@@ -137,13 +141,14 @@ class Sampler:
     """Samples the server's memory every ``interval`` s in the background and prints each sample."""
 
     def __init__(self, pid: int, interval: float):
-        self.pid, self.interval, self.phase, self.open = pid, interval, "start", 0
+        self.pid, self.interval, self.phase, self.open, self.closed = pid, interval, "start", 0, 0
         self.samples: list[dict] = []
         self._t0 = time.perf_counter()
 
     def sample(self, quiet: bool = False) -> dict:
         s = {"benchmark": "sessions_memory_sample", "t_s": round(time.perf_counter() - self._t0, 1),
-             "phase": self.phase, "open_sessions": self.open, **server_memory(self.pid)}
+             "phase": self.phase, "open_sessions": self.open, "closed_sessions": self.closed,
+             **server_memory(self.pid)}
         self.samples.append(s)
         if not quiet:
             print(json.dumps(s), flush=True)
@@ -311,6 +316,7 @@ async def soak_worker(index: int, browser, url: str, args, deadline: float, samp
             await s.step("upload", s.upload())
         await s.close()
         sampler.open -= 1
+        sampler.closed += 1
         done.append(s)
         await asyncio.sleep(2)
     return done
@@ -349,8 +355,38 @@ def report(sessions: list[Session], sampler: Sampler, baseline: float, cold: flo
     rows = after["by_process"]["after_close"]
     summary["after_close_baseline_processes_mb"] = round(sum(r["rss_mb"] for r in rows if r["pid"] in kept), 1)
     summary["after_close_new_processes_mb"] = round(sum(r["rss_mb"] for r in rows if r["pid"] not in kept), 1)
+    # the server process alone (its workers come and go with the pools) and the whole tree, against the baseline
+    server = {phase: sum(r["rss_mb"] for r in rows_ if r["kind"] == "server")
+              for phase, rows_ in after["by_process"].items()}
+    summary["server_process_baseline_mb"] = round(server["baseline"], 1)
+    summary["server_process_after_close_mb"] = round(server["after_close"], 1)
+    if server["baseline"]:
+        summary["server_process_growth_percent"] = round(100 * (server["after_close"] / server["baseline"] - 1), 1)
+    summary["tree_growth_percent"] = round(100 * (after["rss_mb"] / baseline - 1), 1)
     print(json.dumps(summary, ensure_ascii=False), flush=True)
     print(json.dumps({"benchmark": f"sessions_{args.mode}_rss_by_process", **after["by_process"]}))
+
+
+async def warm_up(browsers: list, url: str, args) -> None:
+    """Memory mode: one session opens and closes (the isotherm workers start). Load and soak modes: one
+    round of the same use with the upload, by as many sessions at once as the run will have, so that what the
+    server takes once for that much concurrent use (modules, compiled kernels, the parse worker, the
+    allocator's high-water mark) is in the baseline and what grows after it is what sessions leave behind."""
+    if args.mode == "memory":
+        warm = Session(-1, browsers[0], url)
+        await warm.open()
+        await warm.close()
+        return
+
+    async def one(i: int) -> None:
+        warm = Session(-1 - i, browsers[i % len(browsers)], url)
+        await warm.step("open", warm.open())
+        if warm.page is not None:
+            await warm.use(1)
+            await warm.step("upload", warm.upload())
+        await warm.close()
+
+    await asyncio.gather(*(one(i) for i in range(args.sessions)))
 
 
 async def main(args) -> None:
@@ -376,9 +412,7 @@ async def run(args, pid: int, url: str) -> None:
                     for _ in range(args.browsers)]
         cold = sampler.sample()["rss_mb"]
         sampler.phase = "warm-up"                  # the first session starts the isotherm workers
-        warm = Session(-1, browsers[0], url)
-        await warm.open()
-        await warm.close()
+        await warm_up(browsers, url, args)
         baseline = (await sampler.settle(45))["rss_mb"]
         before = process_table(pid)
         sampler.phase = "sessions"
