@@ -21,6 +21,17 @@ SIZE_RANGE_ANGSTROM = {"hexagon": (2.0, 200.0), "cylinder": (2.0, 300.0), "slit"
 MAX_WALL_ANGSTROM = 200.0
 SPACING_RANGE_ANGSTROM = (2.0, 10.0)
 MAX_SITES = 15_000            # lattice sites in one cross-section (slit: rows); ~30 s of solving at most
+# Physical bounds on a scenario's numbers (common practice, no source): wide enough for any gas and solid a
+# user could mean, narrow enough that nothing absurd reaches the solvers (1e300 K once ran for minutes).
+# (low, high, low is open, unit)
+SCENARIO_NUMBER_RANGES = {
+    "temperature_k": (0.0, 1000.0, True, "K"),
+    "pair_epsilon_k": (0.0, 10_000.0, True, "K"),
+    "pair_sigma_angstrom": (0.5, 20.0, False, "Å"),
+    "solid_density_per_a3": (0.0, 1.0, True, "Å⁻³"),
+    "pore_volume_cm3_g": (0.0, 20.0, True, "cm³/g"),
+    "bond_energy_k": (0.0, 10_000.0, False, "K"),
+}
 POINTS_RANGE = (3, 5000)      # chemical potentials along an isotherm
 GRID_RANGE = (3, 2000)        # potential map n x n (an odd n >= 3 holds the centre)
 

@@ -9,7 +9,7 @@ from __future__ import annotations
 from dataclasses import asdict, dataclass, fields
 
 from porefill.physics.pore.geometry import PORE_SHAPES, Pore, make_pore
-from porefill.physics.limits import check_geometry, check_number
+from porefill.physics.limits import SCENARIO_NUMBER_RANGES, check_geometry, check_number
 from porefill.physics.substances.materials import ADSORBATES, SOLIDS, PairParameters, pair_parameters
 from porefill.physics.sites.site_models import SITE_MODEL_NAMES, default_site_model
 
@@ -69,18 +69,18 @@ class Scenario:
         for name in ("title", "notes"):
             if not isinstance(getattr(self, name), str):
                 raise ValueError(f"{name} must be text; got {getattr(self, name)!r}")
-        check_number("temperature_k", self.temperature_k, low=0.0, low_open=True, unit="K")
-        for name in ("pair_epsilon_k", "pair_sigma_angstrom", "solid_density_per_a3", "pore_volume_cm3_g"):
-            if getattr(self, name) is not None:
-                check_number(name, getattr(self, name), low=0.0, low_open=True)
-        if self.bond_energy_k is not None:
-            check_number("bond_energy_k", self.bond_energy_k, low=0.0, unit="K")
+        for name, (low, high, low_open, unit) in SCENARIO_NUMBER_RANGES.items():
+            if getattr(self, name) is not None or name == "temperature_k":
+                check_number(name, getattr(self, name), low=low, high=high, low_open=low_open, unit=unit)
         from porefill.physics.choices import BOND_RULES
         if self.bond_calibration is not None and self.bond_calibration not in BOND_RULES:
             raise ValueError(f"bond_calibration must be one of {', '.join(BOND_RULES)}; "
                              f"got {self.bond_calibration!r}")
         if self.plating_layers is not None and self.plating is None:
             raise ValueError("plating_layers needs a plating gas (plating = \"argon\", ...)")
+        from porefill.physics.choices import PLATING_GASES
+        if self.plating is not None and not isinstance(self.plating, str):
+            raise ValueError(f"plating gas must be one of {', '.join(PLATING_GASES)}; got {self.plating!r}")
         pair = self.pair()
         check_geometry(self.shape, self.size_angstrom, self.effective_wall_angstrom,
                        solid_density_per_a3=pair.density_per_a3, spacing_angstrom=self.lattice_spacing_angstrom)
@@ -109,7 +109,8 @@ class Scenario:
         from dataclasses import replace
 
         from porefill.physics.pore.plating import make_plating
-        return replace(pair, plating=make_plating(self.plating, self.plating_layers or 1, self.adsorbate, self.solid))
+        return replace(pair, plating=make_plating(self.plating, 1 if self.plating_layers is None else self.plating_layers,
+                                                  self.adsorbate, self.solid))
 
     def geometry_key(self) -> tuple:
         """The inputs the temperature-independent stage depends on (hashable): pore, pair, lattice."""
