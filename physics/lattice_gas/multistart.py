@@ -6,10 +6,12 @@ are full and inner rows empty, say, while the adsorption branch still holds a th
 desorption branch the full pore. Taking the lower of the two branches would then miss that layer's step
 and move the condensation with the μ grid.
 
-Over every μ interval where the branches differ, each *layered* start — the first r rows from the wall full,
-the rest empty, r = 1 … rows − 1 — is descended to a stable state (`porefill.physics.lattice_gas.meanfield.solve_state`) at up to
-eight grid points spread over the interval, and a state apart from both branches is continued up and down
-the interval for as long as it stays apart (a state that falls onto a branch is that branch). The equilibrium at each
+Over every μ interval where the branches differ, each *layered* start — the first r rows from the wall as the
+desorption branch holds them (full), the rest as the adsorption branch holds them, for every r with more rows
+full than the adsorption branch and fewer than the desorption branch at that point — is descended to a stable
+state (`porefill.physics.lattice_gas.meanfield.solve_state`) at up to eight grid points spread over the interval, and a
+state apart from both branches is continued up and down the interval for as long as it stays apart (a state
+that falls onto a branch is that branch). The equilibrium at each
 grid point is the lowest Ω among the two branches and these paths (the adsorption branch, then the
 desorption branch, win ties). Each change of the equilibrium state between neighbouring grid points is a
 first-order transition, placed exactly by `porefill.physics.lattice_gas.adsorption.equilibrium_transition`; at
@@ -28,7 +30,6 @@ __all__ = ["EquilibriumStates", "equilibrium_states"]
 
 _SAME_STATE = 1e-3          # states whose orbit occupancies all agree to this are one state
 _DIFFER_FRACTION = 1e-6     # as in `porefill.physics.lattice_gas.steps`: branches that differ by more form a loop
-_FULL_LOGIT = 30.0          # a full site in a layered start (occupancy 1 − 1e-13); −30 for an empty one
 _SEEDS = 8                  # grid points of a run where each layered start is descended
 
 
@@ -73,7 +74,6 @@ class EquilibriumStates:
         src = self.source[lo:hi + 1]
         if not np.any(src >= 2):
             return None
-        mu = ads.mu
         out = []
         for k in range(lo, hi):
             a, b = int(self.source[k]), int(self.source[k + 1])
@@ -161,11 +161,21 @@ def equilibrium_states(mu: np.ndarray, problem: MeanFieldProblem, ads: Branch, d
     paths: list[np.ndarray] = []
     omegas: list[np.ndarray] = []
     rows = int(np.max(row)) + 1 if row.size else 1
+    row_weight = np.bincount(row, weights=w, minlength=rows)
+
+    def rows_full(occupancy: np.ndarray) -> int:
+        """Rows from the wall that are more than half full before the first that is not."""
+        full = np.bincount(row, weights=w * occupancy, minlength=rows) > 0.5 * row_weight
+        return int(np.argmin(full)) if not full.all() else rows
+
     for i0, i1 in runs:
         seeds = np.unique(np.round(np.linspace(i0, i1, min(_SEEDS, i1 - i0 + 1))).astype(int))
-        for r in range(1, rows):
-            start = np.where(row < r, _FULL_LOGIT, -_FULL_LOGIT)
-            for k in seeds:
+        for k in seeds:
+            # only starts between the branches: more rows full than on the adsorption branch, fewer than on
+            # the desorption branch (a start outside them descends onto a branch)
+            for r in range(rows_full(ads.occupancy[k]) + 1, rows_full(des.occupancy[k])):
+                # the outer rows as the desorption branch holds them, the inner as the adsorption branch
+                start = np.where(row < r, des.logits[k], ads.logits[k])
                 if not any(np.all(np.isfinite(q[k])) for q in paths):
                     _follow(mu, (i0, i1), int(k), start, p, ads, des, paths, omegas)
                 else:
