@@ -176,12 +176,13 @@ def equilibrium_states(mu: np.ndarray, problem: MeanFieldProblem, ads: Branch, d
             for r in range(rows_full(ads.occupancy[k]) + 1, rows_full(des.occupancy[k])):
                 # the outer rows as the desorption branch holds them, the inner as the adsorption branch
                 start = np.where(row < r, des.logits[k], ads.logits[k])
-                if not any(np.all(np.isfinite(q[k])) for q in paths):
-                    _follow(mu, (i0, i1), int(k), start, p, ads, des, paths, omegas)
-                else:
-                    x = solve_state(start, mu[k], p)[0]
-                    if not any(np.all(np.isfinite(q[k])) and _same(p, x, q[k]) for q in paths):
-                        _follow(mu, (i0, i1), int(k), x, p, ads, des, paths, omegas)
+                x, ok, _, _ = solve_state(start, mu[k], p)
+                if not ok or _same(p, x, ads.logits[k]):
+                    continue
+                if _same(p, x, des.logits[k]):
+                    break              # the pore fills from r rows: from more it fills too
+                if not any(np.all(np.isfinite(q[k])) and _same(p, x, q[k]) for q in paths):
+                    _follow(mu, (i0, i1), int(k), x, p, ads, des, paths, omegas)
     n_paths = len(paths)
     path_logits = np.array(paths) if n_paths else np.zeros((0, mu.size, w.size))
     path_omega = np.array(omegas) if n_paths else np.zeros((0, mu.size))
