@@ -243,3 +243,24 @@ def test_sweep_targets_walls_full_centre_empty_and_a_relative_window():
     bad = run("sweep", "--pore", "hexagon", "--sizes", "14", "--temperature", "1.5", "--target", "layer",
               "--layer", "0", "--quiet")
     assert bad.returncode == 2 and "layer must be a whole number" in bad.stderr and "Traceback" not in bad.stderr
+
+
+def test_ctrl_c_is_one_line_and_exit_130(tmp_path):
+    # Ctrl-C during a computation (a 5000-point quantum helium isotherm at 50 Å side takes tens of seconds): one line on stderr,
+    # exit status 130 (128 + SIGINT, the shells' convention; common practice, no source), no traceback
+    import signal
+    import subprocess
+    import sys
+    import time
+    from pathlib import Path
+
+    exe = Path(sys.executable).with_name("porefill")
+    proc = subprocess.Popen([str(exe), "isotherm", "--temperature", "1.5", "--size", "50", "--points", "5000"],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    time.sleep(4.0)                      # past the imports, inside the computation
+    assert proc.poll() is None, proc.communicate()
+    proc.send_signal(signal.SIGINT)
+    out, err = proc.communicate(timeout=60)
+    assert proc.returncode == 130, (out, err)
+    assert "Traceback" not in err
+    assert err.strip() == "porefill: stopped (Ctrl-C)"

@@ -450,6 +450,9 @@ def main(argv: list[str] | None = None) -> int:
     except BrokenPipeError:          # output piped into `head` and the like
         sys.stderr.close()
         return 0
+    except KeyboardInterrupt:        # Ctrl-C: one line, not a traceback (outputs are written whole or not at all)
+        sys.stderr.write("porefill: stopped (Ctrl-C)\n")
+        return 130
 
 
 if __name__ == "__main__":
