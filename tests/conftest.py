@@ -127,6 +127,18 @@ def pytest_configure(config):
     config._porefill_run = mark_run()
 
 
+def _retire_own_pools() -> None:
+    """Shut down the worker pools that in-process tests started in this process (the dashboard's isotherm
+    pool, the Sizing tab's sweep runners), as a server does when its last session closes; their workers then
+    end within the grace period."""
+    compute = sys.modules.get("porefill.explorer.jobs.compute")
+    if compute is not None:
+        compute.retire_pools()
+    sizing = sys.modules.get("porefill.explorer.views.sizing")
+    if sizing is not None:
+        sizing.close_runners()
+
+
 def pytest_sessionfinish(session, exitstatus):
     """The run fails if it leaves a process behind (a served dashboard, a worker, a browser): each one still
     alive 15 s after the last test is named, then killed."""
@@ -137,6 +149,7 @@ def pytest_sessionfinish(session, exitstatus):
     marker = getattr(session.config, "_porefill_run", None)
     if marker is None or session.config.option.collectonly:
         return
+    _retire_own_pools()
     alive = left_behind(marker)
     if not alive:
         return

@@ -18,7 +18,8 @@ def mark_run() -> str:
 
 
 def carrying(marker: str) -> list[tuple[int, str]]:
-    """(pid, command line) of every live process but this one whose environment holds ``marker``."""
+    """(pid, command line) of every live process but this one whose environment holds ``marker``, less this
+    process's own multiprocessing helpers (its resource tracker and pool workers end when it does)."""
     if not Path("/proc").is_dir():
         return []
     want, me, found = f"{VARIABLE}={marker}".encode(), os.getpid(), []
@@ -33,9 +34,20 @@ def carrying(marker: str) -> list[tuple[int, str]]:
             cmd = Path(f"/proc/{name}/cmdline").read_bytes().replace(b"\0", b" ").decode(errors="replace")
         except (OSError, StopIteration):
             continue                        # ended meanwhile, or not ours to read
-        if state != "Z":                    # a zombie has ended; only its parent's reaping is pending
-            found.append((int(name), cmd.strip()[:160]))
+        if state == "Z":                    # a zombie has ended; only its parent's reaping is pending
+            continue
+        if _parent(name) == me and ("multiprocessing.resource_tracker" in cmd or "multiprocessing.spawn" in cmd):
+            continue                        # this process's own tracker and pool workers: they watch this
+                                            # process and end with it (explorer/jobs/background.py:start_worker)
+        found.append((int(name), cmd.strip()[:160]))
     return found
+
+
+def _parent(pid: str) -> int:
+    try:
+        return int(Path(f"/proc/{pid}/stat").read_text().rsplit(")", 1)[1].split()[1])
+    except (OSError, IndexError, ValueError):
+        return -1
 
 
 def left_behind(marker: str, grace_s: float = 15.0) -> list[tuple[int, str]]:
