@@ -9,7 +9,8 @@ and move the condensation with the μ grid.
 Over every μ interval where the branches differ, each *layered* start — the first r rows from the wall as the
 desorption branch holds them (full), the rest as the adsorption branch holds them, for every r with more rows
 full than the adsorption branch and fewer than the desorption branch at that point — is descended to a stable
-state (`porefill.physics.lattice_gas.meanfield.solve_state`) at up to eight grid points spread over the interval, and a
+state (`porefill.physics.lattice_gas.meanfield.solve_state`) at up to eight grid points spread over the interval (at most twelve
+values of r at a point, spread evenly, in pores with more rows), and a
 state apart from both branches is continued up and down the interval for as long as it stays apart (a state
 that falls onto a branch is that branch). The equilibrium at each
 grid point is the lowest Ω among the two branches and these paths (the adsorption branch, then the
@@ -31,6 +32,7 @@ __all__ = ["EquilibriumStates", "equilibrium_states"]
 _SAME_STATE = 1e-3          # states whose orbit occupancies all agree to this are one state
 _DIFFER_FRACTION = 1e-6     # as in `porefill.physics.lattice_gas.steps`: branches that differ by more form a loop
 _SEEDS = 8                  # grid points of a run where each layered start is descended
+_STARTS_PER_POINT = 12      # layered starts at most at one grid point (spread over the rows between the branches)
 
 
 @dataclass(frozen=True, eq=False)
@@ -146,6 +148,27 @@ def _follow(mu: np.ndarray, run: tuple[int, int], k0: int, x0: np.ndarray, p: Me
     omegas.append(omega)
 
 
+def _search_rows(mu, run, k: int, row, low: int, high: int, p: MeanFieldProblem, ads: Branch, des: Branch,
+                 paths: list, omegas: list) -> None:
+    """Layered starts at grid point k with r rows full, low < r < high (``low``: rows full on the adsorption
+    branch, ``high``: on the desorption branch), at most ``_STARTS_PER_POINT`` of them spread evenly over that
+    range; each is descended, and a state of neither branch not found before is followed. The outcomes are not
+    monotonic in r (a start may fall back, find a state of its own, or fill the pore, in any order), so every
+    r of the spread is tried, up to the first that fills the pore."""
+    rs = np.arange(low + 1, high)
+    if rs.size > _STARTS_PER_POINT:
+        rs = np.unique(np.round(np.linspace(low + 1, high - 1, _STARTS_PER_POINT)).astype(int))
+    for r in rs:
+        # the outer rows as the desorption branch holds them, the inner as the adsorption branch
+        x, ok, _, _ = solve_state(np.where(row < r, des.logits[k], ads.logits[k]), mu[k], p)
+        if not ok or _same(p, x, ads.logits[k]):
+            continue
+        if _same(p, x, des.logits[k]):
+            break                       # the pore fills from r rows full
+        if not any(np.all(np.isfinite(q[k])) and _same(p, x, q[k]) for q in paths):
+            _follow(mu, run, k, x, p, ads, des, paths, omegas)
+
+
 def equilibrium_states(mu: np.ndarray, problem: MeanFieldProblem, ads: Branch, des: Branch,
                        row: np.ndarray) -> EquilibriumStates:
     """The equilibrium (lowest Ω among the branches and the layered starts' states) on the grid ``mu``.
@@ -171,18 +194,8 @@ def equilibrium_states(mu: np.ndarray, problem: MeanFieldProblem, ads: Branch, d
     for i0, i1 in runs:
         seeds = np.unique(np.round(np.linspace(i0, i1, min(_SEEDS, i1 - i0 + 1))).astype(int))
         for k in seeds:
-            # only starts between the branches: more rows full than on the adsorption branch, fewer than on
-            # the desorption branch (a start outside them descends onto a branch)
-            for r in range(rows_full(ads.occupancy[k]) + 1, rows_full(des.occupancy[k])):
-                # the outer rows as the desorption branch holds them, the inner as the adsorption branch
-                start = np.where(row < r, des.logits[k], ads.logits[k])
-                x, ok, _, _ = solve_state(start, mu[k], p)
-                if not ok or _same(p, x, ads.logits[k]):
-                    continue
-                if _same(p, x, des.logits[k]):
-                    break              # the pore fills from r rows: from more it fills too
-                if not any(np.all(np.isfinite(q[k])) and _same(p, x, q[k]) for q in paths):
-                    _follow(mu, (i0, i1), int(k), x, p, ads, des, paths, omegas)
+            _search_rows(mu, (i0, i1), int(k), row, rows_full(ads.occupancy[k]), rows_full(des.occupancy[k]),
+                         p, ads, des, paths, omegas)
     n_paths = len(paths)
     path_logits = np.array(paths) if n_paths else np.zeros((0, mu.size, w.size))
     path_omega = np.array(omegas) if n_paths else np.zeros((0, mu.size))
