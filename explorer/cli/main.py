@@ -263,7 +263,8 @@ def _cmd_states(args) -> int:
         print(f"{scenario.adsorbate} at {t:g} K: ground state {st.ground_state_k:.3f} K, potential minimum "
               f"{st.potential_minimum_k:.3f} K, zero-point energy {st.zero_point_energy_k:.3f} K")
         print(f"{st.energies_k.size} states{' (capped)' if st.capped else ''} on a {st.spacing_angstrom:g} Å grid "
-              f"({st.points.shape[0]} points, energies good to about {st.error_k:.2g} K)")
+              f"({st.points.shape[0]} points, energies good to about {st.error_k:.2g} K); the states above them, "
+              f"summed semiclassically, hold {result['boltzmann_tail_fraction']:.2g} of the Boltzmann sum")
         print(f"Henry constant: quantum {result['henry_quantum']:.4g}, classical {result['henry_classical']:.4g} "
               "atoms per nm per Pa")
         print("lowest excitations (K): " + ", ".join(f"{e:.3f}" for e in result["excitation_energies_k"][:12]))
@@ -272,12 +273,16 @@ def _cmd_states(args) -> int:
         print("site free energies of the quantum site model, per orbit:")
         for o in result["orbits"]:
             how = (f"{o['states']} states, {o['boltzmann_share']:.3g} of the Boltzmann sum"
-                   if o["source"] == "quantum states" else "no computed state reaches it: classical cell integral")
+                   if o["source"] == "quantum states" else
+                   "no computed state reaches it: semiclassical integral above the states' cut"
+                   if o["source"].startswith("semiclassical") else
+                   "no computed state reaches it: classical cell integral")
             print(f"  {o['label']:>8} ×{o['sites']:<3} {o['free_energy_k']:9.3f} K  ({how}; classical "
                   f"{o['classical_free_energy_k']:.3f} K)")
     if st.capped:
-        sys.stderr.write(f"porefill: note: the state count reached --max-states {args.max_states}; higher states "
-                         "carry more than the set share of the Boltzmann weight\n")
+        sys.stderr.write(f"porefill: note: the state count reached --max-states {args.max_states}; the states "
+                         f"above it are summed semiclassically ({result['boltzmann_tail_fraction']:.2g} of the "
+                         "Boltzmann sum)\n")
     return 0
 
 

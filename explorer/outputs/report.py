@@ -153,6 +153,7 @@ def _quantum(sc) -> str:
     rows = [["ground state", f"{st['ground_state_k']:.4f} K"], ["potential minimum", f"{st['potential_minimum_k']:.4f} K"],
             ["zero-point energy", f"{st['zero_point_energy_k']:.4f} K"],
             ["states used", f"{st['states_used']}{' (capped)' if st['states_capped'] else ''}"],
+            ["Boltzmann sum above the states (semiclassical)", f"{st['boltzmann_tail_fraction']:.2g}"],
             ["grid", f"{st['grid']['spacing_angstrom']:g} Å, {st['grid']['points']} points, energies good to "
                      f"about {st['grid']['energy_error_estimate_k']:.2g} K"],
             ["Henry constant", f"quantum {st['henry_quantum']:.4g}, classical {st['henry_classical']:.4g} "

@@ -216,7 +216,7 @@ class QuantumView(pn.viewable.Viewer):
     @staticmethod
     def _summary_html(s: ComparisonSummary) -> str:
         st = s.states
-        capped = " (capped: higher states still carry weight)" if st["states_capped"] else ""
+        capped = " (capped)" if st["states_capped"] else ""
         rows = "".join(
             f"<tr><td>{b.excitation_k:.3f}</td><td>{b.degeneracy}</td><td>{b.splitting_k:.2g}</td>"
             f"<td>{html.escape(b.where)}</td><td>{b.weight:.3g}</td></tr>" for b in s.bands[:12])
@@ -229,7 +229,9 @@ class QuantumView(pn.viewable.Viewer):
             f"(ratio {ratio:.3g}). Mean energies of one atom: kinetic {st['mean_kinetic_energy_k']:.2f} K, "
             f"potential {st['mean_potential_energy_k']:.2f} K.</p>"
             f"<p>{st['states_used']} states{capped} on a {st['grid']['spacing_angstrom']:g} Å grid "
-            f"({st['grid']['points']} points; free energy good to about {st['grid']['energy_error_estimate_k']:.2g} K).</p>"
+            f"({st['grid']['points']} points; free energy good to about {st['grid']['energy_error_estimate_k']:.2g} K); "
+            f"the states above them, summed semiclassically, hold {st['boltzmann_tail_fraction']:.2g} of the "
+            "Boltzmann sum.</p>"
             "<table class='porefill-band-table'><caption style='text-align:left'><b>Lowest bands</b></caption>"
             "<tr><th>above ground (K)</th><th>states</th><th>splitting (K)</th><th>where</th><th>weight</th></tr>"
             f"{rows}</table>"

@@ -175,10 +175,37 @@ class CrossSectionStates:
         """Σ_n exp(−E_n/kT) over the computed states."""
         return float(np.exp(-self.energies_k / temperature_k).sum())
 
+    @property
+    def tail_cut_k(self) -> float:
+        """Where the semiclassical tail takes over from the computed states (K): half a level spacing (the
+        mean of the top ten) above the highest state."""
+        e = self.energies_k
+        top = e[-min(len(e), 11):]
+        return float(e[-1] + (0.5 * (top[-1] - top[0]) / (len(top) - 1) if len(top) > 1 else 0.0))
+
+    def tail_point_weights(self, temperature_k: float) -> np.ndarray:
+        """(P,) each grid point's share of the semiclassical tail, relative to the ground state:
+        (a/λ²) exp(−(max(E_cut, V) − E₀)/kT), a the area a grid point stands for."""
+        kt = float(temperature_k)
+        lam = thermal_wavelength_angstrom(self.hbar2_over_mk, kt)
+        floor = np.maximum(self.potential_k, self.tail_cut_k)
+        return self.point_area_angstrom2 / (lam * lam) * np.exp(-(floor - self.energies_k[0]) / kt)
+
+    def tail_sum(self, temperature_k: float) -> float:
+        """The Boltzmann sum of the states above the computed ones, semiclassically (Weyl's density of states
+        N(E) = (m/2πħ²) ∫(E − V)₊ dA): Σ_{E_n > E_cut} exp(−E_n/kT) ≈ (1/λ²) ∫ exp(−max(E_cut, V)/kT) dA."""
+        return float(self.tail_point_weights(temperature_k).sum() * np.exp(-self.energies_k[0] / temperature_k))
+
+    def tail_fraction(self, temperature_k: float) -> float:
+        """The semiclassical tail's share of the whole Boltzmann sum (what the computed states leave out)."""
+        tail = self.tail_sum(temperature_k)
+        return tail / (self.boltzmann_sum(temperature_k) + tail)
+
     def quantum_area_angstrom2(self, temperature_k: float) -> float:
-        """λ² Σ_n exp(−E_n/kT) (Å²): the quantum counterpart of ∫exp(−V/kT) dA."""
+        """λ² (Σ_n exp(−E_n/kT) + tail) (Å²): the quantum counterpart of ∫exp(−V/kT) dA, the states above the
+        computed ones summed semiclassically (`tail_sum`)."""
         lam = thermal_wavelength_angstrom(self.hbar2_over_mk, temperature_k)
-        return lam * lam * self.boltzmann_sum(temperature_k)
+        return lam * lam * (self.boltzmann_sum(temperature_k) + self.tail_sum(temperature_k))
 
     def weights(self, temperature_k: float) -> np.ndarray:
         """Boltzmann occupation of each computed state (sum 1)."""
@@ -362,24 +389,47 @@ def quantum_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
     return _site_free_energies(cached_states(geometry, kt), geometry, kt)[0]
 
 
+def _site_tails(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, kt: float):
+    """(N,) each site's share of the semiclassical tail (relative to the ground state, like `assign_states`'
+    sums) from the grid points nearest it, evened over its orbit, and (N,) whether the site's region reaches
+    below the tail's cut (where the floor changes its classical integral)."""
+    nearest = cKDTree(np.column_stack([site_x, site_y])).query(states.points)[1]
+    n_sites, n_orbits = len(site_x), int(orbit.max()) + 1
+    per_site = np.bincount(nearest, weights=states.tail_point_weights(kt), minlength=n_sites)
+    below = np.bincount(nearest, weights=(states.potential_k < states.tail_cut_k).astype(float),
+                        minlength=n_sites) > 0
+    size = np.bincount(orbit, minlength=n_orbits).astype(float)
+    tail = (np.bincount(orbit, weights=per_site, minlength=n_orbits) / size)[orbit]
+    floored = (np.bincount(orbit, weights=below.astype(float), minlength=n_orbits) > 0)[orbit]
+    return tail, floored
+
+
 def _site_free_energies(states: CrossSectionStates, geometry, kt: float):
+    """Site free energies: f_i = E₀ − kT ln(λ²(S_i + T_i)/A_cell), S_i the Boltzmann sum of the states given to
+    site i (`assign_states`) and T_i its share of the semiclassical tail above them (`_site_tails`). A site no
+    state reaches whose region stays above the tail's cut keeps its classical cell integral (the floor does
+    not touch it); where its region dips below the cut, the part below is the computed states' (homed
+    elsewhere) and only the floored integral T_i counts."""
     lat = geometry.candidates
     z_rel, reached = assign_states(states, lat.x, lat.y, geometry.orbit, kt)
+    tail, floored = _site_tails(states, lat.x, lat.y, geometry.orbit, kt)
     lam = thermal_wavelength_angstrom(states.hbar2_over_mk, kt)
     f = geometry.cells.free_energies(kt, lat.cell_area_angstrom2)
     with np.errstate(divide="ignore"):
-        f_q = states.energies_k[0] - kt * np.log(lam * lam * z_rel / lat.cell_area_angstrom2)
-    return np.where(reached, f_q, f), reached, f
+        f_q = states.energies_k[0] - kt * np.log(lam * lam * (z_rel + tail) / lat.cell_area_angstrom2)
+    return np.where(reached | floored, f_q, f), reached, f
 
 
 def orbit_sources(states: CrossSectionStates, geometry, temperature_k: float) -> list[dict]:
     """Where each symmetry orbit's free energy comes from, for the readout: per orbit its label, site count,
     the computed states given to it (`state_homes`) and their share of the Boltzmann sum, the free energy the
     quantum site model uses (K) and the orbit's classical value beside it. An orbit no computed state reaches
-    keeps its classical cell integral (source "classical"); the others are "quantum states"."""
+    keeps its classical cell integral (source "classical"), or where its region dips below the states' cut the
+    semiclassical integral above it ("semiclassical above the states"); the others are "quantum states"."""
     kt = float(temperature_k)
     lat = geometry.candidates
     f, reached, f_classical = _site_free_energies(states, geometry, kt)
+    floored = _site_tails(states, lat.x, lat.y, geometry.orbit, kt)[1]
     home = state_homes(states, lat.x, lat.y, geometry.orbit, kt)
     boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)
     out = []
@@ -388,7 +438,8 @@ def orbit_sources(states: CrossSectionStates, geometry, temperature_k: float) ->
         rep = int(members[0])
         mine = home == o
         out.append({"orbit": o, "label": lat.label(rep), "sites": int(members.size),
-                    "source": "quantum states" if reached[rep] else "classical",
+                    "source": ("quantum states" if reached[rep] else
+                               "semiclassical above the states" if floored[rep] else "classical"),
                     "states": int(mine.sum()), "boltzmann_share": float(boltz[mine].sum() / boltz.sum()),
                     "free_energy_k": float(f[rep]), "classical_free_energy_k": float(f_classical[rep])})
     return out
@@ -435,5 +486,6 @@ def states_numbers(states, geometry, temperature_k: float) -> dict:
                  "energy_error_estimate_k": states.error_k},
         "states_used": int(states.energies_k.size),
         "states_capped": bool(states.capped),
+        "boltzmann_tail_fraction": states.tail_fraction(t),
         "orbits": orbit_sources(states, geometry, t),
     }
