@@ -19,6 +19,7 @@ from porefill.explorer.views.measured import MeasuredView
 from porefill.explorer.views.quantum import QuantumView
 from porefill.explorer.views.scenario_io import ScenarioIO
 from porefill.explorer.views.sizing import SizingView
+from porefill.explorer.views.tab_keys import make_tabs_accessible
 
 __all__ = ["create_app"]
 
@@ -117,6 +118,7 @@ def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewab
     tabs.param.watch(lambda event: setattr(measured.distribution, "on_page", True) if event.new == 2 else None,
                      "active")
     scenario_io.tabs = tabs
+    make_tabs_accessible(pn.state.curdoc)     # roles and arrow keys once the page is drawn
     scenario_io.show_tab(doc.view.tab)
     scenario_io.sync_url()             # the link carries the inputs; a link's own values are checked first
     head = header(scenario.title)      # follows the title of a scenario opened on the page

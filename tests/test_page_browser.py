@@ -1,0 +1,85 @@
+"""The page as a whole in headless Chromium: tabs a keyboard and a screen reader can use, slider keys that
+compute only where they stop, plots that use a large screen, a frame that shows at once."""
+from __future__ import annotations
+
+import re
+
+import pytest
+
+from porefill.explorer.server.testing import readout_text, slider_handle, slider_title, wait_for_readout_change
+
+pytestmark = pytest.mark.browser
+
+CAPTION = ".porefill-isotherm-caption p"
+FOCUSED_TEXT = """() => { let a = document.activeElement;
+  while (a && a.shadowRoot && a.shadowRoot.activeElement) a = a.shadowRoot.activeElement;
+  return a ? [a.getAttribute('role'), a.textContent] : [null, null]; }"""
+
+
+def _tab_states(page) -> dict[str, str]:
+    return {t.inner_text(): t.get_attribute("aria-selected") for t in page.get_by_role("tab").all()}
+
+
+def test_tabs_have_roles_and_work_from_the_keyboard(page):
+    # the WAI-ARIA tabs pattern (common practice, no source): a tablist of tabs, the shown one selected and
+    # alone in the Tab order, arrow keys move along the strip, Enter shows the focused tab's panel
+    page.get_by_role("tab", name="Pore").wait_for(timeout=60_000)
+    assert page.get_by_role("tablist").count() >= 1
+    states = _tab_states(page)
+    assert list(states) == ["Pore", "Quantum states", "Measured data", "Sizing", "About & safety"]
+    assert states["Pore"] == "true" and list(states.values()).count("true") == 1
+    assert page.get_by_role("tabpanel", name="Pore").is_visible()
+    # Tab from the top of the page reaches the strip, on the shown tab
+    page.locator("body").focus()
+    for _ in range(6):
+        page.keyboard.press("Tab")
+        if page.evaluate(FOCUSED_TEXT)[0] == "tab":
+            break
+    assert page.evaluate(FOCUSED_TEXT) == ["tab", "Pore"]
+    for _ in range(3):
+        page.keyboard.press("ArrowRight")
+    assert page.evaluate(FOCUSED_TEXT) == ["tab", "Sizing"]
+    assert _tab_states(page)["Pore"] == "true"           # moving along the strip shows nothing yet
+    page.keyboard.press("ArrowLeft")
+    page.keyboard.press("Enter")
+    page.get_by_role("tabpanel", name="Measured data").wait_for(state="visible", timeout=10_000)
+    states = _tab_states(page)
+    assert states["Measured data"] == "true" and states["Pore"] == "false"
+    assert not page.get_by_role("tabpanel", name="Pore").is_visible()
+    page.keyboard.press("End")
+    page.keyboard.press(" ")
+    page.get_by_text("Asphyxiation").first.wait_for(state="visible", timeout=10_000)
+    assert _tab_states(page)["About & safety"] == "true"
+    # a click keeps the roles in step too
+    page.get_by_role("tab", name="Pore").click()
+    page.get_by_role("tabpanel", name="Pore").wait_for(state="visible", timeout=10_000)
+    assert _tab_states(page)["Pore"] == "true" and _tab_states(page)["About & safety"] == "false"
+    assert page.console_errors == []
+
+
+def test_six_arrow_key_presses_compute_the_first_and_last_size_only(page):
+    # a slider's arrow key pressed six times at once: the page computes the isotherm for the first and the
+    # last position (explorer/jobs/compute.py: LatestRunner's bursts), not six times; data-computed on the
+    # isotherm caption counts the isotherms this page started
+    caption = page.locator(CAPTION).first
+    caption.wait_for(timeout=60_000)
+    page.wait_for_timeout(1000)
+    before = int(caption.get_attribute("data-computed"))
+    readout_before = readout_text(page)
+    size_before = float(slider_title(page, "Side length").split(":")[-1])
+    slider_handle(page, "Side length").focus()
+    for _ in range(6):
+        page.keyboard.press("ArrowRight")
+    size_after = float(slider_title(page, "Side length").split(":")[-1])
+    assert size_after == pytest.approx(size_before + 6 * 0.5)
+    wait_for_readout_change(page, readout_before, timeout_s=60)
+    for _ in range(600):
+        if f"side length {size_after:g} Å" in caption.inner_text() and f"{size_after:g} Å, " in readout_text(page):
+            break
+        page.wait_for_timeout(100)
+    page.wait_for_timeout(1500)             # anything still queued would have started by now
+    assert f"side length {size_after:g} Å" in caption.inner_text()
+    assert re.search(rf"side / radius / width {size_after:g} Å", readout_text(page))
+    computed = int(caption.get_attribute("data-computed")) - before
+    assert 1 <= computed <= 2, computed
+    assert page.console_errors == []
