@@ -33,6 +33,7 @@ MODEL_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate"
               "site_model", "plating", "plating_layers"]
 # a change of these moves the pressure range so much that the picked pressure starts afresh
 RANGE_KEYS = ("shape", "adsorbate", "temperature_k")
+SETTLE_S = 0.3           # requests closer together than this are one burst (`LatestRunner`)
 PICK_FRACTION = 0.8      # where in the log-pressure range the occupancy map starts: the upper layers
 
 _recent = BoundedCache(16)       # isotherms this server has shown lately (porefill.physics.caching)
@@ -111,7 +112,8 @@ class IsothermView(pn.viewable.Viewer):
         self._shown: Scenario | None = None       # inputs of the isotherm on show (None: nothing shown)
         self._wanted: Scenario | None = None      # inputs of the newest request
         self._pick_log10 = -1.0
-        self._runner = LatestRunner("isotherm", name="isotherm")
+        # a slider's arrow key pressed again and again: the first and the last position are computed
+        self._runner = LatestRunner("isotherm", name="isotherm", settle_s=SETTLE_S)
         self.listeners: list = []      # called with (scenario, isotherm or None) whenever what is shown changes
         self._redraw()
         self.state.param.watch(self._redraw, MODEL_KEYS)
@@ -261,7 +263,8 @@ class IsothermView(pn.viewable.Viewer):
             self._p0_span[1].location = iso.setup.mu_coexistence_k
             self._p0_span[2].location = 1.0
             notes = "".join(f"<li>{html.escape(n)}</li>" for n in branch_notes(iso))
-            self._iso_caption.object = (f"<p>For {label}. Dashed line: p₀.</p>"
+            # data-computed: isotherms this page has started computing (the browser tests read it)
+            self._iso_caption.object = (f"<p data-computed='{self._runner.started}'>For {label}. Dashed line: p₀.</p>"
                                         f"<ul class='porefill-branch-notes'>{notes}</ul>")
             self._table.object = self._steps_table(iso, label)
             lines = outline(sc)

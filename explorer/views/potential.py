@@ -142,7 +142,7 @@ class PotentialView(pn.viewable.Viewer):
                                          width=FRAME + 60, styles={"font-size": "13px"})
         self._map_box = pn.Column(self._map_caption, pn.pane.Bokeh(self._map_fig), css_classes=["porefill-map"])
         self._cut_box = pn.Column(pn.pane.Bokeh(self._cut_fig), css_classes=["porefill-cuts"])
-        self._runner = LatestRunner("map", name="potential map")
+        self._runner = LatestRunner("map", name="potential map", settle_s=0.15)   # a key burst: first and last
         self._shown: Scenario | None = None       # the inputs the map and cuts now show
         self._pending: Scenario | None = None     # inputs asked for and not yet shown
         self._redraw()
