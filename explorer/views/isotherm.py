@@ -27,6 +27,7 @@ from porefill.explorer.jobs.compute import LatestRunner, isotherm_job, short_err
 from porefill.explorer.outputs.isotherm_export import amount_labels, calibration_note, isotherm_csv
 from porefill.explorer.views.state import ExplorerState, describe
 from porefill.explorer.views.potential import FRAME, outline
+from porefill.explorer.views.ticks import readable_log_axes
 
 ADS_COLOUR, DES_COLOUR, EQ_COLOUR = "#1b6ca8", "#d1495b", "#333333"
 MODEL_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k", "pore_ends",
@@ -152,6 +153,7 @@ class IsothermView(pn.viewable.Viewer):
         k = {"log": 0, "linear": 1, "relative": 2}[axis]
         fig.add_layout(self._p0_span[k])
         fig.add_layout(self._pick_span[k])
+        readable_log_axes(fig)            # helium's thirty decades: every k-th decade labelled
         fig.legend.location = "bottom_right" if axis == "relative" else "top_left"
         fig.legend.label_text_font_size = "12px"
         fig.legend.background_fill_alpha = 0.8

@@ -31,6 +31,7 @@ from porefill.explorer.views.overlay import AXES, PER_NM, display_scale, display
 from porefill.explorer.views.state import ExplorerState, describe
 from porefill.explorer.views.isotherm import ADS_COLOUR, DES_COLOUR, _key as model_key, _remember
 from porefill.explorer.views.potential import FRAME
+from porefill.explorer.views.ticks import readable_log_axes
 
 ACCEPTED = [".csv", ".txt", ".tsv", ".dat", ".xlsx"]
 FROM_FILE = "(from the header)"
@@ -333,7 +334,7 @@ class MeasuredView(pn.viewable.Viewer):
                      tools="pan,wheel_zoom,box_zoom,reset,save", toolbar_location="above",
                      y_axis_label="per nm")
         res.add_layout(Span(location=0, dimension="width", line_color="#888888", line_dash="dotted"))
-        return fig, res
+        return readable_log_axes(fig), readable_log_axes(res)
 
     def _shown_model(self):
         """(isotherm, sample, fit or None) the overlay draws: the fitted model, with the fitted pore volume,

@@ -29,6 +29,7 @@ from porefill.physics.sweep import TARGET_KINDS, SweepSpec, Target, edge_words, 
 from porefill.explorer.jobs.compute import on_session, short_error
 from porefill.explorer.views.distribution import BAND_COLOURS
 from porefill.explorer.views.state import ExplorerState, describe
+from porefill.explorer.views.ticks import decade_ticker
 from porefill.explorer.outputs.figures import SITE_FAMILY_COLOURS
 from porefill.explorer.jobs.sweep_runner import SWEEP_CACHE, ClusterError, SweepRunner, estimate_seconds
 
@@ -419,7 +420,7 @@ class SizingView(pn.viewable.Viewer):
             pts = hv.Scatter(data, kdims=["x"], vdims=["p", "fills", "wall", "kind"], label=fills)
             layers.append(pts.opts(color=colour, size=7, tools=["hover"]))
         fig = hv.Overlay(layers).opts(
-            logy=True, width=_WIDTH, height=380, xlabel=x_label, ylabel="step pressure p (Pa)", ylim=(y0, y1),
+            logy=True, yticks=decade_ticker(), width=_WIDTH, height=380, xlabel=x_label, ylabel="step pressure p (Pa)", ylim=(y0, y1),
             legend_position="top_left", title="Layer steps; grey band: the apparatus's window; black bars: target met"
             + ("; coloured bands: layers in the measured sample" if bands else ""),
             toolbar="above")
