@@ -117,3 +117,31 @@ def test_helium_log_pressure_axis_labels_every_kth_decade(page):
     steps = {round(b - a) for a, b in zip(exponents, exponents[1:])}
     assert len(steps) == 1 and steps.pop() in (5, 10), exponents     # every k-th decade, one k
     assert page.console_errors == []
+
+
+def test_the_frame_shows_before_the_plots_fill_in(browser, served_app):
+    # the header, the tab strip and the controls are drawn at once, with a loading place where the plots
+    # will be; the map and the isotherm follow (explorer/views/dashboard.py: fill_in at pn.state.onload)
+    from porefill.explorer.server.testing import first_seen, record_first_seen
+
+    context = browser.new_context(viewport={"width": 1440, "height": 900})
+    try:
+        page = context.new_page()
+        errors = []
+        page.on("console", lambda msg: errors.append(msg.text) if msg.type == "error" else None)
+        record_first_seen(page, {"header": ".porefill-header >>> h1", "tab": ".bk-tab",
+                                 "controls": ".porefill-controls >>> .noUi-handle",
+                                 "filling": ".porefill-filling-in", "map": ".porefill-map >>> canvas",
+                                 "isotherm": ".porefill-isotherm >>> canvas"})
+        page.goto(served_app, timeout=90_000)
+        page.locator(".porefill-isotherm canvas").first.wait_for(timeout=60_000)
+        page.locator(".porefill-steps table").first.wait_for(timeout=60_000)
+        seen = first_seen(page)
+        assert set(seen) == {"header", "tab", "controls", "filling", "map", "isotherm"}, seen
+        frame = max(seen["header"], seen["tab"], seen["controls"])
+        assert seen["filling"] <= frame + 100, seen           # the loading place is there with the frame
+        assert frame < seen["map"] and frame < seen["isotherm"], seen
+        assert page.locator(".porefill-filling-in").count() == 0          # every place filled in
+        assert errors == []
+    finally:
+        context.close()
