@@ -145,3 +145,46 @@ def test_the_frame_shows_before_the_plots_fill_in(browser, served_app):
         assert errors == []
     finally:
         context.close()
+
+
+def _canvas_width(page, selector: str) -> float:
+    box = page.locator(f"{selector} canvas").first.bounding_box()
+    return box["width"]
+
+
+def _page_wider_than_window(page) -> int:
+    return page.evaluate("() => document.scrollingElement.scrollWidth - window.innerWidth")
+
+
+def test_plots_grow_on_a_large_screen_and_fit_a_projector(page):
+    # at 1920 × 1080 the line cuts, isotherm, compressibility and the measured overlay use the width there is
+    # (each was a fixed ~300–410 px frame in empty space); at 1024 × 768 they shrink back and nothing scrolls
+    # sideways (explorer/views/potential.py: growing_box)
+    from pathlib import Path
+
+    plots = (".porefill-cuts", ".porefill-isotherm", ".porefill-compressibility")
+    page.locator(".porefill-steps table").first.wait_for(timeout=60_000)
+    widths = {}
+    for width, height in ((1920, 1080), (1024, 768)):
+        page.set_viewport_size({"width": width, "height": height})
+        page.wait_for_timeout(1500)
+        widths[width] = {s: _canvas_width(page, s) for s in plots}
+        assert _page_wider_than_window(page) <= 1, width
+        for s in plots:
+            box = page.locator(s).first.bounding_box()
+            assert box["x"] + box["width"] <= width + 1, (width, s)
+    assert all(widths[1920][s] >= 600 for s in plots), widths
+    assert all(widths[1024][s] <= 1024 - 230 for s in plots), widths
+    # the Measured data tab's overlay and residuals, with a file dropped
+    page.get_by_role("tab", name="Measured data").click()
+    data = Path(__file__).resolve().parents[1] / "scenarios" / "invented-nitrogen-77K.csv"
+    page.locator(".porefill-dropper input[type=file]").first.set_input_files(str(data))
+    page.locator(".porefill-overlay canvas").first.wait_for(timeout=60_000)
+    overlay = {}
+    for width, height in ((1920, 1080), (1024, 768)):
+        page.set_viewport_size({"width": width, "height": height})
+        page.wait_for_timeout(1500)
+        overlay[width] = _canvas_width(page, ".porefill-overlay")
+        assert _page_wider_than_window(page) <= 1, width
+    assert overlay[1920] >= 1000 and overlay[1024] <= 1024 - 230, overlay
+    assert page.console_errors == []

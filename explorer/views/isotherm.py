@@ -26,7 +26,7 @@ from porefill.physics.scenario import Scenario
 from porefill.explorer.jobs.compute import LatestRunner, isotherm_job, short_error
 from porefill.explorer.outputs.isotherm_export import amount_labels, calibration_note, isotherm_csv
 from porefill.explorer.views.state import ExplorerState, describe
-from porefill.explorer.views.potential import FRAME, outline
+from porefill.explorer.views.potential import FRAME, GROW_MIN, growing_box, outline
 from porefill.explorer.views.ticks import readable_log_axes
 
 ADS_COLOUR, DES_COLOUR, EQ_COLOUR = "#1b6ca8", "#d1495b", "#333333"
@@ -101,12 +101,14 @@ class IsothermView(pn.viewable.Viewer):
                                       styles={"font-size": "13px"})
         self.download = pn.widgets.FileDownload(callback=self.csv_file, filename="isotherm.csv",
                                                 label="Download the isotherm (CSV)", width=260)
-        self._iso_box = pn.Column(self._iso_caption, self.x_axis, pn.Row(pn.pane.HTML("Pore ends:"), self.pore_ends),
-                                  self.branch, pn.pane.Bokeh(self._fig_p), pn.pane.Bokeh(self._fig_rel),
-                                  pn.pane.Bokeh(self._fig_mu), css_classes=["porefill-isotherm"])
+        self._iso_box = growing_box(self._iso_caption, self.x_axis, pn.Row(pn.pane.HTML("Pore ends:"), self.pore_ends),
+                                    self.branch, *(pn.pane.Bokeh(f, sizing_mode="stretch_width")
+                                                   for f in (self._fig_p, self._fig_rel, self._fig_mu)),
+                                    css_class="porefill-isotherm")
         self._occ_box = pn.Column(self.pick, pn.pane.Bokeh(self._fig_occ), self._occ_text,
                                   css_classes=["porefill-occupancy-map"])
-        self._k_box = pn.Column(pn.pane.Bokeh(self._fig_k), css_classes=["porefill-compressibility"])
+        self._k_box = growing_box(pn.pane.Bokeh(self._fig_k, sizing_mode="stretch_width"),
+                                  css_class="porefill-compressibility")
         self._table_box = pn.Column(self._table, self.download, sizing_mode="stretch_width",
                                     css_classes=["porefill-steps-box"])
         self._iso: Isotherm | None = None
@@ -139,7 +141,8 @@ class IsothermView(pn.viewable.Viewer):
                  "linear": "chemical potential μ (K)"}[axis]
         fig = figure(title="Isotherm (mean-field lattice gas)", x_axis_type="log" if log else "linear",
                      x_axis_label=label,
-                     y_axis_label="coverage (atoms/nm; slit: per nm²)", frame_width=FRAME, frame_height=230,
+                     y_axis_label="coverage (atoms/nm; slit: per nm²)", sizing_mode="stretch_width",
+                     min_width=GROW_MIN - 10, frame_height=230,
                      tools="pan,wheel_zoom,box_zoom,reset,save,tap", toolbar_location="above", visible=log,
                      **extra)
         fig.line(x, "ads", source=self._curves, color=ADS_COLOUR, line_width=2, legend_label="adsorption")
@@ -161,7 +164,8 @@ class IsothermView(pn.viewable.Viewer):
 
     def _compressibility_figure(self):
         fig = figure(title="Compressibility dN/dμ", x_axis_label="chemical potential μ (K)",
-                     y_axis_label="dN/dμ (atoms/nm per K)", frame_width=FRAME, frame_height=200,
+                     y_axis_label="dN/dμ (atoms/nm per K)", sizing_mode="stretch_width", min_width=GROW_MIN - 10,
+                     frame_height=200,
                      tools="pan,wheel_zoom,box_zoom,reset,save", toolbar_location="above", y_axis_type="linear")
         fig.line("mu", "kads", source=self._curves, color=ADS_COLOUR, line_width=1.5, legend_label="adsorption")
         fig.line("mu", "kdes", source=self._curves, color=DES_COLOUR, line_width=1.5, line_dash="dashed",

@@ -59,6 +59,7 @@ def _sizes_label(shape: str) -> str:
     return f"{plural} (Å): start:stop:count, or a list"
 _WINDOW_UNITS = ("Pa", "p/p₀")
 _WIDTH = 620
+_MIN_WIDTH, _MAX_WIDTH = 520, 1100      # px: the plot grows with the window between these
 
 _runners: dict[str, SweepRunner] = {}
 _runners_lock = threading.Lock()
@@ -149,7 +150,8 @@ class SizingView(pn.viewable.Viewer):
                                   styles={"font-size": "13px"})
         self._carried = None          # the Measured data tab's carried prediction (layer bands), if any
         self._plot = None
-        self._body = pn.Column(css_classes=["porefill-sizing-body"], min_height=40)
+        self._body = pn.Column(css_classes=["porefill-sizing-body"], min_height=40, sizing_mode="stretch_width",
+                               styles={"flex": f"1 1 {_WIDTH}px", "min-width": "0", "max-width": f"{_MAX_WIDTH}px"})
         self._result = None
         self._result_status = self._result_for = ""     # the status line of the sweep on show, its inputs
         self._edges: dict = {}            # (x, wall) -> where the target holds, in words (`edge_words`)
@@ -373,7 +375,8 @@ class SizingView(pn.viewable.Viewer):
         if self._result is None:
             return
         if self._plot is None:
-            self._plot = pn.pane.HoloViews(None, css_classes=["porefill-sizing-plot"], backend="bokeh")
+            self._plot = pn.pane.HoloViews(None, css_classes=["porefill-sizing-plot"], backend="bokeh",
+                                           sizing_mode="stretch_width")
             self._body.objects = [self._plot]
         self._plot.object = self._figure(marks)
 
@@ -430,7 +433,7 @@ class SizingView(pn.viewable.Viewer):
             pts = hv.Scatter(data, kdims=["x"], vdims=["p", "fills", "wall", "kind"], label=fills)
             layers.append(pts.opts(color=colour, size=7, tools=["hover"]))
         fig = hv.Overlay(layers).opts(
-            logy=True, yticks=decade_ticker(), width=_WIDTH, height=380, xlabel=x_label, ylabel="step pressure p (Pa)", ylim=(y0, y1),
+            logy=True, yticks=decade_ticker(), responsive=True, min_width=_MIN_WIDTH, max_width=_MAX_WIDTH, height=380, xlabel=x_label, ylabel="step pressure p (Pa)", ylim=(y0, y1),
             # the legend beside the plot, never over its points; a click on an entry hides that family
             legend_position="right", legend_opts={"click_policy": "hide"}, title="Layer steps; grey band: the apparatus's window; black bars: target met"
             + ("; coloured bands: layers in the measured sample" if bands else ""),
@@ -442,7 +445,7 @@ class SizingView(pn.viewable.Viewer):
                         "wall (Å)").opts(color="#444444")
         met = hv.Scatter([(x, w) for x, w, _, _ in marks], "side length (Å)", "wall (Å)").opts(
             color="black", size=9, marker="diamond")
-        tied = (line * met).opts(width=_WIDTH, height=220, title=f"Wall tied to side by d100 = "
+        tied = (line * met).opts(responsive=True, min_width=_MIN_WIDTH, max_width=_MAX_WIDTH, height=220, title=f"Wall tied to side by d100 = "
                                  f"{self._result.spec.d100_angstrom:g} Å; diamonds: target met")
         return (fig + tied).cols(1)
 
