@@ -134,7 +134,7 @@ def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewab
     scenario_io.show_tab(doc.view.tab)
     scenario_io.sync_url()             # the link carries the inputs; a link's own values are checked first
     make_tabs_accessible(pn.state.curdoc)     # roles and arrow keys once the page is drawn
-    head = header(scenario.title)      # follows the title of a scenario opened on the page
+    head = header(state.title)         # a link's values may have retitled it; follows every later title
     state.param.watch(lambda event: head.param.update(object=header(event.new).object), "title")
 
     def fill_in():
