@@ -146,7 +146,8 @@ def main(reps: int = 12) -> None:
     for name, values in (("frame", frame_ms), ("first_plot", plot_ms), ("isotherm_plot", iso_ms_load)):
         print(json.dumps({"benchmark": f"browser_page_load_to_{name}", "median_ms": round(statistics.median(values)),
                           "max_ms": round(max(values)), "n": len(values)}))
-    print(json.dumps({"benchmark": "browser_slider_release_to_redrawn_map", "median_ms": round(statistics.median(map_ms), 1),
+    print(json.dumps({"benchmark": "browser_slider_release_to_redrawn_map",
+                      "median_ms": round(statistics.median(map_ms), 1),
                       "max_ms": round(max(map_ms), 1), "n": len(map_ms)}))
     print(json.dumps({"benchmark": "browser_slider_release_to_updated_readout",
                       "median_ms": round(statistics.median(text_ms), 1), "n": len(text_ms)}))

@@ -178,7 +178,8 @@ class PotentialView(pn.viewable.Viewer):
 
     def _make_cut_figure(self):
         fig = figure(title="Line cuts", x_axis_label="distance from the pore centre (Å)", y_axis_label="V (K)",
-                     sizing_mode="stretch_width", min_width=GROW_MIN - 10, frame_height=230, x_range=Range1d(0, 1), y_range=Range1d(-1, 1),
+                     sizing_mode="stretch_width", min_width=GROW_MIN - 10, frame_height=230,
+                     x_range=Range1d(0, 1), y_range=Range1d(-1, 1),
                      tools="pan,wheel_zoom,box_zoom,reset,save,hover", toolbar_location="above",
                      tooltips=[("r (Å)", "@r{0.00}"), ("V (K)", "@v{0.000}")])
         self._cut_renderers = [fig.line("r", "v", source=src, line_width=2, color=Category10_10[k],

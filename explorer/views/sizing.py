@@ -433,9 +433,11 @@ class SizingView(pn.viewable.Viewer):
             pts = hv.Scatter(data, kdims=["x"], vdims=["p", "fills", "wall", "kind"], label=fills)
             layers.append(pts.opts(color=colour, size=7, tools=["hover"]))
         fig = hv.Overlay(layers).opts(
-            logy=True, yticks=decade_ticker(), responsive=True, min_width=_MIN_WIDTH, max_width=_MAX_WIDTH, height=380, xlabel=x_label, ylabel="step pressure p (Pa)", ylim=(y0, y1),
+            logy=True, yticks=decade_ticker(), responsive=True, min_width=_MIN_WIDTH, max_width=_MAX_WIDTH,
+            height=380, xlabel=x_label, ylabel="step pressure p (Pa)", ylim=(y0, y1),
             # the legend beside the plot, never over its points; a click on an entry hides that family
-            legend_position="right", legend_opts={"click_policy": "hide"}, title="Layer steps; grey band: the apparatus's window; black bars: target met"
+            legend_position="right", legend_opts={"click_policy": "hide"},
+            title="Layer steps; grey band: the apparatus's window; black bars: target met"
             + ("; coloured bands: layers in the measured sample" if bands else ""),
             toolbar="above")
         if mode != "d100":
