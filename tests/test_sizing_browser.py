@@ -97,3 +97,44 @@ def test_a_target_marks_the_sizes_that_meet_it(page):
     page.locator(".porefill-sizing-compute button").first.click()
     _wait_for(page, ".porefill-sizing-status", r"2 pores in [\d.]+ s \(2 from the cache")
     assert page.console_errors == []
+
+
+LEGEND_AND_FRAME = """() => {
+  for (const v of Bokeh.index.query((v) => v.model.type == "Legend")) {
+    const plot = v.parent;
+    if (!plot || !plot.frame || !plot.model.title || !plot.model.title.text.startsWith("Layer steps")) continue;
+    const l = v.bbox, f = plot.frame.bbox;
+    return {legend: [l.left, l.top, l.right, l.bottom], frame: [f.left, f.top, f.right, f.bottom],
+            click_policy: v.model.click_policy};
+  }
+  return null;
+}"""
+
+
+def test_the_legend_leaves_the_points_free_and_the_status_follows_the_inputs(page):
+    page.get_by_text("Sizing", exact=True).first.click()
+    page.locator(".porefill-sizing-compute button").first.wait_for(timeout=30_000)
+    _fill(page, "porefill-sizing-sizes", "8,10")
+    _fill(page, "porefill-sizing-points", str(POINTS))
+    page.locator(".porefill-sizing-model select").first.select_option("classical")
+    page.locator(".porefill-sizing-compute button").first.click()
+    done = _wait_for(page, ".porefill-sizing-status", r"2 pores in [\d.]+ s", timeout_ms=120_000)
+    page.locator(".porefill-sizing-plot canvas").first.wait_for(timeout=30_000)
+    page.wait_for_timeout(800)
+    # the legend sits beside the plot's frame, not over it, and a click on an entry hides that family
+    box = page.evaluate(LEGEND_AND_FRAME)
+    assert box is not None
+    assert box["legend"][0] >= box["frame"][2] - 1, box
+    assert box["click_policy"] == "hide"
+    # other sizes: the status no longer gives the last sweep's line as if it were for them
+    _fill(page, "porefill-sizing-sizes", "8,10,12")
+    changed = _wait_for(page, ".porefill-sizing-status", r"inputs have changed")
+    assert "Press Compute: 3 pores" in changed and not re.search(r"2 pores in [\d.]+ s", changed)
+    # back to the swept sizes: the sweep's own line again
+    _fill(page, "porefill-sizing-sizes", "8,10")
+    assert _wait_for(page, ".porefill-sizing-status", r"2 pores in [\d.]+ s") == done
+    # on a 1024 × 768 projector the list of sizes goes under the plot: no sideways scroll with a result shown
+    page.set_viewport_size({"width": 1024, "height": 768})
+    page.wait_for_timeout(1000)
+    assert page.evaluate("() => document.documentElement.scrollWidth") <= 1024
+    assert page.console_errors == []

@@ -17,6 +17,7 @@ import logging
 import multiprocessing
 import os
 import threading
+import time
 from concurrent.futures import Executor, ProcessPoolExecutor, ThreadPoolExecutor
 from functools import partial
 from typing import Any, Callable
@@ -120,18 +121,29 @@ class LatestRunner:
     through slow pores occupies one worker, not all of them: while one runs, only the newest of the
     waiting requests is kept and starts when the running one ends (or passes the time limit).
 
+    Requests that come in a burst (each within ``settle_s`` of the one before, as a slider's arrow key
+    pressed again and again sends them) are coalesced: the first starts at once, the rest wait until the
+    burst has been quiet for ``settle_s`` and only the newest of them runs. Six presses thus compute the
+    first and the last position, not six (``started`` counts what was handed to the executor).
+
     Outside a served page (tests, notebooks) the computation runs at once, in the caller's thread.
     """
 
-    def __init__(self, kind: str, *, name: str, time_limit_s: float = TIME_LIMIT_S):
+    def __init__(self, kind: str, *, name: str, time_limit_s: float = TIME_LIMIT_S, settle_s: float = 0.0):
         if kind not in ("isotherm", "map"):
             raise ValueError(f"kind must be 'isotherm' or 'map'; got {kind!r}")
+        if not 0.0 <= settle_s <= 5.0:
+            raise ValueError(f"settle_s must be 0–5 s; got {settle_s!r}")
         self.kind = kind
         self.name = name
         self.time_limit_s = time_limit_s
+        self.settle_s = settle_s
         self.generation = 0
+        self.started = 0                  # computations handed to the executor (or run at once)
         self._running: PoolJob | None = None
         self._queued: tuple | None = None
+        self._last_request = float("-inf")
+        self._waiting = False             # a timer will look at the queued request once the burst is quiet
 
     def submit(self, fn: Callable, args: tuple, on_result: Callable[[Any], None],
                on_error: Callable[[BaseException], None]) -> int:
@@ -141,6 +153,7 @@ class LatestRunner:
         gen = self.generation
         doc = pn.state.curdoc
         if doc is None or doc.session_context is None:
+            self.started += 1
             try:
                 value = fn(*args)
             except Exception as exc:   # noqa: BLE001 - shown in the view, logged here
@@ -150,11 +163,42 @@ class LatestRunner:
                 on_result(value)
             return gen
         job = (gen, fn, args, on_result, on_error, doc)
+        now = time.monotonic()
+        in_burst = now - self._last_request < self.settle_s
+        self._last_request = now
         if self._running is not None and not self._running.future.done() and not self._running.future.cancel():
             self._queued = job           # replaces an older queued request, which is never run
+        elif in_burst:
+            self._queued = job
+            self._wait_for_quiet(doc)
         else:
             self._start(job)
         return gen
+
+    def _quiet_left_s(self) -> float:
+        return self._last_request + self.settle_s - time.monotonic()
+
+    def _wait_for_quiet(self, doc) -> None:
+        """Start the queued request once no request has come for ``settle_s`` (and nothing runs)."""
+        if self._waiting:
+            return
+        self._waiting = True
+
+        def look():
+            self._waiting = False
+            if self._queued is None:
+                return
+            if self._quiet_left_s() > 0:
+                self._wait_for_quiet(doc)          # a newer request came meanwhile
+            elif self._running is None or self._running.future.done():
+                self._start(self._queued)
+            # else: the running one starts it when it settles
+
+        try:
+            doc.add_timeout_callback(look, max(1, int(1e3 * self._quiet_left_s()) + 1))
+        except Exception:          # noqa: BLE001 - the session was closed meanwhile
+            self._waiting = False
+            log.debug("session closed while a request waited", exc_info=True)
 
     def _start(self, job) -> None:
         gen, fn, args, on_result, on_error, doc = job
@@ -173,6 +217,7 @@ class LatestRunner:
             on_error(exc)
             return
         self._running = work
+        self.started += 1
         settled = {"done": False}
 
         def settle(event):
@@ -193,7 +238,10 @@ class LatestRunner:
                 except Exception:          # noqa: BLE001 - a bug in a view must not kill the session
                     log.exception("%s: applying the result failed", self.name)
             if self._queued is not None:
-                self._start(self._queued)
+                if self._quiet_left_s() > 0:
+                    self._wait_for_quiet(doc)      # still inside a burst: its newest request runs after it
+                else:
+                    self._start(self._queued)
 
         # events arrive on a worker or timer thread: hand each over to the session
         work.watch(lambda event: on_session(doc, partial(settle, event)))

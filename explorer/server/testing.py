@@ -155,3 +155,46 @@ def recorded(page, key: str) -> list[dict]:
     """The records of `record_changes`: dicts with ``t`` (ms, browser clock), ``frame`` (frames painted
     so far: changes with the same number reached the screen together), ``loading`` and ``text``."""
     return page.evaluate("key => window.__porefill[key]", key)
+
+
+_FIRST_SEEN = """(selectors) => {
+  // before the page's own scripts: note the browser time (ms after navigation start) at which each selector
+  // first matches an element that is drawn (it has a size). A selector "A >>> B" is B anywhere beneath an A,
+  // through shadow roots (Bokeh and Panel draw inside them)
+  window.__porefillSeen = {};
+  const all = (start, sel) => {
+    const out = [], stack = [start];
+    while (stack.length) {
+      const root = stack.pop();
+      out.push(...root.querySelectorAll(sel));
+      for (const el of root.querySelectorAll("*")) if (el.shadowRoot) stack.push(el.shadowRoot);
+      if (root.shadowRoot) stack.push(root.shadowRoot);
+    }
+    return out;
+  };
+  const drawn = (chain) => {
+    let found = [document];
+    for (const sel of chain.split(">>>").map((s) => s.trim())) found = found.flatMap((el) => all(el, sel));
+    return found.some((el) => { const r = el.getBoundingClientRect(); return r.width > 0 && r.height > 0; });
+  };
+  const look = () => {
+    const seen = window.__porefillSeen;
+    for (const [key, sel] of Object.entries(selectors))
+      if (!(key in seen) && document.body && drawn(sel)) seen[key] = Math.round(performance.now());
+    if (Object.keys(seen).length < Object.keys(selectors).length) setTimeout(look, 25);
+  };
+  look();
+}"""
+
+
+def record_first_seen(page, selectors: dict[str, str]) -> None:
+    """Before the next navigation of ``page``: have the page note when each of ``selectors`` ({key: CSS, with
+    ``A >>> B`` for a B beneath an A through shadow roots}) is first drawn (read back with `first_seen`)."""
+    import json
+
+    page.add_init_script(f"({_FIRST_SEEN})({json.dumps(selectors)})")
+
+
+def first_seen(page) -> dict[str, float]:
+    """{key: ms after navigation start} of `record_first_seen`'s selectors drawn so far."""
+    return page.evaluate("() => window.__porefillSeen || {}")

@@ -18,6 +18,7 @@ from porefill.explorer.views.measured import MeasuredView
 from porefill.explorer.views.quantum import QuantumView
 from porefill.explorer.views.scenario_io import ScenarioIO
 from porefill.explorer.views.sizing import SizingView
+from porefill.explorer.views.tab_keys import make_tabs_accessible
 
 __all__ = ["create_app"]
 
@@ -81,6 +82,15 @@ def header(title: str) -> pn.pane.HTML:
                         stylesheets=[_CSS])
 
 
+def _place(name: str, served: bool) -> pn.Column:
+    """Where a tab's views go: a loading placeholder until they are filled in (at once outside a server)."""
+    if not served:
+        return pn.Column(sizing_mode="stretch_width", styles={"min-width": "0"})
+    return pn.Column(pn.pane.HTML("<p>Drawing the plots …</p>", styles={"color": "#555"}), loading=True,
+                     min_height=200, sizing_mode="stretch_width", styles={"min-width": "0"},
+                     css_classes=["porefill-filling-in", f"porefill-filling-in-{name}"])
+
+
 def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewable.Viewable:
     """Build one session's page (called by the server for every browser tab); a whole scenario file
     (`ScenarioDocument`) also brings its view choices, sample, measured runs and fit."""
@@ -89,8 +99,7 @@ def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewab
     scenario = doc.scenario
     state = ExplorerState.from_scenario(scenario)
     isotherm = IsothermView(state=state)
-    views = pn.Column(PotentialView(state=state), pn.pane.HTML("<h3>Adsorption</h3>"), isotherm,
-                      sizing_mode="stretch_width", styles={"min-width": "0"})
+    pore_views = [PotentialView(state=state), pn.pane.HTML("<h3>Adsorption</h3>"), isotherm]
     measured = MeasuredView(state=state)
     measured.distribution.on_page = False      # its figures join the page when the tab is first shown
     isotherm.listeners.append(measured.model_arrived)
@@ -98,17 +107,22 @@ def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewab
         measured.model_arrived(isotherm._shown, isotherm._iso)
     measured.show_document(doc)
     scenario_io = ScenarioIO(state=state, document=doc, isotherm=isotherm, measured=measured)
+    quantum = QuantumView(state=state)
+    sizing = SizingView(state=state)
+    measured.distribution.listeners.append(sizing.show_layer_bands)     # the carried prediction's layer bands
+    # the frame (header, tabs, controls) goes to the browser first; the views fill these places once it is
+    # drawn (`fill_in`), so the page is never blank while the plots are built
+    served = pn.state.curdoc is not None and pn.state.curdoc.session_context is not None
+    places = {name: _place(name, served) for name in ("pore", "quantum", "measured", "sizing")}
+    views = places["pore"]
     side = pn.Column(pn.pane.HTML("<h3>Pore and gas</h3>"), controls(state), scenario_io, width=CONTROLS_WIDTH)
     pore_page = pn.Row(side, views, sizing_mode="stretch_width", name="Pore")
     about = pn.pane.Markdown(ABOUT, name="About & safety", sizing_mode="stretch_width",
                              styles={"max-width": "760px"})
-    quantum = QuantumView(state=state)
-    quantum_page = pn.Column(quantum, name="Quantum states", sizing_mode="stretch_width")
+    quantum_page = pn.Column(places["quantum"], name="Quantum states", sizing_mode="stretch_width")
     measured_side = pn.Column(pn.pane.HTML("<h3>Pore and gas</h3>"), controls(state), width=CONTROLS_WIDTH)
-    measured_page = pn.Row(measured_side, measured, sizing_mode="stretch_width", name="Measured data")
-    sizing = SizingView(state=state)
-    measured.distribution.listeners.append(sizing.show_layer_bands)     # the carried prediction's layer bands
-    sizing_page = pn.Column(sizing, name="Sizing", sizing_mode="stretch_width")
+    measured_page = pn.Row(measured_side, places["measured"], sizing_mode="stretch_width", name="Measured data")
+    sizing_page = pn.Column(places["sizing"], name="Sizing", sizing_mode="stretch_width")
     tabs = pn.Tabs(pore_page, quantum_page, measured_page, sizing_page, about, dynamic=False)
     # opening the quantum tab computes what it shows for the current inputs (the light gases only)
     tabs.param.watch(lambda event: quantum.refresh() if event.new == 1 else None, "active")
@@ -117,8 +131,24 @@ def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewab
     scenario_io.tabs = tabs
     scenario_io.show_tab(doc.view.tab)
     scenario_io.sync_url()             # the link carries the inputs; a link's own values are checked first
-    head = header(scenario.title)      # follows the title of a scenario opened on the page
+    make_tabs_accessible(pn.state.curdoc)     # roles and arrow keys once the page is drawn
+    head = header(state.title)         # a link's values may have retitled it; follows every later title
     state.param.watch(lambda event: head.param.update(object=header(event.new).object), "title")
+
+    def fill_in():
+        with pn.io.hold():
+            places["pore"].objects = pore_views
+            places["quantum"].objects = [quantum]
+            places["measured"].objects = [measured]
+            places["sizing"].objects = [sizing]
+            for place in places.values():
+                place.loading = False
+                place.css_classes = []
+
+    if served:
+        pn.state.onload(fill_in)
+    else:
+        fill_in()
     return pn.Column(head, tabs, sizing_mode="stretch_width")
 
 

@@ -26,13 +26,15 @@ from porefill.physics.scenario import Scenario
 from porefill.explorer.jobs.compute import LatestRunner, isotherm_job, short_error
 from porefill.explorer.outputs.isotherm_export import amount_labels, calibration_note, isotherm_csv
 from porefill.explorer.views.state import ExplorerState, describe
-from porefill.explorer.views.potential import FRAME, outline
+from porefill.explorer.views.potential import FRAME, GROW_MIN, growing_box, outline
+from porefill.explorer.views.ticks import readable_log_axes
 
 ADS_COLOUR, DES_COLOUR, EQ_COLOUR = "#1b6ca8", "#d1495b", "#333333"
 MODEL_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "temperature_k", "pore_ends",
               "site_model", "plating", "plating_layers"]
 # a change of these moves the pressure range so much that the picked pressure starts afresh
 RANGE_KEYS = ("shape", "adsorbate", "temperature_k")
+SETTLE_S = 0.3           # requests closer together than this are one burst (`LatestRunner`)
 PICK_FRACTION = 0.8      # where in the log-pressure range the occupancy map starts: the upper layers
 
 _recent = BoundedCache(16)       # isotherms this server has shown lately (porefill.physics.caching)
@@ -99,19 +101,22 @@ class IsothermView(pn.viewable.Viewer):
                                       styles={"font-size": "13px"})
         self.download = pn.widgets.FileDownload(callback=self.csv_file, filename="isotherm.csv",
                                                 label="Download the isotherm (CSV)", width=260)
-        self._iso_box = pn.Column(self._iso_caption, self.x_axis, pn.Row(pn.pane.HTML("Pore ends:"), self.pore_ends),
-                                  self.branch, pn.pane.Bokeh(self._fig_p), pn.pane.Bokeh(self._fig_rel),
-                                  pn.pane.Bokeh(self._fig_mu), css_classes=["porefill-isotherm"])
+        self._iso_box = growing_box(self._iso_caption, self.x_axis, pn.Row(pn.pane.HTML("Pore ends:"), self.pore_ends),
+                                    self.branch, *(pn.pane.Bokeh(f, sizing_mode="stretch_width")
+                                                   for f in (self._fig_p, self._fig_rel, self._fig_mu)),
+                                    css_class="porefill-isotherm")
         self._occ_box = pn.Column(self.pick, pn.pane.Bokeh(self._fig_occ), self._occ_text,
                                   css_classes=["porefill-occupancy-map"])
-        self._k_box = pn.Column(pn.pane.Bokeh(self._fig_k), css_classes=["porefill-compressibility"])
+        self._k_box = growing_box(pn.pane.Bokeh(self._fig_k, sizing_mode="stretch_width"),
+                                  css_class="porefill-compressibility")
         self._table_box = pn.Column(self._table, self.download, sizing_mode="stretch_width",
                                     css_classes=["porefill-steps-box"])
         self._iso: Isotherm | None = None
         self._shown: Scenario | None = None       # inputs of the isotherm on show (None: nothing shown)
         self._wanted: Scenario | None = None      # inputs of the newest request
         self._pick_log10 = -1.0
-        self._runner = LatestRunner("isotherm", name="isotherm")
+        # a slider's arrow key pressed again and again: the first and the last position are computed
+        self._runner = LatestRunner("isotherm", name="isotherm", settle_s=SETTLE_S)
         self.listeners: list = []      # called with (scenario, isotherm or None) whenever what is shown changes
         self._redraw()
         self.state.param.watch(self._redraw, MODEL_KEYS)
@@ -136,7 +141,8 @@ class IsothermView(pn.viewable.Viewer):
                  "linear": "chemical potential μ (K)"}[axis]
         fig = figure(title="Isotherm (mean-field lattice gas)", x_axis_type="log" if log else "linear",
                      x_axis_label=label,
-                     y_axis_label="coverage (atoms/nm; slit: per nm²)", frame_width=FRAME, frame_height=230,
+                     y_axis_label="coverage (atoms/nm; slit: per nm²)", sizing_mode="stretch_width",
+                     min_width=GROW_MIN - 10, frame_height=230,
                      tools="pan,wheel_zoom,box_zoom,reset,save,tap", toolbar_location="above", visible=log,
                      **extra)
         fig.line(x, "ads", source=self._curves, color=ADS_COLOUR, line_width=2, legend_label="adsorption")
@@ -150,6 +156,7 @@ class IsothermView(pn.viewable.Viewer):
         k = {"log": 0, "linear": 1, "relative": 2}[axis]
         fig.add_layout(self._p0_span[k])
         fig.add_layout(self._pick_span[k])
+        readable_log_axes(fig)            # helium's thirty decades: every k-th decade labelled
         fig.legend.location = "bottom_right" if axis == "relative" else "top_left"
         fig.legend.label_text_font_size = "12px"
         fig.legend.background_fill_alpha = 0.8
@@ -157,7 +164,8 @@ class IsothermView(pn.viewable.Viewer):
 
     def _compressibility_figure(self):
         fig = figure(title="Compressibility dN/dμ", x_axis_label="chemical potential μ (K)",
-                     y_axis_label="dN/dμ (atoms/nm per K)", frame_width=FRAME, frame_height=200,
+                     y_axis_label="dN/dμ (atoms/nm per K)", sizing_mode="stretch_width", min_width=GROW_MIN - 10,
+                     frame_height=200,
                      tools="pan,wheel_zoom,box_zoom,reset,save", toolbar_location="above", y_axis_type="linear")
         fig.line("mu", "kads", source=self._curves, color=ADS_COLOUR, line_width=1.5, legend_label="adsorption")
         fig.line("mu", "kdes", source=self._curves, color=DES_COLOUR, line_width=1.5, line_dash="dashed",
@@ -261,7 +269,8 @@ class IsothermView(pn.viewable.Viewer):
             self._p0_span[1].location = iso.setup.mu_coexistence_k
             self._p0_span[2].location = 1.0
             notes = "".join(f"<li>{html.escape(n)}</li>" for n in branch_notes(iso))
-            self._iso_caption.object = (f"<p>For {label}. Dashed line: p₀.</p>"
+            # data-computed: isotherms this page has started computing (the browser tests read it)
+            self._iso_caption.object = (f"<p data-computed='{self._runner.started}'>For {label}. Dashed line: p₀.</p>"
                                         f"<ul class='porefill-branch-notes'>{notes}</ul>")
             self._table.object = self._steps_table(iso, label)
             lines = outline(sc)

@@ -32,6 +32,9 @@ from porefill.explorer.views.state import ExplorerState, describe
 from porefill.explorer.views.isotherm import ADS_COLOUR, DES_COLOUR, _key as model_key, _remember
 from porefill.explorer.views.potential import FRAME
 
+OVERLAY_MAX = 1100         # px: the overlay and residuals grow with the window up to this
+from porefill.explorer.views.ticks import readable_log_axes
+
 ACCEPTED = [".csv", ".txt", ".tsv", ".dat", ".xlsx"]
 FROM_FILE = "(from the header)"
 NO_COLUMN = "(none)"
@@ -314,7 +317,8 @@ class MeasuredView(pn.viewable.Viewer):
         self._axis_types = (x_type, y_type)
         self._sources = []                 # the runs' glyphs belong to the figures: new figures, new sources
         fig = figure(title="Measured over the model", x_axis_type=x_type, y_axis_type=y_type,
-                     frame_width=FRAME + 120, frame_height=260, x_range=Range1d(*_START[x_type]),
+                     sizing_mode="stretch_width", min_width=FRAME + 120, max_width=OVERLAY_MAX, frame_height=260,
+                     x_range=Range1d(*_START[x_type]),
                      y_range=Range1d(*_START[y_type]), tools="pan,wheel_zoom,box_zoom,reset,save",
                      toolbar_location="above", x_axis_label="pressure p (Pa)", y_axis_label="coverage (per nm)")
         fig.line("x", "y", source=self._model_src["adsorption"], color=ADS_COLOUR, line_width=2,
@@ -328,12 +332,13 @@ class MeasuredView(pn.viewable.Viewer):
         self._before_legend.visible = False           # only while a fitted model is drawn
         fig.legend.location = "top_left"
         fig.legend.background_fill_alpha = 0.8
-        res = figure(title="Residuals (measured − model)", x_axis_type=x_type, frame_width=FRAME + 120,
+        res = figure(title="Residuals (measured − model)", x_axis_type=x_type, sizing_mode="stretch_width",
+                     min_width=FRAME + 120, max_width=OVERLAY_MAX,
                      frame_height=140, x_range=fig.x_range, y_range=Range1d(-1, 1),
                      tools="pan,wheel_zoom,box_zoom,reset,save", toolbar_location="above",
                      y_axis_label="per nm")
         res.add_layout(Span(location=0, dimension="width", line_color="#888888", line_dash="dotted"))
-        return fig, res
+        return readable_log_axes(fig), readable_log_axes(res)
 
     def _shown_model(self):
         """(isotherm, sample, fit or None) the overlay draws: the fitted model, with the fitted pore volume,
@@ -373,7 +378,8 @@ class MeasuredView(pn.viewable.Viewer):
             return
         if not self._plots.objects:
             # the figures join the page with the first data, while the tab is on show (see views.quantum)
-            self._plots.objects = [pn.pane.Bokeh(self._fig), pn.pane.Bokeh(self._res_fig)]
+            self._plots.objects = [pn.pane.Bokeh(self._fig, sizing_mode="stretch_width"),
+                                  pn.pane.Bokeh(self._res_fig, sizing_mode="stretch_width")]
         axis = self.axis.value
         overlays, notes = [], []
         unit = self._display_choices(runs)
@@ -389,7 +395,8 @@ class MeasuredView(pn.viewable.Viewer):
                 notes.append(str(exc))
         if _AXIS_TYPES[axis] != self._axis_types:       # Bokeh cannot change an axis's scale in place
             self._fig, self._res_fig = self._figures(axis)
-            self._plots.objects = [pn.pane.Bokeh(self._fig), pn.pane.Bokeh(self._res_fig)]
+            self._plots.objects = [pn.pane.Bokeh(self._fig, sizing_mode="stretch_width"),
+                                  pn.pane.Bokeh(self._res_fig, sizing_mode="stretch_width")]
         with pn.io.hold():
             self._set_axes(axis, unit)
             for branch, (x, y) in model_curves(iso, axis).items():

@@ -29,6 +29,16 @@ MAP_POINTS = 200
 _STALE_AFTER_MS = 250
 CUT_POINTS = 300
 FRAME = 290            # px: frame width of every plot, so that two plots fit side by side at 1024 px
+# a plot that grows with the window (explorer/views/layout words): from this width of its box to the max
+GROW_MIN, GROW_MAX = FRAME + 70, 680
+
+
+def growing_box(*objects, css_class: str, **params) -> pn.Column:
+    """A column that takes its share of a wrapping row: at least ``GROW_MIN`` px (two fit beside the controls
+    at 1024 px), at most ``GROW_MAX`` (a plot wider than that is harder to read, not easier)."""
+    return pn.Column(*objects, css_classes=[css_class], sizing_mode="stretch_width",
+                     styles={"flex": f"1 1 {GROW_MIN}px", "min-width": f"{GROW_MIN}px",
+                             "max-width": f"{GROW_MAX}px"}, **params)
 GEOMETRY_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "plating", "plating_layers"]
 
 
@@ -141,8 +151,9 @@ class PotentialView(pn.viewable.Viewer):
         self._map_caption = pn.pane.HTML("", css_classes=["porefill-caption", "porefill-map-caption"],
                                          width=FRAME + 60, styles={"font-size": "13px"})
         self._map_box = pn.Column(self._map_caption, pn.pane.Bokeh(self._map_fig), css_classes=["porefill-map"])
-        self._cut_box = pn.Column(pn.pane.Bokeh(self._cut_fig), css_classes=["porefill-cuts"])
-        self._runner = LatestRunner("map", name="potential map")
+        self._cut_box = growing_box(pn.pane.Bokeh(self._cut_fig, sizing_mode="stretch_width"),
+                                    css_class="porefill-cuts")
+        self._runner = LatestRunner("map", name="potential map", settle_s=0.15)   # a key burst: first and last
         self._shown: Scenario | None = None       # the inputs the map and cuts now show
         self._pending: Scenario | None = None     # inputs asked for and not yet shown
         self._redraw()
@@ -167,7 +178,8 @@ class PotentialView(pn.viewable.Viewer):
 
     def _make_cut_figure(self):
         fig = figure(title="Line cuts", x_axis_label="distance from the pore centre (Å)", y_axis_label="V (K)",
-                     frame_width=FRAME, frame_height=230, x_range=Range1d(0, 1), y_range=Range1d(-1, 1),
+                     sizing_mode="stretch_width", min_width=GROW_MIN - 10, frame_height=230,
+                     x_range=Range1d(0, 1), y_range=Range1d(-1, 1),
                      tools="pan,wheel_zoom,box_zoom,reset,save,hover", toolbar_location="above",
                      tooltips=[("r (Å)", "@r{0.00}"), ("V (K)", "@v{0.000}")])
         self._cut_renderers = [fig.line("r", "v", source=src, line_width=2, color=Category10_10[k],

@@ -23,6 +23,7 @@ from porefill.explorer.views.model_comparison import ComparisonSummary, comparis
 from porefill.explorer.views.state import ExplorerState, describe
 from porefill.explorer.views.isotherm import ADS_COLOUR, DES_COLOUR
 from porefill.explorer.views.potential import FRAME, outline
+from porefill.explorer.views.ticks import readable_log_axes
 
 MODEL_COLOUR = {"classical": DES_COLOUR, "quantum": ADS_COLOUR}
 ENERGY_COLOURS = {"wall": "#1b6ca8", "kinetic": "#d1495b", "fluid": "#2e8540", "total": "#222222"}
@@ -93,6 +94,7 @@ class QuantumView(pn.viewable.Viewer):
         for m, colour in MODEL_COLOUR.items():
             fig.line("p", "n", source=self._curves[m], color=colour, line_width=2, legend_label=m,
                      line_dash="solid" if m == "quantum" else "dashed")
+        readable_log_axes(fig)
         fig.legend.location = "top_left"
         fig.legend.background_fill_alpha = 0.8
         return fig

@@ -25,7 +25,7 @@ import panel as pn
 import param
 
 from porefill.explorer.jobs.background import PoolJob
-from porefill.explorer.jobs.compute import TIME_LIMIT_S, isotherm_pool, short_error
+from porefill.explorer.jobs.compute import TIME_LIMIT_S, isotherm_pool, on_session, short_error
 from porefill.explorer.jobs.file_parse import ParseRefused, parse_off_loop
 from porefill.explorer.outputs.figures import FIGURES, figure_job
 from porefill.explorer.files.scenario_file import MAX_SCENARIO_BYTES, TABS, ScenarioDocument, ScenarioFileError, ViewChoices, dump_document, parse_document
@@ -235,8 +235,21 @@ class ScenarioIO(pn.viewable.Viewer):
         try:     # parsed in a worker process of its own, with a time and a memory limit (jobs.file_parse)
             doc = await parse_off_loop(parse_document, text, name=name, file_name=name,
                                        refusals=(ScenarioFileError, ValueError))
-            self.apply_document(doc)
         except (ParseRefused, ValueError) as exc:
+            self._say(f"{exc} Nothing was changed.")
+            return
+        # after the await this coroutine no longer holds the document's lock, and the views change Bokeh models
+        # of their own (the isotherm's axis shows another figure): shown on the session's next tick, locked
+        session = pn.state.curdoc
+        if session is not None and session.session_context is not None:
+            on_session(session, partial(self._show_opened, doc, name))
+        else:
+            self._show_opened(doc, name)
+
+    def _show_opened(self, doc: ScenarioDocument, name: str) -> None:
+        try:
+            self.apply_document(doc)
+        except ValueError as exc:
             self._say(f"{exc} Nothing was changed.")
             return
         self._say("")

@@ -29,6 +29,7 @@ from porefill.physics.sweep import TARGET_KINDS, SweepSpec, Target, edge_words, 
 from porefill.explorer.jobs.compute import on_session, short_error
 from porefill.explorer.views.distribution import BAND_COLOURS
 from porefill.explorer.views.state import ExplorerState, describe
+from porefill.explorer.views.ticks import decade_ticker
 from porefill.explorer.outputs.figures import SITE_FAMILY_COLOURS
 from porefill.explorer.jobs.sweep_runner import SWEEP_CACHE, ClusterError, SweepRunner, estimate_seconds
 
@@ -58,6 +59,7 @@ def _sizes_label(shape: str) -> str:
     return f"{plural} (Å): start:stop:count, or a list"
 _WINDOW_UNITS = ("Pa", "p/p₀")
 _WIDTH = 620
+_MIN_WIDTH, _MAX_WIDTH = 520, 1100      # px: the plot grows with the window between these
 
 _runners: dict[str, SweepRunner] = {}
 _runners_lock = threading.Lock()
@@ -148,8 +150,10 @@ class SizingView(pn.viewable.Viewer):
                                   styles={"font-size": "13px"})
         self._carried = None          # the Measured data tab's carried prediction (layer bands), if any
         self._plot = None
-        self._body = pn.Column(css_classes=["porefill-sizing-body"], min_height=40)
+        self._body = pn.Column(css_classes=["porefill-sizing-body"], min_height=40, sizing_mode="stretch_width",
+                               styles={"flex": f"1 1 {_WIDTH}px", "min-width": "0", "max-width": f"{_MAX_WIDTH}px"})
         self._result = None
+        self._result_status = self._result_for = ""     # the status line of the sweep on show, its inputs
         self._edges: dict = {}            # (x, wall) -> where the target holds, in words (`edge_words`)
         self._mode_shown = "size"
         self._job: ThreadJob | None = None        # the sweep under way (porefill.explorer.jobs.background)
@@ -172,16 +176,24 @@ class SizingView(pn.viewable.Viewer):
         """Before a sweep: how many pores the inputs ask for and roughly how long they take here."""
         if self._job is not None and self._job.outcome is None:
             return                                    # a sweep is under way: its status stays
-        if self._result is not None:
-            return                                    # a result is on show: its status stays
         try:
             spec = self.spec()
         except ValueError:
+            spec = None
+        if self._result is not None and spec == self._result.spec:
+            self.status.object = self._result_status          # back to the inputs of the sweep on show
+            return
+        if spec is None:
             self.status.object = "<p>Choose the sizes and press Compute.</p>"
             return
         runner = _runner(self.scheduler.value.strip())
         guess = "" if runner.cluster is not None else _duration(estimate_seconds(spec, runner.workers, runner.cache))
-        self.status.object = f"<p>Press Compute: {spec.size} pores{guess or ', a moment'} on this machine.</p>"
+        ask = f"Press Compute: {spec.size} pores{guess or ', a moment'} on this machine."
+        if self._result is not None:        # the plot stays, and says it belongs to inputs no longer chosen
+            ask = (f"The plot shows the last sweep ({html.escape(self._result_for)}); the inputs have changed "
+                   f"since. {ask}")
+        self.status.object = f"<p class='porefill-sizing-changed'>{ask}</p>" if self._result is not None \
+            else f"<p>{ask}</p>"
 
     # inputs ---------------------------------------------------------------------------------------
     def _fit_inputs(self, *_):
@@ -296,8 +308,9 @@ class SizingView(pn.viewable.Viewer):
         where = describe(base, temperature=mode != "temperature")
         if result.spec.d100_angstrom is not None:
             where = where.replace(f"walls {base.wall_angstrom:g} Å", f"walls from d100 = {result.spec.d100_angstrom:g} Å")
-        notes.insert(0, f"For {html.escape(where)}; site model {html.escape(base.site_model_used)}.")
-        self.status.object = "<p>" + " ".join(notes) + "</p>"
+        self._result_for = f"{where}; site model {base.site_model_used}"
+        notes.insert(0, f"For {html.escape(self._result_for)}.")
+        self.status.object = self._result_status = "<p>" + " ".join(notes) + "</p>"
         if self._carried is not None:
             self.show_layer_bands(self._carried)
             return
@@ -362,7 +375,8 @@ class SizingView(pn.viewable.Viewer):
         if self._result is None:
             return
         if self._plot is None:
-            self._plot = pn.pane.HoloViews(None, css_classes=["porefill-sizing-plot"], backend="bokeh")
+            self._plot = pn.pane.HoloViews(None, css_classes=["porefill-sizing-plot"], backend="bokeh",
+                                           sizing_mode="stretch_width")
             self._body.objects = [self._plot]
         self._plot.object = self._figure(marks)
 
@@ -419,8 +433,11 @@ class SizingView(pn.viewable.Viewer):
             pts = hv.Scatter(data, kdims=["x"], vdims=["p", "fills", "wall", "kind"], label=fills)
             layers.append(pts.opts(color=colour, size=7, tools=["hover"]))
         fig = hv.Overlay(layers).opts(
-            logy=True, width=_WIDTH, height=380, xlabel=x_label, ylabel="step pressure p (Pa)", ylim=(y0, y1),
-            legend_position="top_left", title="Layer steps; grey band: the apparatus's window; black bars: target met"
+            logy=True, yticks=decade_ticker(), responsive=True, min_width=_MIN_WIDTH, max_width=_MAX_WIDTH,
+            height=380, xlabel=x_label, ylabel="step pressure p (Pa)", ylim=(y0, y1),
+            # the legend beside the plot, never over its points; a click on an entry hides that family
+            legend_position="right", legend_opts={"click_policy": "hide"},
+            title="Layer steps; grey band: the apparatus's window; black bars: target met"
             + ("; coloured bands: layers in the measured sample" if bands else ""),
             toolbar="above")
         if mode != "d100":
@@ -430,7 +447,7 @@ class SizingView(pn.viewable.Viewer):
                         "wall (Å)").opts(color="#444444")
         met = hv.Scatter([(x, w) for x, w, _, _ in marks], "side length (Å)", "wall (Å)").opts(
             color="black", size=9, marker="diamond")
-        tied = (line * met).opts(width=_WIDTH, height=220, title=f"Wall tied to side by d100 = "
+        tied = (line * met).opts(responsive=True, min_width=_MIN_WIDTH, max_width=_MAX_WIDTH, height=220, title=f"Wall tied to side by d100 = "
                                  f"{self._result.spec.d100_angstrom:g} Å; diamonds: target met")
         return (fig + tied).cols(1)
 
@@ -438,5 +455,9 @@ class SizingView(pn.viewable.Viewer):
         controls = pn.Column(self.mode, self.sizes, self.walls, self.temps, self.d100, self.model, self.points,
                              self.window_unit, self.low, self.high, self.target, self.layer, self.scheduler,
                              pn.Row(self.compute_button, self.stop_button), self.progress, width=310)
-        return pn.Row(controls, pn.Column(self.status, pn.Row(self._body, self.meets_list), self.bands),
-                      css_classes=["porefill-sizing"])
+        # the list of sizes that meet the target wraps under the plot where the window is narrow (1024 px)
+        results = pn.FlexBox(self._body, self.meets_list, flex_wrap="wrap", gap="8px 16px",
+                             sizing_mode="stretch_width")
+        return pn.Row(controls, pn.Column(self.status, results, self.bands, sizing_mode="stretch_width",
+                                          styles={"min-width": "0"}),
+                      css_classes=["porefill-sizing"], sizing_mode="stretch_width")

@@ -148,8 +148,9 @@ class ExplorerState(param.Parameterized):
                                   ("plating_layers", "plating layers", "")):
             old, new = getattr(base, name), getattr(held, name)
             if old != new:
-                show = (lambda v: "none (isolated)" if v is None else (f"{v:g}{unit}" if isinstance(v, float)
-                                                                         else f"{v}{unit}"))
+                absent = "none (isolated)" if name == "wall_angstrom" else "none"      # None: no walls, no plating
+                show = (lambda v: absent if v is None else (f"{v:g}{unit}" if isinstance(v, float)
+                                                          else f"{v}{unit}"))
                 words.append(f"{label} {show(old)} → {show(new)}")
         return words
 

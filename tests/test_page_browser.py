@@ -1,0 +1,190 @@
+"""The page as a whole in headless Chromium: tabs a keyboard and a screen reader can use, slider keys that
+compute only where they stop, plots that use a large screen, a frame that shows at once."""
+from __future__ import annotations
+
+import re
+
+import pytest
+
+from porefill.explorer.server.testing import readout_text, slider_handle, slider_title, wait_for_readout_change
+
+pytestmark = pytest.mark.browser
+
+CAPTION = ".porefill-isotherm-caption p"
+FOCUSED_TEXT = """() => { let a = document.activeElement;
+  while (a && a.shadowRoot && a.shadowRoot.activeElement) a = a.shadowRoot.activeElement;
+  return a ? [a.getAttribute('role'), a.textContent] : [null, null]; }"""
+
+
+def _tab_states(page) -> dict[str, str]:
+    return {t.inner_text(): t.get_attribute("aria-selected") for t in page.get_by_role("tab").all()}
+
+
+def test_tabs_have_roles_and_work_from_the_keyboard(page):
+    # the WAI-ARIA tabs pattern (common practice, no source): a tablist of tabs, the shown one selected and
+    # alone in the Tab order, arrow keys move along the strip, Enter shows the focused tab's panel
+    page.get_by_role("tab", name="Pore").wait_for(timeout=60_000)
+    assert page.get_by_role("tablist").count() >= 1
+    states = _tab_states(page)
+    assert list(states) == ["Pore", "Quantum states", "Measured data", "Sizing", "About & safety"]
+    assert states["Pore"] == "true" and list(states.values()).count("true") == 1
+    assert page.get_by_role("tabpanel", name="Pore").is_visible()
+    # Tab from the top of the page reaches the strip, on the shown tab
+    page.locator("body").focus()
+    for _ in range(6):
+        page.keyboard.press("Tab")
+        if page.evaluate(FOCUSED_TEXT)[0] == "tab":
+            break
+    assert page.evaluate(FOCUSED_TEXT) == ["tab", "Pore"]
+    for _ in range(3):
+        page.keyboard.press("ArrowRight")
+    assert page.evaluate(FOCUSED_TEXT) == ["tab", "Sizing"]
+    assert _tab_states(page)["Pore"] == "true"           # moving along the strip shows nothing yet
+    page.keyboard.press("ArrowLeft")
+    page.keyboard.press("Enter")
+    page.get_by_role("tabpanel", name="Measured data").wait_for(state="visible", timeout=10_000)
+    states = _tab_states(page)
+    assert states["Measured data"] == "true" and states["Pore"] == "false"
+    assert not page.get_by_role("tabpanel", name="Pore").is_visible()
+    page.keyboard.press("End")
+    page.keyboard.press(" ")
+    page.get_by_text("Asphyxiation").first.wait_for(state="visible", timeout=10_000)
+    assert _tab_states(page)["About & safety"] == "true"
+    # a click keeps the roles in step too
+    page.get_by_role("tab", name="Pore").click()
+    page.get_by_role("tabpanel", name="Pore").wait_for(state="visible", timeout=10_000)
+    assert _tab_states(page)["Pore"] == "true" and _tab_states(page)["About & safety"] == "false"
+    assert page.console_errors == []
+
+
+def test_six_arrow_key_presses_compute_the_first_and_last_size_only(page):
+    # a slider's arrow key pressed six times at once: the page computes the isotherm for the first and the
+    # last position (explorer/jobs/compute.py: LatestRunner's bursts), not six times; data-computed on the
+    # isotherm caption counts the isotherms this page started
+    caption = page.locator(CAPTION).first
+    caption.wait_for(timeout=60_000)
+    page.wait_for_timeout(1000)
+    before = int(caption.get_attribute("data-computed"))
+    readout_before = readout_text(page)
+    size_before = float(slider_title(page, "Side length").split(":")[-1])
+    slider_handle(page, "Side length").focus()
+    for _ in range(6):
+        page.keyboard.press("ArrowRight")
+    size_after = float(slider_title(page, "Side length").split(":")[-1])
+    assert size_after == pytest.approx(size_before + 6 * 0.5)
+    wait_for_readout_change(page, readout_before, timeout_s=60)
+    for _ in range(600):
+        if f"side length {size_after:g} Å" in caption.inner_text() and f"{size_after:g} Å, " in readout_text(page):
+            break
+        page.wait_for_timeout(100)
+    page.wait_for_timeout(1500)             # anything still queued would have started by now
+    assert f"side length {size_after:g} Å" in caption.inner_text()
+    assert re.search(rf"side / radius / width {size_after:g} Å", readout_text(page))
+    computed = int(caption.get_attribute("data-computed")) - before
+    assert 1 <= computed <= 2, computed
+    assert page.console_errors == []
+
+
+LOG_TICKS = """() => {
+  const out = [];
+  for (const v of Bokeh.index.query((v) => v.model.type == "LogAxis")) {
+    const plot = v.parent;
+    if (!plot || !plot.el || plot.el.offsetParent === null || !v.tick_coords) continue;
+    const dim = v.dimension;
+    const range = dim == 0 ? plot.frame.x_range : plot.frame.y_range;
+    out.push({title: plot.model.title ? plot.model.title.text : "", start: range.start, end: range.end,
+              ticks: Array.from(v.tick_coords.major[dim])});
+  }
+  return out;
+}"""
+
+
+def test_helium_log_pressure_axis_labels_every_kth_decade(page):
+    # the demo's helium isotherm spans ~30 decades of pressure; Bokeh's LogTicker labelled every ⌈span/9⌉-th
+    # decade (up to ten crowded labels in 290 px); explorer/views/ticks.py keeps at most six, evenly spaced
+    import math
+
+    page.locator(".porefill-steps table").first.wait_for(timeout=60_000)
+    page.wait_for_timeout(1000)
+    axes = [a for a in page.evaluate(LOG_TICKS) if a["title"].startswith("Isotherm")]
+    assert axes, page.evaluate(LOG_TICKS)
+    axis = axes[0]
+    span = math.log10(axis["end"]) - math.log10(axis["start"])
+    assert span > 25, axis                           # the test is about a long axis
+    exponents = [math.log10(t) for t in axis["ticks"]]
+    assert 3 <= len(exponents) <= 6, exponents
+    assert all(abs(e - round(e)) < 1e-9 for e in exponents)          # powers of ten
+    steps = {round(b - a) for a, b in zip(exponents, exponents[1:])}
+    assert len(steps) == 1 and steps.pop() in (5, 10), exponents     # every k-th decade, one k
+    assert page.console_errors == []
+
+
+def test_the_frame_shows_before_the_plots_fill_in(browser, served_app):
+    # the header, the tab strip and the controls are drawn at once, with a loading place where the plots
+    # will be; the map and the isotherm follow (explorer/views/dashboard.py: fill_in at pn.state.onload)
+    from porefill.explorer.server.testing import first_seen, record_first_seen
+
+    context = browser.new_context(viewport={"width": 1440, "height": 900})
+    try:
+        page = context.new_page()
+        errors = []
+        page.on("console", lambda msg: errors.append(msg.text) if msg.type == "error" else None)
+        record_first_seen(page, {"header": ".porefill-header >>> h1", "tab": ".bk-tab",
+                                 "controls": ".porefill-controls >>> .noUi-handle",
+                                 "filling": ".porefill-filling-in", "map": ".porefill-map >>> canvas",
+                                 "isotherm": ".porefill-isotherm >>> canvas"})
+        page.goto(served_app, timeout=90_000)
+        page.locator(".porefill-isotherm canvas").first.wait_for(timeout=60_000)
+        page.locator(".porefill-steps table").first.wait_for(timeout=60_000)
+        seen = first_seen(page)
+        assert set(seen) == {"header", "tab", "controls", "filling", "map", "isotherm"}, seen
+        frame = max(seen["header"], seen["tab"], seen["controls"])
+        assert seen["filling"] <= frame + 100, seen           # the loading place is there with the frame
+        assert frame < seen["map"] and frame < seen["isotherm"], seen
+        assert page.locator(".porefill-filling-in").count() == 0          # every place filled in
+        assert errors == []
+    finally:
+        context.close()
+
+
+def _canvas_width(page, selector: str) -> float:
+    box = page.locator(f"{selector} canvas").first.bounding_box()
+    return box["width"]
+
+
+def _page_wider_than_window(page) -> int:
+    return page.evaluate("() => document.scrollingElement.scrollWidth - window.innerWidth")
+
+
+def test_plots_grow_on_a_large_screen_and_fit_a_projector(page):
+    # at 1920 × 1080 the line cuts, isotherm, compressibility and the measured overlay use the width there is
+    # (each was a fixed ~300–410 px frame in empty space); at 1024 × 768 they shrink back and nothing scrolls
+    # sideways (explorer/views/potential.py: growing_box)
+    from pathlib import Path
+
+    plots = (".porefill-cuts", ".porefill-isotherm", ".porefill-compressibility")
+    page.locator(".porefill-steps table").first.wait_for(timeout=60_000)
+    widths = {}
+    for width, height in ((1920, 1080), (1024, 768)):
+        page.set_viewport_size({"width": width, "height": height})
+        page.wait_for_timeout(1500)
+        widths[width] = {s: _canvas_width(page, s) for s in plots}
+        assert _page_wider_than_window(page) <= 1, width
+        for s in plots:
+            box = page.locator(s).first.bounding_box()
+            assert box["x"] + box["width"] <= width + 1, (width, s)
+    assert all(widths[1920][s] >= 600 for s in plots), widths
+    assert all(widths[1024][s] <= 1024 - 230 for s in plots), widths
+    # the Measured data tab's overlay and residuals, with a file dropped
+    page.get_by_role("tab", name="Measured data").click()
+    data = Path(__file__).resolve().parents[1] / "scenarios" / "invented-nitrogen-77K.csv"
+    page.locator(".porefill-dropper input[type=file]").first.set_input_files(str(data))
+    page.locator(".porefill-overlay canvas").first.wait_for(timeout=60_000)
+    overlay = {}
+    for width, height in ((1920, 1080), (1024, 768)):
+        page.set_viewport_size({"width": width, "height": height})
+        page.wait_for_timeout(1500)
+        overlay[width] = _canvas_width(page, ".porefill-overlay")
+        assert _page_wider_than_window(page) <= 1, width
+    assert overlay[1920] >= 1000 and overlay[1024] <= 1024 - 230, overlay
+    assert page.console_errors == []
