@@ -33,6 +33,8 @@ _SAME_STATE = 1e-3          # states whose orbit occupancies all agree to this a
 _DIFFER_FRACTION = 1e-6     # as in `porefill.physics.lattice_gas.steps`: branches that differ by more form a loop
 _SEEDS = 8                  # grid points of a run where each layered start is descended
 _STARTS_PER_POINT = 12      # layered starts at most at one grid point (spread over the rows between the branches)
+_DESCENT_ITERATIONS = 30    # a layered start not settled in this many Newton steps is left (large pores: each
+                            # step of 700 orbits is a sparse factorisation)
 
 
 @dataclass(frozen=True, eq=False)
@@ -127,10 +129,17 @@ def _same(p: MeanFieldProblem, x: np.ndarray, y: np.ndarray) -> bool:
 def _follow(mu: np.ndarray, run: tuple[int, int], k0: int, x0: np.ndarray, p: MeanFieldProblem, ads: Branch,
             des: Branch, paths: list[np.ndarray], omegas: list[np.ndarray]) -> None:
     """Descend from ``x0`` at grid point ``k0`` and continue the state up and down the run (first, last grid
-    point) while it stays apart from both branches; add it to ``paths`` unless it is one found before."""
+    point) while it stays apart from both branches and could still become the equilibrium; add it to
+    ``paths`` unless it is one found before.
+
+    A state holding more than the adsorption branch and less than the desorption branch gains on the first
+    and loses on the second as μ rises (dΩ/dμ = −N): once above the desorption branch going up, or above the
+    adsorption branch going down, it stays above, so it is followed one point further (the transition's
+    interval needs it on both sides) and no more."""
     logits = np.full((mu.size, x0.size), np.nan)
     omega = np.full(mu.size, np.nan)
-    for ks in (range(k0, run[1] + 1), range(k0, run[0] - 1, -1)):
+    w = p.weights
+    for up, ks in ((True, range(k0, run[1] + 1)), (False, range(k0, run[0] - 1, -1))):
         x, solve, prev = x0, None, None
         for k in ks:
             if solve is not None:
@@ -141,6 +150,11 @@ def _follow(mu: np.ndarray, run: tuple[int, int], k0: int, x0: np.ndarray, p: Me
             if any(np.all(np.isfinite(q[k])) and _same(p, x, q[k]) for q in paths):
                 return                                              # found before, from another start
             logits[k], omega[k], prev = x, om, k
+            n = float(w @ p.occupancy(x))
+            between = float(w @ ads.occupancy[k]) <= n <= float(w @ des.occupancy[k])
+            past = om > (des.grand_potential[k] if up else ads.grand_potential[k])
+            if between and past and k != k0:
+                break                                               # it can no longer be the lowest
         if k0 not in range(run[0], run[1] + 1) or not np.isfinite(omega[k0]):
             return                                                  # the start fell onto a branch
         x0 = logits[k0]
@@ -160,7 +174,8 @@ def _search_rows(mu, run, k: int, row, low: int, high: int, p: MeanFieldProblem,
         rs = np.unique(np.round(np.linspace(low + 1, high - 1, _STARTS_PER_POINT)).astype(int))
     for r in rs:
         # the outer rows as the desorption branch holds them, the inner as the adsorption branch
-        x, ok, _, _ = solve_state(np.where(row < r, des.logits[k], ads.logits[k]), mu[k], p)
+        x, ok, _, _ = solve_state(np.where(row < r, des.logits[k], ads.logits[k]), mu[k], p,
+                                  max_iter=_DESCENT_ITERATIONS)
         if not ok or _same(p, x, ads.logits[k]):
             continue
         if _same(p, x, des.logits[k]):
