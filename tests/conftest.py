@@ -63,6 +63,19 @@ def served_app():
         proc.kill()
 
 
+@pytest.fixture(scope="module")
+def argon_url():
+    """A server of its own, per test module, on the argon slit demo (classical sites: its isotherms take a
+    fraction of a second)."""
+    from porefill.explorer.server.testing import serve_scenario
+
+    port = _free_port()
+    proc = serve_scenario("demo-slit-argon", port)
+    yield f"http://127.0.0.1:{port}/"
+    proc.terminate()
+    proc.wait(timeout=20)
+
+
 @pytest.fixture(scope="session")
 def browser():
     from playwright.sync_api import sync_playwright

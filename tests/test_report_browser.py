@@ -11,24 +11,12 @@ import pytest
 
 from porefill.explorer.outputs.report import SECTIONS, build_report
 from porefill.explorer.files.scenario_file import load_document, parse_document, resolve_scenario
-from porefill.explorer.server.testing import serve_scenario, slider_title, wait_for_loading
+from porefill.explorer.server.testing import slider_title, wait_for_loading
 
 pytestmark = pytest.mark.browser
 ROOT = Path(__file__).resolve().parents[1]
 STEPS = ".porefill-steps table"
 MESSAGE = ".porefill-scenario-message p"
-
-
-@pytest.fixture(scope="module")
-def argon_url():
-    """A server of its own on the argon slit demo (classical sites: its isotherms take a fraction of a second)."""
-    from conftest import _free_port
-
-    port = _free_port()
-    proc = serve_scenario("demo-slit-argon", port)
-    yield f"http://127.0.0.1:{port}/"
-    proc.terminate()
-    proc.wait(timeout=20)
 
 
 @pytest.fixture()

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import pytest
 
-from porefill.explorer.server.testing import (drag_handle, serve_scenario, slider_handle, text_of,
+from porefill.explorer.server.testing import (drag_handle, slider_handle, text_of,
                                               wait_for_text_change)
 
 pytestmark = pytest.mark.browser
@@ -23,18 +23,6 @@ READ_CONTROLS = """(root) => {
           pressed: all(".bk-btn-group .bk-btn.bk-active").map((e) => e.textContent.trim()),
           ticked: all("input[type=checkbox]").map((e) => e.checked)};
 }"""
-
-
-@pytest.fixture(scope="module")
-def argon_url():
-    """A server of its own on the argon slit demo (classical sites: its isotherms take a fraction of a second)."""
-    from conftest import _free_port
-
-    port = _free_port()
-    proc = serve_scenario("demo-slit-argon", port)
-    yield f"http://127.0.0.1:{port}/"
-    proc.terminate()
-    proc.wait(timeout=20)
 
 
 def _controls(page, selector: str = "body") -> dict:
