@@ -93,32 +93,29 @@ class EquilibriumStates:
         if depth > 4:
             return [(mu_eq, added, rise)]
         p = self._problem
+        occ, w = p.occupancy, p.weights
         omega_eq = solve_state(xa, mu_eq, p)[3]
-        for c in range(2 + self.paths.shape[0]):
-            if c in (a, b):
+        n_a, n_b = float(w @ occ(xa)), float(w @ occ(xb))
+        for j in range(self.paths.shape[0]):            # the branches cannot lie below both ends: only paths
+            if 2 + j in (a, b):
                 continue
-            xc = self.state_logits(c, ads, des)
+            xc = self.paths[j]
             start = xc[k] if np.all(np.isfinite(xc[k])) else xc[k + 1]
             if not np.all(np.isfinite(start)):
                 continue
             y, ok, _, om = solve_state(start, mu_eq, p)
-            occ = p.occupancy
             if not ok or om >= omega_eq - 1e-9 * (1.0 + abs(omega_eq)):
                 continue
-            n_c = float(p.weights @ occ(y))
-            n_a, n_b = float(p.weights @ occ(xa)), float(p.weights @ occ(xb))
-            if not (min(n_a, n_b) < n_c < max(n_a, n_b)):
+            if not (min(n_a, n_b) < float(w @ occ(y)) < max(n_a, n_b)):
                 continue
-            # c lies lower at the transition: the equilibrium passes through it between the grid points
+            # path j lies lower at the transition: the equilibrium passes through it between the grid points
             paths = self.paths.copy()
-            j = c - 2 if c >= 2 else None
-            if j is None:
-                continue
-            paths[j, k] = paths[j, k] if np.all(np.isfinite(paths[j, k])) else y
-            paths[j, k + 1] = paths[j, k + 1] if np.all(np.isfinite(paths[j, k + 1])) else y
+            for kk in (k, k + 1):
+                if not np.all(np.isfinite(paths[j, kk])):
+                    paths[j, kk] = y
             sub = EquilibriumStates(self.logits, self.grand_potential, self.source, paths, self.path_omega, p)
-            return (sub._split(k, a, c, ads, des, refine, depth + 1)
-                    + sub._split(k, c, b, ads, des, refine, depth + 1))
+            return (sub._split(k, a, 2 + j, ads, des, refine, depth + 1)
+                    + sub._split(k, 2 + j, b, ads, des, refine, depth + 1))
         return [(mu_eq, added, rise)]
 
 
