@@ -417,7 +417,7 @@ def _site_free_energies(states: CrossSectionStates, geometry, kt: float):
     f = geometry.cells.free_energies(kt, lat.cell_area_angstrom2)
     with np.errstate(divide="ignore"):
         f_q = states.energies_k[0] - kt * np.log(lam * lam * (z_rel + tail) / lat.cell_area_angstrom2)
-    return np.where(reached | floored, f_q, f), reached, f
+    return np.where(reached | floored, f_q, f), reached, f, floored
 
 
 def orbit_sources(states: CrossSectionStates, geometry, temperature_k: float) -> list[dict]:
@@ -428,8 +428,7 @@ def orbit_sources(states: CrossSectionStates, geometry, temperature_k: float) ->
     semiclassical integral above it ("semiclassical above the states"); the others are "quantum states"."""
     kt = float(temperature_k)
     lat = geometry.candidates
-    f, reached, f_classical = _site_free_energies(states, geometry, kt)
-    floored = _site_tails(states, lat.x, lat.y, geometry.orbit, kt)[1]
+    f, reached, f_classical, floored = _site_free_energies(states, geometry, kt)
     home = state_homes(states, lat.x, lat.y, geometry.orbit, kt)
     boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)
     out = []
