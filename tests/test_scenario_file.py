@@ -143,7 +143,7 @@ def test_saved_fit_from_a_real_fit_result():
     pick = slice(5, 55, 5)
     p = iso.pressure_pa[pick]
     n = iso.per_nm("adsorption")[pick] / 10.0                  # atoms per Å
-    amount = from_atoms_per_angstrom(n, "mmol/g", AmountBasis.of(sc.pore(), 0.5)) * 1.01
+    amount = from_atoms_per_angstrom(n, "mmol/g", AmountBasis.of(iso.stage.geometry, 0.5)) * 1.01
     run = MeasuredRun("model", "invented.csv", p, "Pa", amount, "mmol/g", temperature_k=87.0)
     result = fit(FitRequest(sc, (run,), Sample(pore_volume_cm3_g=0.5), free=("pore-volume",), local_points=60))
     saved = SavedFit.from_result(result)

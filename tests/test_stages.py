@@ -86,13 +86,15 @@ def test_slit_isotherm_amounts_per_area_and_fraction():
 
 
 def test_full_pore_in_mmol_per_gram():
-    # a pore volume V_p of cylinders full of lattice fluid holds V_p·n_lattice, n_lattice = sites/(A ℓ)
+    # a (Gurvich) pore volume V_p of cylinders full of lattice fluid holds V_p·n_l: the sites per Å of pore
+    # over the liquid's cross-section A_l = sites per Å / n_l (IUPAC 2015, §6; porefill.physics.substances.units)
     sc = Scenario(shape="cylinder", size_angstrom=25.0, adsorbate="nitrogen", temperature_k=77.35,
                   pore_volume_cm3_g=0.7)
     iso = compute_isotherm(sc, n_points=60)
     sites, ell = iso.stage.problem.weights.sum(), iso.stage.spacing_angstrom
-    expected = iso.fraction("desorption")[-1] * sites / ell * 0.7e24 / sc.pore().area_angstrom2 \
-        / constants.Avogadro * 1e3
+    liquid_area = sites / ell / iso.stage.geometry.liquid_density_per_a3
+    assert liquid_area < sc.pore().area_angstrom2
+    expected = iso.fraction("desorption")[-1] * sites / ell * 0.7e24 / liquid_area / constants.Avogadro * 1e3
     assert iso.amount("desorption", "mmol/g")[-1] == pytest.approx(expected, rel=1e-12)
 
 

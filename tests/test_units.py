@@ -1,6 +1,8 @@
 """Unit conversions against their definitions (SI, IUPAC), both ways."""
 from __future__ import annotations
 
+from types import SimpleNamespace
+
 import numpy as np
 import pytest
 from scipy import constants
@@ -48,7 +50,9 @@ def test_pore_full_of_liquid_helium():
 
 @pytest.mark.parametrize("pore", [HexagonPore(15.0, 8.0), CylinderPore(20.0), SlitPore(12.0)], ids=repr)
 def test_amount_units_round_trip_and_definitions(pore):
-    basis = units.AmountBasis.of(pore, pore_volume_cm3_g=0.9)
+    # the liquid a full pore holds is thinner than the pore by the layer by the wall (any smaller area will do)
+    liquid_area = 0.9 * pore.area_angstrom2
+    basis = units.AmountBasis.of(SimpleNamespace(pore=pore, liquid_area_angstrom2=liquid_area), pore_volume_cm3_g=0.9)
     n = np.array([0.0, 0.37, 12.0])        # atoms per Å (slit: per Å²)
     for unit in units.AMOUNT_UNITS:
         np.testing.assert_allclose(units.to_atoms_per_angstrom(units.from_atoms_per_angstrom(n, unit, basis),
@@ -58,8 +62,9 @@ def test_amount_units_round_trip_and_definitions(pore):
     per_wall = units.from_atoms_per_angstrom(n, "per nm2 wall", basis)
     perimeter_nm = pore.perimeter_angstrom / 10.0
     np.testing.assert_allclose(per_wall, per_nm / perimeter_nm / (10.0 if basis.per_area else 1.0), rtol=1e-14)
-    # mmol/g: a gram holds V_p/A of pore length; 1 cm³ = 1e24 Å³ (definition); N_A from scipy.constants
-    length_per_g = 0.9e24 / pore.area_angstrom2
+    # mmol/g: a gram holds V_p/A_l of pore length, V_p the Gurvich volume (IUPAC 2015, Thommes et al., §6), A_l
+    # the liquid's cross-section; 1 cm³ = 1e24 Å³ (definition); N_A from scipy.constants
+    length_per_g = 0.9e24 / liquid_area
     np.testing.assert_allclose(units.from_atoms_per_angstrom(n, "mmol/g", basis),
                                n * length_per_g / constants.Avogadro * 1e3, rtol=1e-14)
 
@@ -84,7 +89,7 @@ def test_amounts_per_square_metre_of_sample_surface():
     # (SI prefixes; common practice, no source)
     from porefill.physics.fitting.measured import MeasuredRun, Sample, amount_to_model
 
-    basis = units.AmountBasis.of(HexagonPore(15.0, 8.0))
+    basis = units.AmountBasis(area_angstrom2=500.0, perimeter_angstrom=90.0)
     sample = Sample(pore_volume_cm3_g=0.6, surface_area_m2_g=500.0)
     per_area = MeasuredRun("a", "a.csv", [1.0, 2.0], "Pa", [1.0, 3.0], "umol/m2")
     per_gram = MeasuredRun("g", "g.csv", [1.0, 2.0], "Pa", [0.5, 1.5], "mmol/g")

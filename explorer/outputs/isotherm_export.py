@@ -65,6 +65,7 @@ def model_description(iso: Isotherm) -> dict:
         "lattice_spacing_angstrom": s.spacing_angstrom,
         "lattice_spacing_rule": s.spacing_note,
         "sites_per_slice": float(s.problem.weights.sum()),
+        "pore_volume_basis": pore_volume_basis(iso),
         "pair": s.geometry.pair.to_dict(),
         "wall_spread": spread_description(sc.adsorbate, sc.solid),
         "pressure_mapping": "p = p0(T) exp[(mu - mu_coex)/kT], mu_coex = -z eps_b / 2, z = 8",
@@ -73,6 +74,16 @@ def model_description(iso: Isotherm) -> dict:
         "measured_branches": measured_branches(sc.pore_ends, sc.adsorbate),
         "branch_notes": branch_notes(iso),
     }
+
+
+def pore_volume_basis(iso: Isotherm) -> dict:
+    """What a pore volume means for the per-gram amounts: the Gurvich volume, the liquid a full pore holds
+    (`porefill.physics.substances.units`), and how it compares with the geometric cross-section."""
+    liquid, geometric = iso.basis.area_angstrom2, iso.stage.geometry.pore.area_angstrom2
+    unit = "Å" if iso.basis.per_area else "Å²"
+    return {"meaning": "Gurvich: the volume of bulk liquid a full pore holds (IUPAC 2015)",
+            "liquid_cross_section": liquid, "geometric_cross_section": geometric, "unit": unit,
+            "liquid_fraction_of_geometric": liquid / geometric}
 
 
 def calibration(iso: Isotherm) -> list[dict]:

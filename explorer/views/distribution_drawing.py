@@ -171,13 +171,12 @@ def model_at(dist, i: int, log_p) -> np.ndarray:
     """The distribution's amount for run ``i`` of ``dist.fitted`` at ln p (Pa), in the run's unit: Σ_j w_j ×
     (the kernel's atoms per Å³ of pore of size j on the run's branch) × (the run's unit per atom per Å³ of
     1 cm³/g) — the inversion's own matrix (`porefill.physics.distribution.inversion.kernel_matrix`)."""
-    from porefill.physics.fitting.model import unit_factor
+    from porefill.physics.distribution.inversion import per_volume_factor
 
     f = dist.fitted[i]
-    pores = [sc.pore() for sc in dist.kernel.spec.scenarios()]
-    factors = np.array([unit_factor(f["run"], pore, dist.sample, 1.0) * pore.area_angstrom2 for pore in pores])
     w = np.asarray(dist.pore_volume_cm3_g, float)
-    return dist.kernel.per_pore_volume(np.asarray(log_p, float), f["branch"]) @ (w * factors)
+    density = dist.kernel.per_pore_volume(np.asarray(log_p, float), f["branch"])
+    return density @ w * per_volume_factor(f["run"], dist.sample)
 
 
 def layer_rows(carried) -> list[dict]:

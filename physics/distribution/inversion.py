@@ -35,14 +35,16 @@ from porefill.physics.distribution.kernel import Kernel
 from porefill.physics.fitting.measured import MeasuredRun, Sample
 from porefill.physics.fitting.model import PER_GRAM_UNITS, prepare_runs, unit_factor
 from porefill.physics.lattice_gas.branches import measured_branches
+from porefill.physics.substances.units import AmountBasis
 
-__all__ = ["Distribution", "invert", "bin_edges", "kernel_matrix", "ceiling_pa", "second_differences", "BOOTSTRAP_SAMPLES",
+__all__ = ["Distribution", "invert", "bin_edges", "kernel_matrix", "per_volume_factor", "ceiling_pa", "second_differences", "BOOTSTRAP_SAMPLES",
            "MISFIT_REDUCED_CHI2", "EDGE_FRACTION"]
 
 BOOTSTRAP_SAMPLES = 200
 MISFIT_REDUCED_CHI2 = 4.0       # as the single-pore fit's noise warning: scatter twice the assumed noise
 EDGE_FRACTION = 0.05            # volume in the kernel's first or last size that says it reaches beyond them
 _LAMBDAS = np.logspace(-5, 2, 36)
+_PER_VOLUME = AmountBasis(area_angstrom2=1.0, perimeter_angstrom=1.0)   # per-gram units only (module notes)
 
 
 @dataclass(frozen=True, eq=False)
@@ -119,19 +121,22 @@ def ceiling_pa(kernel: Kernel) -> float:
     return 1.05 * max(full) if full else float("inf")
 
 
+def per_volume_factor(run: MeasuredRun, sample: Sample) -> float:
+    """The run's (per-gram) unit per (atom per Å³ of pore volume) at 1 cm³/g: `unit_factor`, which is per atom
+    per Å of one pore, on a unit cross-section."""
+    return unit_factor(run, _PER_VOLUME, sample, 1.0)
+
+
 def kernel_matrix(kernel: Kernel, data, sample: Sample, top_pa: float = float("inf")
                   ) -> tuple[np.ndarray, np.ndarray, np.ndarray, list]:
     """(K, y, σ, rows): the kernel at every recorded point of the prepared runs ``data`` up to ``top_pa``, in
     each run's unit per cm³/g of each size, with the measured amounts, their σ and (run index, point index)
     of each row."""
     blocks, ys, sigmas, rows = [], [], [], []
-    pores = [sc.pore() for sc in kernel.spec.scenarios()]
     for j, d in enumerate(data):
         known = np.flatnonzero(d.has_pressure & (np.nan_to_num(d.pressure_pa, nan=np.inf) <= top_pa))
         density = kernel.per_pore_volume(np.log(d.pressure_pa[known]), d.branch)
-        # the run's unit per (atom per Å³ of pore) at 1 cm³/g: unit_factor is per (atom per Å of one pore)
-        factors = np.array([unit_factor(d.run, pore, sample, 1.0) * pore.area_angstrom2 for pore in pores])
-        blocks.append(density * factors)
+        blocks.append(density * per_volume_factor(d.run, sample))
         ys.append(np.asarray(d.run.amount, float)[known])
         sigmas.append(d.sigma[known])
         rows.extend((j, int(k)) for k in known)

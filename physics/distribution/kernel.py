@@ -15,8 +15,8 @@ what a distribution's bar means anyway.
 
 Each part keeps its three model branches ('adsorption', 'desorption', 'equilibrium') as curves in ln p whose
 jumps stand where they are (`porefill.physics.lattice_gas.jumps.branch_curve`), in atoms per Å of one pore,
-and the pore's cross-section, so an amount per gram is V·(per Å)/area — the same conversion as the
-single-pore fit (`porefill.physics.fitting.model.unit_factor`). Which branch a measured leg follows is the
+and the cross-section of the liquid the full pore holds (`GeometryStage.liquid_area_angstrom2`: pore volumes are
+Gurvich volumes), so an amount per gram is V·(per Å)/area — the same conversion as the single-pore fit (`porefill.physics.fitting.model.unit_factor`). Which branch a measured leg follows is the
 scenario's pore-ends rule (`porefill.physics.lattice_gas.branches.measured_branches`).
 """
 from __future__ import annotations
@@ -34,7 +34,7 @@ from porefill.physics.scenario import Scenario
 __all__ = ["KernelSpec", "Kernel", "kernel_column", "pore_part", "DEFAULT_PARTS", "pore_diameter_angstrom", "default_sizes", "KERNEL_VERSION",
            "DEFAULT_DIAMETERS_NM", "DEFAULT_KERNEL_SIZES", "DEFAULT_KERNEL_POINTS"]
 
-KERNEL_VERSION = 2            # bump when what a column holds changes: the disk cache keys on it
+KERNEL_VERSION = 3            # bump when what a column holds changes: the disk cache keys on it
 DEFAULT_DIAMETERS_NM = (2.0, 10.0)   # the mesopores ordered silicas are made with (IUPAC: 2–50 nm mesopores)
 DEFAULT_KERNEL_SIZES = 48
 DEFAULT_PARTS = 3                    # isotherms averaged per kernel size (module notes)
@@ -140,7 +140,8 @@ def kernel_column(spec: KernelSpec, i: int) -> dict:
 
 def pore_part(scenario: Scenario, n_points: int = DEFAULT_KERNEL_POINTS,
               relative_pressure_range: tuple | None = (1e-7, 1.0)) -> dict:
-    """One pore's isotherm in plain types: ``size_angstrom``, ``area_angstrom2`` (cross-section),
+    """One pore's isotherm in plain types: ``size_angstrom``, ``area_angstrom2`` (the cross-section of the
+    liquid the full pore holds, `porefill.physics.substances.units.AmountBasis`),
     ``saturation_pressure_pa``, per branch name ``log_p`` (ln Pa, ascending; a jump is two vertices at one
     pressure) and ``per_angstrom`` (atoms per Å of one pore), ``layers_pa`` (`_layer_pressures`: where each
     layer from the wall forms, the last entry the pore full) and ``steps`` (every step: ``kind``,
@@ -149,13 +150,14 @@ def pore_part(scenario: Scenario, n_points: int = DEFAULT_KERNEL_POINTS,
     from porefill.physics.lattice_gas.adsorption import compute_isotherm
     from porefill.physics.lattice_gas.jumps import branch_curve
 
-    out = {"size_angstrom": float(scenario.size_angstrom), "area_angstrom2": float(scenario.pore().area_angstrom2)}
+    out = {"size_angstrom": float(scenario.size_angstrom)}
     try:
         iso = compute_isotherm(scenario, n_points=n_points,
                                relative_pressure_range=relative_pressure_range)
     except ValueError as exc:
         out["error"] = str(exc).splitlines()[0] if str(exc) else "ValueError"
         return out
+    out["area_angstrom2"] = float(iso.basis.area_angstrom2)
     scale = iso.stage.scale
     p0 = float(iso.stage.saturation_pressure_pa)
     out["saturation_pressure_pa"] = p0

@@ -41,12 +41,13 @@ __all__ = ["above_p0", "drop_above_p0", "PER_GRAM_UNITS", "RunData", "RunCurve",
 PER_GRAM_UNITS = ("mmol/g", "mol/g", "cm3(STP)/g") + PER_AREA_UNITS + DOSED_UNITS
 
 
-def unit_factor(run: MeasuredRun, pore, sample: Sample, pore_volume_cm3_g: float = 1.0) -> float:
-    """Amount in the run's unit per (atom per Å of one pore), at ``pore_volume_cm3_g`` (cm³/g)."""
+def unit_factor(run: MeasuredRun, basis: AmountBasis, sample: Sample, pore_volume_cm3_g: float = 1.0) -> float:
+    """Amount in the run's unit per (atom per Å of one pore), at ``pore_volume_cm3_g`` (cm³/g); ``basis`` the
+    pore's (`AmountBasis.of` its geometry stage)."""
     one = replace(run, pressure=[np.nan], amount=[1.0], rows=None)
     if run.amount_unit in PER_GRAM_UNITS:
         sample = sample.with_value("pore_volume_cm3_g", pore_volume_cm3_g, "fitted")
-    return 1.0 / float(amount_to_model(one, AmountBasis.of(pore), sample)[0])
+    return 1.0 / float(amount_to_model(one, basis, sample)[0])
 
 
 @dataclass(frozen=True, eq=False)
@@ -210,7 +211,6 @@ def predict(scenario: Scenario, data: tuple[RunData, ...], sample: Sample, *, n_
     isotherms = {t: compute_isotherm(scenario.replace(temperature_k=t), n_points=n_points, pressure_range_pa=r,
                                      geometry=geometry)
                  for t, r in ranges.items()}
-    pore = scenario.pore()
     curves, cache = [], {}
     for d in data:
         iso = isotherms[d.temperature_k]
@@ -219,13 +219,13 @@ def predict(scenario: Scenario, data: tuple[RunData, ...], sample: Sample, *, n_
             mu, per = (branch_curve(iso, d.branch, bisections=bisections) if bisections
                        else (iso.mu, iso.per_angstrom(d.branch)))
             cache[key] = (np.log(iso.stage.scale.pressure_pa(mu)), per)
-        curves.append(_run_curve(d, *cache[key], pore, sample))
+        curves.append(_run_curve(d, *cache[key], AmountBasis.of(iso.stage.geometry), sample))
     return tuple(curves)
 
 
-def _run_curve(d: RunData, log_p: np.ndarray, per: np.ndarray, pore, sample: Sample) -> RunCurve:
+def _run_curve(d: RunData, log_p: np.ndarray, per: np.ndarray, basis: AmountBasis, sample: Sample) -> RunCurve:
     """One run's `RunCurve` from a branch as ln p (Pa) and atoms per Å."""
-    amount = per * unit_factor(d.run, pore, sample)
+    amount = per * unit_factor(d.run, basis, sample)
     known = d.has_pressure
     lo_p, hi_p = d.bracket_pa[~known, 0], d.bracket_pa[~known, 1]
     lo_valid = lo_p > 0
@@ -255,8 +255,8 @@ def estimate_pore_volume(iso, runs, sample: Sample, *, bounds: tuple[float, floa
                             noise_relative=noise_relative, noise_floor=noise_floor, gauge_floor_pa=None)
     except ValueError:
         return None
-    log_p, pore = np.log(iso.pressure_pa), scenario.pore()
-    curves = tuple(_run_curve(d, log_p, iso.per_angstrom(d.branch), pore, sample) for d in data)
+    log_p, basis = np.log(iso.pressure_pa), AmountBasis.of(iso.stage.geometry)
+    curves = tuple(_run_curve(d, log_p, iso.per_angstrom(d.branch), basis, sample) for d in data)
     if not any(np.any(d.has_pressure) for d in data):
         return None
     return solve_pore_volume(curves, data, bounds, float(np.mean(bounds)), 0.0)
@@ -403,6 +403,6 @@ def simulated_run(scenario: Scenario, *, pressure_pa, leg: str = "adsorption", b
     mu, per = branch_curve(iso, branch or iso.measured_branch(leg), bisections=16)       # jumps where they are, not on the grid
     amount = np.interp(np.log(p), np.log(iso.stage.scale.pressure_pa(mu)), per)
     probe = MeasuredRun(name, source, [np.nan], pressure_unit, [1.0], amount_unit, leg, scenario.temperature_k)
-    values = amount * unit_factor(probe, scenario.pore(), sample, sample.pore_volume_cm3_g or 1.0)
+    values = amount * unit_factor(probe, AmountBasis.of(iso.stage.geometry), sample, sample.pore_volume_cm3_g or 1.0)
     shown = from_pascal(p, pressure_unit, p0_pa=iso.stage.saturation_pressure_pa)
     return MeasuredRun(name, source, shown, pressure_unit, values, amount_unit, leg, scenario.temperature_k)

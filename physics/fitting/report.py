@@ -23,7 +23,7 @@ import numpy as np
 from porefill.physics.fitting import model as fm
 from porefill.physics.lattice_gas.adsorption import compute_isotherm
 from porefill.physics.fitting.params import FREE_PARAMETERS, PARAMETER_UNITS
-from porefill.physics.substances.units import from_pascal
+from porefill.physics.substances.units import AmountBasis, from_pascal
 
 __all__ = ["NOISE_WARNING_REDUCED_CHI2", "NEAR_BOUND_ERRORS", "near_bound", "bound_warning",
            "noise_warning", "build_result", "curves"]
@@ -247,14 +247,14 @@ def curves(result, n_points: int):
     data = fm.prepare_runs(req.runs, scenario=req.scenario, sample=req.sample, branches=req.branches,
                            noise_relative=req.noise_relative, noise_floor=req.noise_floor,
                            gauge_floor_pa=req.gauge_floor_pa)
-    pore = result.scenario.pore()
     v_p = result.scenario.pore_volume_cm3_g or result.sample.pore_volume_cm3_g or 1.0
     out = []
     for d in data:
         (lo, hi), = fm.pressure_ranges((d,), adsorbate=req.scenario.adsorbate, margin=1.0 + 1e-9).values()
         iso = compute_isotherm(result.scenario.replace(temperature_k=d.temperature_k), n_points=n_points,
                                pressure_range_pa=(lo, hi))
-        amount = iso.per_angstrom(d.branch) * fm.unit_factor(d.run, pore, result.sample, v_p)
+        amount = iso.per_angstrom(d.branch) * fm.unit_factor(d.run, AmountBasis.of(iso.stage.geometry),
+                                                             result.sample, v_p)
         p = iso.pressure_pa
         shown = from_pascal(p, d.run.pressure_unit, p0_pa=iso.stage.saturation_pressure_pa)
         out.append(FittedCurve(d.run, d.branch, shown, p, amount))

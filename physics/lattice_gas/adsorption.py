@@ -55,7 +55,7 @@ class Isotherm:
     # amounts ---------------------------------------------------------------------------------
     @property
     def basis(self) -> AmountBasis:
-        return AmountBasis.of(self.stage.geometry.pore, self.stage.scenario.pore_volume_cm3_g)
+        return AmountBasis.of(self.stage.geometry, self.stage.scenario.pore_volume_cm3_g)
 
     def branch(self, name: str):
         """'adsorption', 'desorption' or 'equilibrium' (the lowest-Ω state found at each μ)."""
@@ -258,7 +258,7 @@ def compute_isotherm(scenario: Scenario, *, n_points: int = DEFAULT_POINTS, mu_r
     des = Branch(mu, des_rev.logits[::-1], des_rev.grand_potential[::-1], des_rev.converged[::-1], p)
     labels = stage.orbit_labels()
     eq = equilibrium_states(mu, p, ads, des, stage.lattice.ring[stage.representative])
-    basis = AmountBasis.of(stage.geometry.pore, scenario.pore_volume_cm3_g)
+    basis = AmountBasis.of(stage.geometry, scenario.pore_volume_cm3_g)
     per_site = float(from_atoms_per_angstrom(_atoms_per_angstrom_per_site(stage), "per nm", basis))
     steps = find_steps(mu, ads.occupancy, des.occupancy, ads.grand_potential, des.grand_potential,
                        weights=p.weights, labels=labels, order=p.site_free_energy,

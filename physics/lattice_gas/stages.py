@@ -74,16 +74,31 @@ class GeometryStage:
     orbit: np.ndarray                   # (N,) symmetry orbit of each candidate
     spacing_angstrom: float
     spacing_note: str
+    liquid_density_per_a3: float        # the bulk liquid's, `liquid_number_density`
+
+    @property
+    def liquid_area_angstrom2(self) -> float:
+        """Cross-section (Å²; slit: width, Å) of the bulk liquid that the full lattice's atoms would make: the
+        pore's volume per Å of length as a measurement counts it by the Gurvich rule (the amount held by a full
+        pore, as liquid). It is smaller than the geometric cross-section `Pore.area_angstrom2` by the layer
+        next to the wall that no atom's centre reaches; with the default spacing it is the number of sites
+        times their cell area.
+        """
+        lat = self.candidates
+        per_angstrom = lat.size / self.spacing_angstrom
+        if lat.shape == "slit":          # a row's one site stands for a site every ℓ along x
+            per_angstrom /= self.spacing_angstrom
+        return float(per_angstrom / self.liquid_density_per_a3)
 
 
 @memoize(maxsize=48)
 def _geometry_stage(key: tuple) -> GeometryStage:
     scenario = Scenario(**dict(key))
     pore, pair = scenario.pore(), scenario.pair()
+    density, source = liquid_number_density(scenario.adsorbate)
     if scenario.lattice_spacing_angstrom is not None:
         spacing, note = scenario.lattice_spacing_angstrom, "set by the user"
     else:
-        density, source = liquid_number_density(scenario.adsorbate)
         spacing = default_spacing(density)
         note = f"full lattice at the bulk liquid density {density:.5f} Å⁻³ ({source})"
     placement = place_sites(pore, spacing, first_row_distance(pore, pair))
@@ -95,7 +110,7 @@ def _geometry_stage(key: tuple) -> GeometryStage:
         note += (f"; rows scaled by s = {np.sqrt(placement.area_scale):.4f} to fit the pore, axial spacing "
                  f"ℓ/s² = {candidates.spacing_angstrom:.4f} Å keeps the cell volume")
     return GeometryStage(key, pore, pair, get_adsorbate(scenario.adsorbate), candidates, cells, orbit,
-                         float(candidates.spacing_angstrom), note)
+                         float(candidates.spacing_angstrom), note, float(density))
 
 
 def geometry_stage(scenario: Scenario) -> GeometryStage:
@@ -135,7 +150,8 @@ def rescaled_geometry(reference: GeometryStage, scenario: Scenario,
     c = reference.cells
     cells = SiteCells(c.group, c.weight, c.potential_k * factor, c.site_group, c.area_angstrom2)
     return GeometryStage(key, reference.pore, pair, reference.adsorbate, reference.candidates, cells,
-                         reference.orbit, reference.spacing_angstrom, reference.spacing_note)
+                         reference.orbit, reference.spacing_angstrom, reference.spacing_note,
+                         reference.liquid_density_per_a3)
 
 
 @dataclass(frozen=True, eq=False)

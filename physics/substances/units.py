@@ -7,7 +7,10 @@ Amounts (internal: atoms per Å of pore length; for the slit, per Å of length a
 - per nm of pore (slit: per nm²);
 - per nm² of wall (the pore's perimeter, `Pore.perimeter_angstrom`);
 - mmol/g and cm³(STP)/g of sample, from the sample's specific pore volume V_p (cm³/g): a gram holds
-  V_p / A of pore length (A the cross-section, `Pore.area_angstrom2`).
+  V_p / A_l of pore length. V_p is the pore volume as a measurement gives it by the Gurvich rule (the amount a
+  full pore holds, as bulk liquid: IUPAC, Thommes et al. 2015, §6), so A_l is the cross-section of the liquid
+  a full pore holds (`GeometryStage.liquid_area_angstrom2`), not the geometric one (`Pore.area_angstrom2`),
+  which also counts the layer by the wall that no atom's centre reaches. So a full pore holds V_p of liquid.
 STP for gas volumes is the IUPAC physisorption convention, 273.15 K and 101.325 kPa (Sing et al., Pure
 Appl. Chem. 57, 603 (1985); Thommes et al., Pure Appl. Chem. 87, 1051 (2015)): 1 mmol = 22.414 cm³(STP).
 It is kept, rather than IUPAC's newer 100 kPa standard pressure (22.711 cm³ per mmol), because
@@ -61,8 +64,10 @@ def from_pascal(values_pa, unit: str, *, p0_pa: float | None = None) -> np.ndarr
 class AmountBasis:
     """What turns atoms per Å of one pore into other amounts.
 
-    ``area_angstrom2`` and ``perimeter_angstrom`` are the pore's (for the slit: per Å along x);
-    ``pore_volume_cm3_g`` the sample's specific pore volume, needed for amounts per gram.
+    ``area_angstrom2`` is the cross-section of the liquid a full pore holds, the pore volume per Å of length
+    that per-gram amounts are counted on (see the module's notes); ``perimeter_angstrom`` the pore's (for the
+    slit, both per Å along x); ``pore_volume_cm3_g`` the sample's specific pore volume (Gurvich), needed for
+    amounts per gram.
     """
 
     area_angstrom2: float
@@ -71,8 +76,11 @@ class AmountBasis:
     per_area: bool = False              # slit: "per nm" is per nm²
 
     @classmethod
-    def of(cls, pore, pore_volume_cm3_g: float | None = None) -> "AmountBasis":
-        return cls(float(pore.area_angstrom2), float(pore.perimeter_angstrom), pore_volume_cm3_g,
+    def of(cls, geometry, pore_volume_cm3_g: float | None = None) -> "AmountBasis":
+        """The basis of a geometry stage (`porefill.physics.lattice_gas.stages.GeometryStage`: its pore and
+        its ``liquid_area_angstrom2``)."""
+        pore = geometry.pore
+        return cls(float(geometry.liquid_area_angstrom2), float(pore.perimeter_angstrom), pore_volume_cm3_g,
                    pore.lattice_kind == "rows")
 
     def _factor(self, unit: str) -> float:
@@ -84,7 +92,7 @@ class AmountBasis:
         if unit in ("mmol/g", "cm3(STP)/g"):
             if self.pore_volume_cm3_g is None:
                 raise ValueError(f"amounts in {unit} need the sample's specific pore volume (cm³/g)")
-            length_per_g = self.pore_volume_cm3_g * 1e24 / self.area_angstrom2   # Å of pore per gram
+            length_per_g = self.pore_volume_cm3_g * 1e24 / self.area_angstrom2   # Å of pore per gram (Gurvich)
             mmol = length_per_g / constants.Avogadro * 1e3
             return mmol * (STP_CM3_PER_MMOL if unit == "cm3(STP)/g" else 1.0)
         raise ValueError(f"unknown amount unit {unit!r}; known: {', '.join(AMOUNT_UNITS)}")
