@@ -49,3 +49,25 @@ def test_with_the_cut_below_the_potential_the_tail_is_the_classical_sum():
     lam = thermal_wavelength_angstrom(st.hbar2_over_mk, t)
     classical = classical_boltzmann_area(g.pore, g.pair, t) / lam**2
     assert low.tail_sum(t) == pytest.approx(classical, rel=2e-2)      # grid sum against the refined quadrature
+
+
+def test_each_site_takes_the_tail_of_its_own_cell():
+    # helium at 1.5 K just past a row change (24 Å side): each site's share of the tail is the floored integral
+    # over its own cell, so (a) the shares add up to the whole tail (the cells tile the pore; two quadratures of
+    # one integral, Weyl's law above), and (b) a site no state reaches never lies below its classical cell value
+    # (max(E_c, V) ≥ V under the integral). Taken over the grid points nearest each site, a ring-1 site once
+    # took a piece of the face's well and sat 4.5 K below its classical value, adding a spurious step.
+    from porefill.physics.sites.quantum import _site_free_energies, cached_states
+
+    t = 1.5
+    geo = geometry_stage(Scenario(shape="hexagon", size_angstrom=24.0, wall_angstrom=8.0, temperature_k=t))
+    states = cached_states(geo, t)
+    f, reached, f_classical, floored = _site_free_energies(states, geo, t)
+    lam = thermal_wavelength_angstrom(states.hbar2_over_mk, t)
+    cut = states.tail_cut_k
+    integral, _ = geo.cells.floored_integrals(t, cut)
+    shares = integral.sum() / lam**2 * np.exp(-cut / t)
+    assert shares == pytest.approx(states.tail_sum(t), rel=2e-2)
+    unreached = ~reached
+    assert np.all(f[unreached] >= f_classical[unreached] - 1e-9)
+    assert np.any(floored & unreached)             # the face orbit that enters here takes its tail

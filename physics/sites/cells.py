@@ -88,6 +88,20 @@ class SiteCells:
             mean = np.where(z > 0, np.bincount(self.group, weights=terms * v, minlength=n_groups) / z, np.inf)
         return mean[self.site_group]
 
+    def floored_integrals(self, temperature_k: float, floor_k: float) -> tuple[np.ndarray, np.ndarray]:
+        """Per site ∫_cell exp(−(max(E, V) − E)/kT) dA (Å², slit Å; at most the cell's area), E = ``floor_k``,
+        and whether the cell reaches below E. The semiclassical tail above a set of one-atom states is
+        (1/λ²) e^{−E/kT} times the first (`porefill.physics.sites.quantum`); the cells tile the pore, so the
+        sites' shares add up to the whole tail and none takes a piece of a neighbour's well."""
+        kt, floor = float(temperature_k), float(floor_k)
+        finite = np.isfinite(self.potential_k)
+        v = np.where(finite, self.potential_k, np.inf)
+        terms = np.where(finite, self.weight * np.exp(-(np.maximum(v, floor) - floor) / kt), 0.0)
+        n_groups = self.area_angstrom2.size
+        integral = np.bincount(self.group, weights=terms, minlength=n_groups)
+        below = np.bincount(self.group, weights=(v < floor).astype(float), minlength=n_groups) > 0
+        return integral[self.site_group], below[self.site_group]
+
     def free_energies(self, temperature_k: float, nominal_area_angstrom2: float) -> np.ndarray:
         """f_i = −kT ln(Z_i / A) (K) in the frame of `porefill.physics.sites.site_models`, A the lattice's nominal cell area."""
         kt = float(temperature_k)

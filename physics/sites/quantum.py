@@ -389,15 +389,18 @@ def quantum_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
     return _site_free_energies(cached_states(geometry, kt), geometry, kt)[0]
 
 
-def _site_tails(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, kt: float):
+def _site_tails(states: CrossSectionStates, geometry, kt: float):
     """(N,) each site's share of the semiclassical tail (relative to the ground state, like `assign_states`'
-    sums) from the grid points nearest it, evened over its orbit, and (N,) whether the site's region reaches
-    below the tail's cut (where the floor changes its classical integral)."""
-    nearest = cKDTree(np.column_stack([site_x, site_y])).query(states.points)[1]
-    n_sites, n_orbits = len(site_x), int(orbit.max()) + 1
-    per_site = np.bincount(nearest, weights=states.tail_point_weights(kt), minlength=n_sites)
-    below = np.bincount(nearest, weights=(states.potential_k < states.tail_cut_k).astype(float),
-                        minlength=n_sites) > 0
+    sums): (1/λ²) ∫_cell exp(−(max(E_cut, V) − E₀)/kT) dA over its own cell (`SiteCells.floored_integrals`),
+    evened over its orbit, and (N,) whether the site's cell reaches below the tail's cut (where the floor
+    changes its classical integral). Taken over the cells, as the classical integrals are, a site's floored
+    integral never exceeds its classical one."""
+    lam = thermal_wavelength_angstrom(states.hbar2_over_mk, kt)
+    cut = states.tail_cut_k
+    integral, below = geometry.cells.floored_integrals(kt, cut)
+    per_site = integral / (lam * lam) * np.exp(-(cut - states.energies_k[0]) / kt)
+    orbit = geometry.orbit
+    n_orbits = int(orbit.max()) + 1
     size = np.bincount(orbit, minlength=n_orbits).astype(float)
     tail = (np.bincount(orbit, weights=per_site, minlength=n_orbits) / size)[orbit]
     floored = (np.bincount(orbit, weights=below.astype(float), minlength=n_orbits) > 0)[orbit]
@@ -412,7 +415,7 @@ def _site_free_energies(states: CrossSectionStates, geometry, kt: float):
     elsewhere) and only the floored integral T_i counts."""
     lat = geometry.candidates
     z_rel, reached = assign_states(states, lat.x, lat.y, geometry.orbit, kt)
-    tail, floored = _site_tails(states, lat.x, lat.y, geometry.orbit, kt)
+    tail, floored = _site_tails(states, geometry, kt)
     lam = thermal_wavelength_angstrom(states.hbar2_over_mk, kt)
     f = geometry.cells.free_energies(kt, lat.cell_area_angstrom2)
     with np.errstate(divide="ignore"):
