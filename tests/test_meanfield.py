@@ -145,3 +145,51 @@ def test_compiled_descent_matches_the_python_reference(seed, with_spread, monkey
     assert fast[3] == pytest.approx(reference[3], abs=1e-9)
     probe = rng.normal(size=m)
     np.testing.assert_allclose(fast[2](probe), reference[2](probe), rtol=1e-9, atol=1e-12)
+
+
+def _large_problem():
+    from porefill.physics.lattice_gas.stages import thermal_stage
+    from porefill.physics.scenario import Scenario
+
+    sc = Scenario(shape="hexagon", size_angstrom=100.0, wall_angstrom=8.0, temperature_k=1.5, site_model="classical")
+    return thermal_stage(sc).problem
+
+
+def test_banded_newton_solve_equals_the_sparse_lu():
+    # the Newton matrix kT(1+λ)I − ε_b A D of a 100 Å hexagon (196 orbits) in reverse Cuthill–McKee order is a
+    # band; LAPACK's banded LU (dgbtrf, partial pivoting) must solve it as SciPy's general sparse LU does
+    # (both exact factorisations: agreement to rounding; common practice, no source)
+    from scipy.sparse.linalg import splu
+
+    from porefill.physics.lattice_gas import meanfield as mf
+
+    p = _large_problem()
+    assert p.weights.size > mf._DENSE_MAX_SITES and mf._band_layout(p) is not None
+    perm, kl, ku, _ = mf._band_layout(p)
+    assert kl <= 20 and ku <= 20                                  # a narrow band, not the whole matrix
+    rng = np.random.default_rng(7)
+    pattern, columns, diagonal = mf._jacobian_pattern(p)
+    for damping in (0.0, 0.5, 30.0):
+        d = rng.uniform(0.0, 0.25, p.weights.size)
+        r = rng.standard_normal(p.weights.size)
+        j = pattern.copy()
+        j.data = -p.bond_k * pattern.data * d[columns]
+        j.data[diagonal] += p.temperature_k * (1.0 + damping)
+        want = splu(j.tocsc()).solve(r)
+        got = mf._factor(p, None, d, damping)(r)
+        np.testing.assert_allclose(got, want, rtol=1e-10, atol=1e-12 * np.max(np.abs(want)))
+
+
+def test_large_branches_do_not_depend_on_the_linear_solver(monkeypatch):
+    # the same branches whether the Newton steps use the banded LU or the general sparse LU (to 1e-10)
+    from porefill.physics.lattice_gas import meanfield as mf
+
+    p = _large_problem()
+    mu = np.linspace(float(np.min(p.site_free_energy)) - 30.0, -12.0, 25)
+    start = (mu[0] - p.site_free_energy) / p.temperature_k
+    banded = solve_branch(mu, p, start)
+    monkeypatch.setattr(mf, "_band_layout", lambda problem: None)
+    general = solve_branch(mu, p, start)
+    assert banded.converged.all() and general.converged.all()
+    np.testing.assert_allclose(banded.occupancy, general.occupancy, rtol=0, atol=1e-10)
+    np.testing.assert_allclose(banded.grand_potential, general.grand_potential, rtol=1e-10)

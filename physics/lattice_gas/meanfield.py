@@ -21,6 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 from scipy import sparse
+from scipy.linalg import lapack as _lapack
 from scipy.sparse.linalg import splu
 from scipy.special import expit
 
@@ -148,17 +149,62 @@ def _evaluate(x, mu, p: MeanFieldProblem):
 
 
 def _factor(p: MeanFieldProblem, a_dense, d: np.ndarray, damping: float):
-    """Solver for (kT(1+λ) I − ε_b A D) δ = r."""
+    """Solver for (kT(1+λ) I − ε_b A D) δ = r.
+
+    Dense (small problems): the inverse. Large ones: the pattern in reverse Cuthill–McKee order is a band
+    (half-width 7/14/27 for hexagons of 50/100/200 Å), factored by LAPACK's banded LU with partial pivoting
+    (dgbtrf) — 3–5× quicker than a general sparse LU of the same matrix, which spends its time ordering and
+    allocating; patterns that do not make a narrow band keep the sparse LU."""
     diag = p.temperature_k * (1.0 + damping)
     if a_dense is not None:
         j = a_dense * (-p.bond_k * d)[None, :]
         j.flat[:: d.size + 1] += diag
         return np.linalg.inv(j).__matmul__       # small and well conditioned: the inverse is cheapest
     pattern, columns, diagonal = _jacobian_pattern(p)
-    j = pattern.copy()
-    j.data = (-p.bond_k) * pattern.data * d[columns]      # A·D: column j scaled by d_j
-    j.data[diagonal] += diag
-    return splu(j).solve
+    data = (-p.bond_k) * pattern.data * d[columns]      # A·D: column j scaled by d_j
+    data[diagonal] += diag
+    band = _band_layout(p)
+    if band is None:
+        j = pattern.copy()
+        j.data = data
+        return splu(j).solve
+    perm, kl, ku, flat = band
+    ab = np.zeros((2 * kl + ku + 1, d.size), order="F")
+    ab.ravel(order="F")[flat] = data
+    lu, piv, info = _lapack.dgbtrf(ab, kl, ku, overwrite_ab=1)
+    if info != 0:
+        raise np.linalg.LinAlgError("singular Newton matrix")
+
+    def solve(r):
+        y, _ = _lapack.dgbtrs(lu, kl, ku, np.asarray(r, float)[perm], piv)
+        out = np.empty_like(y)
+        out[perm] = y
+        return out
+    return solve
+
+
+def _band_layout(p: MeanFieldProblem):
+    """(permutation, lower and upper half-widths, position of each pattern entry in LAPACK's band storage)
+    for the pattern in reverse Cuthill–McKee order, or None when that band is not narrow (over a quarter of
+    the size). Built once per problem."""
+    cached = getattr(p, "_band", False)
+    if cached is False:
+        from scipy.sparse.csgraph import reverse_cuthill_mckee
+
+        pattern, columns, _ = _jacobian_pattern(p)
+        n = pattern.shape[0]
+        perm = reverse_cuthill_mckee(pattern.tocsr(), symmetric_mode=False)
+        where = np.empty(n, int)
+        where[perm] = np.arange(n)
+        rows, cols = where[pattern.indices], where[columns]
+        kl = int(max(np.max(rows - cols), 0))
+        ku = int(max(np.max(cols - rows), 0))
+        cached = None
+        if max(kl, ku) <= n // 4:
+            height = 2 * kl + ku + 1
+            cached = (perm, kl, ku, (kl + ku + rows - cols) + cols * height)    # ab[kl+ku+i−j, j] = J_ij
+        object.__setattr__(p, "_band", cached)
+    return cached
 
 
 def _jacobian_pattern(p: MeanFieldProblem):
