@@ -62,3 +62,21 @@ def test_the_coverage_axis_says_what_it_counts():
     assert view._fig_k.yaxis.axis_label == "dN/dμ (molecules per nm of pore per K)"
     state.param.update(adsorbate="argon", shape="slit", size_angstrom=20.0)
     assert view._fig_rel.yaxis.axis_label == "coverage (atoms per nm² of wall)"
+
+
+def test_the_quantum_comparison_names_the_unit_of_the_pore_shown():
+    # issue 21: the comparison plot said "coverage (per nm; slit: per nm²)" whatever the pore; it names the
+    # shown pore's unit as the isotherm's axes do (per nm of pore; a slit's per nm² of wall)
+    from porefill.explorer.views.quantum import QuantumView
+
+    state = ExplorerState.from_scenario(Scenario(shape="hexagon", size_angstrom=6.0, adsorbate="helium-4",
+                                                 temperature_k=1.5))
+    view = QuantumView(state=state)
+    view.refresh(force=True)                  # outside a served page: computed at once
+    assert view._fig_cmp.yaxis.axis_label == "coverage (atoms per nm of pore)"
+    view.energy_axis.value = "coverage"
+    assert view._fig_energy.xaxis.axis_label == "coverage (atoms per nm of pore)"
+    state.param.update(shape="slit", size_angstrom=8.0)
+    view.refresh(force=True)
+    assert view._fig_cmp.yaxis.axis_label == "coverage (atoms per nm² of wall)"
+    assert view._fig_energy.xaxis.axis_label == "coverage (atoms per nm² of wall)"
