@@ -21,7 +21,7 @@ from porefill.physics.scenario import Scenario
 from porefill.physics.pore.line_cuts import line_cuts
 from porefill.physics.pore.wall_potential import Minimum, PotentialMap, deepest_minimum, potential_map, wall_potential
 
-from porefill.explorer.jobs.compute import LatestRunner, short_error
+from porefill.explorer.jobs.compute import SLIDER_SETTLE_S, LatestRunner, short_error
 from porefill.explorer.outputs.formatting import format_minimum
 from porefill.explorer.views.state import ExplorerState, describe
 
@@ -153,7 +153,7 @@ class PotentialView(pn.viewable.Viewer):
         self._map_box = pn.Column(self._map_caption, pn.pane.Bokeh(self._map_fig), css_classes=["porefill-map"])
         self._cut_box = growing_box(pn.pane.Bokeh(self._cut_fig, sizing_mode="stretch_width"),
                                     css_class="porefill-cuts")
-        self._runner = LatestRunner("map", name="potential map", settle_s=0.15)   # a key burst: first and last
+        self._runner = LatestRunner("map", name="potential map", settle_s=SLIDER_SETTLE_S)   # a key burst: first and last
         self._shown: Scenario | None = None       # the inputs the map and cuts now show
         self._pending: Scenario | None = None     # inputs asked for and not yet shown
         self._redraw()
