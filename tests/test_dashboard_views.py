@@ -80,3 +80,72 @@ def test_the_quantum_comparison_names_the_unit_of_the_pore_shown():
     view.refresh(force=True)
     assert view._fig_cmp.yaxis.axis_label == "coverage (atoms per nm² of wall)"
     assert view._fig_energy.xaxis.axis_label == "coverage (atoms per nm² of wall)"
+
+
+def _tab_inputs(measured, sizing) -> dict:
+    """Every input of the Measured data and Sizing tabs as the widgets hold it (the names on screen)."""
+    d = measured.distribution
+    widgets = {"axis": measured.axis, "amounts": measured.amount_display, "free": measured.free,
+               "drop": measured.drop_high, "first": d.first, "last": d.last, "count": d.count, "gas": d.gas,
+               "carry_t": d.temperature, "carry_model": d.site_model, "across": sizing.mode, "sizes": sizing.sizes,
+               "walls": sizing.walls, "temps": sizing.temps, "d100": sizing.d100, "model": sizing.model,
+               "points": sizing.points, "unit": sizing.window_unit, "low": sizing.low, "high": sizing.high,
+               "target": sizing.target, "layer": sizing.layer}
+    return {k: w.value for k, w in widgets.items()}
+
+
+def _tab_views(doc):
+    from porefill.explorer.views.measured import MeasuredView
+    from porefill.explorer.views.scenario_io import ScenarioIO
+    from porefill.explorer.views.sizing import SizingView
+
+    state = ExplorerState.from_scenario(doc.scenario)
+    measured, sizing = MeasuredView(state=state), SizingView(state=state)
+    iso = IsothermView(state=state)
+    iso.listeners.append(measured.model_arrived)
+    measured.model_arrived(iso._shown, iso._iso)
+    measured.show_document(doc)
+    io_view = ScenarioIO(state=state, document=doc, measured=measured, sizing=sizing, isotherm=iso)
+    return measured, sizing, io_view
+
+
+def test_the_measured_and_sizing_tabs_inputs_round_trip_through_the_file():
+    # issue 21: everything on screen reopens as it was; the two tabs' inputs were not saved at all
+    from porefill.explorer.files.scenario_file import load_document, parse_document, resolve_scenario
+
+    doc = load_document(resolve_scenario("demo-nitrogen-invented-measured"))
+    measured, sizing, io_view = _tab_views(doc)
+    start = _tab_inputs(measured, sizing)
+    # every input changed, as a person would (the window's unit before its ends: a new unit resets them)
+    measured.axis.value = "chemical-potential"
+    measured.amount_display.value = next(v for v in measured.amount_display.options.values() if v != start["amounts"])
+    measured.free.value = ["size", "wall"]
+    measured.drop_high.value = True
+    d = measured.distribution
+    d.first.value, d.last.value, d.count.value = 12.5, 40.0, 12
+    d.gas.value = "argon"
+    d.temperature.value = 90.5
+    d.site_model.value = "quantum"
+    sizing.mode.value = "side length at a known d100"
+    sizing.sizes.value, sizing.walls.value, sizing.temps.value = "14:24:6", "7", "70:80:3"
+    sizing.d100.value = 46.5
+    sizing.model.value = "classical"
+    sizing.points.value = 120
+    sizing.window_unit.value = "p/p₀"
+    sizing.low.value, sizing.high.value = 0.1, 0.7
+    sizing.target.value = sizing.target.options[-1]
+    sizing.layer.value = 3
+    changed = _tab_inputs(measured, sizing)
+    assert [k for k in start if start[k] == changed[k]] == []            # the test is about changed inputs
+
+    text = io_view.toml_text()
+    assert "[view.measured]" in text and "[view.sizing]" in text
+    reopened = parse_document(text, name="saved.toml")
+    # a fresh page on the shipped file, then the saved file opened in it
+    m2, s2, io2 = _tab_views(load_document(resolve_scenario("demo-nitrogen-invented-measured")))
+    assert _tab_inputs(m2, s2) == start
+    io2.apply_document(reopened)
+    assert _tab_inputs(m2, s2) == changed
+    # and a page built on the saved file at once
+    m3, s3, _ = _tab_views(reopened)
+    assert _tab_inputs(m3, s3) == changed

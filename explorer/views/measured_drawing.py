@@ -40,7 +40,12 @@ class OverlayDrawing:
     def _display_picked(self, event) -> None:
         if getattr(self, "_setting_display", False):
             return
-        self._display_default = False
+        self.pick_amount_unit(event.new)
+
+    def pick_amount_unit(self, unit: str) -> None:
+        """Show amounts in ``unit`` from now on (a person's pick, or a reopened file's), whenever the runs
+        offer it; the choice no longer follows the files."""
+        self._display_default, self._display_pick = False, unit
         self._redraw()
 
     def _display_choices(self, runs) -> str:
@@ -50,6 +55,8 @@ class OverlayDrawing:
             if unit != PER_NM:
                 options[f"{unit} (the file's unit)"] = unit
         value = self.amount_display.value
+        if not self._display_default and getattr(self, "_display_pick", None) in options.values():
+            value = self._display_pick
         if self._display_default or value not in options.values():
             value = display_unit(runs)
         self._setting_display = True

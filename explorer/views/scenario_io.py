@@ -2,7 +2,8 @@
 
 - **Save scenario** writes the TOML of what is on screen (`porefill.explorer.files.scenario_file.dump_document`): the
   inputs, the sample, measured runs, fit and pore-size distribution (from the Measured data tab, else as
-  loaded), and the view choices (isotherm axis, branch, picked pressure, tab).
+  loaded), and the view choices (isotherm axis, branch, picked pressure, tab, the Measured data and Sizing
+  tabs' inputs: `porefill.explorer.views.tab_choices`).
 - **Open scenario** reads a TOML file from the browser: parsed in memory, never executed or written to
   disk; a bad file is named with its line and key in a message, and the page keeps what it had.
 - The page's URL carries shape, size, wall, isolated, adsorbate and temperature (`pn.state.location`), so a
@@ -108,6 +109,7 @@ class ScenarioIO(pn.viewable.Viewer):
     document = param.ClassSelector(class_=ScenarioDocument, doc="The loaded file: what the controls do not hold")
     isotherm = param.Parameter(default=None, doc="The IsothermView (axis, branch, picked pressure)")
     measured = param.Parameter(default=None, doc="The MeasuredView (runs, sample, fit), if the page has one")
+    sizing = param.Parameter(default=None, doc="The SizingView (its inputs are saved), if the page has one")
     tabs = param.Parameter(default=None, doc="The page's pn.Tabs (the tab on show is saved)")
 
     def __init__(self, **params):
@@ -151,7 +153,11 @@ class ScenarioIO(pn.viewable.Viewer):
         if self.tabs is not None:
             name = self.tabs._names[self.tabs.active] if self.tabs.active < len(self.tabs) else ""  # noqa: SLF001
             tab = next((k for k, v in _TAB_NAMES.items() if str(name).startswith(v)), "pore")
-        return ViewChoices(axis=axis, branch=branch, pick_log10_pa=pick, tab=tab)
+        from porefill.explorer.views.tab_choices import measured_choices, sizing_choices
+
+        return ViewChoices(axis=axis, branch=branch, pick_log10_pa=pick, tab=tab,
+                           measured=None if self.measured is None else measured_choices(self.measured),
+                           sizing=None if self.sizing is None else sizing_choices(self.sizing))
 
     def current_document(self) -> ScenarioDocument:
         """What Save writes: the state's scenario, the measured tab's runs, sample, fit and pore-size
@@ -284,6 +290,12 @@ class ScenarioIO(pn.viewable.Viewer):
                              f"{str(exc).splitlines()[0][:200]}") from None
 
     def apply_view(self, view: ViewChoices) -> None:
+        from porefill.explorer.views.tab_choices import show_measured_choices, show_sizing_choices
+
+        if self.measured is not None:
+            show_measured_choices(self.measured, view.measured)
+        if self.sizing is not None:
+            show_sizing_choices(self.sizing, view.sizing)
         iso = self.isotherm
         if iso is not None:
             iso.x_axis.value = view.axis
