@@ -241,3 +241,46 @@ def test_plots_grow_on_a_large_screen_and_fit_a_projector(page):
         assert _page_wider_than_window(page) <= 1, width
     assert overlay[1920] >= 1000 and overlay[1024] <= 1024 - 230, overlay
     assert page.console_errors == []
+
+
+# the potential map's frame in px and its ranges in Å, from Bokeh's own view of the plot
+MAP_FRAME = """() => {
+  for (const v of Bokeh.index.query((v) => v.model.type == "Figure")) {
+    if (!v.model.title || !v.model.title.text.startsWith("Wall potential") || v.el.offsetParent === null) continue;
+    const f = v.frame;
+    return {width: f.bbox.width, height: f.bbox.height, x: f.x_range.end - f.x_range.start,
+            y: f.y_range.end - f.y_range.start};
+  }
+  return null;
+}"""
+
+
+def test_the_map_grows_on_a_large_screen_and_keeps_its_scale(page, tmp_path):
+    # issue 21: the map stayed a fixed 290 px frame while the other plots grew; it grows with the window now,
+    # with one scale on both axes (a pore drawn stretched would mislead), and at 1024 × 768 nothing scrolls
+    page.locator(".porefill-steps table").first.wait_for(timeout=60_000)
+    page.locator(".porefill-map canvas").first.wait_for(timeout=60_000)
+    widths, frames = {}, {}
+    for width, height in ((1024, 768), (1920, 1080)):
+        page.set_viewport_size({"width": width, "height": height})
+        page.wait_for_timeout(1500)
+        widths[width] = _canvas_width(page, ".porefill-map")
+        frames[width] = page.evaluate(MAP_FRAME)
+        page.locator(".porefill-map").first.screenshot(path=str(tmp_path / f"map-{width}.png"))
+        box = page.locator(".porefill-map").first.bounding_box()
+        assert box["x"] + box["width"] <= width + 1, width
+        if width == 1024:
+            assert page.evaluate("() => document.scrollingElement.scrollWidth <= document.scrollingElement.clientWidth")
+    print(f"map canvas width (px): {widths}; frames: {frames}; screenshots in {tmp_path}")
+    assert widths[1920] > widths[1024] + 100, widths
+    for width, f in frames.items():
+        # px per Å along x and along y: equal within a pixel's worth of the frame (an honest map)
+        per_x, per_y = f["width"] / f["x"], f["height"] / f["y"]
+        assert abs(per_x - per_y) <= 0.01 * per_x, (width, f)
+    # the other tabs fit a 1024 px screen as well (a map on the Quantum states tab among them)
+    page.set_viewport_size({"width": 1024, "height": 768})
+    for tab in ("Quantum states", "Measured data", "Sizing", "About & safety", "Pore"):
+        page.get_by_role("tab", name=tab).click()
+        page.wait_for_timeout(1000)
+        assert page.evaluate("() => document.scrollingElement.scrollWidth <= document.scrollingElement.clientWidth"), tab
+    assert page.console_errors == []
