@@ -59,7 +59,8 @@ class MeasuredView(OverlayDrawing, FitSection, pn.viewable.Viewer):
         self.sample_inputs = {name: pn.widgets.FloatInput(name=label, value=None, start=0.0, width=150)
                               for name, label in SAMPLE_FIELDS}
         self.sample_note = pn.pane.HTML("", css_classes=["porefill-sample-note"], styles={"font-size": "12px"})
-        self.axis = pn.widgets.RadioButtonGroup(options={AXIS_LABELS[k]: k for k in AXES}, value="pressure")
+        self.axis = pn.widgets.RadioButtonGroup(options={AXIS_LABELS[k]: k for k in AXES}, value="pressure",
+                                                css_classes=["porefill-overlay-axis"])
         # amounts drawn in the files' own unit when they share one (and the sample allows it), else per nm
         self.amount_display = pn.widgets.Select(name="Amounts shown in", options={"coverage per nm of pore": PER_NM},
                                                 value=PER_NM, width=220, css_classes=["porefill-amount-display"])

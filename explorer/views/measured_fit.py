@@ -26,7 +26,8 @@ class FitSection:
 
     def _build_fit_controls(self) -> None:
         self.free = pn.widgets.CheckBoxGroup(options=list(FREE_PARAMETERS),
-                                             value=list(DEFAULT_FREE), inline=True)
+                                             value=list(DEFAULT_FREE), inline=True,
+                                             css_classes=["porefill-fit-free"])
         self.fit_button = pn.widgets.Button(name="Fit", button_type="primary", width=120,
                                             css_classes=["porefill-fit-button"])
         self.cancel_button = pn.widgets.Button(name="Cancel", width=100, disabled=True)

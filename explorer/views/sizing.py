@@ -121,7 +121,8 @@ class SizingView(pn.viewable.Viewer):
         self.walls = pn.widgets.TextInput(name="Walls (Å): one, a list or start:stop:count", value=wall, width=290)
         self.temps = pn.widgets.TextInput(name="Temperatures (K): start:stop:count",
                                           value=f"{max(t - 0.25, 0.3):.2f}:{t + 0.25:.2f}:6", width=290)
-        self.d100 = pn.widgets.FloatInput(name="X-ray d100 spacing (Å)", value=40.0, start=1.0, step=0.5, width=290)
+        self.d100 = pn.widgets.FloatInput(name="X-ray d100 spacing (Å)", value=40.0, start=1.0, step=0.5, width=290,
+                                          css_classes=["porefill-sizing-d100"])
         self.model = pn.widgets.Select(name="Site model", options=["as the scenario", "classical", "quantum"],
                                        value="as the scenario", width=290, css_classes=["porefill-sizing-model"])
         self.points = pn.widgets.IntInput(name="Points per isotherm", value=DEFAULT_POINTS, start=SWEEP_POINTS_RANGE[0],
@@ -457,7 +458,8 @@ class SizingView(pn.viewable.Viewer):
     def __panel__(self):
         controls = pn.Column(self.mode, self.sizes, self.walls, self.temps, self.d100, self.model, self.points,
                              self.window_unit, self.low, self.high, self.target, self.layer, self.scheduler,
-                             pn.Row(self.compute_button, self.stop_button), self.progress, width=310)
+                             pn.Row(self.compute_button, self.stop_button), self.progress, width=310,
+                             css_classes=["porefill-sizing-controls"])
         # the list of sizes that meet the target wraps under the plot where the window is narrow (1024 px)
         results = pn.FlexBox(self._body, self.meets_list, flex_wrap="wrap", gap="8px 16px",
                              sizing_mode="stretch_width")
