@@ -149,3 +149,27 @@ def test_the_measured_and_sizing_tabs_inputs_round_trip_through_the_file():
     # and a page built on the saved file at once
     m3, s3, _ = _tab_views(reopened)
     assert _tab_inputs(m3, s3) == changed
+
+
+def test_a_links_tab_inputs_are_checked_and_shown_and_changes_are_written_back():
+    # the link carries the two tabs' inputs that differ from the page's first ones, in the file's words;
+    # a refused value is named with what it accepts, and the page keeps its own (explorer/views/tab_link.py)
+    from porefill.explorer.files.scenario_file import load_document, resolve_scenario
+    from porefill.explorer.views.tab_link import TabLink
+
+    measured, sizing, _ = _tab_views(load_document(resolve_scenario("demo-nitrogen-invented-measured")))
+    link = TabLink(measured, sizing)
+    assert all(getattr(link, k) is None for k in ("sizing_points", "sizing_sizes", "measured_axis"))
+    points = sizing.points.value
+    refused = link.apply({"sizing_points": 5, "sizing_sizes": 12, "measured_axis": "chemical-potential",
+                          "measured_free": ["size", "a0"]},
+                         raw={"sizing_points": "5", "sizing_sizes": "12", "measured_axis": "chemical-potential"})
+    assert list(refused) == ["sizing_points"] and "from 20 to 2000" in refused["sizing_points"]
+    assert sizing.points.value == points                       # the page's own kept
+    assert sizing.sizes.value == "12"                          # typed text stays text
+    assert measured.axis.value == "chemical-potential" and measured.free.value == ["size", "a0"]
+    assert link.sizing_sizes == "12" and link.measured_axis == "chemical-potential"
+    sizing.points.value = 400                                   # a change on the page goes into the link
+    assert link.sizing_points == 400
+    sizing.points.value = points                                # and back out when it is as opened again
+    assert link.sizing_points is None

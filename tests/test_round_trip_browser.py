@@ -9,6 +9,7 @@ from porefill.explorer.server.testing import (drag_handle, slider_handle, text_o
 pytestmark = pytest.mark.browser
 
 STEPS = ".porefill-steps table"
+TAB_INPUTS = (".porefill-sizing-controls", ".porefill-measured")      # the Sizing and Measured data tabs' inputs
 CONTROLS = ".porefill-controls"
 # every control's value as a person reads it, in page order, on every tab: slider titles (with their values),
 # menus, pressed buttons of each button group, ticked boxes, typed text and numbers
@@ -93,6 +94,7 @@ def test_every_control_round_trips_through_the_file_and_the_link(browser, argon_
     assert "closed-end" in changed["pressed"] and "krypton" in changed["menus"]
     assert "classical" in _controls(page, ".porefill-site-model")["pressed"]
     tabs_png = _tab_screenshots(page)
+    changed_tabs = {sel: _controls(page, sel) for sel in TAB_INPUTS}
     header = page.locator(".porefill-header h1").first.inner_text()
     steps = text_of(page, STEPS)
     _still(page)
@@ -124,8 +126,12 @@ def test_every_control_round_trips_through_the_file_and_the_link(browser, argon_
             assert _differences(reopened, changed) == [], how
             assert text_of(fresh, STEPS) == steps, how
         else:
-            # a link carries the pore and gas (the inputs); the view's own choices stay the file's
+            # a link carries the pore and gas and the Measured data and Sizing tabs' inputs; the isotherm
+            # view's own choices (axis, branch, picked pressure) stay the file's
             assert _differences(_controls(fresh, CONTROLS), changed_pore) == [], how
+            for sel in TAB_INPUTS:
+                assert _differences(_controls(fresh, sel), changed_tabs[sel]) == [], (how, sel)
+            assert "measured_" in link and "sizing_" in link
         assert fresh.locator(".porefill-header h1").first.inner_text() == header, how
         _still(fresh)
         shown = fresh.locator(CONTROLS).first.screenshot()

@@ -6,7 +6,8 @@
   tabs' inputs: `porefill.explorer.views.tab_choices`).
 - **Open scenario** reads a TOML file from the browser: parsed in memory, never executed or written to
   disk; a bad file is named with its line and key in a message, and the page keeps what it had.
-- The page's URL carries shape, size, wall, isolated, adsorbate and temperature (`pn.state.location`), so a
+- The page's URL carries the pore and gas controls (`URL_KEYS`, `pn.state.location`) and the Measured data
+  and Sizing tabs' inputs that differ from the page's first (`porefill.explorer.views.tab_link`), so a
   copied link reopens the same inputs; a link with values the dashboard refuses says so and keeps the
   scenario's values instead.
 - **Report** and **figures** (PNG 1920 px wide, SVG) are drawn on the server by matplotlib in a worker
@@ -336,9 +337,19 @@ class ScenarioIO(pn.viewable.Viewer):
         loc, doc = pn.state.location, pn.state.curdoc
         if loc is None or doc is None or doc.session_context is None:
             return                       # a notebook or a test: no page URL of our own
+        from porefill.explorer.views.tab_link import LINK_KEYS, TabLink
+
+        # the tabs' inputs as the page opened, before the link's values: the link carries what differs
+        tabs = (TabLink(self.measured, self.sizing) if self.measured is not None or self.sizing is not None
+                else None)
         query = loc.query_params                 # numbers and booleans already decoded by Panel
         wanted = {k: query[k] for k in URL_KEYS if k in query}
         refused = self._apply_link(wanted) if wanted else {}
+        if tabs is not None:       # after the pore's: a new shape or gas resets some of the tabs' inputs
+            raw = dict(parse_qsl(loc.search.lstrip("?")))
+            tab_refused = tabs.apply(query, raw)
+            wanted.update({k: query[k] for k in tab_refused})
+            refused.update(tab_refused)
         if refused:
             self._say(refused_link_message(wanted, refused))
 
@@ -349,6 +360,8 @@ class ScenarioIO(pn.viewable.Viewer):
             if refused:
                 loc.search = "?" + urlencode(kept) if kept else ""
             loc.sync(self.state, {k: k for k in URL_KEYS})
+            if tabs is not None:
+                loc.sync(tabs, {k: k for k in LINK_KEYS})
 
         pn.state.onload(tie)
 

@@ -7,7 +7,7 @@ from porefill.explorer.files.page_choices import CARRY_DEFAULT_MODEL, NO_TARGET,
 from porefill.explorer.views.distribution import _GAS_DEFAULT      # its words for the carried gas's own model
 from porefill.physics.choices import TARGET_KINDS, WINDOW_UNITS
 
-__all__ = ["sizing_choices", "show_sizing_choices", "measured_choices", "show_measured_choices"]
+__all__ = ["sizing_choices", "show_sizing_choices", "measured_choices", "show_measured_choices", "tab_widgets"]
 
 _SCENARIO_MODEL = "as the scenario"           # the Sizing tab's words for "the site model the Pore tab uses"
 
@@ -104,3 +104,16 @@ def show_measured_choices(view, choices: MeasuredChoices | None) -> None:
         d.temperature.value = c.carry_temperature_k
     if c.carry_site_model is not None:
         d.site_model.value = _GAS_DEFAULT if c.carry_site_model == CARRY_DEFAULT_MODEL else c.carry_site_model
+
+
+def tab_widgets(measured, sizing) -> list:
+    """The widgets whose values `measured_choices` and `sizing_choices` read (either view may be None)."""
+    out = []
+    if measured is not None:
+        d = measured.distribution
+        out += [measured.axis, measured.amount_display, measured.free, measured.drop_high, d.first, d.last, d.count,
+                d.gas, d.temperature, d.site_model]
+    if sizing is not None:
+        out += [sizing.mode, sizing.sizes, sizing.walls, sizing.temps, sizing.d100, sizing.model, sizing.points,
+                sizing.window_unit, sizing.low, sizing.high, sizing.target, sizing.layer]
+    return out
