@@ -243,10 +243,10 @@ def test_plots_grow_on_a_large_screen_and_fit_a_projector(page):
     assert page.console_errors == []
 
 
-# a map's frame in px and its ranges in Å, from Bokeh's own view of the plot (by the start of its title)
-MAP_FRAME = """(title) => {
+# the potential map's frame in px and its ranges in Å, from Bokeh's own view of the plot
+MAP_FRAME = """() => {
   for (const v of Bokeh.index.query((v) => v.model.type == "Figure")) {
-    if (!v.model.title || !v.model.title.text.startsWith(title) || v.el.offsetParent === null) continue;
+    if (!v.model.title || !v.model.title.text.startsWith("Wall potential") || v.el.offsetParent === null) continue;
     const f = v.frame;
     return {width: f.bbox.width, height: f.bbox.height, x: f.x_range.end - f.x_range.start,
             y: f.y_range.end - f.y_range.start};
@@ -255,34 +255,29 @@ MAP_FRAME = """(title) => {
 }"""
 
 
-def test_the_maps_grow_on_a_large_screen_and_keep_their_scale(page, tmp_path):
-    # issue 21: the maps stayed a fixed 290 px frame while the other plots grew; they grow with the window
-    # now, with one scale on both axes (a pore drawn stretched would mislead), and at 1024 × 768 nothing
-    # scrolls sideways on any tab
-    maps = {".porefill-map": "Wall potential", ".porefill-occupancy-map": "Site occupancy"}
+def test_the_map_grows_on_a_large_screen_and_keeps_its_scale(page, tmp_path):
+    # issue 21: the map stayed a fixed 290 px frame while the other plots grew; it grows with the window now,
+    # with one scale on both axes (a pore drawn stretched would mislead), and at 1024 × 768 nothing scrolls
     page.locator(".porefill-steps table").first.wait_for(timeout=60_000)
-    for selector in maps:
-        page.locator(f"{selector} canvas").first.wait_for(timeout=60_000)
+    page.locator(".porefill-map canvas").first.wait_for(timeout=60_000)
     widths, frames = {}, {}
     for width, height in ((1024, 768), (1920, 1080)):
         page.set_viewport_size({"width": width, "height": height})
         page.wait_for_timeout(1500)
-        for selector, title in maps.items():
-            widths[width, selector] = _canvas_width(page, selector)
-            frames[width, selector] = page.evaluate(MAP_FRAME, title)
-            page.locator(selector).first.screenshot(path=str(tmp_path / f"{selector[10:]}-{width}.png"))
-            box = page.locator(selector).first.bounding_box()
-            assert box["x"] + box["width"] <= width + 1, (width, selector)
+        widths[width] = _canvas_width(page, ".porefill-map")
+        frames[width] = page.evaluate(MAP_FRAME)
+        page.locator(".porefill-map").first.screenshot(path=str(tmp_path / f"map-{width}.png"))
+        box = page.locator(".porefill-map").first.bounding_box()
+        assert box["x"] + box["width"] <= width + 1, width
         if width == 1024:
             assert page.evaluate("() => document.scrollingElement.scrollWidth <= document.scrollingElement.clientWidth")
-    print(f"map canvas widths (px): {widths}; frames: {frames}; screenshots in {tmp_path}")
-    for selector in maps:
-        assert widths[1920, selector] > widths[1024, selector] + 100, widths
-    for key, f in frames.items():
-        # px per Å along x and along y: equal within 1 % (an honest map)
+    print(f"map canvas width (px): {widths}; frames: {frames}; screenshots in {tmp_path}")
+    assert widths[1920] > widths[1024] + 100, widths
+    for width, f in frames.items():
+        # px per Å along x and along y: equal within a pixel's worth of the frame (an honest map)
         per_x, per_y = f["width"] / f["x"], f["height"] / f["y"]
-        assert abs(per_x - per_y) <= 0.01 * per_x, (key, f)
-    # the other tabs fit a 1024 px screen as well
+        assert abs(per_x - per_y) <= 0.01 * per_x, (width, f)
+    # the other tabs fit a 1024 px screen as well (a map on the Quantum states tab among them)
     page.set_viewport_size({"width": 1024, "height": 768})
     for tab in ("Quantum states", "Measured data", "Sizing", "About & safety", "Pore"):
         page.get_by_role("tab", name=tab).click()
