@@ -374,6 +374,11 @@ def test_quantum_tab_shows_states_both_models_and_step_shifts(page):
     page.locator(".porefill-quantum-body select").first.select_option(index=2)
     page.wait_for_timeout(1500)
     assert body.screenshot() != before
+    # the comparison's coverage axis names the unit of the pore shown (a hexagon: per nm of pore), as the
+    # isotherm's does; plot text is drawn on the canvas, so it is read from Bokeh's model
+    labels = page.evaluate("""() => Array.from(Bokeh.index.query((v) => v.model.type == "Figure"
+        && v.model.title != null)).map((v) => [v.model.title.text, v.model.left.map((a) => a.axis_label)])""")
+    assert ["Equilibrium isotherm, both site models", ["coverage (atoms per nm of pore)"]] in labels, labels
     # back on the pore tab, the isotherm is still drawn and the page answers
     page.get_by_text("Pore", exact=True).first.click()
     page.locator(STEPS).first.wait_for(state="visible", timeout=10_000)

@@ -13,6 +13,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from porefill.explorer.files.page_choices import MeasuredChoices, SizingChoices
 from porefill.explorer.files.saved_fit import FitParameter, SavedFit
 from porefill.explorer.files.scenario_file import (ScenarioDocument, ScenarioFileError, ViewChoices, demo_names, dump_document,
                                     dump_scenario, line_of, load_document, parse_document, resolve_scenario)
@@ -51,7 +52,17 @@ def _document() -> ScenarioDocument:
                     sources=(("d100_angstrom", "file"), ("mass_g", "typed")))
     return ScenarioDocument(sc, sample, (_run(), _run("des", leg="desorption", temperature_k=None)), _fit(),
                             ViewChoices(axis="chemical-potential", branch="adsorption", pick_log10_pa=-2.5,
-                                        tab="measured"))
+                                        tab="measured", measured=MEASURED_CHOICES, sizing=SIZING_CHOICES))
+
+
+# every input of the Measured data and Sizing tabs, none at its default
+MEASURED_CHOICES = MeasuredChoices(axis="relative-pressure", amounts_in="cm3(STP)/g", free=("size", "a0"),
+                                   drop_above_p0=True, kernel_first_angstrom=11.5, kernel_last_angstrom=42.0,
+                                   kernel_count=17, carry_gas="argon", carry_temperature_k=87.3,
+                                   carry_site_model="classical")
+SIZING_CHOICES = SizingChoices(across="d100", sizes="12:30:7", walls="6, 9", temperatures="1.2:1.8:4",
+                               d100_angstrom=44.5, site_model="quantum", points=150, window_unit="relative",
+                               low=0.05, high=0.8, target="layer", layer=3)
 
 
 def _same_run(a: MeasuredRun, b: MeasuredRun) -> bool:
@@ -106,6 +117,25 @@ def test_every_table_round_trips_exactly():
     assert back.fit.scenario == doc.fit.scenario
     assert np.array_equal(np.array(back.fit.correlation), np.array(doc.fit.correlation), equal_nan=True)
     assert dump_document(back) == text                      # writing again gives the same file
+
+
+def test_a_file_without_the_tabs_inputs_opens_with_the_pages_own():
+    # files written before [view.measured] and [view.sizing] existed (the shipped demos among them)
+    doc = _document()
+    old = dump_document(doc.replace(view=ViewChoices(axis="chemical-potential", tab="measured")))
+    assert "[view.measured]" not in old and "[view.sizing]" not in old
+    back = parse_document(old, name="old.toml").view
+    assert back.measured is None and back.sizing is None and back.axis == "chemical-potential"
+    for name in demo_names():
+        view = load_document(resolve_scenario(name)).view
+        assert view.measured is None and view.sizing is None, name
+
+
+def test_only_the_inputs_given_are_written_and_read():
+    doc = _document().replace(view=ViewChoices(sizing=SizingChoices(points=300), measured=MeasuredChoices()))
+    text = dump_document(doc)
+    assert "[view.sizing]\npoints = 300\n" in text and "[view.measured]" not in text
+    assert parse_document(text).view.sizing == SizingChoices(points=300)
 
 
 def test_the_file_says_it_is_copied_data_and_has_a_format():
@@ -181,6 +211,25 @@ def _break(old: str, new: str) -> str:
     (_break("chi2 = 12.5", "chi2 = \"small\""), "chi2", "number"),
     (_break("stderr = 0.004", "stderr = -0.004"), "stderr", "negative"),
     (_break("format = 1", "format = 2"), "format", "format 1"),
+    # the Measured data and Sizing tabs' inputs ([view.measured], [view.sizing])
+    (_break('axis = "relative-pressure"', 'axis = "upside-down"'), "axis", "upside-down"),
+    (_break('amounts_in = "cm3(STP)/g"', 'amounts_in = "buckets"'), "amounts_in", "buckets"),
+    (_break('free = ["size", "a0"]', 'free = ["size", "colour"]'), "free", "colour"),
+    (_break("drop_above_p0 = true", 'drop_above_p0 = "yes"'), "drop_above_p0", "true or false"),
+    (_break("kernel_count = 17", "kernel_count = 2"), "kernel_count", "from 3 to 200"),
+    (_break("kernel_last_angstrom = 42.0", "kernel_last_angstrom = -4.0"), "kernel_last_angstrom", ">= 0"),
+    (_break('carry_gas = "argon"', 'carry_gas = "xenon"'), "carry_gas", "xenon"),
+    (_break("carry_temperature_k = 87.3", "carry_temperature_k = 0.0"), "carry_temperature_k", "> 0"),
+    (_break('across = "d100"', 'across = "width"'), "across", "width"),
+    (_break('sizes = "12:30:7"', "sizes = 12"), "sizes", "text"),
+    (_break("d100_angstrom = 44.5", "d100_angstrom = 0.5"), "d100_angstrom", ">= 1"),
+    (_break('site_model = "quantum"\npoints', 'site_model = "exact"\npoints'), "site_model", "exact"),
+    (_break("points = 150", "points = 5"), "points", "from 20 to 2000"),
+    (_break('window_unit = "relative"', 'window_unit = "psi"'), "window_unit", "psi"),
+    (_break("high = 0.8", "high = -0.8"), "high", ">= 0"),
+    (_break('target = "layer"', 'target = "everything"'), "target", "everything"),
+    (_break("layer = 3", "layer = 0"), "layer", "from 1 to 200"),
+    (_break("layer = 3", "layer = 3\nscheduler = 'tcp://elsewhere:8786'"), "scheduler", "unknown"),
     (_break("format = 1", "format = 1\ncolour = 1"), "colour", "unknown"),
 ])
 def test_a_bad_file_names_file_line_and_key(text, key, words):

@@ -17,6 +17,8 @@ Layout, ``format = 1`` (every table but ``[scenario]`` optional; a file without 
                       #   pore_volume_cm3_g, stderr_cm3_g, n_points, summary, lam, reduced_chi2, notes
     [distribution.kernel]  # the scenario the kernel varied the size of
     [view]            # dashboard choices: axis, branch, pick_log10_pa, tab (see ViewChoices)
+    [view.measured]   #   the Measured data tab's inputs (porefill.explorer.files.page_choices.MeasuredChoices)
+    [view.sizing]     #   the Sizing tab's inputs (porefill.explorer.files.page_choices.SizingChoices)
 
 A file is parsed, never executed. A malformed file raises `ScenarioFileError` naming the file, the line
 and the key: TOML syntax errors with tomllib's line and column, other problems (unknown key, wrong type,
@@ -29,6 +31,7 @@ import tomllib
 from dataclasses import dataclass, field, fields
 from pathlib import Path
 
+from porefill.explorer.files.page_choices import MeasuredChoices, SizingChoices
 from porefill.explorer.files.toml_writer import dump_table
 from porefill.physics.choices import BRANCHES, TABS
 from porefill.physics.choices import ISOTHERM_AXES as AXES
@@ -56,12 +59,15 @@ class ScenarioFileError(ValueError):
 class ViewChoices:
     """Dashboard choices a saved file reopens with: the isotherm's x axis ("pressure" or
     "chemical-potential"), the branch of the occupancy map, the picked pressure as log10(p / Pa) (None:
-    the view's own choice), and the tab on show."""
+    the view's own choice), the tab on show, and the Measured data and Sizing tabs' inputs (None: the page's
+    own)."""
 
     axis: str = "pressure"
     branch: str = "equilibrium"
     pick_log10_pa: float | None = None
     tab: str = "pore"
+    measured: MeasuredChoices | None = None
+    sizing: SizingChoices | None = None
 
     def __post_init__(self) -> None:
         for name, known in (("axis", AXES), ("branch", BRANCHES), ("tab", TABS)):
@@ -73,7 +79,14 @@ class ViewChoices:
                                check_number("pick_log10_pa", self.pick_log10_pa, low=-40.0, high=10.0))
 
     def to_dict(self) -> dict:
-        return {f.name: getattr(self, f.name) for f in fields(self) if getattr(self, f.name) is not None}
+        out = {}
+        for f in fields(self):
+            value = getattr(self, f.name)
+            if isinstance(value, (MeasuredChoices, SizingChoices)):
+                value = value.to_dict() or None
+            if value is not None:
+                out[f.name] = value
+        return out
 
     @classmethod
     def from_dict(cls, data: dict) -> "ViewChoices":
@@ -81,7 +94,16 @@ class ViewChoices:
         unknown = sorted(set(data) - known)
         if unknown:
             raise ValueError(f"unknown view key(s) {', '.join(unknown)}; known: {', '.join(sorted(known))}")
+        data = dict(data)
+        for name, kind in _TAB_CHOICES.items():
+            if name in data and not isinstance(data[name], kind):
+                if not isinstance(data[name], dict):
+                    raise ValueError(f"{name} must be a table [view.{name}]; got {data[name]!r}"[:300])
+                data[name] = kind.from_dict(data[name])
         return cls(**data)
+
+
+_TAB_CHOICES = {"measured": MeasuredChoices, "sizing": SizingChoices}     # [view.measured], [view.sizing]
 
 
 @dataclass(frozen=True, eq=False)
@@ -289,6 +311,12 @@ def _document(name: str, text: str, data: dict) -> ScenarioDocument:
     view = ViewChoices()
     if "view" in data:
         body = _table(name, text, data, "view")
+        for sub, kind in _TAB_CHOICES.items():      # each tab's table checked on its own, blamed at its line
+            if isinstance(body.get(sub), dict):
+                try:
+                    body[sub] = kind.from_dict(body[sub])
+                except (TypeError, ValueError) as exc:
+                    _fail(name, text, f"view.{sub}", str(exc), body[sub])
         try:
             view = ViewChoices.from_dict(body)
         except (TypeError, ValueError) as exc:

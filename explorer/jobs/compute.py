@@ -29,13 +29,16 @@ from porefill.physics.choices import DEFAULT_POINTS
 from porefill.explorer.jobs.background import PoolJob, start_worker, time_limit_text
 from porefill.physics.caching import memoize
 
-__all__ = ["TIME_LIMIT_S", "LatestRunner", "on_session", "isotherm_pool", "map_pool", "retire_pools", "temperature_window", "short_error"]
+__all__ = ["TIME_LIMIT_S", "SLIDER_SETTLE_S", "LatestRunner", "on_session", "isotherm_pool", "map_pool", "retire_pools", "temperature_window", "short_error"]
 
 log = logging.getLogger("porefill.explorer")
 
 TIME_LIMIT_S = 60.0          # a request that takes longer ends in a message in its view
 ISOTHERM_POINTS = DEFAULT_POINTS
 ISOTHERM_WORKERS = 2
+# requests closer together than this are one burst (`LatestRunner`): a person pressing a slider's arrow key
+# again and again leaves 150–250 ms between presses, a held key ~30 ms
+SLIDER_SETTLE_S = 0.3
 
 _pools: dict[str, Executor] = {}
 _pools_lock = threading.Lock()

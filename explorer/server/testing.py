@@ -19,7 +19,9 @@ def slider_handle(page, label_start: str):
 
 
 def drag_handle(page, handle, dx: float) -> float:
-    """Drag a slider handle by dx pixels; return the perf_counter time of the release."""
+    """Drag a slider handle by dx pixels, scrolled into view first as a person would; return the
+    perf_counter time of the release."""
+    handle.scroll_into_view_if_needed()
     box = handle.bounding_box()
     x, y = box["x"] + box["width"] / 2, box["y"] + box["height"] / 2
     page.mouse.move(x, y)

@@ -106,9 +106,9 @@ def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewab
     if isotherm._iso is not None:
         measured.model_arrived(isotherm._shown, isotherm._iso)
     measured.show_document(doc)
-    scenario_io = ScenarioIO(state=state, document=doc, isotherm=isotherm, measured=measured)
     quantum = QuantumView(state=state)
     sizing = SizingView(state=state)
+    scenario_io = ScenarioIO(state=state, document=doc, isotherm=isotherm, measured=measured, sizing=sizing)
     measured.distribution.listeners.append(sizing.show_layer_bands)     # the carried prediction's layer bands
     # the frame (header, tabs, controls) goes to the browser first; the views fill these places once it is
     # drawn (`fill_in`), so the page is never blank while the plots are built

@@ -14,6 +14,7 @@ import math
 
 import numpy as np
 
+from porefill.explorer.files.page_choices import KERNEL_COUNT_RANGE
 from porefill.physics.choices import SIZE_NAMES
 from porefill.physics.distribution.kernel import (DEFAULT_KERNEL_POINTS, DEFAULT_KERNEL_SIZES, KernelSpec,
                                                   default_sizes, pore_diameter_angstrom)
@@ -22,7 +23,7 @@ __all__ = ["KERNEL_COUNT_BOUNDS", "default_kernel_inputs", "kernel_spec", "size_
            "bar_columns", "summary_rows", "summary_html", "notes_html", "fitted_series", "model_at", "layer_rows",
            "layers_html", "evenly_spaced_inputs"]
 
-KERNEL_COUNT_BOUNDS = (3, 200)       # sizes per kernel the page builds (each is one isotherm)
+KERNEL_COUNT_BOUNDS = KERNEL_COUNT_RANGE       # sizes per kernel the page builds (each is one isotherm)
 
 
 def size_word(shape: str) -> str:

@@ -23,7 +23,7 @@ from porefill.physics.lattice_gas.branches import branch_notes
 from porefill.physics.sites.lattice import slit_row_sites
 from porefill.physics.scenario import Scenario
 
-from porefill.explorer.jobs.compute import LatestRunner, isotherm_job, short_error
+from porefill.explorer.jobs.compute import SLIDER_SETTLE_S, LatestRunner, isotherm_job, short_error
 from porefill.explorer.outputs.isotherm_export import amount_labels, calibration_note, isotherm_csv
 from porefill.explorer.views.state import ExplorerState, describe
 from porefill.explorer.views.potential import FRAME, GROW_MIN, growing_box, outline
@@ -34,7 +34,6 @@ MODEL_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate"
               "site_model", "plating", "plating_layers"]
 # a change of these moves the pressure range so much that the picked pressure starts afresh
 RANGE_KEYS = ("shape", "adsorbate", "temperature_k")
-SETTLE_S = 0.3           # requests closer together than this are one burst (`LatestRunner`)
 PICK_FRACTION = 0.8      # where in the log-pressure range the occupancy map starts: the upper layers
 
 _recent = BoundedCache(16)       # isotherms this server has shown lately (porefill.physics.caching)
@@ -116,7 +115,7 @@ class IsothermView(pn.viewable.Viewer):
         self._wanted: Scenario | None = None      # inputs of the newest request
         self._pick_log10 = -1.0
         # a slider's arrow key pressed again and again: the first and the last position are computed
-        self._runner = LatestRunner("isotherm", name="isotherm", settle_s=SETTLE_S)
+        self._runner = LatestRunner("isotherm", name="isotherm", settle_s=SLIDER_SETTLE_S)
         self.listeners: list = []      # called with (scenario, isotherm or None) whenever what is shown changes
         self._redraw()
         self.state.param.watch(self._redraw, MODEL_KEYS)

@@ -21,7 +21,7 @@ from porefill.physics.scenario import Scenario
 from porefill.physics.pore.line_cuts import line_cuts
 from porefill.physics.pore.wall_potential import Minimum, PotentialMap, deepest_minimum, potential_map, wall_potential
 
-from porefill.explorer.jobs.compute import LatestRunner, short_error
+from porefill.explorer.jobs.compute import SLIDER_SETTLE_S, LatestRunner, short_error
 from porefill.explorer.outputs.formatting import format_minimum
 from porefill.explorer.views.state import ExplorerState, describe
 
@@ -33,12 +33,36 @@ FRAME = 290            # px: frame width of every plot, so that two plots fit si
 GROW_MIN, GROW_MAX = FRAME + 70, 680
 
 
-def growing_box(*objects, css_class: str, **params) -> pn.Column:
-    """A column that takes its share of a wrapping row: at least ``GROW_MIN`` px (two fit beside the controls
+def growing_box(*objects, css_class: str, min_px: int = GROW_MIN, **params) -> pn.Column:
+    """A column that takes its share of a wrapping row: at least ``min_px`` px (two fit beside the controls
     at 1024 px), at most ``GROW_MAX`` (a plot wider than that is harder to read, not easier)."""
     return pn.Column(*objects, css_classes=[css_class], sizing_mode="stretch_width",
-                     styles={"flex": f"1 1 {GROW_MIN}px", "min-width": f"{GROW_MIN}px",
+                     styles={"flex": f"1 1 {min_px}px", "min-width": f"{min_px}px",
                              "max-width": f"{GROW_MAX}px"}, **params)
+
+
+# a map's canvas around its frame: the y axis at the left, title and toolbar above, the x axis and the
+# colour bar below (px, Bokeh's defaults for these fonts; measured, not published)
+_MAP_SIDES_PX, _MAP_ABOVE_BELOW_PX = 60, 150
+MAP_MIN = FRAME + _MAP_SIDES_PX          # px: the map's box at its narrowest (1024 px screens)
+
+
+def map_figure(**params):
+    """A figure for a map of the pore's cross-section that grows with its box and keeps one scale on both
+    axes: the canvas scales with the width (`scale_width`), and `match_aspect` on data ranges widens
+    whichever range the frame has room for, so a pore is never stretched. Set its shape with `fit_map`."""
+    from bokeh.models import DataRange1d
+
+    return figure(sizing_mode="scale_width", width=MAP_MIN, height=MAP_MIN - _MAP_SIDES_PX + _MAP_ABOVE_BELOW_PX,
+                  match_aspect=True, aspect_scale=1.0, x_range=DataRange1d(range_padding=0.0),
+                  y_range=DataRange1d(range_padding=0.0), **params)
+
+
+def fit_map(fig, width: float, height: float) -> None:
+    """Give a `map_figure` the proportions of a map ``width`` × ``height`` (Å) at its narrowest: the frame
+    then has the map's own shape (the ranges take up what the fixed axes and bars leave over)."""
+    frame_h = FRAME * height / width
+    fig.aspect_ratio = MAP_MIN / (frame_h + _MAP_ABOVE_BELOW_PX)
 GEOMETRY_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate", "plating", "plating_layers"]
 
 
@@ -149,11 +173,12 @@ class PotentialView(pn.viewable.Viewer):
         self._message = pn.pane.HTML("", css_classes=["porefill-potential-message"], visible=False,
                                      sizing_mode="stretch_width")
         self._map_caption = pn.pane.HTML("", css_classes=["porefill-caption", "porefill-map-caption"],
-                                         width=FRAME + 60, styles={"font-size": "13px"})
-        self._map_box = pn.Column(self._map_caption, pn.pane.Bokeh(self._map_fig), css_classes=["porefill-map"])
+                                         sizing_mode="stretch_width", styles={"font-size": "13px"})
+        self._map_box = growing_box(self._map_caption, pn.pane.Bokeh(self._map_fig, sizing_mode="stretch_width"),
+                                    css_class="porefill-map", min_px=MAP_MIN)
         self._cut_box = growing_box(pn.pane.Bokeh(self._cut_fig, sizing_mode="stretch_width"),
                                     css_class="porefill-cuts")
-        self._runner = LatestRunner("map", name="potential map", settle_s=0.15)   # a key burst: first and last
+        self._runner = LatestRunner("map", name="potential map", settle_s=SLIDER_SETTLE_S)   # a key burst: first and last
         self._shown: Scenario | None = None       # the inputs the map and cuts now show
         self._pending: Scenario | None = None     # inputs asked for and not yet shown
         self._redraw()
@@ -161,10 +186,8 @@ class PotentialView(pn.viewable.Viewer):
 
     # figures --------------------------------------------------------------------------------------
     def _make_map_figure(self):
-        fig = figure(title="Wall potential V(x, y)", x_axis_label="x (Å)",
-                     y_axis_label="y (Å)", frame_width=FRAME, frame_height=FRAME,
-                     x_range=Range1d(-1, 1), y_range=Range1d(-1, 1), tools="pan,wheel_zoom,box_zoom,reset,save",
-                     toolbar_location="above", match_aspect=True)
+        fig = map_figure(title="Wall potential V(x, y)", x_axis_label="x (Å)", y_axis_label="y (Å)",
+                         tools="pan,wheel_zoom,box_zoom,reset,save", toolbar_location="above")
         img = fig.image(image="image", x="x", y="y", dw="dw", dh="dh", source=self._image,
                         color_mapper=self._mapper)
         fig.multi_line(xs="xs", ys="ys", source=self._contours, line_color="white", line_alpha=0.75,
@@ -232,9 +255,7 @@ class PotentialView(pn.viewable.Viewer):
                 self._contours.data = {"xs": xs, "ys": ys}
                 lines = res["outline"]
                 self._outline.data = {"xs": [p[:, 0] for p in lines], "ys": [p[:, 1] for p in lines]}
-                self._map_fig.x_range.update(start=x0, end=x0 + width)
-                self._map_fig.y_range.update(start=y0, end=y0 + height)
-                self._map_fig.frame_height = int(round(FRAME * height / width))
+                fit_map(self._map_fig, width, height)        # the ranges follow the image (DataRange1d)
                 for k, src in enumerate(self._cuts):
                     if k < len(cut_data):
                         label, r, v, _, _ = cut_data[k]

@@ -21,7 +21,7 @@ from porefill.physics.sites.site_models import QUANTUM_BY_DEFAULT
 from porefill.explorer.jobs.compute import LatestRunner, short_error
 from porefill.explorer.views.model_comparison import ComparisonSummary, comparison_job
 from porefill.explorer.views.state import ExplorerState, describe
-from porefill.explorer.views.isotherm import ADS_COLOUR, DES_COLOUR
+from porefill.explorer.views.isotherm import ADS_COLOUR, DES_COLOUR, coverage_unit
 from porefill.explorer.views.potential import FRAME, outline
 from porefill.explorer.views.ticks import readable_log_axes
 
@@ -180,7 +180,7 @@ class QuantumView(pn.viewable.Viewer):
                 lo, hi, top = min(lo, p.min()), max(hi, p.max()), max(top, float(np.nanmax(n)))
             self._fig_cmp.x_range.update(start=lo, end=hi)
             self._fig_cmp.y_range.update(start=0.0, end=1.05 * top or 1.0)
-            self._fig_cmp.yaxis.axis_label = "coverage (per nm; slit: per nm²)"
+            self._fig_cmp.yaxis.axis_label = f"coverage ({coverage_unit(sc)})"      # the unit of the pore shown
             self.shifts.object = self._shifts_html(s)
             self._show_energies()
             self._body.loading = False
@@ -212,7 +212,7 @@ class QuantumView(pn.viewable.Viewer):
             pad = 0.05 * (hi - lo or 1.0)
             self._fig_energy.y_range.update(start=lo - pad, end=hi + pad)
             self._fig_energy.x_range.update(start=float(data["x"].min()), end=float(data["x"].max()))
-        self._fig_energy.xaxis.axis_label = ("coverage (per nm; slit: per nm²)" if by_coverage
+        self._fig_energy.xaxis.axis_label = (f"coverage ({coverage_unit(self._shown)})" if by_coverage
                                              else "chemical potential μ (K)")
 
     @staticmethod

@@ -2,10 +2,12 @@
 
 - **Save scenario** writes the TOML of what is on screen (`porefill.explorer.files.scenario_file.dump_document`): the
   inputs, the sample, measured runs, fit and pore-size distribution (from the Measured data tab, else as
-  loaded), and the view choices (isotherm axis, branch, picked pressure, tab).
+  loaded), and the view choices (isotherm axis, branch, picked pressure, tab, the Measured data and Sizing
+  tabs' inputs: `porefill.explorer.views.tab_choices`).
 - **Open scenario** reads a TOML file from the browser: parsed in memory, never executed or written to
   disk; a bad file is named with its line and key in a message, and the page keeps what it had.
-- The page's URL carries shape, size, wall, isolated, adsorbate and temperature (`pn.state.location`), so a
+- The page's URL carries the pore and gas controls (`URL_KEYS`, `pn.state.location`) and the Measured data
+  and Sizing tabs' inputs that differ from the page's first (`porefill.explorer.views.tab_link`), so a
   copied link reopens the same inputs; a link with values the dashboard refuses says so and keeps the
   scenario's values instead.
 - **Report** and **figures** (PNG 1920 px wide, SVG) are drawn on the server by matplotlib in a worker
@@ -108,6 +110,7 @@ class ScenarioIO(pn.viewable.Viewer):
     document = param.ClassSelector(class_=ScenarioDocument, doc="The loaded file: what the controls do not hold")
     isotherm = param.Parameter(default=None, doc="The IsothermView (axis, branch, picked pressure)")
     measured = param.Parameter(default=None, doc="The MeasuredView (runs, sample, fit), if the page has one")
+    sizing = param.Parameter(default=None, doc="The SizingView (its inputs are saved), if the page has one")
     tabs = param.Parameter(default=None, doc="The page's pn.Tabs (the tab on show is saved)")
 
     def __init__(self, **params):
@@ -151,7 +154,11 @@ class ScenarioIO(pn.viewable.Viewer):
         if self.tabs is not None:
             name = self.tabs._names[self.tabs.active] if self.tabs.active < len(self.tabs) else ""  # noqa: SLF001
             tab = next((k for k, v in _TAB_NAMES.items() if str(name).startswith(v)), "pore")
-        return ViewChoices(axis=axis, branch=branch, pick_log10_pa=pick, tab=tab)
+        from porefill.explorer.views.tab_choices import measured_choices, sizing_choices
+
+        return ViewChoices(axis=axis, branch=branch, pick_log10_pa=pick, tab=tab,
+                           measured=None if self.measured is None else measured_choices(self.measured),
+                           sizing=None if self.sizing is None else sizing_choices(self.sizing))
 
     def current_document(self) -> ScenarioDocument:
         """What Save writes: the state's scenario, the measured tab's runs, sample, fit and pore-size
@@ -284,6 +291,12 @@ class ScenarioIO(pn.viewable.Viewer):
                              f"{str(exc).splitlines()[0][:200]}") from None
 
     def apply_view(self, view: ViewChoices) -> None:
+        from porefill.explorer.views.tab_choices import show_measured_choices, show_sizing_choices
+
+        if self.measured is not None:
+            show_measured_choices(self.measured, view.measured)
+        if self.sizing is not None:
+            show_sizing_choices(self.sizing, view.sizing)
         iso = self.isotherm
         if iso is not None:
             iso.x_axis.value = view.axis
@@ -324,9 +337,19 @@ class ScenarioIO(pn.viewable.Viewer):
         loc, doc = pn.state.location, pn.state.curdoc
         if loc is None or doc is None or doc.session_context is None:
             return                       # a notebook or a test: no page URL of our own
+        from porefill.explorer.views.tab_link import LINK_KEYS, TabLink
+
+        # the tabs' inputs as the page opened, before the link's values: the link carries what differs
+        tabs = (TabLink(self.measured, self.sizing) if self.measured is not None or self.sizing is not None
+                else None)
         query = loc.query_params                 # numbers and booleans already decoded by Panel
         wanted = {k: query[k] for k in URL_KEYS if k in query}
         refused = self._apply_link(wanted) if wanted else {}
+        if tabs is not None:       # after the pore's: a new shape or gas resets some of the tabs' inputs
+            raw = dict(parse_qsl(loc.search.lstrip("?")))
+            tab_refused = tabs.apply(query, raw)
+            wanted.update({k: query[k] for k in tab_refused})
+            refused.update(tab_refused)
         if refused:
             self._say(refused_link_message(wanted, refused))
 
@@ -337,6 +360,8 @@ class ScenarioIO(pn.viewable.Viewer):
             if refused:
                 loc.search = "?" + urlencode(kept) if kept else ""
             loc.sync(self.state, {k: k for k in URL_KEYS})
+            if tabs is not None:
+                loc.sync(tabs, {k: k for k in LINK_KEYS})
 
         pn.state.onload(tie)
 

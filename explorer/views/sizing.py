@@ -22,6 +22,7 @@ import numpy as np
 import panel as pn
 import param
 
+from porefill.explorer.files.page_choices import SWEEP_POINTS_RANGE, TARGET_LAYER_RANGE
 from porefill.explorer.jobs.background import ThreadJob
 from porefill.physics.choices import DEFAULT_POINTS, SIZE_NAMES
 from porefill.physics.sweep import TARGET_KINDS, SweepSpec, Target, edge_words, meets, parse_range, wall_from_d100
@@ -120,19 +121,22 @@ class SizingView(pn.viewable.Viewer):
         self.walls = pn.widgets.TextInput(name="Walls (Å): one, a list or start:stop:count", value=wall, width=290)
         self.temps = pn.widgets.TextInput(name="Temperatures (K): start:stop:count",
                                           value=f"{max(t - 0.25, 0.3):.2f}:{t + 0.25:.2f}:6", width=290)
-        self.d100 = pn.widgets.FloatInput(name="X-ray d100 spacing (Å)", value=40.0, start=1.0, step=0.5, width=290)
+        self.d100 = pn.widgets.FloatInput(name="X-ray d100 spacing (Å)", value=40.0, start=1.0, step=0.5, width=290,
+                                          css_classes=["porefill-sizing-d100"])
         self.model = pn.widgets.Select(name="Site model", options=["as the scenario", "classical", "quantum"],
                                        value="as the scenario", width=290, css_classes=["porefill-sizing-model"])
-        self.points = pn.widgets.IntInput(name="Points per isotherm", value=DEFAULT_POINTS, start=20, end=2000, step=50, width=290,
-                                    css_classes=["porefill-sizing-points"])
+        self.points = pn.widgets.IntInput(name="Points per isotherm", value=DEFAULT_POINTS, start=SWEEP_POINTS_RANGE[0],
+                                          end=SWEEP_POINTS_RANGE[1], step=50, width=290,
+                                          css_classes=["porefill-sizing-points"])
         self.low = pn.widgets.FloatInput(name="Apparatus: lowest pressure (Pa)", value=1e-3, start=0.0, width=290,
                                          css_classes=["porefill-sizing-low"])
         self.high = pn.widgets.FloatInput(name="Apparatus: highest pressure (Pa)", value=1e3, start=0.0, width=290,
                                           css_classes=["porefill-sizing-high"])
         self.target = pn.widgets.Select(name="Target", options=[_NO_TARGET] + list(TARGET_KINDS.values()),
                                         value=_NO_TARGET, width=290, css_classes=["porefill-sizing-target"])
-        self.layer = pn.widgets.IntInput(name="Layer that must be complete (1: against the wall)", value=2, start=1,
-                                         end=200, width=290, visible=False, css_classes=["porefill-sizing-layer"])
+        self.layer = pn.widgets.IntInput(name="Layer that must be complete (1: against the wall)", value=2,
+                                         start=TARGET_LAYER_RANGE[0], end=TARGET_LAYER_RANGE[1], width=290,
+                                         visible=False, css_classes=["porefill-sizing-layer"])
         self.window_unit = pn.widgets.RadioButtonGroup(name="Window in", options=list(_WINDOW_UNITS), value="Pa",
                                                        width=290, css_classes=["porefill-sizing-window-unit"])
         self.scheduler = pn.widgets.TextInput(name="Dask scheduler (empty: this machine)",
@@ -454,7 +458,8 @@ class SizingView(pn.viewable.Viewer):
     def __panel__(self):
         controls = pn.Column(self.mode, self.sizes, self.walls, self.temps, self.d100, self.model, self.points,
                              self.window_unit, self.low, self.high, self.target, self.layer, self.scheduler,
-                             pn.Row(self.compute_button, self.stop_button), self.progress, width=310)
+                             pn.Row(self.compute_button, self.stop_button), self.progress, width=310,
+                             css_classes=["porefill-sizing-controls"])
         # the list of sizes that meet the target wraps under the plot where the window is narrow (1024 px)
         results = pn.FlexBox(self._body, self.meets_list, flex_wrap="wrap", gap="8px 16px",
                              sizing_mode="stretch_width")
