@@ -97,3 +97,18 @@ def test_the_status_says_the_sweeps_size_and_rough_time_before_it_starts():
     assert "Press Compute: 3 pores" in view.status.object
     view.sizes.value = "10:20:9"
     assert "Press Compute: 9 pores" in view.status.object
+
+
+def test_the_temperatures_follow_the_gas(view):
+    # a temperature sweep offered for argon must not stay at 87 K once the gas is helium (issue: "a temperature
+    # that follows the gas"); each gas's window is its vapour-pressure equation's (ITS-90 for helium-4, CoolProp)
+    view.state.adsorbate = "argon"
+    assert view.state.temperature_k > 83.0
+    view.mode.value = "temperature (fixed side)"
+    spec = view.spec()
+    assert all(83.0 < s.temperature_k < 151.0 for s in spec.scenarios()) and spec.base.adsorbate == "argon"
+    view.state.adsorbate = "helium-4"
+    spec = view.spec()
+    assert spec.base.adsorbate == "helium-4"
+    assert all(0.3 <= s.temperature_k <= 5.0 for s in spec.scenarios())
+    assert spec.scenarios()[0].temperature_k == pytest.approx(max(view.state.temperature_k - 0.25, 0.3))

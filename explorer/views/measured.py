@@ -227,7 +227,8 @@ class MeasuredView(OverlayDrawing, FitSection, pn.viewable.Viewer):
             where = self._sample_source.get(name, "typed") if value not in (None, 0) else "not given"
             parts.append(f"{html.escape(label.split(' (')[0])}: {where}")
         self.sample_note.object = "<p>" + "; ".join(parts) + ". Amounts per gram are drawn with the pore volume " \
-                                  "given, else one estimated from the data, and the fit frees it; dosed amounts " \
+                                  "given (a Gurvich volume: the liquid a full pore holds), else one estimated from " \
+                                  "the data, and the fit frees it; dosed amounts " \
                                   "need the mass; d₁₀₀ ties the wall to the side (a₀ = 2·d₁₀₀/√3).</p>"
 
     def __panel__(self):

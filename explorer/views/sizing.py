@@ -55,6 +55,11 @@ def _size_words(shape: str) -> str:
     return "radius (diameter = 2 × radius)" if shape == "cylinder" else SIZE_NAMES[shape]
 
 
+def _temperatures_around(t: float) -> str:
+    """The temperature sweep offered by default: six temperatures 0.5 K wide around ``t``."""
+    return f"{max(t - 0.25, 0.3):.2f}:{t + 0.25:.2f}:6"
+
+
 def _sizes_label(shape: str) -> str:
     plural = {"hexagon": "Side lengths", "cylinder": "Radii (diameter = 2 × radius)", "slit": "Widths"}[shape]
     return f"{plural} (Å): start:stop:count, or a list"
@@ -120,7 +125,7 @@ class SizingView(pn.viewable.Viewer):
                                           value="10:30:11", width=290, css_classes=["porefill-sizing-sizes"])
         self.walls = pn.widgets.TextInput(name="Walls (Å): one, a list or start:stop:count", value=wall, width=290)
         self.temps = pn.widgets.TextInput(name="Temperatures (K): start:stop:count",
-                                          value=f"{max(t - 0.25, 0.3):.2f}:{t + 0.25:.2f}:6", width=290)
+                                          value=_temperatures_around(t), width=290)
         self.d100 = pn.widgets.FloatInput(name="X-ray d100 spacing (Å)", value=40.0, start=1.0, step=0.5, width=290,
                                           css_classes=["porefill-sizing-d100"])
         self.model = pn.widgets.Select(name="Site model", options=["as the scenario", "classical", "quantum"],
@@ -169,6 +174,9 @@ class SizingView(pn.viewable.Viewer):
             w.param.watch(self._redraw, "value")
         self.mode.param.watch(self._fit_inputs, "value")
         st.param.watch(lambda event: setattr(self.sizes, "name", _sizes_label(event.new)), "shape")
+        # a new gas brings its own temperatures (the state has already moved its temperature into the gas's range)
+        st.param.watch(lambda event: setattr(self.temps, "value", _temperatures_around(st.temperature_k)),
+                       "adsorbate")
         for w in (self.mode, self.sizes, self.walls, self.temps, self.d100, self.model, self.points):
             w.param.watch(self._say_estimate, "value")
         st.param.watch(self._say_estimate, ["shape", "adsorbate", "temperature_k", "plating", "plating_layers"])
