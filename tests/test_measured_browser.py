@@ -30,6 +30,35 @@ def _wait_for_text(page, selector, words, timeout_s=20.0):
         page.wait_for_timeout(200)
 
 
+def _refused_by_widget(widget_text: str) -> bool:
+    return "invalid" in widget_text.lower() or "large" in widget_text.lower()
+
+
+def _answer_to_upload(page, name: str, timeout_s: float = 60.0) -> tuple[str, str]:
+    """(the file problems' text, the upload widget's own status) once either names the file's fate: the
+    page's message naming ``name``, or the widget's refusal of a file it will not send (which would otherwise
+    be waited out for the whole timeout)."""
+    import time
+    deadline = time.time() + timeout_s
+    polls, widget = 0, ""
+    while True:
+        shown = text_of(page, ".porefill-file-problems p")
+        if polls % 5 == 4:                  # the widget's list is slower to read: once a second
+            widget = _widget_status_of(page, name)
+        if name in shown or _refused_by_widget(widget) or time.time() > deadline:
+            return shown, widget
+        polls += 1
+        page.wait_for_timeout(200)
+
+
+def _widget_status_of(page, name: str) -> str:
+    """The upload widget's status line for the file ``name`` ("" if not listed): its list keeps every file it
+    was given, so an earlier file's refusal must not stand for this one's."""
+    info = page.locator(".filepond--file-info-main", has_text=re.compile(rf"^\s*{re.escape(name)}\s*$"))
+    item = page.locator(".porefill-dropper .filepond--item").filter(has=info)
+    return " ".join(item.locator(".filepond--file-status-main").all_inner_texts())
+
+
 def _upload(page, path):
     page.locator(".porefill-dropper input[type=file]").first.set_input_files(str(path))
 
@@ -211,11 +240,10 @@ def test_the_whole_bad_file_gallery_through_the_upload(page, tmp_path):
         path.write_bytes(data)
         _upload(page, path)
         on_page += 1
-        shown = _wait_for_text(page, ".porefill-file-problems p", path.name, timeout_s=60.0)
+        shown, widget = _answer_to_upload(page, path.name)
         if path.name not in shown:
             # the upload widget refused it itself (e.g. a binary's sniffed type): it says so in its own list
-            widget = " ".join(page.locator(".porefill-dropper .filepond--file-status-main").all_inner_texts())
-            assert "invalid" in widget.lower() or "large" in widget.lower(), (label, shown, widget)
+            assert _refused_by_widget(widget), (label, shown, widget)
             continue
         assert "Traceback" not in shown, (label, shown)
         sent += 1

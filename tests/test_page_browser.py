@@ -57,6 +57,21 @@ def test_tabs_have_roles_and_work_from_the_keyboard(page):
     assert page.console_errors == []
 
 
+def _settled_count(page, caption, size_after: float, before: int, *, readout_too: bool = False) -> int:
+    """Wait until the isotherm (and with ``readout_too`` the readout) shows ``size_after`` and anything still
+    queued has had time to start; check the isotherm and the readout show it; the isotherms computed since
+    ``before`` (the caption's data-computed count)."""
+    for _ in range(600):
+        if f"side length {size_after:g} Å" in caption.inner_text() and (
+                not readout_too or f"{size_after:g} Å, " in readout_text(page)):
+            break
+        page.wait_for_timeout(100)
+    page.wait_for_timeout(1500)             # anything still queued would have started by now
+    assert f"side length {size_after:g} Å" in caption.inner_text()
+    assert re.search(rf"side / radius / width {size_after:g} Å", readout_text(page))
+    return int(caption.get_attribute("data-computed")) - before
+
+
 def test_six_arrow_key_presses_compute_the_first_and_last_size_only(page):
     # a slider's arrow key pressed six times at once: the page computes the isotherm for the first and the
     # last position (explorer/jobs/compute.py: LatestRunner's bursts), not six times; data-computed on the
@@ -73,14 +88,7 @@ def test_six_arrow_key_presses_compute_the_first_and_last_size_only(page):
     size_after = float(slider_title(page, "Side length").split(":")[-1])
     assert size_after == pytest.approx(size_before + 6 * 0.5)
     wait_for_readout_change(page, readout_before, timeout_s=60)
-    for _ in range(600):
-        if f"side length {size_after:g} Å" in caption.inner_text() and f"{size_after:g} Å, " in readout_text(page):
-            break
-        page.wait_for_timeout(100)
-    page.wait_for_timeout(1500)             # anything still queued would have started by now
-    assert f"side length {size_after:g} Å" in caption.inner_text()
-    assert re.search(rf"side / radius / width {size_after:g} Å", readout_text(page))
-    computed = int(caption.get_attribute("data-computed")) - before
+    computed = _settled_count(page, caption, size_after, before, readout_too=True)
     assert 1 <= computed <= 2, computed
     assert page.console_errors == []
 
@@ -119,14 +127,7 @@ def test_arrow_keys_at_a_persons_pace_compute_at_most_twice(page):
     pressed = handle.evaluate(PRESS_AT_A_PERSONS_PACE, [200, 150, 250, 200, 180])
     size_after = float(slider_title(page, "Side length").split(":")[-1])
     assert size_after == pytest.approx(size_before + 6 * 0.5)
-    for _ in range(600):
-        if f"side length {size_after:g} Å" in caption.inner_text():
-            break
-        page.wait_for_timeout(100)
-    page.wait_for_timeout(1500)             # anything still queued would have started by now
-    assert f"side length {size_after:g} Å" in caption.inner_text()
-    assert re.search(rf"side / radius / width {size_after:g} Å", readout_text(page))
-    computed = int(caption.get_attribute("data-computed")) - before
+    computed = _settled_count(page, caption, size_after, before)
     print(f"gaps between presses (ms): {[round(b - a) for a, b in zip(pressed, pressed[1:])]}; "
           f"isotherms computed: {computed}")
     # one burst computes twice at most; where the busy page itself left a pause past the settle time
