@@ -16,7 +16,8 @@ what a distribution's bar means anyway.
 Each part keeps its three model branches ('adsorption', 'desorption', 'equilibrium') as curves in ln p whose
 jumps stand where they are (`porefill.physics.lattice_gas.jumps.branch_curve`), in atoms per Å of one pore,
 and the cross-section of the liquid the full pore holds (`GeometryStage.liquid_area_angstrom2`: pore volumes are
-Gurvich volumes), so an amount per gram is V·(per Å)/area — the same conversion as the single-pore fit (`porefill.physics.fitting.model.unit_factor`). Which branch a measured leg follows is the
+Gurvich volumes), so an amount per gram is V·(per Å)/area — the same conversion as the single-pore fit
+(`porefill.physics.fitting.model.unit_factor`). Which branch a measured leg follows is the
 scenario's pore-ends rule (`porefill.physics.lattice_gas.branches.measured_branches`).
 """
 from __future__ import annotations

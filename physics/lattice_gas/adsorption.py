@@ -209,10 +209,8 @@ def compressibility_peak(problem, mu: np.ndarray, logits: np.ndarray, k0: int, k
 
 
 def _atoms_per_angstrom_per_site(stage: ThermalStage) -> float:
-    """One occupied site per slice, in atoms per Å of pore; for the slit a row's one site stands for a
-    site every ℓ along x, so per Å²."""
-    per = 1.0 / stage.spacing_angstrom
-    return per / stage.spacing_angstrom if stage.lattice.shape == "slit" else per
+    """One occupied site per slice, in atoms per Å of pore (slit: per Å²), `GeometryStage.atoms_per_angstrom_per_site`."""
+    return stage.geometry.atoms_per_angstrom_per_site
 
 
 def default_mu_range(stage: ThermalStage) -> tuple[float, float]:

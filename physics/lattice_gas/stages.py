@@ -84,11 +84,14 @@ class GeometryStage:
         next to the wall that no atom's centre reaches; with the default spacing it is the number of sites
         times their cell area.
         """
-        lat = self.candidates
-        per_angstrom = lat.size / self.spacing_angstrom
-        if lat.shape == "slit":          # a row's one site stands for a site every ℓ along x
-            per_angstrom /= self.spacing_angstrom
-        return float(per_angstrom / self.liquid_density_per_a3)
+        return float(self.candidates.size * self.atoms_per_angstrom_per_site / self.liquid_density_per_a3)
+
+    @property
+    def atoms_per_angstrom_per_site(self) -> float:
+        """One occupied site per slice, in atoms per Å of pore; for the slit a row's one site stands for a
+        site every ℓ along x, so per Å²."""
+        per = 1.0 / self.spacing_angstrom
+        return per / self.spacing_angstrom if self.candidates.shape == "slit" else per
 
 
 @memoize(maxsize=48)
