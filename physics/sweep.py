@@ -200,7 +200,31 @@ def _ring_number(label: str) -> int | None:
 def occupancy_profile(iso) -> dict[str, np.ndarray]:
     """Along the isotherm's μ grid (equilibrium branch): ``pressure_pa`` (Pa) and the occupancies of the
     site groups of this module's docstring: ``centre`` (mean), ``next_ring`` (highest orbit), ``first_layer``
-    and ``pore`` (lowest orbit)."""
+    and ``pore`` (lowest orbit), and ``layers`` from the wall, the last the centre's.
+
+    A pore between two row counts (`porefill.physics.lattice_gas.row_blend`) gives its lattices' profiles
+    averaged with their weights, layer by layer from the wall as the heavier lattice counts them (a layer the
+    other lattice lacks is its last ring's; the centre's is its centre's)."""
+    parts = getattr(iso, "parts", ())
+    if parts:
+        profiles = [(w, _one_profile(part)) for w, part in parts]
+        heavy = profiles[0][1]
+        out = {k: v for k, v in heavy.items() if k in ("pressure_pa", "relative_pressure")}
+        for k in ("centre", "next_ring", "first_layer", "pore"):
+            out[k] = sum(w * prof[k] for w, prof in profiles)
+        n = len(heavy["layers"])
+
+        def layer(prof, i):
+            own = prof["layers"]
+            return own[-1] if i == n - 1 else own[max(min(i, len(own) - 2), 0)]
+
+        out["layers"] = [sum(w * layer(prof, i) for w, prof in profiles) for i in range(n)]
+        return out
+    return _one_profile(iso)
+
+
+def _one_profile(iso) -> dict[str, np.ndarray]:
+    """`occupancy_profile` of one lattice."""
     labels = iso.stage.orbit_labels()
     occ = iso.equilibrium_occupancy()
     rings = [_ring_number(lab) for lab in labels]

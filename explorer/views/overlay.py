@@ -53,13 +53,12 @@ def display_scale(iso, unit: str, sample: Sample) -> float:
     if unit == PER_NM:
         return 1.0
     from porefill.physics.fitting.model import PER_GRAM_UNITS, unit_factor
-    from porefill.physics.substances.units import AmountBasis
 
     probe = MeasuredRun("unit", "unit", [np.nan], "Pa", [1.0], unit)
     volume = sample.pore_volume_cm3_g
     if unit in PER_GRAM_UNITS and volume is None:
         raise ValueError(f"amounts in {unit} need the sample's pore volume (cm³/g)")
-    per_angstrom = unit_factor(probe, AmountBasis.of(iso.stage.geometry), sample, volume or 1.0)
+    per_angstrom = unit_factor(probe, iso.amount_basis(), sample, volume or 1.0)
     return float(per_angstrom) / 10.0          # per nm = 10 × per Å
 
 

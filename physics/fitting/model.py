@@ -184,17 +184,18 @@ class GeometryReuse:
         self.references: dict = {}
         self.reused = 0
 
-    def stage_for(self, scenario: Scenario):
+    def stage_for(self, scenario: Scenario, rows: int | None = None):
+        """The geometry stage of ``scenario`` (``rows``: as `geometry_stage`), reused or rescaled where it can be."""
         from porefill.physics.lattice_gas.stages import geometry_stage, rescaled_geometry, strength_free_key
 
-        key = strength_free_key(scenario.geometry_key())
+        key = (strength_free_key(scenario.geometry_key()), rows)
         reference = self.references.get(key)
         if reference is not None:
             stage = rescaled_geometry(reference, scenario, self.temperatures_k)
             if stage is not None:
                 self.reused += 1
                 return stage
-        stage = geometry_stage(scenario)
+        stage = geometry_stage(scenario, rows)
         if len(self.references) >= 48:
             self.references.pop(next(iter(self.references)))
         self.references[key] = stage
@@ -207,7 +208,7 @@ def predict(scenario: Scenario, data: tuple[RunData, ...], sample: Sample, *, n_
     """The model along every run for one scenario (its pore volume is not used: see `RunCurve`). The
     branches' jumps are placed between grid points to 2^-bisections of an interval (`porefill.physics.lattice_gas.jumps`; 0:
     left as ramps on the grid). ``geometries``: a fit's `GeometryReuse` (default: the scenario's own stage)."""
-    geometry = geometries.stage_for(scenario) if geometries is not None else None
+    geometry = geometries.stage_for if geometries is not None else None
     isotherms = {t: compute_isotherm(scenario.replace(temperature_k=t), n_points=n_points, pressure_range_pa=r,
                                      geometry=geometry)
                  for t, r in ranges.items()}
@@ -219,7 +220,7 @@ def predict(scenario: Scenario, data: tuple[RunData, ...], sample: Sample, *, n_
             mu, per = (branch_curve(iso, d.branch, bisections=bisections) if bisections
                        else (iso.mu, iso.per_angstrom(d.branch)))
             cache[key] = (np.log(iso.stage.scale.pressure_pa(mu)), per)
-        curves.append(_run_curve(d, *cache[key], AmountBasis.of(iso.stage.geometry), sample))
+        curves.append(_run_curve(d, *cache[key], iso.amount_basis(), sample))
     return tuple(curves)
 
 
@@ -255,7 +256,7 @@ def estimate_pore_volume(iso, runs, sample: Sample, *, bounds: tuple[float, floa
                             noise_relative=noise_relative, noise_floor=noise_floor, gauge_floor_pa=None)
     except ValueError:
         return None
-    log_p, basis = np.log(iso.pressure_pa), AmountBasis.of(iso.stage.geometry)
+    log_p, basis = np.log(iso.pressure_pa), iso.amount_basis()
     curves = tuple(_run_curve(d, log_p, iso.per_angstrom(d.branch), basis, sample) for d in data)
     if not any(np.any(d.has_pressure) for d in data):
         return None
@@ -403,6 +404,6 @@ def simulated_run(scenario: Scenario, *, pressure_pa, leg: str = "adsorption", b
     mu, per = branch_curve(iso, branch or iso.measured_branch(leg), bisections=16)       # jumps where they are, not on the grid
     amount = np.interp(np.log(p), np.log(iso.stage.scale.pressure_pa(mu)), per)
     probe = MeasuredRun(name, source, [np.nan], pressure_unit, [1.0], amount_unit, leg, scenario.temperature_k)
-    values = amount * unit_factor(probe, AmountBasis.of(iso.stage.geometry), sample, sample.pore_volume_cm3_g or 1.0)
+    values = amount * unit_factor(probe, iso.amount_basis(), sample, sample.pore_volume_cm3_g or 1.0)
     shown = from_pascal(p, pressure_unit, p0_pa=iso.stage.saturation_pressure_pa)
     return MeasuredRun(name, source, shown, pressure_unit, values, amount_unit, leg, scenario.temperature_k)

@@ -23,7 +23,7 @@ import numpy as np
 from porefill.physics.fitting import model as fm
 from porefill.physics.lattice_gas.adsorption import compute_isotherm
 from porefill.physics.fitting.params import FREE_PARAMETERS, PARAMETER_UNITS
-from porefill.physics.substances.units import AmountBasis, from_pascal
+from porefill.physics.substances.units import from_pascal
 
 __all__ = ["NOISE_WARNING_REDUCED_CHI2", "NEAR_BOUND_ERRORS", "near_bound", "bound_warning",
            "noise_warning", "build_result", "curves"]
@@ -253,7 +253,7 @@ def curves(result, n_points: int):
         (lo, hi), = fm.pressure_ranges((d,), adsorbate=req.scenario.adsorbate, margin=1.0 + 1e-9).values()
         iso = compute_isotherm(result.scenario.replace(temperature_k=d.temperature_k), n_points=n_points,
                                pressure_range_pa=(lo, hi))
-        amount = iso.per_angstrom(d.branch) * fm.unit_factor(d.run, AmountBasis.of(iso.stage.geometry),
+        amount = iso.per_angstrom(d.branch) * fm.unit_factor(d.run, iso.amount_basis(),
                                                              result.sample, v_p)
         p = iso.pressure_pa
         shown = from_pascal(p, d.run.pressure_unit, p0_pa=iso.stage.saturation_pressure_pa)

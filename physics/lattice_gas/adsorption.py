@@ -55,7 +55,12 @@ class Isotherm:
     # amounts ---------------------------------------------------------------------------------
     @property
     def basis(self) -> AmountBasis:
-        return AmountBasis.of(self.stage.geometry, self.stage.scenario.pore_volume_cm3_g)
+        """What turns atoms per Å into other amounts, with the scenario's pore volume."""
+        return self.amount_basis(self.stage.scenario.pore_volume_cm3_g)
+
+    def amount_basis(self, pore_volume_cm3_g: float | None = None) -> AmountBasis:
+        """`AmountBasis` of this isotherm's pore (its liquid cross-section) with the pore volume given."""
+        return AmountBasis.of(self.stage.geometry, pore_volume_cm3_g)
 
     def branch(self, name: str):
         """'adsorption', 'desorption' or 'equilibrium' (the lowest-Ω state found at each μ)."""
@@ -224,30 +229,58 @@ def default_mu_range(stage: ThermalStage) -> tuple[float, float]:
 def compute_isotherm(scenario: Scenario, *, n_points: int = DEFAULT_POINTS, mu_range: tuple[float, float] | None = None,
                      pressure_range_pa: tuple[float, float] | None = None,
                      relative_pressure_range: tuple[float, float] | None = None,
-                     allow_above_p0: bool = False, geometry=None) -> Isotherm:
+                     allow_above_p0: bool = False, geometry=None, row_blend: bool = True) -> Isotherm:
     """Adsorption and desorption branches of the pore's isotherm on ``n_points`` chemical potentials.
 
     The μ grid is uniform (uniform in log p). One of ``pressure_range_pa`` (Pa), ``relative_pressure_range``
     (p/p0) or ``mu_range`` (K) bounds it; by default it runs from a nearly empty pore to p0. Ranges above p0
-    are refused unless ``allow_above_p0``. ``geometry``: the scenario's geometry stage when the caller holds
-    one (`porefill.physics.lattice_gas.stages.rescaled_geometry`).
+    are refused unless ``allow_above_p0``.
+
+    A pore whose rows do not fit it unstrained is the lever-rule mixture of the two lattices either side
+    (`porefill.physics.lattice_gas.row_blend`; a `BlendedIsotherm`); ``row_blend=False`` keeps the one
+    lattice of round(D/Δ) rows. ``geometry``: the scenario's geometry stage when the caller holds one (one
+    lattice, no blend), or a callable ``(scenario, rows) -> GeometryStage`` that provides them (a fit's
+    `porefill.physics.fitting.model.GeometryReuse.stage_for`).
     """
+    from porefill.physics.lattice_gas.row_blend import blend_isotherms, blend_weights
+    from porefill.physics.lattice_gas.stages import geometry_stage
+
     n_points = check_points(n_points)
     if sum(r is not None for r in (mu_range, pressure_range_pa, relative_pressure_range)) > 1:
         raise ValueError("give at most one of mu_range, pressure_range_pa and relative_pressure_range")
-    stage = thermal_stage(scenario, geometry=geometry)
+    if geometry is not None and not callable(geometry):
+        geometries = [geometry]
+        weights = [1.0]
+    else:
+        provide = geometry if geometry is not None else geometry_stage
+        own = provide(scenario, None)
+        parts = blend_weights(own.row_fraction) if row_blend else ((1.0, own.rows),)
+        geometries = [provide(scenario, rows) for _, rows in parts]
+        weights = [w for w, _ in parts]
+    stages = [thermal_stage(scenario, geometry=g) for g in geometries]
+    scale = stages[0].scale
     if relative_pressure_range is not None:
-        pressure_range_pa = tuple(stage.scale.pressure_from_relative(relative_pressure_range))
+        pressure_range_pa = tuple(scale.pressure_from_relative(relative_pressure_range))
     if pressure_range_pa is not None:
-        lo_p, hi_p = check_pressure_range(*pressure_range_pa, saturation_pressure_pa=stage.saturation_pressure_pa,
+        lo_p, hi_p = check_pressure_range(*pressure_range_pa, saturation_pressure_pa=scale.saturation_pressure_pa,
                                           allow_above_p0=allow_above_p0)
-        mu_range = tuple(float(m) for m in stage.scale.mu_k([lo_p, hi_p]))
-    if mu_range is not None and mu_range[1] > stage.mu_coexistence_k:
-        stage = thermal_stage(scenario, mu_max=mu_range[1], geometry=geometry)   # sites that fill only above p0 must be kept
-    lo, hi = mu_range if mu_range is not None else default_mu_range(stage)
+        mu_range = tuple(float(m) for m in scale.mu_k([lo_p, hi_p]))
+    if mu_range is not None and mu_range[1] > scale.mu_coexistence_k:
+        # sites that fill only above p0 must be kept
+        stages = [thermal_stage(scenario, mu_max=mu_range[1], geometry=g) for g in geometries]
+    if mu_range is not None:
+        lo, hi = mu_range
+    else:
+        lo, hi = min(default_mu_range(s)[0] for s in stages), scale.mu_coexistence_k
     if not (np.isfinite(lo) and np.isfinite(hi) and lo < hi):
         raise ValueError(f"μ range must be finite with low < high; got {lo!r}, {hi!r} K")
     mu = np.linspace(lo, hi, n_points)
+    return blend_isotherms([(w, _isotherm_on_grid(stage, mu)) for w, stage in zip(weights, stages)])
+
+
+def _isotherm_on_grid(stage: ThermalStage, mu: np.ndarray) -> Isotherm:
+    """Both branches, the equilibrium and the steps of one lattice on the μ grid ``mu``."""
+    scenario = stage.scenario
     p = stage.problem
     max_bonds = np.asarray(p.neighbours.sum(axis=1)).ravel()
     ads = solve_branch(mu, p, (mu[0] - p.site_free_energy) / p.temperature_k)

@@ -80,10 +80,47 @@ def _equilibrium_curve(iso, mu: np.ndarray, per: np.ndarray) -> tuple[np.ndarray
     return np.concatenate(xs), np.concatenate(ys)
 
 
+def _limits(x: np.ndarray, y: np.ndarray, at: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Values from the left and from the right at ``at`` of a curve of vertices (``x`` ascending, a riser two
+    vertices at one x), linear between vertices and flat beyond its ends."""
+    first = np.searchsorted(x, at, side="left")
+    last = np.searchsorted(x, at, side="right") - 1
+    on = (first < x.size) & (first <= last)
+    between = np.interp(at, x, y)          # away from risers x is strictly increasing around ``at``
+    left = np.where(on, y[np.minimum(first, x.size - 1)], between)
+    right = np.where(on, y[np.maximum(last, 0)], between)
+    return left, right
+
+
+def _weighted_sum(curves, weights) -> tuple[np.ndarray, np.ndarray]:
+    """Σ w·curve of curves given as vertices (`branch_curve`), as vertices: one at every μ of any of them, two
+    where the sum has a riser."""
+    at = np.unique(np.concatenate([c[0] for c in curves]))
+    left = np.zeros(at.size)
+    right = np.zeros(at.size)
+    for (x, y), w in zip(curves, weights):
+        lo, hi = _limits(np.asarray(x, float), np.asarray(y, float), at)
+        left += w * lo
+        right += w * hi
+    riser = right != left
+    xs = np.repeat(at, np.where(riser, 2, 1))
+    ys = np.empty(xs.size)
+    k = np.cumsum(np.where(riser, 2, 1)) - np.where(riser, 2, 1)
+    ys[k] = left
+    ys[k[riser] + 1] = right[riser]
+    return xs, ys
+
+
 def branch_curve(iso, branch: str, *, bisections: int = _BISECTIONS) -> tuple[np.ndarray, np.ndarray]:
     """(μ, atoms per Å) vertices of ``branch`` of an `Isotherm`, ascending in μ, with a vertical riser (two
     vertices at one μ) at each jump, placed to 2^-bisections of its grid interval. 'equilibrium' is returned
-    with a riser at each first-order step's equilibrium μ (found by root-finding, `porefill.physics.lattice_gas.adsorption`)."""
+    with a riser at each first-order step's equilibrium μ (found by root-finding, `porefill.physics.lattice_gas.adsorption`).
+    A pore between two row counts (`porefill.physics.lattice_gas.row_blend`) gives its lattices' curves summed
+    with their weights."""
+    parts = getattr(iso, "parts", ())
+    if parts:
+        return _weighted_sum([branch_curve(part, branch, bisections=bisections) for _, part in parts],
+                             [w for w, _ in parts])
     mu = iso.mu
     per = iso.per_angstrom(branch)
     if mu.size < 3:

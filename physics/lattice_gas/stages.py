@@ -26,7 +26,7 @@ from porefill.physics.lattice_gas.meanfield import MeanFieldProblem
 from porefill.physics.lattice_gas.wall_spread import wall_spread
 from porefill.physics.scenario import Scenario
 from porefill.physics.sites.site_models import site_model
-from porefill.physics.sites.placement import first_row_distance, place_sites
+from porefill.physics.sites.placement import first_row_distance, place_sites, row_fraction
 from porefill.physics.substances.vapour_pressure import (liquid_number_density, p0_is_extrapolated, saturated_vapour_pressure,
                               temperature_range)
 
@@ -75,6 +75,14 @@ class GeometryStage:
     spacing_angstrom: float
     spacing_note: str
     liquid_density_per_a3: float        # the bulk liquid's, `liquid_number_density`
+    rows: int = 0                       # row steps m between the first row and the centre
+    row_fraction: float = 0.0           # D/Δ, what the pore would hold unstrained (`placement.row_fraction`)
+    rows_forced: bool = False           # m was asked for (a neighbour lattice of a row blend), not round(D/Δ)
+
+    @property
+    def scenario_key(self) -> tuple:
+        """The scenario's geometry key (`Scenario.geometry_key`), without the forced row count."""
+        return self.key[:-1] if self.rows_forced else self.key
 
     @property
     def liquid_area_angstrom2(self) -> float:
@@ -95,7 +103,7 @@ class GeometryStage:
 
 
 @memoize(maxsize=48)
-def _geometry_stage(key: tuple) -> GeometryStage:
+def _geometry_stage(key: tuple, rows: int | None = None) -> GeometryStage:
     scenario = Scenario(**dict(key))
     pore, pair = scenario.pore(), scenario.pair()
     density, source = liquid_number_density(scenario.adsorbate)
@@ -104,7 +112,8 @@ def _geometry_stage(key: tuple) -> GeometryStage:
     else:
         spacing = default_spacing(density)
         note = f"full lattice at the bulk liquid density {density:.5f} Å⁻³ ({source})"
-    placement = place_sites(pore, spacing, first_row_distance(pore, pair))
+    d1 = first_row_distance(pore, pair)
+    placement = place_sites(pore, spacing, d1, rows=rows)
     candidates = lattice_of(pore, placement, spacing)
     orbit = symmetry_orbits(candidates, pore)
     t_min, t_max, _ = temperature_range(scenario.adsorbate)
@@ -112,13 +121,24 @@ def _geometry_stage(key: tuple) -> GeometryStage:
     if placement.area_scale != 1.0:
         note += (f"; rows scaled by s = {np.sqrt(placement.area_scale):.4f} to fit the pore, axial spacing "
                  f"ℓ/s² = {candidates.spacing_angstrom:.4f} Å keeps the cell volume")
-    return GeometryStage(key, pore, pair, get_adsorbate(scenario.adsorbate), candidates, cells, orbit,
-                         float(candidates.spacing_angstrom), note, float(density))
+    forced = rows is not None
+    return GeometryStage(key + ((("rows", int(rows)),) if forced else ()), pore, pair,
+                         get_adsorbate(scenario.adsorbate), candidates, cells, orbit,
+                         float(candidates.spacing_angstrom), note, float(density), placement.rings - 1,
+                         float(row_fraction(pore, spacing, d1)), forced)
 
 
-def geometry_stage(scenario: Scenario) -> GeometryStage:
-    """The geometry stage of a scenario, cached on the inputs it depends on (`Scenario.geometry_key`)."""
-    return _geometry_stage(scenario.geometry_key())
+def geometry_stage(scenario: Scenario, rows: int | None = None) -> GeometryStage:
+    """The geometry stage of a scenario, cached on the inputs it depends on (`Scenario.geometry_key`).
+
+    ``rows``: the number of row steps between the first row and the centre when not the pore's own
+    round(D/Δ) (`porefill.physics.lattice_gas.row_blend` mixes the two lattices either side of D/Δ); asking
+    for the pore's own count returns its own stage.
+    """
+    own = _geometry_stage(scenario.geometry_key())
+    if rows is None or int(rows) == own.rows:
+        return own
+    return _geometry_stage(scenario.geometry_key(), int(rows))
 
 
 def strength_free_key(key: tuple) -> tuple:
@@ -140,9 +160,9 @@ def rescaled_geometry(reference: GeometryStage, scenario: Scenario,
     wall strength (`porefill.physics.fitting`) reuses one geometry per pore this way.
     """
     key = scenario.geometry_key()
-    if key == reference.key:
+    if key == reference.scenario_key:
         return reference
-    if strength_free_key(key) != strength_free_key(reference.key):
+    if strength_free_key(key) != strength_free_key(reference.scenario_key):
         return None
     pair = scenario.pair()
     factor = pair.epsilon_k / reference.pair.epsilon_k
@@ -152,9 +172,10 @@ def rescaled_geometry(reference: GeometryStage, scenario: Scenario,
         return None
     c = reference.cells
     cells = SiteCells(c.group, c.weight, c.potential_k * factor, c.site_group, c.area_angstrom2)
-    return GeometryStage(key, reference.pore, pair, reference.adsorbate, reference.candidates, cells,
-                         reference.orbit, reference.spacing_angstrom, reference.spacing_note,
-                         reference.liquid_density_per_a3)
+    return GeometryStage(key + reference.key[len(reference.scenario_key):], reference.pore, pair,
+                         reference.adsorbate, reference.candidates, cells, reference.orbit,
+                         reference.spacing_angstrom, reference.spacing_note, reference.liquid_density_per_a3,
+                         reference.rows, reference.row_fraction, reference.rows_forced)
 
 
 @dataclass(frozen=True, eq=False)
@@ -211,7 +232,7 @@ def thermal_stage(scenario: Scenario, *, mu_max: float | None = None,
     ``geometry``: the scenario's geometry stage when the caller holds one (`rescaled_geometry`); by default
     `geometry_stage(scenario)`.
     """
-    if geometry is not None and geometry.key != scenario.geometry_key():
+    if geometry is not None and geometry.scenario_key != scenario.geometry_key():
         raise ValueError("the geometry stage given is not the scenario's")
     geo = geometry_stage(scenario) if geometry is None else geometry
     t = scenario.temperature_k

@@ -48,6 +48,8 @@ class Step:
     adsorption_jump_pressure_pa: float | None = None
     desorption_jump_pressure_pa: float | None = None
     identity: str = ""                 # kind and the sites it fills (no counts), numbered when repeated
+    spread_pressure_pa: tuple | None = None   # a pore between two row counts: the two lattices' pressures
+    share: float = 1.0                 # the part of the pore it happens in (a step of one lattice of a blend)
 
     @property
     def where(self) -> str:

@@ -32,7 +32,8 @@ from scipy.optimize import minimize_scalar
 from porefill.physics.substances.materials import PairParameters
 from porefill.physics.pore.wall_potential import wall_potential
 
-__all__ = ["Placement", "place_sites", "first_row_distance", "CYLINDER_RING_FACTOR", "row_change_sizes"]
+__all__ = ["Placement", "place_sites", "first_row_distance", "CYLINDER_RING_FACTOR", "row_change_sizes",
+           "row_fraction"]
 
 ROW = np.sqrt(3.0) / 2.0                                   # row spacing of a triangular lattice / ℓ
 CYLINDER_RING_FACTOR = float(np.sqrt(3.0 * np.sqrt(3.0) / (2.0 * np.pi)))   # ring step / ℓ on circles
@@ -101,6 +102,22 @@ def _rows(depth: float, step: float) -> int:
     return int(np.floor(depth / step + 0.5)) if depth > 0 else 0
 
 
+def _row_step(shape: str, spacing: float) -> float:
+    """Δ, the fluid's own distance between rows (Å) in the placement of ``shape``."""
+    return (CYLINDER_RING_FACTOR if shape == "cylinder" else ROW) * spacing
+
+
+def row_fraction(pore, spacing_angstrom: float, first_row_angstrom: float) -> float:
+    """D/Δ (the slit: 2D/Δ), the number of row steps between the first row and the centre that the pore would
+    hold at the fluid's own row spacing; a whole number where its rows fit unstrained. ``place_sites`` puts
+    round(D/Δ) steps by default."""
+    _, length = _face_cut(pore)
+    depth = max(length - float(first_row_angstrom), 0.0)
+    if pore.shape == "slit":
+        depth *= 2.0
+    return depth / _row_step(pore.shape, float(spacing_angstrom))
+
+
 def _hexagonal_rings(m: int) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Unit triangular lattice (spacing 1, rows along x, a site at the origin) out to hexagonal ring m:
     points (K, 2), ring from the centre j, position along the ring (0 at the corner on +x, 6j per turn),
@@ -120,13 +137,25 @@ def _hexagonal_rings(m: int) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.nda
     return pts, ring, along, pairs
 
 
-def place_sites(pore, spacing_angstrom: float, first_row_angstrom: float) -> Placement:
-    """Sites of a hexagon, cylinder or slit in rows that follow the wall (see the module notes)."""
+def place_sites(pore, spacing_angstrom: float, first_row_angstrom: float, *, rows: int | None = None) -> Placement:
+    """Sites of a hexagon, cylinder or slit in rows that follow the wall (see the module notes).
+
+    ``rows``: the number of row steps m between the first row and the centre, when not round(D/Δ): the
+    neighbouring lattices that `porefill.physics.lattice_gas.row_blend` mixes (strained by D/(mΔ)).
+    """
     ell, d1 = float(spacing_angstrom), float(first_row_angstrom)
     _, length = _face_cut(pore)
     depth = length - d1
+    if rows is not None and (isinstance(rows, bool) or int(rows) != rows or rows < 0):
+        raise ValueError(f"rows must be a whole number >= 0; got {rows!r}")
+    if rows is not None and rows > 0 and depth <= 0:
+        raise ValueError(f"this pore has no room for {rows} row steps (the first row is at its centre)")
+
+    def count(d, step):
+        return _rows(d, step) if rows is None else int(rows)
+
     if pore.shape == "slit":
-        m = _rows(2.0 * depth, ROW * ell)
+        m = count(2.0 * depth, ROW * ell)
         step = 2.0 * depth / m if m else 0.0
         y = -depth + step * np.arange(m + 1) if m else np.zeros(1)
         i = np.arange(y.size)
@@ -134,14 +163,14 @@ def place_sites(pore, spacing_angstrom: float, first_row_angstrom: float) -> Pla
         return Placement(np.zeros_like(y), y, np.minimum(i, m - i), np.zeros(y.size, bool), pairs, m + 1,
                          step, ell, d1)
     if pore.shape == "hexagon":
-        m = _rows(depth, ROW * ell)
+        m = count(depth, ROW * ell)
         step = depth / m if m else 0.0
         pts, j, along, pairs = _hexagonal_rings(m)
         xy = pts * (step / ROW)
         along_step = step / ROW
         scale = (step / (ROW * ell)) ** 2 if m else 1.0
     elif pore.shape == "cylinder":
-        m = _rows(depth, CYLINDER_RING_FACTOR * ell)
+        m = count(depth, CYLINDER_RING_FACTOR * ell)
         step = depth / m if m else 0.0
         _, j, along, pairs = _hexagonal_rings(m)
         theta = np.where(j > 0, 2.0 * np.pi * along / np.maximum(6 * j, 1), 0.0)

@@ -456,7 +456,7 @@ def cached_states(geometry, temperature_k: float) -> CrossSectionStates:
     temperature needs fewer states, and a somewhat higher one is covered while the highest state held keeps
     less than ``_REUSE_FRACTION`` of the ground state's Boltzmann weight there (so a temperature slider
     nudged upwards does not solve again)."""
-    key = geometry.key
+    key = geometry.scenario_key          # the states do not depend on the lattice
     held = _STATES.get(key)
     if held is not None:
         e = held[1].energies_k
