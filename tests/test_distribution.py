@@ -157,8 +157,11 @@ def test_carried_one_size_equals_the_single_pore_isotherm():
     probe = probe[:: max(probe.size // 40, 1)]
     single = simulated_run(he.replace(pore_volume_cm3_g=0.5), pressure_pa=probe, n_points=600)
     carried = np.interp(np.log(probe), np.log(pred.pressure_pa), pred.amount_mmol_g["adsorption"])
-    # away from the steps (where the two grids place a riser a grid step apart) the curves agree
-    steep = np.abs(np.gradient(single.amount, np.log(probe))) > 0.05 * np.max(single.amount)
+    # away from the steps (where the two grids place a riser a grid step apart) the curves agree; a pore
+    # between two row counts has each lattice's steps at that lattice's weight (row_blend), so a step can rise
+    # by a few % of the full pore only: "steep" is 1 % of the full amount per unit of ln p
+    steep = np.abs(np.gradient(single.amount, np.log(probe))) > 0.01 * np.max(single.amount)
+    assert np.count_nonzero(~steep) >= 0.5 * probe.size
     assert np.allclose(carried[~steep], np.asarray(single.amount)[~steep], rtol=2e-3, atol=1e-6)
     # every layer of the one size forms at one pressure: no spread
     for layer in pred.layers:
@@ -259,3 +262,16 @@ def test_points_above_the_largest_pores_filling_are_left_out(kernel):
     assert any("were left out" in n and "above p/p0" in n for n in cut.notes)
     kept = invert(kernel, [rising], bootstrap=0, ceiling=None)
     assert kept.summary["mean"] > plain.summary["mean"]         # the rise pulls volume to the largest sizes
+
+
+@pytest.mark.parametrize("w, median", [
+    ([0.0, 0.0, 1.0, 0.0], 13.0),            # all in the third bin (12.5-13.5 Å): its middle
+    ([0.0, 1.0, 1.0, 0.0], 12.5),            # half and half: the edge between them
+    ([1.0, 0.0, 0.0, 3.0], 13.5 + 1.0 / 3.0),  # empty bins between: a quarter below, the rest in the last bin
+])
+def test_the_median_is_read_in_the_bin_where_half_the_volume_is_reached(w, median):
+    # the median of a histogram: linear within the bin where the cumulative volume crosses one half
+    # (common practice, no source); empty bins before it must not pull it down
+    from porefill.physics.distribution.inversion import _summary
+
+    assert _summary(np.array([11.0, 12.0, 13.0, 14.0]), np.array(w))["median"] == pytest.approx(median, abs=1e-12)

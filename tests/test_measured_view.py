@@ -153,7 +153,7 @@ def test_amounts_are_shown_in_the_files_own_unit():
     np.testing.assert_allclose(y, runs[0].amount, rtol=1e-12)
     branch = iso.measured_branch("adsorption")
     # the pore volume is a Gurvich volume: counted on the cross-section of the liquid a full pore holds
-    expected = amount_mmol_per_g(iso.per_angstrom(branch), cross_section_angstrom2=iso.stage.geometry.liquid_area_angstrom2,
+    expected = amount_mmol_per_g(iso.per_angstrom(branch), cross_section_angstrom2=iso.amount_basis().area_angstrom2,
                                  pore_volume_cm3_g=0.5)
     np.testing.assert_allclose(view._model_src["adsorption"].data["y"], expected, rtol=1e-12)
     # the user's pick holds; per nm draws the model's coverage again

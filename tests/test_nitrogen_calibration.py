@@ -63,11 +63,12 @@ def test_condensation_follows_kelvin_with_a_film(table, diameter_nm):
     assert model == pytest.approx(kjs_condensation_relative_pressure(diameter_nm), abs=0.05)
 
 
-def test_three_nanometre_pore_condenses_low_by_a_known_amount(table):
-    # the known miss: at 3 nm (four molecular diameters across) the lattice condenses at p/p0 ≈ 0.15 against
-    # KJS 0.21. Kept as a test so that a change which widens the miss is seen.
+def test_three_nanometre_pore_condenses_near_kjs_since_the_row_blend(table):
+    # at 3 nm (four molecular diameters across) one rounded lattice condensed at p/p0 ≈ 0.15 against KJS 0.21;
+    # mixed from the lattices either side of its row count (row_blend) it condenses at 0.227, within the
+    # issue's ±0.04 of KJS like the wider pores
     model, _ = table[3]
-    assert 0.13 < model < kjs_condensation_relative_pressure(3)
+    assert model == pytest.approx(kjs_condensation_relative_pressure(3), abs=0.04)
 
 
 def test_stored_wall_factor_condenses_near_kjs():

@@ -19,7 +19,7 @@ from porefill.physics.lattice_gas.steps import find_steps
     Scenario(shape="cylinder", size_angstrom=30.0, adsorbate="nitrogen", temperature_k=77.35),
 ], ids=lambda s: f"{s.shape}-{s.size_angstrom:g}-{s.adsorbate}-{s.temperature_k:g}K")
 def isotherm(request):
-    return compute_isotherm(request.param)
+    return compute_isotherm(request.param, row_blend=False)   # one lattice's steps (blends: test_row_blend)
 
 
 def test_every_step_adds_a_positive_amount(isotherm):
@@ -115,8 +115,8 @@ def test_continuous_steps_do_not_depend_on_the_grid(bond):
     # spacing here is 0.3–1 K, so a grid-bound location would miss by that much)
     sc = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5, bond_energy_k=bond,
                   site_model="classical")
-    coarse = [s.mu_k for s in compute_isotherm(sc, n_points=100).steps if s.kind == "continuous"]
-    fine = [s.mu_k for s in compute_isotherm(sc, n_points=400).steps if s.kind == "continuous"]
+    coarse = [s.mu_k for s in compute_isotherm(sc, n_points=100, row_blend=False).steps if s.kind == "continuous"]
+    fine = [s.mu_k for s in compute_isotherm(sc, n_points=400, row_blend=False).steps if s.kind == "continuous"]
     assert len(coarse) == len(fine) >= 1
     np.testing.assert_allclose(coarse, fine, atol=1e-3)
 
@@ -126,7 +126,7 @@ def test_continuous_step_of_a_langmuir_site_at_its_free_energy():
     # (Langmuir 1918); the located step falls there to 1e-5 K whatever the grid
     sc = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5, bond_energy_k=0.0,
                   site_model="classical")
-    iso = compute_isotherm(sc, n_points=57)
+    iso = compute_isotherm(sc, n_points=57, row_blend=False)
     first = iso.steps[0]
     f = iso.stage.problem.site_free_energy
     assert first.mu_k == pytest.approx(float(f.min()), abs=1e-5)

@@ -22,7 +22,7 @@ from porefill.physics.lattice_gas.bond import calibration_facts, default_bond_ru
 from porefill.physics.lattice_gas.branches import branch_notes, branch_rule, measured_branches
 from porefill.physics.substances.units import particle_word
 
-__all__ = ["calibration", "calibration_note", "isotherm_json", "step_json", "isotherm_csv", "isotherm_summary", "model_description", "amount_labels",
+__all__ = ["calibration", "calibration_note", "site_rows", "isotherm_json", "step_json", "isotherm_csv", "isotherm_summary", "model_description", "amount_labels",
            "branch_columns", "EXPORTED_BRANCHES", "exported_branches", "csv_header_lines"]
 
 # export key: (leg a measurement follows, or None for a model branch named outright; the raw branch; meaning)
@@ -65,6 +65,7 @@ def model_description(iso: Isotherm) -> dict:
         "lattice_spacing_angstrom": s.spacing_angstrom,
         "lattice_spacing_rule": s.spacing_note,
         "sites_per_slice": float(s.problem.weights.sum()),
+        "site_rows": site_rows(iso),
         "pore_volume_basis": pore_volume_basis(iso),
         "pair": s.geometry.pair.to_dict(),
         "wall_spread": spread_description(sc.adsorbate, sc.solid),
@@ -74,6 +75,16 @@ def model_description(iso: Isotherm) -> dict:
         "measured_branches": measured_branches(sc.pore_ends, sc.adsorbate),
         "branch_notes": branch_notes(iso),
     }
+
+
+def site_rows(iso: Isotherm) -> dict:
+    """The rows of sites: D/Δ (row steps of the fluid's spacing between the first row and the centre) and
+    the lattice(s) computed, with their weights (`porefill.physics.lattice_gas.row_blend`). Sites and their
+    free energies in this file are the first (heavier) lattice's."""
+    g = iso.stage.geometry
+    return {"row_fraction": g.row_fraction, "note": iso.row_note,
+            "lattices": [{"row_steps": part.stage.geometry.rows, "weight": w,
+                          "sites_per_slice": float(part.stage.problem.weights.sum())} for w, part in iso.lattices]}
 
 
 def pore_volume_basis(iso: Isotherm) -> dict:
@@ -226,6 +237,7 @@ def isotherm_summary(iso: Isotherm) -> str:
              + ("" if sc.effective_wall_angstrom is None else f", walls {sc.wall_angstrom:g} Å"),
              f"p0 = {s.saturation_pressure_pa:.6g} Pa{p0_note}; {s.bond_note}; lattice spacing "
              f"{s.spacing_angstrom:.4g} Å ({s.problem.weights.sum():g} sites per slice); site model {sc.site_model_used}",
+             f"rows of sites: {iso.row_note}",
              "", f"{'step':>4}  {'kind':<11} {'mu (K)':>9} {'p (Pa)':>11} {'p/p0':>10} "
                  f"{'adds (' + labels['short'] + ')':>16}  {'hysteresis (Pa)':<21}  where"]
     for i, st in enumerate(iso.steps, 1):

@@ -78,6 +78,7 @@ def _inputs(doc, iso) -> str:
              temperature_range(sc.adsorbate)[2]],
             ["bond energy ε_b", setup.bond_note, "given" if sc.bond_energy_k is not None else "porefill's rule"],
             ["lattice spacing", f"{setup.spacing_angstrom:.4f} Å", setup.geometry.spacing_note],
+            ["rows of sites", f"{setup.geometry.row_fraction:.3f} row steps", iso.row_note],
             ["site model", sc.site_model_used, given if sc.site_model else "porefill's default for the gas"],
             ["pore volume", "—" if sc.pore_volume_cm3_g is None else f"{sc.pore_volume_cm3_g:g} cm³/g",
              given if sc.pore_volume_cm3_g is not None else "not given"]]

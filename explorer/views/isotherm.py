@@ -365,7 +365,8 @@ class IsothermView(pn.viewable.Viewer):
                 f"(p/p₀ = {iso.relative_pressure[k]:.3g}, μ = {iso.mu[k]:.2f} K): "
                 f"{total:.2f} {html.escape(words['coverage'].replace(' of pore length', ''))}; central channel "
                 f"occupancy {centre:.3f}, i.e. {centre * 10.0 / iso.setup.spacing_angstrom:.2f} "
-                f"{words['particles']} per nm along it</p>")
+                f"{words['particles']} per nm along it"
+                + (f". Sites: {html.escape(iso.row_note)}" if len(iso.lattices) > 1 else "") + "</p>")
 
     def _on_tap(self, event):
         iso = self._iso

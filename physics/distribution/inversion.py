@@ -173,8 +173,11 @@ def _summary(s: np.ndarray, w: np.ndarray) -> dict:
     mean = float(w @ s / total)
     edges = bin_edges(s)
     cum = np.concatenate([[0.0], np.cumsum(w) / total])       # at the bins' edges
-    keep = np.concatenate([[True], np.diff(cum) > 0])          # flat stretches would make the median ambiguous
-    return {"total_cm3_g": total, "mean": mean, "median": float(np.interp(0.5, cum[keep], edges[keep])),
+    # the median lies in the first bin where the cumulative volume reaches one half, linear across that bin
+    # (bins before it may be empty: interpolating over the whole cumulative curve would straddle them)
+    i = int(min(max(np.searchsorted(cum, 0.5, side="left"), 1), cum.size - 1))
+    median = edges[i - 1] + (0.5 - cum[i - 1]) / (cum[i] - cum[i - 1]) * (edges[i] - edges[i - 1])
+    return {"total_cm3_g": total, "mean": mean, "median": float(median),
             "mode": float(s[int(np.argmax(w))]), "width": float(np.sqrt(w @ (s - mean) ** 2 / total))}
 
 

@@ -43,6 +43,21 @@ class Isotherm:
     def setup(self) -> ThermalStage:   # the name views and exports use
         return self.stage
 
+    @property
+    def lattices(self) -> tuple:
+        """((weight, Isotherm), ...) of the lattices it is made of: itself alone, or the two of a pore between
+        two row counts (`porefill.physics.lattice_gas.row_blend`)."""
+        return ((1.0, self),)
+
+    @property
+    def row_note(self) -> str:
+        """One sentence on the rows of sites the isotherm was computed with."""
+        g = self.stage.geometry
+        if abs(g.row_fraction - g.rows) <= 1e-9:
+            return f"{g.rows} row steps between the first row and the centre fit the pore at the fluid's spacing"
+        return (f"one lattice of {g.rows} row steps, strained to fit {g.row_fraction:.3f} steps of the fluid's "
+                "spacing (rounded; not mixed with its neighbour)")
+
     # pressures -------------------------------------------------------------------------------
     @property
     def pressure_pa(self) -> np.ndarray:

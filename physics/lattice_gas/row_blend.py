@@ -62,6 +62,10 @@ class BlendedIsotherm(Isotherm):
     parts: tuple = ()                  # ((weight, Isotherm), ...), heavier first, weights summing to 1
 
     @property
+    def lattices(self) -> tuple:
+        return self.parts
+
+    @property
     def row_note(self) -> str:
         """One sentence on the mixture, for exports and the page."""
         words = [f"{w:.0%} with {iso.stage.geometry.rows} row steps" for w, iso in self.parts]
@@ -113,7 +117,8 @@ def _merge(pair: list[tuple[float, Step]], scale) -> Step:
     p = float(scale.pressure_pa(mu))
 
     def loop_end(name):
-        values = [getattr(s, name) for _, s in pair]
+        # a continuous step has no loop: both its ends are its own μ
+        values = [s.mu_k if s.kind == "continuous" else getattr(s, name) for _, s in pair]
         return None if any(v is None for v in values) else float(sum(w * v for (w, _), v in zip(pair, values)))
 
     ads, des = loop_end("adsorption_jump_mu_k"), loop_end("desorption_jump_mu_k")

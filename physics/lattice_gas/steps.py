@@ -55,12 +55,24 @@ class Step:
     def where(self) -> str:
         """The sites the step fills with their counts, e.g. 'corner (6), face (12)'; 'spread' when no orbit
         fills on its own. The step table, the CSV summary, the report and the page all show this."""
-        return ", ".join(f"{name} ({count:g})" for name, count in self.filling) or "spread"
+        where = ", ".join(f"{name} ({count:g})" for name, count in self.filling) or "spread"
+        return where + self.blend_words
+
+    @property
+    def blend_words(self) -> str:
+        """'' for a step of one lattice; for a pore between two row counts (`porefill.physics.lattice_gas.row_blend`)
+        the pressures of its two lattices, or the part of the pore a step of one of them stands for."""
+        if self.share < 1.0:
+            return f"; in {self.share:.0%} of the pore (one of its two lattices)"
+        if self.spread_pressure_pa is not None:
+            lo, hi = self.spread_pressure_pa
+            return f"; its two lattices {lo:.3g}–{hi:.3g} Pa"
+        return ""
 
     @property
     def label(self) -> str:
         where = ", ".join(f"{name} ({count:g} sites)" for name, count in self.filling) or "spread over the pore"
-        return f"{where}: {self.kind}"
+        return f"{where}: {self.kind}{self.blend_words}"
 
     def to_dict(self) -> dict:
         d = asdict(self)
