@@ -255,8 +255,11 @@ def test_ctrl_c_is_one_line_and_exit_130(tmp_path):
     from pathlib import Path
 
     exe = Path(sys.executable).with_name("porefill")
+    # a shell starts a background job with SIGINT ignored, and a child inherits that: give it the default back,
+    # as a terminal's foreground command has it
     proc = subprocess.Popen([str(exe), "isotherm", "--temperature", "1.5", "--size", "50", "--points", "5000"],
-                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                            preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
     time.sleep(4.0)                      # past the imports, inside the computation
     assert proc.poll() is None, proc.communicate()
     proc.send_signal(signal.SIGINT)

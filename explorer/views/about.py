@@ -44,8 +44,11 @@ A lattice gas fills the pore cross-section and is solved in mean field (lattice 
 Its sites sit in rows that follow the wall: the first row in the wall potential's well at every size (corners
 included), the inner rows at the liquid's spacing to within a few per cent, the centre taking what is left;
 each site has 8 neighbours (6 in the cross-section, 2 along the axis) and each cell holds the liquid's volume
-per atom. A new row enters where the room between the first row and the centre grows by one row spacing:
-that is a real step in how the isotherm changes with pore size. Each site's free energy is the wall potential's
+per atom. The rows fit a pore unstrained only where the room between the first row and the centre is a whole
+number of row spacings; a pore in between is computed as the mixture of the two lattices either side (m rows
+stretched and m + 1 compressed, weighted by where the size lies between them: a lever rule), so the isotherm and
+its steps move smoothly with pore size. Each listed step names the pressures of its two lattices; a step that
+only one of them has says the part of the pore it stands for; maps show the heavier lattice. Each site's free energy is the wall potential's
 Boltzmann factor integrated over its cell (converged at every temperature, so the low-pressure limit equals the
 exact Henry constant); sites that can never fill are left out. The adsorption branch is followed up from an empty
 pore, the desorption branch down from a full one; first-order steps sit where their grand potentials cross.

@@ -17,7 +17,9 @@ Scaling the rows by s changes the mean cell area by s²; the axial spacing becom
 the fluid's volume and a full pore the liquid's density at every size (the slit keeps ℓ: its rows' bands
 simply differ from ℓ√3/2 by the same 1/(2m)).
 
-A new row enters where D/Δ passes k + ½: that is a real step in the sizing (`row_change_sizes`).
+Rounding D/Δ changes the lattice where D/Δ passes k + ½ (`row_change_sizes`); a pore between two whole
+numbers of rows is computed as the mixture of the lattices of ⌊D/Δ⌋ and ⌊D/Δ⌋ + 1 row steps (``rows``,
+`row_fraction`; `porefill.physics.lattice_gas.row_blend`), so no result jumps there.
 Each site's cell is its row's band (bounded half-way to the next row; the first row's band reaches the
 wall, the centre's the centre) cut half-way between neighbouring sites of the row: these cells tile the
 pore exactly (`porefill.physics.sites.cells` integrates over them).
