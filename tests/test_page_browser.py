@@ -285,3 +285,91 @@ def test_the_map_grows_on_a_large_screen_and_keeps_its_scale(page, tmp_path):
         page.wait_for_timeout(1000)
         assert page.evaluate("() => document.scrollingElement.scrollWidth <= document.scrollingElement.clientWidth"), tab
     assert page.console_errors == []
+
+
+# a map's frame in px and its ranges in Å, from Bokeh's own view of the plot (found by the start of its title)
+FRAME_OF = """(title) => {
+  for (const v of Bokeh.index.query((v) => v.model.type == "Figure")) {
+    if (!v.model.title || !v.model.title.text.startsWith(title) || v.el.offsetParent === null) continue;
+    const f = v.frame;
+    return {width: f.bbox.width, height: f.bbox.height, x: f.x_range.end - f.x_range.start,
+            y: f.y_range.end - f.y_range.start};
+  }
+  return null;
+}"""
+FIGURE_EL = """(title) => Array.from(Bokeh.index.query((v) => v.model.type == "Figure" && v.model.title != null
+    && v.model.title.text.startsWith(title) && v.el.offsetParent !== null)).map((v) => v.el)[0]"""
+
+
+def _one_scale(frame: dict) -> bool:
+    """px per Å along x and along y equal within 1 % (a map drawn stretched would mislead)."""
+    per_x, per_y = frame["width"] / frame["x"], frame["height"] / frame["y"]
+    return abs(per_x - per_y) <= 0.01 * per_x
+
+
+def _drawn_spread(page, title: str, path) -> float:
+    """The spread (standard deviation, 0–255) of the grey levels in the middle half of a figure as a
+    screenshot shows it: a plot whose layout never got its size leaves that part of its canvas blank (0)."""
+    import io
+
+    import numpy as np
+    from PIL import Image
+
+    element = page.evaluate_handle(FIGURE_EL, title).as_element()
+    assert element is not None, title
+    png = element.screenshot(path=str(path))
+    grey = np.asarray(Image.open(io.BytesIO(png)).convert("L"), dtype=float)
+    h, w = grey.shape
+    return float(grey[h // 4: 3 * h // 4, w // 4: 3 * w // 4].std())
+
+
+def test_the_occupancy_map_grows_on_a_row_of_its_own_and_keeps_its_scale(page, tmp_path):
+    # issue 21: the occupancy map kept a fixed 290 px frame; it grows now at one scale on both axes, on a row
+    # of its own beside the steps table, so that the isotherm and dN/dμ keep their width at 1920 px (sharing
+    # their row with the grown map left them 556 px), and at 1024 × 768 nothing scrolls sideways
+    page.locator(".porefill-steps table").first.wait_for(timeout=60_000)
+    page.locator(".porefill-occupancy-map canvas").first.wait_for(timeout=60_000)
+    widths, frames = {}, {}
+    for width, height in ((1024, 768), (1400, 900), (1920, 1080)):
+        page.set_viewport_size({"width": width, "height": height})
+        page.wait_for_timeout(1500)
+        widths[width] = {s: _canvas_width(page, s) for s in (".porefill-occupancy-map", ".porefill-isotherm",
+                                                              ".porefill-compressibility")}
+        frames[width] = page.evaluate(FRAME_OF, "Site occupancy")
+        page.locator(".porefill-occupancy-map").first.screenshot(path=str(tmp_path / f"occupancy-{width}.png"))
+        box = page.locator(".porefill-occupancy-map").first.bounding_box()
+        assert box["x"] + box["width"] <= width + 1, width
+        assert _page_wider_than_window(page) <= 1, width
+    print(f"canvas widths (px): {widths}; occupancy frames: {frames}; screenshots in {tmp_path}")
+    assert widths[1920][".porefill-occupancy-map"] > widths[1024][".porefill-occupancy-map"] + 100, widths
+    assert all(_one_scale(f) for f in frames.values()), frames
+    assert widths[1920][".porefill-isotherm"] >= 600 and widths[1920][".porefill-compressibility"] >= 600, widths
+    assert page.console_errors == []
+
+
+def test_the_quantum_map_grows_is_drawn_and_keeps_its_scale(page, tmp_path):
+    # issue 21: the Quantum states tab's probability map kept a fixed frame; grown in a layout added to the
+    # page with the first result, the map and the comparison drew as empty canvases, so this test looks at
+    # what is painted inside each, not only at the size of its box
+    page.locator(".porefill-steps table").first.wait_for(timeout=60_000)
+    page.get_by_role("tab", name="Quantum states").click()
+    page.locator(".porefill-shift-table").first.wait_for(timeout=180_000)
+    titles = ("One-atom probability density", "Equilibrium isotherm, both site models")
+    widths, frames, spread = {}, {}, {}
+    for width, height in ((1024, 768), (1400, 900), (1920, 1080)):
+        page.set_viewport_size({"width": width, "height": height})
+        page.wait_for_timeout(1500)
+        widths[width] = page.evaluate_handle(FIGURE_EL, titles[0]).as_element().bounding_box()["width"]
+        frames[width] = {t: page.evaluate(FRAME_OF, t) for t in titles}
+        spread[width] = {t: _drawn_spread(page, t, tmp_path / f"quantum-{t[:8]}-{width}.png") for t in titles}
+        assert _page_wider_than_window(page) <= 1, width
+    print(f"quantum map canvas widths (px): {widths}; frames: {frames}; grey-level spread: {spread}; "
+          f"screenshots in {tmp_path}")
+    assert widths[1920] > widths[1024] + 100, widths
+    for width in frames:
+        for title in titles:
+            assert frames[width][title]["width"] > 200 and frames[width][title]["height"] > 100, frames
+            # a drawn map or curve: far from the blank canvas's 0 (common practice, no source)
+            assert spread[width][title] > 10, spread
+        assert _one_scale(frames[width][titles[0]]), frames
+    assert page.console_errors == []
