@@ -115,8 +115,10 @@ class IsothermView(pn.viewable.Viewer):
         self._iso: Isotherm | None = None
         self._shown: Scenario | None = None       # inputs of the isotherm on show (None: nothing shown)
         self._wanted: Scenario | None = None      # inputs of the newest request
+        self._asked = 0                           # inputs asked for, one per change (cached or computed)
         self._pick_log10 = -1.0
-        # a slider's arrow key pressed again and again: the first and the last position are computed
+        # requests in a burst (two drags released in quick succession): the first and the last are computed;
+        # a burst of slider keys reaches the server as its last position only (slider_keys.py)
         self._runner = LatestRunner("isotherm", name="isotherm", settle_s=SLIDER_SETTLE_S)
         self.listeners: list = []      # called with (scenario, isotherm or None) whenever what is shown changes
         self._redraw()
@@ -202,6 +204,7 @@ class IsothermView(pn.viewable.Viewer):
         if self._wanted is not None and _key(sc) == _key(self._wanted):
             return                                   # already asked for (e.g. adsorbate, then its temperature)
         self._wanted = sc
+        self._asked += 1
         if self._shown is not None and _key(sc) == _key(self._shown):
             self._runner.generation += 1             # whatever is on its way is for other inputs
             self._set_loading(False)
@@ -272,8 +275,10 @@ class IsothermView(pn.viewable.Viewer):
             self._p0_span[1].location = iso.setup.mu_coexistence_k
             self._p0_span[2].location = 1.0
             notes = "".join(f"<li>{html.escape(n)}</li>" for n in branch_notes(iso))
-            # data-computed: isotherms this page has started computing (the browser tests read it)
-            self._iso_caption.object = (f"<p data-computed='{self._runner.started}'>For {label}. Dashed line: p₀.</p>"
+            # data-computed: isotherms this page has started computing; data-asked: the inputs it was asked to
+            # show, from this server's recent isotherms or computed (the browser tests read both)
+            self._iso_caption.object = (f"<p data-computed='{self._runner.started}' data-asked='{self._asked}'>"
+                                        f"For {label}. Dashed line: p₀.</p>"
                                         f"<ul class='porefill-branch-notes'>{notes}</ul>")
             self._table.object = self._steps_table(iso, label)
             lines = outline(sc)
