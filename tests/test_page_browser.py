@@ -134,10 +134,11 @@ def test_arrow_keys_at_a_persons_pace_compute_only_where_they_stop(page):
     page.wait_for_timeout(1000)
     before = _counts(caption)
     size_before = float(slider_title(page, "Side length").split(":")[-1])
-    # the presses are timed by the page's own clock (explorer/server/testing.py: press_keys)
-    pressed, titles = press_keys(slider_handle(page, "Side length"), "ArrowRight", [200, 100, 250, 150, 180])
+    # the presses are timed by the page's own clock (explorer/server/testing.py: press_keys); down, to sizes
+    # the other tests leave alone, so that the last one is computed here
+    pressed, titles = press_keys(slider_handle(page, "Side length"), "ArrowLeft", [200, 100, 250, 150, 180])
     sizes = [float(t.split(":")[-1]) for t in titles]
-    assert sizes == pytest.approx([size_before + 0.5 * k for k in range(1, 7)]), titles
+    assert sizes == pytest.approx([size_before - 0.5 * k for k in range(1, 7)]), titles
     size_after = sizes[-1]
     counts = _settled_count(page, caption, size_after, before)
     print(f"gaps between presses (ms): {[round(b - a) for a, b in zip(pressed, pressed[1:])]}; {counts}")
