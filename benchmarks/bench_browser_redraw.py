@@ -5,7 +5,10 @@ times and records when its frame (header, tab strip, controls) and its first plo
 in ms after navigation start (the server warm, the demo's isotherm already computed once); then drags the
 side-length slider back and forth and, for each release, records when the readout text changed and
 when the map canvas's pixels changed; then drags the temperature slider and records when both the isotherm
-plot's pixels and the steps table had changed. Run: .venv/bin/python benchmarks/bench_browser_redraw.py
+plot's pixels and the steps table had changed; then presses the side-length slider's arrow key in bursts at a
+person's pace (4 presses, 150 ms apart, on the page's clock) and records, for each burst, the positions the
+server was asked for and the time from the last press to the redrawn map (a key burst is sent once no key
+has come for 0.3 s: explorer/views/slider_keys.py). Run: .venv/bin/python benchmarks/bench_browser_redraw.py
 
 ``--contention`` measures instead session B's map redraw while session A keeps asking for isotherms of
 60–100 Å pores, once with the isotherms in worker processes and once in threads
@@ -24,8 +27,8 @@ from pathlib import Path
 
 from playwright.sync_api import sync_playwright
 
-from porefill.explorer.server.testing import (drag_handle, first_seen, readout_text, record_first_seen, slider_handle,
-                                              text_of)
+from porefill.explorer.server.testing import (drag_handle, first_seen, press_keys, readout_text, record_first_seen,
+                                              slider_handle, text_of)
 
 ROOT = Path(__file__).resolve().parents[1]
 ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update",
@@ -139,6 +142,7 @@ def main(reps: int = 12) -> None:
                         iso_ms.append(1e3 * (time.perf_counter() - released))
                         break
                 page.wait_for_timeout(500)
+            burst_ms, burst_asked = key_bursts(page, max(4, reps // 3))
             browser.close()
     finally:
         proc.terminate()
@@ -154,6 +158,29 @@ def main(reps: int = 12) -> None:
     print(json.dumps({"benchmark": "browser_temperature_release_to_redrawn_isotherm_and_steps",
                       "median_ms": round(statistics.median(iso_ms), 1), "max_ms": round(max(iso_ms), 1),
                       "n": len(iso_ms), "of": reps}))
+    print(json.dumps({"benchmark": "browser_key_burst_last_press_to_redrawn_map", "presses": 4, "gap_ms": 150,
+                      "median_ms": round(statistics.median(burst_ms), 1), "max_ms": round(max(burst_ms), 1),
+                      "n": len(burst_ms), "positions_asked_per_burst": burst_asked}))
+
+
+def key_bursts(page, bursts: int) -> tuple[list[float], list[int]]:
+    """Bursts of four arrow-key presses 150 ms apart on the side-length slider, right then left: ms from the
+    last press to the changed map pixels (both on the page's clock), and the positions each burst asked for."""
+    caption = page.locator(".porefill-isotherm-caption p").first
+    times, asked = [], []
+    for i in range(bursts):
+        before_sig = map_signature(page)
+        before = int(caption.get_attribute("data-asked"))
+        pressed, _ = press_keys(slider_handle(page, "Side length"), "ArrowRight" if i % 2 == 0 else "ArrowLeft",
+                                [150, 150, 150])
+        deadline = time.perf_counter() + 15
+        while time.perf_counter() < deadline:
+            if map_signature(page) != before_sig:
+                times.append(page.evaluate("() => performance.now()") - pressed[-1])
+                break
+        page.wait_for_timeout(1500)         # the isotherm too, before the next burst
+        asked.append(int(caption.get_attribute("data-asked")) - before)
+    return times, asked
 
 
 def map_redraw_ms(page, dx: float) -> float | None:

@@ -55,6 +55,36 @@ def wait_for_readout_change(page, before: str, timeout_s: float = 20.0) -> float
     return wait_for_text_change(page, READOUT, before, timeout_s)
 
 
+# a key on a focused slider handle, once at once and once after each gap (ms): every press is set on the
+# page's clock beforehand, as a person's keys are (Playwright's round trip per key can take longer than a
+# person's pace on a busy machine); after each press, the page's time (ms) and the slider's title
+_PRESS_KEYS = """(handle, [key, gaps]) => new Promise((done) => {
+  const times = [], titles = [];
+  const title = handle.getRootNode().querySelector(".bk-slider-title");
+  const codes = {ArrowRight: 39, ArrowLeft: 37, ArrowUp: 38, ArrowDown: 40};
+  const press = () => {
+    times.push(performance.now());
+    for (const type of ["keydown", "keyup"])
+      handle.dispatchEvent(new KeyboardEvent(type, {key, code: key, keyCode: codes[key], which: codes[key],
+                                                    bubbles: true, composed: true}));
+    titles.push(title ? title.textContent : "");
+    if (times.length > gaps.length) done([times, titles]);
+  };
+  let at = 0;
+  setTimeout(press, 0);
+  for (const gap of gaps) { at += gap; setTimeout(press, at); }
+})"""
+
+
+def press_keys(handle, key: str, gaps_ms) -> tuple[list[float], list[str]]:
+    """Press ``key`` (``ArrowRight``, ``ArrowLeft``, ...) on a focused slider ``handle`` once at once and once
+    after each of ``gaps_ms``, timed by the page's own clock; return the page's times of the presses (ms,
+    ``performance.now()``) and the slider's title after each."""
+    handle.focus()
+    times, titles = handle.evaluate(_PRESS_KEYS, [key, list(gaps_ms)])
+    return times, titles
+
+
 LOADING = "pn-loading"      # the class Panel 1.9 puts on a component while its `loading` is True
 
 

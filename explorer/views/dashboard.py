@@ -18,6 +18,7 @@ from porefill.explorer.views.measured import MeasuredView
 from porefill.explorer.views.quantum import QuantumView
 from porefill.explorer.views.scenario_io import ScenarioIO
 from porefill.explorer.views.sizing import SizingView
+from porefill.explorer.views.slider_keys import coalesce_slider_keys
 from porefill.explorer.views.tab_keys import make_tabs_accessible
 
 __all__ = ["create_app"]
@@ -132,6 +133,7 @@ def create_app(scenario: Scenario | ScenarioDocument | None = None) -> pn.viewab
     scenario_io.show_tab(doc.view.tab)
     scenario_io.sync_url()             # the link carries the inputs; a link's own values are checked first
     make_tabs_accessible(pn.state.curdoc)     # roles and arrow keys once the page is drawn
+    coalesce_slider_keys(pn.state.curdoc)     # a burst of slider keys sends its last value only
     head = header(state.title)         # a link's values may have retitled it; follows every later title
     state.param.watch(lambda event: head.param.update(object=header(event.new).object), "title")
 

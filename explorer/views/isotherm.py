@@ -26,7 +26,7 @@ from porefill.physics.scenario import Scenario
 from porefill.explorer.jobs.compute import SLIDER_SETTLE_S, LatestRunner, isotherm_job, short_error
 from porefill.explorer.outputs.isotherm_export import amount_labels, calibration_note, isotherm_csv
 from porefill.explorer.views.state import ExplorerState, describe
-from porefill.explorer.views.potential import FRAME, GROW_MIN, growing_box, outline
+from porefill.explorer.views.potential import FRAME, GROW_MIN, MAP_MIN, fit_map, growing_box, map_figure, outline
 from porefill.explorer.views.ticks import readable_log_axes
 
 ADS_COLOUR, DES_COLOUR, EQ_COLOUR = "#1b6ca8", "#d1495b", "#333333"
@@ -35,6 +35,7 @@ MODEL_KEYS = ["shape", "size_angstrom", "wall_angstrom", "isolated", "adsorbate"
 # a change of these moves the pressure range so much that the picked pressure starts afresh
 RANGE_KEYS = ("shape", "adsorbate", "temperature_k")
 PICK_FRACTION = 0.8      # where in the log-pressure range the occupancy map starts: the upper layers
+TABLE_MIN = 380          # px: the steps table beside the occupancy map at its narrowest, else below it
 
 _recent = BoundedCache(16)       # isotherms this server has shown lately (porefill.physics.caching)
 
@@ -96,7 +97,7 @@ class IsothermView(pn.viewable.Viewer):
         self._iso_caption = pn.pane.HTML("", css_classes=["porefill-caption", "porefill-isotherm-caption"],
                                          width=FRAME + 60, styles={"font-size": "13px"})
         self._table = pn.pane.HTML("", css_classes=["porefill-steps"], sizing_mode="stretch_width")
-        self._occ_text = pn.pane.HTML("", css_classes=["porefill-occupancy"], width=FRAME + 60,
+        self._occ_text = pn.pane.HTML("", css_classes=["porefill-occupancy"], sizing_mode="stretch_width",
                                       styles={"font-size": "13px"})
         self.download = pn.widgets.FileDownload(callback=self.csv_file, filename="isotherm.csv",
                                                 label="Download the isotherm (CSV)", width=260)
@@ -104,17 +105,20 @@ class IsothermView(pn.viewable.Viewer):
                                     self.branch, *(pn.pane.Bokeh(f, sizing_mode="stretch_width")
                                                    for f in (self._fig_p, self._fig_rel, self._fig_mu)),
                                     css_class="porefill-isotherm")
-        self._occ_box = pn.Column(self.pick, pn.pane.Bokeh(self._fig_occ), self._occ_text,
-                                  css_classes=["porefill-occupancy-map"])
+        self._occ_box = growing_box(self.pick, pn.pane.Bokeh(self._fig_occ, sizing_mode="stretch_width"),
+                                    self._occ_text, css_class="porefill-occupancy-map", min_px=MAP_MIN)
         self._k_box = growing_box(pn.pane.Bokeh(self._fig_k, sizing_mode="stretch_width"),
                                   css_class="porefill-compressibility")
         self._table_box = pn.Column(self._table, self.download, sizing_mode="stretch_width",
-                                    css_classes=["porefill-steps-box"])
+                                    css_classes=["porefill-steps-box"],
+                                    styles={"flex": f"1 1 {TABLE_MIN}px", "min-width": f"{TABLE_MIN}px"})
         self._iso: Isotherm | None = None
         self._shown: Scenario | None = None       # inputs of the isotherm on show (None: nothing shown)
         self._wanted: Scenario | None = None      # inputs of the newest request
+        self._asked = 0                           # inputs asked for, one per change (cached or computed)
         self._pick_log10 = -1.0
-        # a slider's arrow key pressed again and again: the first and the last position are computed
+        # requests in a burst (two drags released in quick succession): the first and the last are computed;
+        # a burst of slider keys reaches the server as its last position only (slider_keys.py)
         self._runner = LatestRunner("isotherm", name="isotherm", settle_s=SLIDER_SETTLE_S)
         self.listeners: list = []      # called with (scenario, isotherm or None) whenever what is shown changes
         self._redraw()
@@ -176,12 +180,14 @@ class IsothermView(pn.viewable.Viewer):
 
     def _occupancy_figure(self):
         self._occ_mapper = LinearColorMapper(palette=Cividis256, low=0.0, high=1.0)
-        fig = figure(title="Site occupancy", x_axis_label="x (Å)", y_axis_label="y (Å)", frame_width=FRAME,
-                     frame_height=FRAME, match_aspect=True, x_range=Range1d(-1, 1), y_range=Range1d(-1, 1),
-                     tools="pan,wheel_zoom,reset,save,hover", toolbar_location="above",
-                     tooltips=[("site", "@where"), ("occupancy", "@occ{0.000}"), ("x, y (Å)", "@x{0.0}, @y{0.0}")])
-        self._site_glyph = fig.scatter("x", "y", source=self._sites, size=10, line_color="#444444",
-                                       fill_color={"field": "occ", "transform": self._occ_mapper})
+        # grows with its box at one scale on both axes (explorer/views/potential.py: map_figure); the ranges
+        # follow the outline with a margin, and the sites are drawn in Å, so they grow with the map
+        fig = map_figure(title="Site occupancy", x_axis_label="x (Å)", y_axis_label="y (Å)",
+                         tools="pan,wheel_zoom,reset,save,hover", toolbar_location="above",
+                         tooltips=[("site", "@where"), ("occupancy", "@occ{0.000}"), ("x, y (Å)", "@x{0.0}, @y{0.0}")])
+        fig.x_range.range_padding = fig.y_range.range_padding = 0.05
+        self._site_glyph = fig.circle("x", "y", source=self._sites, radius=1.0, line_color="#444444",
+                                      fill_color={"field": "occ", "transform": self._occ_mapper})
         fig.multi_line(xs="xs", ys="ys", source=self._outline, line_color="black", line_width=2)
         fig.add_layout(ColorBar(color_mapper=self._occ_mapper, title="occupancy", height=10,
                                 orientation="horizontal", title_standoff=4), "below")
@@ -198,6 +204,7 @@ class IsothermView(pn.viewable.Viewer):
         if self._wanted is not None and _key(sc) == _key(self._wanted):
             return                                   # already asked for (e.g. adsorbate, then its temperature)
         self._wanted = sc
+        self._asked += 1
         if self._shown is not None and _key(sc) == _key(self._shown):
             self._runner.generation += 1             # whatever is on its way is for other inputs
             self._set_loading(False)
@@ -268,17 +275,17 @@ class IsothermView(pn.viewable.Viewer):
             self._p0_span[1].location = iso.setup.mu_coexistence_k
             self._p0_span[2].location = 1.0
             notes = "".join(f"<li>{html.escape(n)}</li>" for n in branch_notes(iso))
-            # data-computed: isotherms this page has started computing (the browser tests read it)
-            self._iso_caption.object = (f"<p data-computed='{self._runner.started}'>For {label}. Dashed line: p₀.</p>"
+            # data-computed: isotherms this page has started computing; data-asked: the inputs it was asked to
+            # show, from this server's recent isotherms or computed (the browser tests read both)
+            self._iso_caption.object = (f"<p data-computed='{self._runner.started}' data-asked='{self._asked}'>"
+                                        f"For {label}. Dashed line: p₀.</p>"
                                         f"<ul class='porefill-branch-notes'>{notes}</ul>")
             self._table.object = self._steps_table(iso, label)
             lines = outline(sc)
             self._outline.data = {"xs": [q[:, 0] for q in lines], "ys": [q[:, 1] for q in lines]}
             x0, x1, y0, y1 = sc.pore().bounding_box()
-            pad = 0.05 * (x1 - x0)
-            self._fig_occ.x_range.update(start=x0 - pad, end=x1 + pad)
-            self._fig_occ.y_range.update(start=y0 - pad, end=y1 + pad)
-            self._site_glyph.glyph.size = max(3.0, FRAME * iso.setup.spacing_angstrom / (x1 - x0 + 2 * pad) * 0.9)
+            fit_map(self._fig_occ, x1 - x0, y1 - y0)          # the ranges follow the outline (DataRange1d)
+            self._site_glyph.glyph.radius = 0.45 * iso.setup.spacing_angstrom
             moved = previous is None or any(getattr(previous, k) != getattr(sc, k) for k in RANGE_KEYS)
             value = self._pick_log10
             if moved or not lo <= value <= hi:
@@ -389,6 +396,10 @@ class IsothermView(pn.viewable.Viewer):
             fig.visible = event.new == key
 
     def __panel__(self):
-        plots = pn.FlexBox(self._iso_box, self._occ_box, self._k_box, flex_wrap="wrap", gap="8px 16px",
+        # the isotherm and dN/dμ share a row; the occupancy map has one of its own, beside the steps table
+        # (a map in the first row took its width from the two plots: 556 px each at 1920 px, not 680)
+        plots = pn.FlexBox(self._iso_box, self._k_box, flex_wrap="wrap", gap="8px 16px",
                            sizing_mode="stretch_width")
-        return pn.Column(self._message, plots, self._table_box, sizing_mode="stretch_width")
+        where = pn.FlexBox(self._occ_box, self._table_box, flex_wrap="wrap", gap="8px 16px",
+                           sizing_mode="stretch_width")
+        return pn.Column(self._message, plots, where, sizing_mode="stretch_width")

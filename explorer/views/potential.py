@@ -178,7 +178,8 @@ class PotentialView(pn.viewable.Viewer):
                                     css_class="porefill-map", min_px=MAP_MIN)
         self._cut_box = growing_box(pn.pane.Bokeh(self._cut_fig, sizing_mode="stretch_width"),
                                     css_class="porefill-cuts")
-        self._runner = LatestRunner("map", name="potential map", settle_s=SLIDER_SETTLE_S)   # a key burst: first and last
+        # a burst of requests computes its first and last (a burst of slider keys arrives as one: slider_keys.py)
+        self._runner = LatestRunner("map", name="potential map", settle_s=SLIDER_SETTLE_S)
         self._shown: Scenario | None = None       # the inputs the map and cuts now show
         self._pending: Scenario | None = None     # inputs asked for and not yet shown
         self._redraw()

@@ -22,7 +22,7 @@ from porefill.explorer.jobs.compute import LatestRunner, short_error
 from porefill.explorer.views.model_comparison import ComparisonSummary, comparison_job
 from porefill.explorer.views.state import ExplorerState, describe
 from porefill.explorer.views.isotherm import ADS_COLOUR, DES_COLOUR, coverage_unit
-from porefill.explorer.views.potential import FRAME, outline
+from porefill.explorer.views.potential import FRAME, GROW_MIN, MAP_MIN, fit_map, growing_box, map_figure, outline
 from porefill.explorer.views.ticks import readable_log_axes
 
 MODEL_COLOUR = {"classical": DES_COLOUR, "quantum": ADS_COLOUR}
@@ -77,9 +77,10 @@ class QuantumView(pn.viewable.Viewer):
     # figures --------------------------------------------------------------------------------------
     def _map_figure(self):
         self._mapper = LinearColorMapper(palette=Cividis256, low=0.0, high=1.0, nan_color=(0, 0, 0, 0))
-        fig = figure(title="One-atom probability density", x_axis_label="x (Å)", y_axis_label="y (Å)",
-                     frame_width=FRAME, frame_height=FRAME, match_aspect=True, x_range=Range1d(-1, 1),
-                     y_range=Range1d(-1, 1), tools="pan,wheel_zoom,reset,save", toolbar_location="above")
+        # grows with its box at one scale on both axes (explorer/views/potential.py: map_figure); the ranges
+        # follow the image
+        fig = map_figure(title="One-atom probability density", x_axis_label="x (Å)", y_axis_label="y (Å)",
+                         tools="pan,wheel_zoom,reset,save", toolbar_location="above")
         fig.image(image="image", x="x", y="y", dw="dw", dh="dh", source=self._image, color_mapper=self._mapper)
         fig.multi_line(xs="xs", ys="ys", source=self._outline, line_color="black", line_width=2)
         fig.add_layout(ColorBar(color_mapper=self._mapper, title="density (Å⁻²)", height=10,
@@ -88,8 +89,8 @@ class QuantumView(pn.viewable.Viewer):
 
     def _comparison_figure(self):
         fig = figure(title="Equilibrium isotherm, both site models", x_axis_type="log",
-                     x_axis_label="pressure p (Pa)", y_axis_label="coverage (per nm)", frame_width=FRAME,
-                     frame_height=230, x_range=Range1d(1e-30, 1.0), y_range=Range1d(0, 1),
+                     x_axis_label="pressure p (Pa)", y_axis_label="coverage (per nm)", sizing_mode="stretch_width",
+                     min_width=GROW_MIN - 10, frame_height=230, x_range=Range1d(1e-30, 1.0), y_range=Range1d(0, 1),
                      tools="pan,wheel_zoom,box_zoom,reset,save", toolbar_location="above")
         for m, colour in MODEL_COLOUR.items():
             fig.line("p", "n", source=self._curves[m], color=colour, line_width=2, legend_label=m,
@@ -154,9 +155,16 @@ class QuantumView(pn.viewable.Viewer):
     def _apply(self, sc: Scenario, s: ComparisonSummary) -> None:
         self._summary, self._shown = s, sc
         if not self._body.objects:
+            # the map and the comparison share a wrapping row and grow with it (explorer/views/potential.py);
+            # a plain Row with flex-wrap, not a FlexBox: growing plots in a FlexBox added to the page after
+            # it was drawn were never laid out by Bokeh (a frame of 0 px, a blank canvas)
+            maps = growing_box(self.map_choice, pn.pane.Bokeh(self._fig_map, sizing_mode="stretch_width"),
+                               css_class="porefill-quantum-map", min_px=MAP_MIN)
+            comparison = growing_box(pn.pane.Bokeh(self._fig_cmp, sizing_mode="stretch_width"), self.shifts,
+                                     css_class="porefill-quantum-comparison")
             self._body.objects = [
-                self.summary, pn.Row(pn.Column(self.map_choice, pn.pane.Bokeh(self._fig_map)),
-                                     pn.Column(pn.pane.Bokeh(self._fig_cmp), self.shifts)),
+                self.summary, pn.Row(maps, comparison, sizing_mode="stretch_width",
+                                     styles={"flex-wrap": "wrap", "gap": "8px 16px"}),
                 pn.pane.HTML("<h3>Energies per adsorbed atom</h3>"), self.energy_axis, pn.pane.Bokeh(self._fig_energy)]
         with pn.io.hold():
             label = html.escape(describe(sc))
@@ -165,8 +173,7 @@ class QuantumView(pn.viewable.Viewer):
             lines = outline(sc)
             self._outline.data = {"xs": [q[:, 0] for q in lines], "ys": [q[:, 1] for q in lines]}
             x0, x1, y0, y1 = s.extent
-            self._fig_map.x_range.update(start=x0, end=x1)
-            self._fig_map.y_range.update(start=y0, end=y1)
+            fit_map(self._fig_map, x1 - x0, y1 - y0)            # the ranges follow the image (DataRange1d)
             options = list(s.images)
             self.map_choice.options = options
             if self.map_choice.value not in options:
