@@ -126,8 +126,9 @@ class LatestRunner:
 
     Requests that come in a burst (each within ``settle_s`` of the one before, as a slider's arrow key
     pressed again and again sends them) are coalesced: the first starts at once, the rest wait until the
-    burst has been quiet for ``settle_s`` and only the newest of them runs. Six presses thus compute the
-    first and the last position, not six (``started`` counts what was handed to the executor).
+    burst has been quiet for ``settle_s`` and only the newest of them runs: six requests compute the first and
+    the last, not six (``started`` counts what was handed to the executor). A served page's arrow keys are
+    already held back in the browser until the presses stop (`porefill.explorer.views.slider_keys`).
 
     Outside a served page (tests, notebooks) the computation runs at once, in the caller's thread.
     """
