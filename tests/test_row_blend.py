@@ -173,3 +173,54 @@ def test_helium_layer_steps_move_smoothly_across_a_row_change():
     single = [_steps_by_row(compute_isotherm(HELIUM.replace(size_angstrom=s), n_points=300, row_blend=False))
               for s in (15.75, 16.25)]
     assert max(abs(single[1][k] - single[0][k]) for k in single[0].keys() & single[1].keys()) > 0.5
+
+
+# steps and sizing profiles of a mixture ----------------------------------------------------------------
+@pytest.fixture(scope="module")
+def helium_blend():
+    iso = compute_isotherm(HELIUM, n_points=300)          # 15 Å: D/Δ = 3.23, 77 % of 3 rows and 23 % of 4
+    assert isinstance(iso, BlendedIsotherm)
+    return iso
+
+
+def test_every_step_of_a_mixture_adds_a_positive_amount_inside_its_loop(helium_blend):
+    iso = helium_blend
+    full = iso.per_nm("desorption")[-1]
+    assert iso.steps and sum(s.added_per_nm for s in iso.steps) <= full * (1 + 1e-9)
+    for s in iso.steps:
+        assert s.added_per_nm > 0 and 0 < s.share <= 1.0
+        if s.kind == "first-order" and s.adsorption_jump_mu_k is not None:
+            assert s.desorption_jump_mu_k <= s.mu_k <= s.adsorption_jump_mu_k, s.label
+        if s.spread_pressure_pa is not None:       # a pair: between its two lattices' pressures, both named
+            lo, hi = s.spread_pressure_pa
+            assert lo <= s.pressure_pa * (1 + 1e-12) and s.pressure_pa <= hi * (1 + 1e-12)
+            assert "its two lattices" in s.where
+        if s.share < 1.0:
+            assert f"{s.share:.0%} of the pore" in s.where
+    # the paired steps' μ is the weighted mean of the two lattices' (the lever rule applied to the step)
+    (w0, a), (w1, b) = iso.parts
+    ca, cb, c = (condensation_step(x.steps) for x in (a, b, iso))
+    assert c.mu_k == pytest.approx(w0 * ca.mu_k + w1 * cb.mu_k, abs=1e-9)
+
+
+def test_the_sizing_profile_of_a_mixture_is_the_weighted_profiles(helium_blend):
+    from porefill.physics.sweep import occupancy_profile
+
+    iso = helium_blend
+    (w0, a), (w1, b) = iso.parts
+    prof, pa, pb = occupancy_profile(iso), occupancy_profile(a), occupancy_profile(b)
+    for key in ("centre", "first_layer", "pore", "next_ring"):
+        np.testing.assert_allclose(prof[key], w0 * pa[key] + w1 * pb[key], rtol=1e-14, atol=1e-300)
+    assert len(prof["layers"]) == len(pa["layers"])               # layers as the heavier lattice counts them
+    np.testing.assert_allclose(prof["layers"][0], w0 * pa["layers"][0] + w1 * pb["layers"][0], rtol=1e-14)
+    np.testing.assert_allclose(prof["layers"][-1], w0 * pa["layers"][-1] + w1 * pb["layers"][-1], rtol=1e-14)
+
+
+def test_a_mixture_s_steps_do_not_depend_on_the_point_count():
+    # issue 18 point 4 for a pore between two row counts: condensation p/p0 to 1e-3 between 150 and 3000
+    # points (nitrogen, 4.0 nm cylinder: D/Δ = 4.6)
+    sc = NITROGEN.replace(size_angstrom=20.0)
+    got = [condensation_step(compute_isotherm(sc, n_points=n, relative_pressure_range=N2_RANGE).steps)
+           for n in (150, 3000)]
+    assert got[0].relative_pressure == pytest.approx(got[1].relative_pressure, abs=1e-3)
+    assert got[0].where == got[1].where
