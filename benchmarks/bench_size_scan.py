@@ -61,8 +61,9 @@ def helium(site_model: str, blend: bool) -> None:
     for size in sizes:
         sc = Scenario(size_angstrom=float(size), wall_angstrom=8.0, temperature_k=1.5, site_model=site_model)
         iso = compute_isotherm(sc, n_points=200, row_blend=blend)
-        f = next((s.pressure_pa for s in iso.steps if _filling(s, "face")), np.nan)
-        c = next((s.pressure_pa for s in iso.steps if _filling(s, "centre")), np.nan)
+        whole = [s for s in iso.steps if s.share == 1.0]          # steps of the whole pore, as `steps_by_row`
+        f = next((s.pressure_pa for s in whole if _filling(s, "face")), np.nan)
+        c = next((s.pressure_pa for s in whole if _filling(s, "centre")), np.nan)
         face.append(f)
         centre.append(c)
         scans.append(steps_by_row(iso))

@@ -194,7 +194,7 @@ def test_every_step_of_a_mixture_adds_a_positive_amount_inside_its_loop(helium_b
         if s.spread_pressure_pa is not None:       # a pair: between its two lattices' pressures, both named
             lo, hi = s.spread_pressure_pa
             assert lo <= s.pressure_pa * (1 + 1e-12) and s.pressure_pa <= hi * (1 + 1e-12)
-            assert "its two lattices" in s.where
+            assert "two lattices:" in s.where
         if s.share < 1.0:
             assert f"{s.share:.0%} of the pore" in s.where
     # the paired steps' μ is the weighted mean of the two lattices' (the lever rule applied to the step)

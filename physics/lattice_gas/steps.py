@@ -63,10 +63,10 @@ class Step:
         """'' for a step of one lattice; for a pore between two row counts (`porefill.physics.lattice_gas.row_blend`)
         the pressures of its two lattices, or the part of the pore a step of one of them stands for."""
         if self.share < 1.0:
-            return f"; in {self.share:.0%} of the pore (one of its two lattices)"
+            return f"; {self.share:.0%} of the pore (one lattice)"
         if self.spread_pressure_pa is not None:
             lo, hi = self.spread_pressure_pa
-            return f"; its two lattices {lo:.3g}–{hi:.3g} Pa"
+            return f"; two lattices: {lo:.2g}–{hi:.2g} Pa"
         return ""
 
     @property
