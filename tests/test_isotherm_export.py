@@ -81,3 +81,25 @@ def test_open_nitrogen_pores_follow_the_equilibrium_and_helium_the_adsorption_br
     he = isotherm_json(isotherms[("helium-4", "open")])
     assert he["adsorption_as_measured"]["coverage_per_nm"] == he["meanfield_adsorption_spinodal"]["coverage_per_nm"]
     assert "adsorption branch" in he["adsorption_as_measured"]["rule"]
+
+
+def test_a_pore_between_two_row_counts_names_its_lattices():
+    # row_blend: the JSON says D/Δ and both lattices with their weights (summing to one), the text summary says
+    # how the rows were taken, and each paired step carries its two lattices' pressures
+    import json
+
+    from porefill.explorer.outputs.isotherm_export import isotherm_summary
+
+    iso = compute_isotherm(Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5,
+                                    site_model="classical"), n_points=120)
+    doc = json.loads(json.dumps(isotherm_json(iso)))
+    rows = doc["model"]["site_rows"]
+    assert rows["row_fraction"] == pytest.approx(iso.stage.geometry.row_fraction)
+    assert [lat["row_steps"] for lat in rows["lattices"]] == [3, 4]
+    assert sum(lat["weight"] for lat in rows["lattices"]) == pytest.approx(1.0, abs=1e-12)
+    assert "lever rule" in rows["note"] and "rows of sites: " + rows["note"] in isotherm_summary(iso)
+    paired = [s for s in doc["steps"] if s["spread_pressure_pa"] is not None]
+    assert paired and all(s["share"] == 1.0 for s in paired)
+    one = compute_isotherm(Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5, site_model="classical"),
+                           n_points=120, row_blend=False)
+    assert [lat["weight"] for lat in isotherm_json(one)["model"]["site_rows"]["lattices"]] == [1.0]
