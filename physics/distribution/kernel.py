@@ -8,10 +8,10 @@ explorer can run the columns in parallel with the sweep machinery and keep them 
 columns of a spec and answers, for each branch, the amount of every size at any pressure.
 
 Each column is a bin of sizes, not one size: the mean (per pore volume) of the isotherms of ``parts`` pores
-spread evenly over the bin (default 3). One pore's isotherm moves by steps where a row of lattice sites enters
-(up to 0.07 in a nitrogen hexagon's condensation p/p0 near 17.35 Å side), so a kernel of single sizes cannot
-describe a sample whose pores sit between a row change and the nearest node; a bin's mean can, and a bin is
-what a distribution's bar means anyway.
+spread evenly over the bin (default 3): a bin is what a distribution's bar means. (Before pores between two row
+counts were mixed from the lattices either side, `porefill.physics.lattice_gas.row_blend`, one pore's
+condensation jumped by up to 0.07 in p/p0 where a row entered, and the bins were what let a kernel describe a
+sample between such a jump and the nearest node; one pore now moves smoothly with its size.)
 
 Each part keeps its three model branches ('adsorption', 'desorption', 'equilibrium') as curves in ln p whose
 jumps stand where they are (`porefill.physics.lattice_gas.jumps.branch_curve`), in atoms per Å of one pore,
@@ -35,7 +35,7 @@ from porefill.physics.scenario import Scenario
 __all__ = ["KernelSpec", "Kernel", "kernel_column", "pore_part", "DEFAULT_PARTS", "pore_diameter_angstrom", "default_sizes", "KERNEL_VERSION",
            "DEFAULT_DIAMETERS_NM", "DEFAULT_KERNEL_SIZES", "DEFAULT_KERNEL_POINTS"]
 
-KERNEL_VERSION = 3            # bump when what a column holds changes: the disk cache keys on it
+KERNEL_VERSION = 4            # bump when what a column holds changes: the disk cache keys on it (4: row blend)
 DEFAULT_DIAMETERS_NM = (2.0, 10.0)   # the mesopores ordered silicas are made with (IUPAC: 2–50 nm mesopores)
 DEFAULT_KERNEL_SIZES = 48
 DEFAULT_PARTS = 3                    # isotherms averaged per kernel size (module notes)
