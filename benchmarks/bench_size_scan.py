@@ -24,6 +24,7 @@ from porefill.physics.lattice_gas.adsorption import compute_isotherm
 from porefill.physics.substances.kelvin import kjs_condensation_relative_pressure
 from porefill.physics.scenario import Scenario
 from porefill.physics.lattice_gas.steps import condensation_step
+from porefill.physics.lattice_gas.steps import steps_by_row as row_steps
 
 
 def _filling(step, name: str) -> bool:
@@ -31,16 +32,9 @@ def _filling(step, name: str) -> bool:
 
 
 def steps_by_row(iso) -> dict:
-    """{(row it fills first, n-th step into that row): log10 p (Pa)} of the steps listed for the whole pore
-    (a step of one lattice of a blend, ``share`` < 1, is left out: it fades in or out with its weight)."""
-    out, seen = {}, {}
-    for s in iso.steps:
-        if s.share < 1.0:
-            continue
-        key = s.filling[0][0] if s.filling else "spread"
-        seen[key] = seen.get(key, 0) + 1
-        out[(key, seen[key])] = float(np.log10(s.pressure_pa))
-    return out
+    """{(row it fills first, n-th step into that row): log10 p (Pa)} of the whole pore's steps
+    (`porefill.physics.lattice_gas.steps.steps_by_row`)."""
+    return {key: float(np.log10(s.pressure_pa)) for key, s in row_steps(iso.steps).items()}
 
 
 def largest_moves(scans) -> dict:

@@ -15,7 +15,7 @@ from porefill.physics.lattice_gas.adsorption import compute_isotherm
 from porefill.physics.lattice_gas.jumps import branch_curve
 from porefill.physics.lattice_gas.row_blend import BlendedIsotherm, blend_weights
 from porefill.physics.lattice_gas.stages import geometry_stage
-from porefill.physics.lattice_gas.steps import condensation_step
+from porefill.physics.lattice_gas.steps import condensation_step, steps_by_row
 from porefill.physics.scenario import Scenario
 from porefill.physics.substances.kelvin import kjs_condensation_relative_pressure
 from porefill.physics.substances.vapour_pressure import liquid_number_density
@@ -148,15 +148,8 @@ def test_nitrogen_condensation_moves_smoothly_across_a_row_change():
 
 
 def _steps_by_row(iso) -> dict:
-    """{(row key, n-th): log10 p} of the steps listed for the whole pore (share 1)."""
-    out, seen = {}, {}
-    for s in iso.steps:
-        if s.share < 1.0:
-            continue
-        key = s.filling[0][0] if s.filling else "spread"
-        seen[key] = seen.get(key, 0) + 1
-        out[(key, seen[key])] = np.log10(s.pressure_pa)
-    return out
+    """{(row, n): log10 p} of the whole pore's steps (`steps_by_row`)."""
+    return {key: np.log10(s.pressure_pa) for key, s in steps_by_row(iso.steps).items()}
 
 
 def test_helium_layer_steps_move_smoothly_across_a_row_change():
