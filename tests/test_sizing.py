@@ -112,3 +112,28 @@ def test_the_temperatures_follow_the_gas(view):
     assert spec.base.adsorbate == "helium-4"
     assert all(0.3 <= s.temperature_k <= 5.0 for s in spec.scenarios())
     assert spec.scenarios()[0].temperature_k == pytest.approx(max(view.state.temperature_k - 0.25, 0.3))
+
+
+def test_each_plotted_pressure_says_its_branch_and_the_measured_legs_pair_it(view):
+    # issue 21 point 1: which branch each plotted pressure is on, with the adsorption/desorption pair shown where
+    # they differ. Helium in open pores fills on the adsorption branch (its film holds up to the spinodal) and
+    # empties at equilibrium (porefill.physics.lattice_gas.branches): each first-order step with a loop gets an
+    # "adsorption as measured" point at its adsorption jump, above its equilibrium pressure
+    from porefill.explorer.views.sizing import measured_leg_rows
+
+    view.sizes.value = "14,20"
+    view.compute()
+    rows = step_rows(view._result, "size_angstrom")
+    assert set(rows["branch"]) == {"equilibrium"}
+    legs = measured_leg_rows(view._result, "size_angstrom")
+    loops = [s for pt in view._result.done for s in pt["steps"]
+             if s["kind"] == "first-order" and s["adsorption_jump_pressure_pa"] is not None]
+    assert loops and set(legs["leg"]) == {"adsorption"} and len(legs["p"]) == len(loops)
+    assert all(p > q for p, q in zip(legs["p"], legs["p_eq"]))
+    labels = [el.label for el in view._figure([]).values()]
+    assert "adsorption as measured" in labels
+    # with a closed end both legs follow the equilibrium: no pair is drawn
+    view.state.pore_ends = "closed-end"
+    view.compute()
+    assert not measured_leg_rows(view._result, "size_angstrom")["x"]
+    assert "adsorption as measured" not in [el.label for el in view._figure([]).values()]

@@ -97,8 +97,9 @@ def sweep_work(runner: SweepRunner, spec, *, progress, should_stop):
 
 
 def step_rows(result, x_key: str) -> dict[str, list]:
-    """Columns for the plot: x (size or temperature), step pressure, what fills, the wall, the kind."""
-    rows = {"x": [], "p": [], "fills": [], "wall": [], "kind": []}
+    """Columns for the plot: x (size or temperature), step pressure, what fills, the wall, the kind, and the
+    branch the pressure is on (every step is drawn at its equilibrium pressure)."""
+    rows = {"x": [], "p": [], "fills": [], "wall": [], "kind": [], "branch": []}
     for pt in result.done:
         for s, fills in zip(pt.get("steps", ()), pt.get("step_fills", ())):
             rows["x"].append(pt[x_key])
@@ -106,6 +107,36 @@ def step_rows(result, x_key: str) -> dict[str, list]:
             rows["fills"].append(fills)
             rows["wall"].append(np.nan if pt["wall_angstrom"] is None else pt["wall_angstrom"])
             rows["kind"].append(s["kind"])
+            rows["branch"].append("equilibrium")
+    return rows
+
+
+_LEG_ENDS = {"adsorption": "adsorption_jump_pressure_pa", "desorption": "desorption_jump_pressure_pa"}
+
+
+def measured_leg_rows(result, x_key: str) -> dict[str, list]:
+    """Where a measurement's leg follows a mean-field branch rather than the equilibrium
+    (`porefill.physics.lattice_gas.branches.measured_branches`: helium's adsorption in open pores, both legs with
+    ``infinite`` ends), each first-order step's pressure on that leg beside its equilibrium pressure: columns x,
+    p (the leg's), p_eq, leg ('adsorption' or 'desorption') and fills."""
+    from porefill.physics.lattice_gas.branches import measured_branches
+
+    base = result.spec.base
+    legs = [leg for leg, branch in measured_branches(base.pore_ends, base.adsorbate).items() if branch != "equilibrium"]
+    rows = {"x": [], "p": [], "p_eq": [], "leg": [], "fills": []}
+    for pt in result.done:
+        for s, fills in zip(pt.get("steps", ()), pt.get("step_fills", ())):
+            if s["kind"] != "first-order":
+                continue
+            for leg in legs:
+                p = s.get(_LEG_ENDS[leg])
+                if p is None or abs(np.log(p / s["pressure_pa"])) < 1e-6:
+                    continue                          # the loop runs past the range, or there is none
+                rows["x"].append(pt[x_key])
+                rows["p"].append(p)
+                rows["p_eq"].append(s["pressure_pa"])
+                rows["leg"].append(leg)
+                rows["fills"].append(fills)
     return rows
 
 
@@ -442,14 +473,26 @@ class SizingView(pn.viewable.Viewer):
         for fills, colour in FILL_COLOURS.items():
             sel = [i for i, f in enumerate(rows["fills"]) if f == fills]
             data = {k: [v[i] for i in sel] for k, v in rows.items()}
-            pts = hv.Scatter(data, kdims=["x"], vdims=["p", "fills", "wall", "kind"], label=fills)
+            pts = hv.Scatter(data, kdims=["x"], vdims=["p", "fills", "wall", "kind", "branch"], label=fills)
             layers.append(pts.opts(color=colour, size=7, tools=["hover"]))
+        legs = measured_leg_rows(self._result, x_key)
+        if legs["x"]:       # the branch a measured leg follows, where it is not the equilibrium: ▲ / ▼ on a stalk
+            layers.append(hv.Segments([(x, pe, x, pl) for x, pe, pl in zip(legs["x"], legs["p_eq"], legs["p"])],
+                                      kdims=["x", "p", "x1", "p1"]).opts(color="#555555", line_width=1))
+            for leg, marker in (("adsorption", "triangle"), ("desorption", "inverted_triangle")):
+                sel = [i for i, g in enumerate(legs["leg"]) if g == leg]
+                if sel:
+                    data = {k: [legs[k][i] for i in sel] for k in ("x", "p", "fills", "leg")}
+                    layers.append(hv.Scatter(data, kdims=["x"], vdims=["p", "fills", "leg"],
+                                             label=f"{leg} as measured").opts(
+                        color="#555555", marker=marker, size=8, tools=["hover"]))
         fig = hv.Overlay(layers).opts(
             logy=True, yticks=decade_ticker(), responsive=True, min_width=_MIN_WIDTH, max_width=_MAX_WIDTH,
             height=380, xlabel=x_label, ylabel="step pressure p (Pa)", ylim=(y0, y1),
             # the legend beside the plot, never over its points; a click on an entry hides that family
             legend_position="right", legend_opts={"click_policy": "hide"},
-            title="Layer steps; grey band: the apparatus's window; black bars: target met"
+            title=("Layer steps (● equilibrium, ▲▼ a measured leg's own branch); grey: window; bars: target met"
+                   if legs["x"] else "Layer steps; grey band: the apparatus's window; black bars: target met")
             + ("; coloured bands: layers in the measured sample" if bands else ""),
             toolbar="above")
         if mode != "d100":
