@@ -79,6 +79,11 @@ def test_a_target_marks_the_sizes_that_meet_it(page):
     assert _listed_sizes(page) == want
     page.locator(".porefill-sizing-plot canvas").first.wait_for(timeout=30_000)
     assert "3 pores" in _text(page, ".porefill-sizing-status")
+    # which branch each plotted pressure is on: the steps at equilibrium, and helium's measured adsorption (its
+    # own branch in open pores) beside each first-order step with a loop, as the legend and title say
+    drawn = page.evaluate(LEGEND_LABELS)
+    assert drawn is not None and "adsorption as measured" in drawn["labels"], drawn
+    assert "● equilibrium" in drawn["title"]
 
     # another target: the list follows at once, from the results already there
     page.locator(".porefill-sizing-target select").first.select_option(label=FIRST)
@@ -97,6 +102,16 @@ def test_a_target_marks_the_sizes_that_meet_it(page):
     page.locator(".porefill-sizing-compute button").first.click()
     _wait_for(page, ".porefill-sizing-status", r"2 pores in [\d.]+ s \(2 from the cache")
     assert page.console_errors == []
+
+
+LEGEND_LABELS = """() => {
+  for (const v of Bokeh.index.query((v) => v.model.type == "Legend")) {
+    const plot = v.parent;
+    if (!plot || !plot.model.title || !plot.model.title.text.startsWith("Layer steps")) continue;
+    return {title: plot.model.title.text, labels: v.model.items.map((i) => i.label && i.label.value)};
+  }
+  return null;
+}"""
 
 
 LEGEND_AND_FRAME = """() => {
