@@ -137,21 +137,3 @@ def test_each_plotted_pressure_says_its_branch_and_the_measured_legs_pair_it(vie
     view.compute()
     assert not measured_leg_rows(view._result, "size_angstrom")["x"]
     assert "adsorption as measured" not in [el.label for el in view._figure([]).values()]
-
-
-def test_the_d100_mode_starts_from_sides_its_walls_allow(view):
-    # issue 21: the d100 mode's defaults failed at once ("side 26 Å with d100 = 40 Å leaves a wall of 1.15 Å").
-    # w = 2·d100/√3 − √3·side (p6mm lattice, physics.sweep.wall_from_d100): with d100 = 40 Å every side up to
-    # 23.78 Å leaves at least 5 Å of wall
-    from porefill.physics.sweep import wall_from_d100
-
-    view.sizes.value = "10:30:11"
-    view.mode.value = "side length at a known d100"
-    spec = view.spec()                                     # no error
-    sides = [s.size_angstrom for s in spec.scenarios()]
-    assert max(sides) == 23.5 and min(wall_from_d100(sides, 40.0)) >= 5.0
-    view.sizes.value = "12,14"                             # sizes typed that fit are kept
-    view.d100.value = 45.0
-    assert view.sizes.value == "12,14"
-    view.d100.value = 20.0                                 # a smaller lattice: the sides follow it
-    assert min(wall_from_d100([s.size_angstrom for s in view.spec().scenarios()], 20.0)) >= 5.0

@@ -96,20 +96,6 @@ def sweep_work(runner: SweepRunner, spec, *, progress, should_stop):
                       stop=should_stop)
 
 
-_D100_MIN_WALL = 5.0          # Å: the thinnest wall the d100 mode offers by itself (silica; common practice, no source)
-
-
-def sides_for_d100(d100_angstrom: float) -> str | None:
-    """Side lengths "start:stop:count" (1 Å apart, at most 13) whose walls, tied to the side by ``d100_angstrom``
-    (`wall_from_d100`), are all at least `_D100_MIN_WALL` thick; None where even a 6 Å side would not be."""
-    top = (2.0 * d100_angstrom / np.sqrt(3.0) - _D100_MIN_WALL) / np.sqrt(3.0)
-    top = np.floor(top * 2.0) / 2.0
-    if top < 6.0:
-        return None
-    low = max(6.0, top - 12.0)
-    return f"{low:g}:{top:g}:{int(round(top - low)) + 1}"
-
-
 def step_rows(result, x_key: str) -> dict[str, list]:
     """Columns for the plot: x (size or temperature), step pressure, what fills, the wall, the kind, and the
     branch the pressure is on (every step is drawn at its equilibrium pressure)."""
@@ -218,7 +204,6 @@ class SizingView(pn.viewable.Viewer):
         for w in (self.low, self.high, self.target, self.layer):
             w.param.watch(self._redraw, "value")
         self.mode.param.watch(self._fit_inputs, "value")
-        self.d100.param.watch(self._fit_sides_to_d100, "value")
         st.param.watch(lambda event: setattr(self.sizes, "name", _sizes_label(event.new)), "shape")
         # a new gas brings its own temperatures (the state has already moved its temperature into the gas's range)
         st.param.watch(lambda event: setattr(self.temps, "value", _temperatures_around(st.temperature_k)),
@@ -260,23 +245,6 @@ class SizingView(pn.viewable.Viewer):
         self.walls.visible = mode == "size"
         self.temps.visible = mode == "temperature"
         self.d100.visible = mode == "d100"
-        if mode == "d100":
-            self._fit_sides_to_d100()
-
-    def _fit_sides_to_d100(self, *_):
-        """In the d100 mode, side lengths that leave every wall at least `_D100_MIN_WALL` thick: the sizes
-        typed stay where they do, and are replaced by the range `sides_for_d100` gives where one would not."""
-        if MODES[self.mode.value] != "d100" or not self.d100.value:
-            return
-        try:
-            sizes = parse_range(self.sizes.value, name="side lengths")
-        except ValueError:
-            sizes = ()
-        if sizes and float(np.min(wall_from_d100(np.asarray(sizes), self.d100.value))) >= _D100_MIN_WALL:
-            return
-        fitted = sides_for_d100(self.d100.value)
-        if fitted is not None:
-            self.sizes.value = fitted
 
     def _fit_window(self, *_):
         """The window's inputs say their unit; a change of unit starts from that unit's whole range."""
