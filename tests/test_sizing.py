@@ -131,9 +131,21 @@ def test_each_plotted_pressure_says_its_branch_and_the_measured_legs_pair_it(vie
     assert loops and set(legs["leg"]) == {"adsorption"} and len(legs["p"]) == len(loops)
     assert all(p > q for p, q in zip(legs["p"], legs["p_eq"]))
     labels = [el.label for el in view._figure([]).values()]
-    assert "adsorption as measured" in labels
+    assert "measured" in labels
     # with a closed end both legs follow the equilibrium: no pair is drawn
     view.state.pore_ends = "closed-end"
     view.compute()
     assert not measured_leg_rows(view._result, "size_angstrom")["x"]
-    assert "adsorption as measured" not in [el.label for el in view._figure([]).values()]
+    assert "measured" not in [el.label for el in view._figure([]).values()]
+
+
+def test_the_d100_mode_s_defaults_make_a_sweep(view):
+    # issue 21: the d100 mode's defaults failed at once ("side 26 Å with d100 = 40 Å leaves a wall of 1.15 Å").
+    # w = 2·d100/√3 − √3·side (p6mm lattice, physics.sweep.wall_from_d100): the default d100 of 50 Å leaves the
+    # default sides 10–30 Å walls of 5.7–40.4 Å
+    from porefill.physics.sweep import wall_from_d100
+
+    view.sizes.value = "10:30:11"
+    view.mode.value = "side length at a known d100"
+    sides = [s.size_angstrom for s in view.spec().scenarios()]     # no error
+    assert len(sides) == 11 and min(wall_from_d100(sides, view.d100.value)) > 5.0

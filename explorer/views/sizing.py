@@ -157,7 +157,7 @@ class SizingView(pn.viewable.Viewer):
         self.walls = pn.widgets.TextInput(name="Walls (Å): one, a list or start:stop:count", value=wall, width=290)
         self.temps = pn.widgets.TextInput(name="Temperatures (K): start:stop:count",
                                           value=_temperatures_around(t), width=290)
-        self.d100 = pn.widgets.FloatInput(name="X-ray d100 spacing (Å)", value=40.0, start=1.0, step=0.5, width=290,
+        self.d100 = pn.widgets.FloatInput(name="X-ray d100 spacing (Å)", value=50.0, start=1.0, step=0.5, width=290,
                                           css_classes=["porefill-sizing-d100"])
         self.model = pn.widgets.Select(name="Site model", options=["as the scenario", "classical", "quantum"],
                                        value="as the scenario", width=290, css_classes=["porefill-sizing-model"])
@@ -483,8 +483,10 @@ class SizingView(pn.viewable.Viewer):
                 sel = [i for i, g in enumerate(legs["leg"]) if g == leg]
                 if sel:
                     data = {k: [legs[k][i] for i in sel] for k in ("x", "p", "fills", "leg")}
+                    # a short legend entry (the marker says which leg, as the title does): a long one pushes the
+                    # legend past a 1024 px screen
                     layers.append(hv.Scatter(data, kdims=["x"], vdims=["p", "fills", "leg"],
-                                             label=f"{leg} as measured").opts(
+                                             label="measured").opts(
                         color="#555555", marker=marker, size=8, tools=["hover"]))
         fig = hv.Overlay(layers).opts(
             logy=True, yticks=decade_ticker(), responsive=True, min_width=_MIN_WIDTH, max_width=_MAX_WIDTH,
