@@ -493,7 +493,9 @@ class SizingView(pn.viewable.Viewer):
             height=380, xlabel=x_label, ylabel="step pressure p (Pa)", ylim=(y0, y1),
             # the legend beside the plot, never over its points; a click on an entry hides that family
             legend_position="right", legend_opts={"click_policy": "hide"},
-            title=("Layer steps (● equilibrium, ▲▼ a measured leg's own branch); grey: window; bars: target met"
+            # a title no longer than the plain one: Bokeh does not wrap titles, and a longer one widens the plot
+            # past a 1024 px screen
+            title=("Layer steps: ● equilibrium, ▲▼ measured leg; grey: window; bars: met"
                    if legs["x"] else "Layer steps; grey band: the apparatus's window; black bars: target met")
             + ("; coloured bands: layers in the measured sample" if bands else ""),
             toolbar="above")
