@@ -76,7 +76,7 @@ class EquilibriumStates:
         """
         lo, hi = max(i0 - 1, 0), min(i1 + 1, self.source.size - 1)
         src = self.source[lo:hi + 1]
-        found = self.paths.shape[0] and np.any(np.isfinite(self.path_omega[:, lo:hi + 1]))
+        found = bool(self.paths.shape[0]) and bool(np.any(np.isfinite(self.path_omega[:, lo:hi + 1])))
         if not np.any(src >= 2) and not found:
             return None
         # a path found here but lowest at no grid point may still be the equilibrium between two of them

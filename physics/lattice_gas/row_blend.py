@@ -28,7 +28,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from porefill.physics.lattice_gas.adsorption import Isotherm
-from porefill.physics.lattice_gas.steps import Step, condensation_step
+from porefill.physics.lattice_gas.steps import Step, condensation_step, row_key
 from porefill.physics.substances.units import AmountBasis
 
 __all__ = ["blend_weights", "BlendedIsotherm", "blend_isotherms", "blend_steps", "WHOLE_TOLERANCE"]
@@ -110,7 +110,7 @@ class BlendedIsotherm(Isotherm):
 
 def _merge(pair: list[tuple[float, Step]], scale) -> Step:
     """One step of the mixture from the same step of both lattices (weight, step), heavier first."""
-    (w0, s0), = pair[:1]
+    w0, s0 = pair[0]
     if len(pair) == 1:
         return replace(s0, added_per_nm=w0 * s0.added_per_nm, share=w0)
     mu = sum(w * s.mu_k for w, s in pair)
@@ -122,18 +122,13 @@ def _merge(pair: list[tuple[float, Step]], scale) -> Step:
         return None if any(v is None for v in values) else float(sum(w * v for (w, _), v in zip(pair, values)))
 
     ads, des = loop_end("adsorption_jump_mu_k"), loop_end("desorption_jump_mu_k")
-    lows = sorted(s.pressure_pa for _, s in pair)
+    pressures = sorted(s.pressure_pa for _, s in pair)
     return replace(s0, mu_k=float(mu), pressure_pa=p, relative_pressure=p / scale.saturation_pressure_pa,
                    added_per_nm=float(sum(w * s.added_per_nm for w, s in pair)),
                    adsorption_jump_mu_k=ads, desorption_jump_mu_k=des,
                    adsorption_jump_pressure_pa=None if ads is None else float(scale.pressure_pa(ads)),
                    desorption_jump_pressure_pa=None if des is None else float(scale.pressure_pa(des)),
-                   spread_pressure_pa=(float(lows[0]), float(lows[-1])), share=1.0)
-
-
-def _row_key(step: Step) -> str:
-    """The row a step fills first (its deepest sites' label: 'corner', 'face', 'ring 1', ...)."""
-    return step.filling[0][0] if step.filling else "spread"
+                   spread_pressure_pa=(float(pressures[0]), float(pressures[-1])), share=1.0)
 
 
 def blend_steps(parts, scale, full_per_nm: float) -> tuple[Step, ...]:
@@ -156,7 +151,7 @@ def blend_steps(parts, scale, full_per_nm: float) -> tuple[Step, ...]:
         b = [s for s in b if s is not cb]
     rest_b = list(b)
     for s in a:
-        match = next((t for t in rest_b if _row_key(t) == _row_key(s)), None)
+        match = next((t for t in rest_b if row_key(t) == row_key(s)), None)
         if match is not None:
             rest_b.remove(match)
             pairs.append([(wa, s), (wb, match)])

@@ -24,7 +24,7 @@ from dataclasses import asdict, dataclass, replace
 import numpy as np
 from scipy.signal import find_peaks
 
-__all__ = ["Step", "find_steps", "condensation_step", "steps_by_row"]
+__all__ = ["Step", "find_steps", "condensation_step", "row_key", "steps_by_row"]
 
 _DIFFER_FRACTION = 1e-6      # branches differing by more than this fraction of all sites form a loop
 _MIN_STEP_FRACTION = 1e-3    # a step adds at least this fraction of all sites
@@ -229,6 +229,11 @@ def condensation_step(steps) -> Step | None:
     return centre[-1] if centre else max(steps, key=lambda s: s.added_per_nm)
 
 
+def row_key(step: Step) -> str:
+    """The row a step fills first (its deepest sites' label: 'corner', 'face', 'ring 1', ...; 'spread')."""
+    return step.filling[0][0] if step.filling else "spread"
+
+
 def steps_by_row(steps) -> dict:
     """{(row it fills first, n): step} of the steps of the whole pore, the n-th step into that row counting from
     1 — a key that follows a step from one pore size to the next. A step of one lattice of a pore between two row
@@ -238,7 +243,7 @@ def steps_by_row(steps) -> dict:
     for s in steps:
         if s.share < 1.0:
             continue
-        key = s.filling[0][0] if s.filling else "spread"
+        key = row_key(s)
         seen[key] = seen.get(key, 0) + 1
         out[(key, seen[key])] = s
     return out
