@@ -302,3 +302,19 @@ def test_compiled_edge_sum_equals_the_numpy_reference(fields, monkeypatch):
     assert np.array_equal(np.isfinite(fast), np.isfinite(reference))
     ok = np.isfinite(reference)
     np.testing.assert_allclose(fast[ok], reference[ok], rtol=1e-12, atol=1e-12)
+
+
+def test_compiled_far_field_series_equals_numpy_chebval2d(monkeypatch):
+    # the hexagon array's far field is an even 2-D Chebyshev series; the compiled loop must equal numpy's
+    # chebval2d (the reference implementation) to round-off, for any coefficients and points inside the box
+    from numpy.polynomial import chebyshev
+    from porefill.physics.pore import compiled
+
+    monkeypatch.setattr(compiled, "_enabled", True)
+    rng = np.random.default_rng(11)
+    coef = rng.normal(size=(9, 7))
+    x1, y1 = 23.0, 19.9
+    x, y = rng.uniform(-x1, x1, 4000), rng.uniform(-y1, y1, 4000)
+    fast = compiled.even_chebyshev_2d(x, y, x1, y1, coef)
+    reference = chebyshev.chebval2d(2.0 * (x / x1) ** 2 - 1.0, 2.0 * (y / y1) ** 2 - 1.0, coef)
+    np.testing.assert_allclose(fast, reference, rtol=1e-12, atol=1e-12 * np.abs(coef).sum())

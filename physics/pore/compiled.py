@@ -1,4 +1,5 @@
-"""The wall potential's hot loop compiled with numba, when it is installed: the sum over straight edges.
+"""The wall potential's hot loops compiled with numba, when it is installed: the sum over straight edges, and
+a hexagon array's fitted far field (a 2-D Chebyshev series).
 
 `porefill.physics.pore.wall_potential._sum_over_edges` spends nearly all of a classical isotherm's geometry
 stage in the closed form of one edge (`_edge_integrals`), evaluated for every (point, edge) pair with a dozen
@@ -18,7 +19,7 @@ import os
 
 import numpy as np
 
-__all__ = ["available", "enable", "sum_over_edges"]
+__all__ = ["available", "enable", "even_chebyshev_2d", "sum_over_edges"]
 
 _enabled = False
 
@@ -47,3 +48,15 @@ def sum_over_edges(x, y, start, tangent, normal, length, c9: float, c3: float) -
              np.ascontiguousarray(start, float), np.ascontiguousarray(tangent, float),
              np.ascontiguousarray(normal, float), np.ascontiguousarray(length, float), float(c9), float(c3), out)
     return out
+
+
+def even_chebyshev_2d(x, y, x1: float, y1: float, coef) -> np.ndarray:
+    """Σ_jk c_jk T_j(2(x/x1)² − 1) T_k(2(y/y1)² − 1) at points (x, y): the compiled twin of numpy's
+    ``chebval2d`` at those arguments (the far field of a hexagon array, `hexagon_array_potential`)."""
+    from porefill.physics.pore._edge_kernel import even_chebyshev_2d as kernel
+
+    x, y = np.broadcast_arrays(np.asarray(x, float), np.asarray(y, float))
+    out = np.empty(x.size)
+    kernel(np.ascontiguousarray(x).ravel(), np.ascontiguousarray(y).ravel(), float(x1), float(y1),
+           np.ascontiguousarray(coef, float), out)
+    return out.reshape(x.shape)

@@ -364,7 +364,10 @@ def hexagon_array_potential(x, y, pore: HexagonPore, pair: PairParameters,
     the fitted far field (see `_array_fields`). Points must lie inside the pore."""
     near_edges, coef = _array_fields(pore, pair, cutoff_spacings)
     _, x1, _, y1 = pore.bounding_box()
-    far = chebyshev.chebval2d(2.0 * (x / x1) ** 2 - 1.0, 2.0 * (y / y1) ** 2 - 1.0, coef)
+    if compiled.available():
+        far = compiled.even_chebyshev_2d(x, y, x1, y1, coef)
+    else:
+        far = chebyshev.chebval2d(2.0 * (x / x1) ** 2 - 1.0, 2.0 * (y / y1) ** 2 - 1.0, coef)
     return _sum_over_edges(x, y, near_edges, pair) + far
 
 
