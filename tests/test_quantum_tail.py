@@ -57,11 +57,13 @@ def test_each_site_takes_the_tail_of_its_own_cell():
     # one integral, Weyl's law above), and (b) a site no state reaches never lies below its classical cell value
     # (max(E_c, V) ≥ V under the integral). Taken over the grid points nearest each site, a ring-1 site once
     # took a piece of the face's well and sat 4.5 K below its classical value, adding a spurious step.
-    from porefill.physics.sites.quantum import _site_free_energies, cached_states
+    # The states are the first layer's only (no margin above the centre's potential), so that orbits are left
+    # to the tail as a capped state count leaves them.
+    from porefill.physics.sites.quantum import _site_free_energies
 
     t = 1.5
     geo = geometry_stage(Scenario(shape="hexagon", size_angstrom=24.0, wall_angstrom=8.0, temperature_k=t))
-    states = cached_states(geo, t)
+    states = solve_states(geo.pore, geo.pair, geo.adsorbate.hbar2_over_mk, temperature_k=t, inner_margin_kt=-np.inf)
     f, reached, f_classical, floored = _site_free_energies(states, geo, t)
     lam = thermal_wavelength_angstrom(states.hbar2_over_mk, t)
     cut = states.tail_cut_k
@@ -71,3 +73,64 @@ def test_each_site_takes_the_tail_of_its_own_cell():
     unreached = ~reached
     assert np.all(f[unreached] >= f_classical[unreached] - 1e-9)
     assert np.any(floored & unreached)             # the face orbit that enters here takes its tail
+
+
+# --- every row's sites from their own states (issue: helium's layers, quantum all the way) -------------------
+def _demo_steps(monkeypatch=None, **tighter):
+    """log10 p (Pa) of the listed steps of the demo's pore with quantum sites (15 Å side, 8 Å walls, 1.5 K),
+    every cache cleared first so that the states are solved with the module's settings of the moment."""
+    from porefill.physics.caching import clear_caches
+    from porefill.physics.lattice_gas.adsorption import compute_isotherm
+    from porefill.physics.sites import quantum
+
+    for name, value in tighter.items():
+        monkeypatch.setattr(quantum, name, value)
+    clear_caches()                      # the held states too (a registered BoundedCache)
+    iso = compute_isotherm(Scenario(size_angstrom=15.0, wall_angstrom=8.0, adsorbate="helium-4", temperature_k=1.5,
+                                    site_model="quantum"), n_points=300)
+    out = {s.identity: np.log10(s.pressure_pa) for s in iso.steps}
+    clear_caches()
+    return out
+
+
+def test_the_steps_do_not_move_when_the_state_cut_offs_are_tightened_a_millionfold(monkeypatch):
+    # issue: "tightening [the internal cut-off] 1e6× moves no step by more than 0.05 decades". The two cut-offs
+    # are the first layer's weight fraction (1e-6 → 1e-12) and the margin above the centre's potential
+    # (4 kT → 4 + ln 1e6 = 17.8 kT, a millionfold smaller weight left out)
+    default = _demo_steps()
+    tight = _demo_steps(monkeypatch, _WEIGHT_FRACTION=1e-12, _INNER_MARGIN_KT=4.0 + np.log(1e6))
+    assert set(default) == set(tight)
+    for identity, logp in default.items():
+        assert tight[identity] == pytest.approx(logp, abs=0.05), identity
+
+
+def test_every_row_of_the_demo_pore_takes_its_free_energy_from_states():
+    # issue: "every site that fills below p0 has a quantum free energy". At 15 Å, 1.5 K every orbit is reached
+    # by the states, and the inner rows sit far above the classical cell values that reach down the first
+    # layer's well (classical ring 1: −23.1 and −16.0 K; quantum, converged by states: about −7 K)
+    from porefill.physics.sites.quantum import cached_states, orbit_sources
+
+    g = geometry_stage(Scenario(size_angstrom=15.0, wall_angstrom=8.0, adsorbate="helium-4", temperature_k=1.5))
+    rows = orbit_sources(cached_states(g, 1.5), g, 1.5)
+    assert all(r["source"] == "quantum states" for r in rows), rows
+    ring1 = [r for r in rows if r["label"] == "ring 1"]
+    assert len(ring1) == 2
+    for r in ring1:
+        assert r["classical_free_energy_k"] < -15.0           # the classical cell value, deep in the well's edge
+        assert -9.0 < r["free_energy_k"] < -5.0                # the states' value
+    shares = sum(r["boltzmann_share"] for r in rows)
+    assert shares == pytest.approx(1.0, rel=1e-12)           # every computed state's weight given out once
+
+
+def test_the_states_summary_keeps_every_state_s_probability_and_potential():
+    # the per-block probability sums and ⟨n|V|n⟩ kept for every state agree with the whole vectors kept for the
+    # lowest ones (the same numbers, summed two ways; single precision for the sums)
+    g = geometry_stage(Scenario(size_angstrom=12.0, wall_angstrom=8.0, adsorbate="helium-4", temperature_k=1.5))
+    st = solve_states(g.pore, g.pair, g.adsorbate.hbar2_over_mk, temperature_k=1.5)
+    n = st.vectors.shape[1]
+    assert 0 < n < st.energies_k.size
+    prob = st.vectors ** 2
+    np.testing.assert_allclose(st.home_density.sum(axis=0), 1.0, rtol=1e-5)
+    np.testing.assert_allclose(st.state_potential_k[:n], st.potential_k @ prob, rtol=1e-9, atol=1e-9)
+    # each block's centre lies within a grid spacing of its members
+    assert st.home_points.shape[0] < st.points.shape[0] / 3

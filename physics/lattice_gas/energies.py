@@ -4,7 +4,7 @@ Per site i, at temperature T (K; energies as E/k_B):
 
 - classical site model: ⟨V⟩_i = ∫_cell V e^{−V/kT} dA / ∫_cell e^{−V/kT} dA on the cell's converged quadrature
   nodes (`porefill.physics.sites.cells`), and the kinetic energy of free classical motion, 3kT/2;
-- quantum site model: the states given to the site's orbit (`porefill.physics.sites.quantum.state_homes`), Boltzmann weights
+- quantum site model: the states given to the site's orbit (`porefill.physics.sites.quantum.state_shares`), Boltzmann weights
   b_n: ⟨V⟩_i = Σ b_n ⟨n|V|n⟩ / Σ b_n and kinetic Σ b_n (E_n − ⟨n|V|n⟩) / Σ b_n + kT/2 (free motion along the
   axis). Sites no computed state reaches keep the classical values, as their free energies do.
 
@@ -46,19 +46,18 @@ def _classical(cells, temperature_k: float):
 
 
 def _quantum(geometry, temperature_k: float, potential: np.ndarray, kinetic: np.ndarray):
-    from porefill.physics.sites.quantum import cached_states, state_homes
+    from porefill.physics.sites.quantum import cached_states, first_row_orbits, state_shares
 
     kt = float(temperature_k)
     states = cached_states(geometry, kt)
     lat = geometry.candidates
-    home = state_homes(states, lat.x, lat.y, geometry.orbit, kt)
-    n_orbits = int(geometry.orbit.max()) + 1
+    shares = state_shares(states, lat.x, lat.y, geometry.orbit, first_row_orbits(geometry), kt)   # (orbits, K)
     b = np.exp(-(states.energies_k - states.energies_k[0]) / kt)
-    v_n = states.potential_k @ np.abs(states.vectors) ** 2          # ⟨n|V|n⟩, K
-    weight = np.bincount(home, weights=b, minlength=n_orbits)
+    v_n = states.state_potential_k                                  # ⟨n|V|n⟩, K
+    weight = shares @ b
     with np.errstate(invalid="ignore", divide="ignore"):
-        v_orbit = np.bincount(home, weights=b * v_n, minlength=n_orbits) / weight
-        k_orbit = np.bincount(home, weights=b * (states.energies_k - v_n), minlength=n_orbits) / weight + 0.5 * kt
+        v_orbit = shares @ (b * v_n) / weight
+        k_orbit = shares @ (b * (states.energies_k - v_n)) / weight + 0.5 * kt
     reached = (weight > 0)[geometry.orbit]
     return (np.where(reached, v_orbit[geometry.orbit], potential),
             np.where(reached, k_orbit[geometry.orbit], kinetic))

@@ -30,13 +30,14 @@ from porefill.physics.sites.symmetry_blocks import block_states, symmetry_blocks
 from porefill.physics.pore.wall_potential import wall_potential
 
 __all__ = ["states_numbers", "CrossSectionStates", "solve_states", "thermal_wavelength_angstrom", "classical_boltzmann_area",
-           "grid_states", "potential_grid", "henry_constant", "assign_states", "state_homes", "quantum_site_free_energy", "cached_states",
+           "grid_states", "potential_grid", "states_wanted_top_k", "state_shares", "first_row_orbits", "henry_constant", "assign_states", "state_homes", "quantum_site_free_energy", "cached_states",
            "orbit_sources"]
 
 _WALL_CUT_K = 2000.0          # grid points with V above this are outside the problem (hard wall; 400 K moves E0 by 0.1 K)
-_WEIGHT_FRACTION = 1e-6       # stop adding states once the next carries less Boltzmann weight than this
+_WEIGHT_FRACTION = 1e-6       # the first layer's states: until the next carries less Boltzmann weight than this
+_INNER_MARGIN_KT = 4.0        # every row's states: up to this many kT above the potential at the pore's centre
 _FIRST_STATES = 24
-_MAX_STATES = 240
+_MAX_STATES = 480
 _FINE_STEP_ANGSTROM = 0.04    # sample spacing of the classical integral where exp(−V/kT) matters
 TOLERANCE_KT = 0.01           # the one-atom free energy's estimated grid error, in units of kT
 _ERROR_DIVISOR = 7.0          # |E_h − E_2h| / this: the finer grid's error, short of the asymptotic 15 (see solve_states)
@@ -84,19 +85,25 @@ def _hamiltonian(v: np.ndarray, pairs, h: float, hbar2_over_mk: float) -> sparse
 
 
 def grid_states(v: np.ndarray, pairs, h: float, hbar2_over_mk: float, *, k: int,
-                shift: float, points: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
+                shift: float, points: np.ndarray | None = None,
+                vectors: bool | int = True, hint: list | None = None,
+                owners: list | None = None, reduce=None):
     """The k eigenpairs of the grid Hamiltonian nearest above ``shift`` (energies ascending, vectors
     normalised to Σ|ψ|² = 1), by shift-invert Lanczos with a sparse LU of H − σ.
 
     With the grid's ``points``, the Hamiltonian is split into the symmetry blocks the grid and the potential
     keep (C6v's for the hexagon and the cylinder, the mirrors' otherwise;
     `porefill.physics.sites.symmetry_blocks`) and solved block by block: the same states, several times
-    faster."""
+    faster. ``vectors`` (all, the lowest so many, or none), ``reduce`` (a summary of every state's |ψ|²,
+    returned third), ``hint`` and ``owners`` (the blocks' shares asked first, and the block of each state
+    found): with the points only (`porefill.physics.sites.symmetry_blocks.block_states`)."""
     k = int(min(k, v.size - 2))
     hamiltonian = _hamiltonian(v, pairs, h, hbar2_over_mk)
     if points is None:
-        return _shift_invert(hamiltonian.tocsc(), k, shift)
-    return block_states(hamiltonian, symmetry_blocks(points, v), k=k, shift=shift, solve=_shift_invert)
+        e, vec = _shift_invert(hamiltonian.tocsc(), k, shift)
+        return e, (vec if vectors else None)
+    return block_states(hamiltonian, symmetry_blocks(points, v), k=k, shift=shift, solve=_shift_invert,
+                        vectors=vectors, hint=hint, owners=owners, reduce=reduce)
 
 
 _DENSE_BELOW = 800           # blocks this small are solved densely: exact, quicker, and no Krylov space to converge
@@ -143,9 +150,15 @@ def _arpack(hamiltonian: sparse.csc_matrix, k: int, shift: float) -> tuple[np.nd
 class CrossSectionStates:
     """The lowest one-atom states of a pore cross-section.
 
-    ``energies_k`` (K,) ascending, Richardson-extrapolated; ``vectors`` (P, K) on ``points`` (P, 2), each
-    normalised so that Σ_p |ψ_p|² = 1 (a point stands for an area ``point_area_angstrom2``);
+    ``energies_k`` (K,) ascending, Richardson-extrapolated; ``vectors`` (P, K_v) the lowest K_v ≤ K states
+    on ``points`` (P, 2), each normalised so that Σ_p |ψ_p|² = 1 (a point stands for an area
+    ``point_area_angstrom2``): those that carry the one-atom Boltzmann sum (the maps and densities use them);
     ``potential_k`` (P,) the wall potential there; ``error_k`` the estimated error of the energies.
+    Of every state, K of them: ``state_potential_k`` (K,) ⟨n|V|n⟩ (K), and ``home_density`` (B, K) its
+    probability summed over blocks of four neighbouring grid points, centred at ``home_points`` (B, 2), in
+    single precision — what `state_homes` needs to give the inner rows their states, at a sixteenth of the
+    memory of the vectors (a 25 Å pore holds some 450 states on 90 000 points). ``centre_potential_k`` the
+    wall potential at the pore's centre, which sets how many states are wanted (`states_wanted_top_k`).
     """
 
     energies_k: np.ndarray
@@ -157,6 +170,10 @@ class CrossSectionStates:
     capped: bool
     potential_minimum_k: float
     hbar2_over_mk: float
+    state_potential_k: np.ndarray
+    home_points: np.ndarray
+    home_density: np.ndarray
+    centre_potential_k: float
 
     @property
     def point_area_angstrom2(self) -> float:
@@ -213,13 +230,14 @@ class CrossSectionStates:
         return w / w.sum()
 
     def thermal_density(self, temperature_k: float) -> np.ndarray:
-        """(P,) one-atom probability density at the grid points, per Å² (integrates to 1)."""
-        return (np.abs(self.vectors) ** 2 @ self.weights(temperature_k)) / self.point_area_angstrom2
+        """(P,) one-atom probability density at the grid points, per Å² (integrates to 1, less the weight of
+        the states above the stored vectors: below 1e-6 at the temperature the states were solved for)."""
+        n = self.vectors.shape[1]
+        return (np.abs(self.vectors) ** 2 @ self.weights(temperature_k)[:n]) / self.point_area_angstrom2
 
     def mean_potential_k(self, temperature_k: float) -> float:
         """⟨V⟩ of one atom at temperature T (K)."""
-        per_state = self.potential_k @ np.abs(self.vectors) ** 2
-        return float(per_state @ self.weights(temperature_k))
+        return float(self.state_potential_k @ self.weights(temperature_k))
 
     def mean_kinetic_k(self, temperature_k: float) -> float:
         """⟨kinetic⟩ of one atom: in-plane ⟨E − V⟩ plus kT/2 for the free motion along the axis (K)."""
@@ -264,13 +282,37 @@ def classical_boltzmann_area(pore, pair, temperature_k: float, *, spacing_angstr
     return float(total * np.exp(-vmin / kt))
 
 
+def states_wanted_top_k(ground_k: float, centre_potential_k: float, temperature_k: float, *,
+                        weight_fraction: float = _WEIGHT_FRACTION, inner_margin_kt: float = _INNER_MARGIN_KT) -> float:
+    """The energy (K) up to which the states are wanted: the higher of
+
+    - E₀ − kT ln(``weight_fraction``): the states that carry the one-atom Boltzmann sum (the first layer), and
+    - min(V_centre, 0) + ``inner_margin_kt`` kT: every state of every row up to a few kT above the highest
+      point of the pore's potential basin (its centre), so that the inner rows' sites are given their own
+      states (`assign_states`) rather than a classical cell integral. A state homed on an inner site lies
+      above the potential there, so what is left out above this top weighs at most (A_cell/λ²) e^{−margin}
+      of that site's own sum (0.3 e^{−4} ≈ 5e-3 for helium's cells at 1.5 K; in the 15 Å demo pore every
+      site's free energy is within 0.003 kT of a 10 kT margin's; tests/test_quantum_tail.py checks that the
+      steps do not move when the margin and the weight fraction are tightened).
+    """
+    kt = float(temperature_k)
+    return float(max(ground_k - kt * np.log(weight_fraction), min(centre_potential_k, 0.0) + inner_margin_kt * kt))
+
+
+def _weyl_count(v: np.ndarray, point_area: float, top_k: float, hbar2_over_mk: float) -> float:
+    """Weyl's estimate of the number of states below ``top_k``: N(E) = (m/2πħ²) ∫ (E − V)₊ dA."""
+    return float(np.clip(top_k - v, 0.0, None).sum() * point_area / (2.0 * np.pi * hbar2_over_mk))
+
+
 def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_kt: float = TOLERANCE_KT,
                  spacing_angstrom: float = 0.25, weight_fraction: float = _WEIGHT_FRACTION,
-                 max_states: int = _MAX_STATES, min_spacing_angstrom: float = 0.05) -> CrossSectionStates:
-    """The lowest states, as many as the temperature needs (until the next carries less than
-    ``weight_fraction`` of the ground state's Boltzmann weight, or ``max_states``: then ``capped``), on a
-    grid fine enough that the estimated error of the one-atom free energy −kT ln Σ_n e^{−E_n/kT} — the
-    Boltzmann-weighted mean error of the levels — is below ``tol_kt`` × kT.
+                 inner_margin_kt: float = _INNER_MARGIN_KT, max_states: int = _MAX_STATES,
+                 min_spacing_angstrom: float = 0.05) -> CrossSectionStates:
+    """The lowest states, as many as the temperature needs — every state below `states_wanted_top_k` (the
+    first layer's states to ``weight_fraction`` of the ground state's weight, and every row's states to
+    ``inner_margin_kt`` above the pore centre's potential), or ``max_states``: then ``capped`` — on a grid
+    fine enough that the estimated error of the one-atom free energy −kT ln Σ_n e^{−E_n/kT} (the
+    Boltzmann-weighted mean error of the levels) is below ``tol_kt`` × kT.
 
     The estimate compares grids h and 2h. The scheme is fourth order, so asymptotically the finer grid's
     error is |E_h − E_2h|/15; but at the grids used here the steep wall keeps it from the asymptote (helium in
@@ -279,9 +321,16 @@ def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_
     energies returned are Richardson-extrapolated level by level, E_h + (E_h − E_2h)/15, which leaves far
     less than the estimate (those two pores at h = 0.125 Å: 2e-4 K; tests/test_quantum_convergence.py checks
     against an independent square-grid solver). ``error_k`` is the estimate, a bound for the returned levels.
+    How many states the top needs is first estimated by Weyl's law on the coarse grid, then counted there.
     """
     h = float(spacing_angstrom)
     kt = float(temperature_k)
+    centre = float(np.asarray(wall_potential(0.0, 0.0, pore=pore, pair=pair)))
+
+    def top(ground_k: float) -> float:
+        return states_wanted_top_k(ground_k, centre, kt, weight_fraction=weight_fraction,
+                                   inner_margin_kt=inner_margin_kt)
+
     coarse = None                      # (ec, points of grid 2h) once solved
     while True:
         pts, v, pairs = _grid(pore, pair, h)
@@ -290,25 +339,38 @@ def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_
             if vc.size < _FIRST_STATES + 2:
                 raise ValueError(f"the pore is too small for the adsorbate: only {v.size} points of a {h:g} Å "
                                  f"grid over its cross-section lie below {_WALL_CUT_K:g} K, too few for its states")
-            ec, k = None, _FIRST_STATES
+            # a first guess from Weyl's law at the lowest the ground state can be
+            weyl = _weyl_count(vc, np.sqrt(3.0) / 2.0 * (2.0 * h) ** 2, top(float(vc.min())), hbar2_over_mk)
+            ec, k = None, int(min(max(_FIRST_STATES, 1.15 * weyl + 8), max_states))
         else:
             (ec, ptc, vc, pc), k = coarse, len(coarse[0])
-        # how many states the temperature needs, found on the coarse grid (four times fewer points), then
-        # the fine grid solved once for that many and a few more
+        # how many states are wanted, counted on the coarse grid (four times fewer points), then the fine
+        # grid solved once for that many and a few more
         asked = None
-        while ec is None or not (np.exp(-(ec[-1] - ec[0]) / kt) < weight_fraction or len(ec) >= max_states
+        while ec is None or not (ec[-1] >= top(ec[0]) or len(ec) >= max_states
                                  or len(ec) >= vc.size - 2 or (asked is not None and len(ec) < asked)):
             if ec is not None:
                 k = min(2 * k, max_states)
             asked = min(k, vc.size - 2)
             # a grid split into symmetry blocks holds a few states fewer than its points: fewer than asked
             # back means the grid has no more to give
-            ec, _ = grid_states(vc, pc, 2.0 * h, hbar2_over_mk, k=asked, shift=float(vc.min()) - 1.0, points=ptc)
-        above = ec[0] - kt * np.log(weight_fraction)
-        k = int(min(max(np.searchsorted(ec, above) + 6, _FIRST_STATES), len(ec), v.size - 2))
+            owners = []
+            ec, _ = grid_states(vc, pc, 2.0 * h, hbar2_over_mk, k=asked, shift=float(vc.min()) - 1.0, points=ptc,
+                                vectors=False, owners=owners)
+        k = int(min(max(np.searchsorted(ec, top(ec[0])) + 6, _FIRST_STATES), len(ec), v.size - 2))
+        # each block asked first for its share of the k states on the coarse grid (no block solved twice);
         # shift just below the ground state: the wanted eigenvalues of (H − σ)⁻¹ are then well apart
-        e, vec = grid_states(v, pairs, h, hbar2_over_mk, k=k, shift=float(ec[0]) - 2.0, points=pts)
-        enough = bool(np.exp(-(e[-1] - e[0]) / kt) < weight_fraction)
+        hint = list(np.bincount(np.asarray(owners[:k], int))) if len(owners) >= k else None
+        owners = []
+        # the whole vectors of the states that carry the Boltzmann sum (the first layer's rule; the others'
+        # |ψ|² only as sums over blocks of four points, and ⟨n|V|n⟩)
+        n_whole = int(np.searchsorted(ec, ec[0] - kt * np.log(weight_fraction), side="right")) + 8
+        block_points, blocks = _home_blocks(pts, h)
+        summary = sparse.vstack([blocks, sparse.csr_matrix(v[None, :])]).tocsr()
+        e, vec, reduced = grid_states(v, pairs, h, hbar2_over_mk, k=k, shift=float(ec[0]) - 2.0, points=pts,
+                                      hint=hint, owners=owners, vectors=max(_FIRST_STATES, n_whole),
+                                      reduce=summary)
+        enough = bool(e[-1] >= top(e[0]))
         n = min(len(e), len(ec))
         # the error that reaches every result: that of the one-atom free energy −kT ln Σ e^{−E/kT}, i.e. the
         # Boltzmann-weighted mean error of the levels (states far up the spectrum carry little weight)
@@ -321,8 +383,33 @@ def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_
     e = e.copy()
     e[:n] += (e[:n] - ec[:n]) / 15.0          # Richardson, fourth order
     order = np.argsort(e, kind="stable")
-    return CrossSectionStates(e[order], vec[:, order], pts, v, h, err, not enough,
-                              float(min(v.min(), _deepest(pore, pair))), float(hbar2_over_mk))
+    # Richardson can swap two close levels: the whole vectors kept are the lowest after it, whole bands
+    e, reduced = e[order], reduced[:, order]
+    keep = int(np.searchsorted(e, e[0] - kt * np.log(weight_fraction), side="right"))
+    band = _clusters(e, kt)
+    keep = int(min(vec.shape[1], max(_FIRST_STATES, np.searchsorted(band, band[max(keep - 1, 0)], side="right"))))
+    whole = order[:keep]
+    if whole.max(initial=0) >= vec.shape[1]:
+        keep = int(np.flatnonzero(order >= vec.shape[1])[0])        # stop before a state without its vector
+        whole = order[:keep]
+    return CrossSectionStates(e, np.ascontiguousarray(vec[:, whole]), pts, v, h, err, not enough,
+                              float(min(v.min(), _deepest(pore, pair))), float(hbar2_over_mk), reduced[-1].copy(),
+                              block_points, np.asarray(reduced[:-1], dtype=np.float32), centre)
+
+
+def _home_blocks(points: np.ndarray, h: float):
+    """Blocks of four neighbouring points of the triangular grid of spacing h (a rhombus of the grid twice as
+    coarse): each block's centre (B, 2) and the (B, P) sparse sum over its members."""
+    j = np.rint(points[:, 1] / (h * np.sqrt(3.0) / 2.0)).astype(int)
+    i = np.rint(points[:, 0] / h - 0.5 * j).astype(int)
+    key = np.floor_divide(i, 2) * 1_000_003 + np.floor_divide(j, 2)
+    _, block = np.unique(key, return_inverse=True)
+    n_blocks = int(block.max()) + 1
+    summed = sparse.csr_matrix((np.ones(points.shape[0]), (block, np.arange(points.shape[0]))),
+                               shape=(n_blocks, points.shape[0]))
+    count = np.asarray(summed.sum(axis=1)).ravel()
+    centres = np.column_stack([summed @ points[:, 0], summed @ points[:, 1]]) / count[:, None]
+    return centres, summed
 
 
 def _deepest(pore, pair) -> float:
@@ -340,41 +427,82 @@ def _clusters(energies: np.ndarray, temperature_k: float) -> np.ndarray:
     return np.concatenate([[0], np.cumsum(np.diff(energies) > gap)])
 
 
+def _orbit_probability(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray) -> np.ndarray:
+    """(orbits, K) each state's probability on each orbit's sites: its blocks of grid points summed by the
+    site nearest them."""
+    sites = np.column_stack([site_x, site_y])
+    nearest = cKDTree(sites).query(states.home_points)[1]                   # (B,) site of each block of points
+    n_orbits, n_blocks = int(orbit.max()) + 1, states.home_points.shape[0]
+    by_orbit = sparse.csr_matrix((np.ones(n_blocks), (orbit[nearest], np.arange(n_blocks))),
+                                 shape=(n_orbits, n_blocks))
+    return np.asarray(by_orbit @ states.home_density, dtype=float)
+
+
+def _band_probability(per_orbit: np.ndarray, band: np.ndarray) -> np.ndarray:
+    """(orbits, bands) the probability of each band's states summed."""
+    members = sparse.csr_matrix((np.ones(band.size), (np.arange(band.size), band)), shape=(band.size, band[-1] + 1))
+    return np.asarray(per_orbit @ members)
+
+
 def state_homes(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, temperature_k: float) -> np.ndarray:
     """(K,) the symmetry orbit each computed state is given to.
 
     Each band of near-degenerate states goes, whole, to the orbit of sites that holds most of its
-    probability (the band's probability summed over the grid points nearest each site).
+    probability (the band's probability summed over the blocks of grid points nearest each site).
     """
-    sites = np.column_stack([site_x, site_y])
-    nearest = cKDTree(sites).query(states.points)[1]                        # (P,) site of each grid point
-    n_orbits = int(orbit.max()) + 1
-    prob = np.abs(states.vectors) ** 2                                      # (P, K), columns sum to 1
-    per_orbit = np.zeros((n_orbits, prob.shape[1]))
-    np.add.at(per_orbit, orbit[nearest], prob)
     band = _clusters(states.energies_k, float(temperature_k))
-    home = np.empty(band.size, int)
-    for b in range(band[-1] + 1):
-        members = band == b
-        home[members] = int(np.argmax(per_orbit[:, members].sum(axis=1)))
-    return home
+    return np.argmax(_band_probability(_orbit_probability(states, site_x, site_y, orbit), band), axis=0)[band]
 
 
-def assign_states(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, temperature_k: float):
+def state_shares(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, first_row: np.ndarray,
+                 temperature_k: float) -> np.ndarray:
+    """(orbits, K) how each computed state's Boltzmann weight is split among the orbits (columns sum to 1).
+
+    A band whose home (`state_homes`) is an orbit of the first row (``first_row``: (orbits,) bool, the
+    sites in the wall's well) goes to it whole: the first layer's states reach into the next row only by
+    their evanescent tails, and those carry far more weight there than the next row's own states, so a
+    share by probability would bind the next row by the first layer's states. A band homed on an inner
+    row is shared among the inner orbits in proportion to its probability on each: above the first layer
+    the states spread over several rows, and a whole-band rule would give nothing to a small orbit (the
+    centre's single site) that every band overlaps but none is mostly on.
+    """
+    band = _clusters(states.energies_k, float(temperature_k))
+    prob = _band_probability(_orbit_probability(states, site_x, site_y, orbit), band)   # (orbits, bands)
+    home = np.argmax(prob, axis=0)
+    first = np.asarray(first_row, bool)
+    shares = np.zeros_like(prob)
+    outer = first[home]
+    shares[home[outer], np.flatnonzero(outer)] = 1.0
+    inner = prob[:, ~outer] * (~first)[:, None]
+    shares[:, ~outer] = inner / inner.sum(axis=0, keepdims=True)
+    return shares[:, band]
+
+
+def assign_states(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, temperature_k: float,
+                  first_row: np.ndarray | None = None):
     """Σ_n exp(−E_n/kT) of the states given to each site (N,), and which sites got any.
 
-    Bands go whole to their home orbit (`state_homes`), shared evenly by the orbit's sites. A band's
-    evanescent tails in the next row are therefore never counted as binding there, and Σ_sites equals the
+    Each state's weight is split among the orbits by `state_shares` (``first_row`` None: every band goes
+    whole to its home orbit), and an orbit's part shared evenly by its sites. Σ_sites equals the
     Boltzmann sum of the computed states exactly.
     """
     kt = float(temperature_k)
-    home = state_homes(states, site_x, site_y, orbit, kt)
     n_orbits = int(orbit.max()) + 1
+    if first_row is None:
+        first_row = np.ones(n_orbits, bool)
+    shares = state_shares(states, site_x, site_y, orbit, first_row, kt)
     boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)      # relative to the ground state
-    per_orbit = np.bincount(home, weights=boltz, minlength=n_orbits)
+    per_orbit = shares @ boltz
     size = np.bincount(orbit, minlength=n_orbits).astype(float)
     z = per_orbit[orbit] / size[orbit]
     return z, z > 0
+
+
+def first_row_orbits(geometry) -> np.ndarray:
+    """(orbits,) whether each symmetry orbit of a geometry stage's candidate sites lies in the first row."""
+    orbit = geometry.orbit
+    return np.bincount(orbit, weights=(geometry.candidates.ring == 0).astype(float),
+                       minlength=int(orbit.max()) + 1) > 0
 
 
 def quantum_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
@@ -414,7 +542,7 @@ def _site_free_energies(states: CrossSectionStates, geometry, kt: float):
     not touch it); where its region dips below the cut, the part below is the computed states' (homed
     elsewhere) and only the floored integral T_i counts."""
     lat = geometry.candidates
-    z_rel, reached = assign_states(states, lat.x, lat.y, geometry.orbit, kt)
+    z_rel, reached = assign_states(states, lat.x, lat.y, geometry.orbit, kt, first_row_orbits(geometry))
     tail, floored = _site_tails(states, geometry, kt)
     lam = thermal_wavelength_angstrom(states.hbar2_over_mk, kt)
     f = geometry.cells.free_energies(kt, lat.cell_area_angstrom2)
@@ -425,7 +553,7 @@ def _site_free_energies(states: CrossSectionStates, geometry, kt: float):
 
 def orbit_sources(states: CrossSectionStates, geometry, temperature_k: float) -> list[dict]:
     """Where each symmetry orbit's free energy comes from, for the readout: per orbit its label, site count,
-    the computed states given to it (`state_homes`) and their share of the Boltzmann sum, the free energy the
+    the computed states homed on it (`state_homes`), its share of the Boltzmann sum (`state_shares`), the free energy the
     quantum site model uses (K) and the orbit's classical value beside it. An orbit no computed state reaches
     keeps its classical cell integral (source "classical"), or where its region dips below the states' cut the
     semiclassical integral above it ("semiclassical above the states"); the others are "quantum states"."""
@@ -433,37 +561,42 @@ def orbit_sources(states: CrossSectionStates, geometry, temperature_k: float) ->
     lat = geometry.candidates
     f, reached, f_classical, floored = _site_free_energies(states, geometry, kt)
     home = state_homes(states, lat.x, lat.y, geometry.orbit, kt)
+    shares = state_shares(states, lat.x, lat.y, geometry.orbit, first_row_orbits(geometry), kt)
     boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)
     out = []
     for o in range(int(geometry.orbit.max()) + 1):
         members = np.flatnonzero(geometry.orbit == o)
         rep = int(members[0])
-        mine = home == o
         out.append({"orbit": o, "label": lat.label(rep), "sites": int(members.size),
                     "source": ("quantum states" if reached[rep] else
                                "semiclassical above the states" if floored[rep] else "classical"),
-                    "states": int(mine.sum()), "boltzmann_share": float(boltz[mine].sum() / boltz.sum()),
+                    "states": int((home == o).sum()), "boltzmann_share": float(shares[o] @ boltz / boltz.sum()),
                     "free_energy_k": float(f[rep]), "classical_free_energy_k": float(f_classical[rep])})
     return out
 
 
 _STATES = BoundedCache(16)    # geometry key -> (temperature the states were solved for, states)
-_REUSE_FRACTION = 1e-4      # held states serve a warmer temperature while their top carries less than this
+_REUSE_MARGIN_KT = 2.0        # held states serve a warmer temperature while their top is within this of the wanted top
 
 
 def cached_states(geometry, temperature_k: float) -> CrossSectionStates:
     """The states of a geometry stage, computed once and reused for every temperature they cover: a lower
-    temperature needs fewer states, and a somewhat higher one is covered while the highest state held keeps
-    less than ``_REUSE_FRACTION`` of the ground state's Boltzmann weight there (so a temperature slider
-    nudged upwards does not solve again)."""
+    temperature needs fewer states, and a somewhat higher one is covered while the highest state held lies
+    no more than ``_REUSE_MARGIN_KT`` kT below the top that temperature wants (`states_wanted_top_k`: the
+    margin of every row's states shrinks from 4 to 2 kT at worst), so a temperature slider nudged upwards
+    does not solve again."""
     key = geometry.scenario_key          # the states do not depend on the lattice
     held = _STATES.get(key)
     if held is not None:
         e = held[1].energies_k
-        covered = held[0] >= temperature_k or np.exp(-(e[-1] - e[0]) / temperature_k) < _REUSE_FRACTION
+        kt = float(temperature_k)
+        wanted = states_wanted_top_k(float(e[0]), held[1].centre_potential_k, kt,
+                                     weight_fraction=_WEIGHT_FRACTION, inner_margin_kt=_INNER_MARGIN_KT)
+        covered = held[0] >= temperature_k or e[-1] >= wanted - _REUSE_MARGIN_KT * kt
     if held is None or not covered:
         states = solve_states(geometry.pore, geometry.pair, geometry.adsorbate.hbar2_over_mk,
-                              temperature_k=temperature_k)
+                              temperature_k=temperature_k, weight_fraction=_WEIGHT_FRACTION,
+                              inner_margin_kt=_INNER_MARGIN_KT)
         held = (float(temperature_k), states)
         _STATES.put(key, held)
     return held[1]

@@ -69,5 +69,8 @@ def state_bands(states, geometry, temperature_k: float, *, labels: list[str] | N
 def band_density(states, band: Band) -> np.ndarray:
     """(P,) probability density of a band (its states summed, normalised to one state), per Å²: a
     degenerate band summed over its members has the pore's full symmetry."""
+    if band.first + band.degeneracy > states.vectors.shape[1]:
+        raise ValueError(f"the band at +{band.excitation_k:.2f} K lies above the states whose vectors are kept "
+                         f"({states.vectors.shape[1]})")
     prob = np.abs(states.vectors[:, band.first:band.first + band.degeneracy]) ** 2
     return prob.sum(axis=1) / band.degeneracy / states.point_area_angstrom2

@@ -199,20 +199,31 @@ def symmetry_blocks(points: np.ndarray, potential_k: np.ndarray) -> list[Block]:
 
 
 def block_states(hamiltonian: sparse.spmatrix, blocks, *, k: int, shift: float,
-                 solve) -> tuple[np.ndarray, np.ndarray]:
+                 solve, vectors: bool | int = True, hint: list | None = None,
+                 owners: list | None = None, reduce=None):
     """The k lowest eigenpairs of ``hamiltonian`` (all above ``shift``), block by block.
 
     ``blocks``: `Block`s (or bare bases, each a block of degeneracy 1). ``solve(block, k_block, shift) ->
     (energies ascending, vectors)`` solves one block. Each block is first asked for its share of the k
     states (a share and a few more); a block whose highest state found still lies below the k-th lowest of
     all is asked again for twice as many, so no state is missed. A state of a block of degeneracy 2 counts
-    twice and comes with its partner.
+    twice and comes with its partner. ``vectors``: True, every state's vector on the whole grid; an int, the
+    lowest that many only; False with no ``reduce``, the energies alone (None for the vectors).
+    ``reduce``: a (R, P) sparse matrix applied to every state's |ψ|² on the whole grid, returned third
+    (R, k), so that a summary of many states never needs all their vectors at once. ``hint``: how many of the k states (partners counted) each
+    block holds on another grid of the same blocks (a coarser one), asked of each block first (and a few
+    more) so that no block is solved twice. ``owners``: a list, filled with the block of each state returned.
     """
     blocks = [b if isinstance(b, Block) else Block(b) for b in blocks]
     mats = [(b.basis.T @ hamiltonian @ b.basis).tocsc() for b in blocks]
     sizes = [m.shape[0] for m in mats]
     total = sum(b.degeneracy for b in blocks)
-    want = [min(max(k * b.degeneracy // total // b.degeneracy + 4, 6), s - 2) for b, s in zip(blocks, sizes)]
+    if hint is not None and len(hint) <= len(blocks):
+        hint = list(hint) + [0] * (len(blocks) - len(hint))
+        per_solve = [-(-int(c) // b.degeneracy) for c, b in zip(hint, blocks)]    # a partner comes with its state
+        want = [min(max(c + 4 + c // 10, 6), s - 2) for c, s in zip(per_solve, sizes)]
+    else:
+        want = [min(max(k * b.degeneracy // total // b.degeneracy + 4, 6), s - 2) for b, s in zip(blocks, sizes)]
     found: list = [None] * len(blocks)
     while True:
         for i, m in enumerate(mats):
@@ -226,16 +237,38 @@ def block_states(hamiltonian: sparse.spmatrix, blocks, *, k: int, shift: float,
             break
         for i in short:
             want[i] = min(2 * want[i], sizes[i] - 2)
-    columns = []
-    for f, b in zip(found, blocks):
-        psi = np.asarray(b.basis @ f[1])
-        if b.degeneracy == 1:
-            columns.append(psi)
-        else:
-            pair = np.empty((psi.shape[0], 2 * psi.shape[1]))
-            pair[:, 0::2] = psi
-            pair[:, 1::2] = b.partner(psi)
-            columns.append(pair)
-    vectors = np.column_stack(columns)
     order = np.argsort(energies, kind="stable")[:k]
-    return energies[order], vectors[:, order]
+    if owners is not None:
+        owner = np.concatenate([np.full(f[0].size * b.degeneracy, i) for i, (f, b) in enumerate(zip(found, blocks))])
+        owners[:] = list(owner[order])
+    if vectors is False and reduce is None:
+        return energies[order], None
+    # only the kept states are put together on the grid, a block at a time (states are listed block by block,
+    # a degenerate block's state followed by its partner); ``reduce`` sees every kept state, the whole
+    # vectors are kept for the lowest ``vectors`` only
+    n_vectors = order.size if vectors is True else int(vectors)
+    position = np.full(energies.size, -1)
+    position[order] = np.arange(order.size)
+    out = np.empty((hamiltonian.shape[0], n_vectors))
+    reduced = None if reduce is None else np.empty((reduce.shape[0], order.size))
+    start = 0
+    for f, b in zip(found, blocks):
+        at = position[start:start + f[0].size * b.degeneracy].reshape(-1, b.degeneracy)
+        start += f[0].size * b.degeneracy
+        use = np.flatnonzero((at >= 0).any(axis=1))
+        if not use.size:
+            continue
+        psi = np.asarray(b.basis @ np.ascontiguousarray(f[1][:, use]))
+        members = [psi] if b.degeneracy == 1 else [psi, b.partner(psi)]
+        for m, member in enumerate(members):
+            keep = at[use, m] >= 0
+            cols = at[use, m][keep]
+            member = member[:, keep]
+            if reduced is not None:
+                reduced[:, cols] = reduce @ (member * member)
+            whole = cols < n_vectors
+            if whole.any():
+                out[:, cols[whole]] = member[:, whole]
+    if reduce is not None:
+        return energies[order], out, reduced
+    return energies[order], out
