@@ -198,11 +198,18 @@ def test_states_command_json():
     assert data["grid"]["spacing_angstrom"] > 0 and data["states_used"] == len(data["energies_k"])
     assert data["energies_k"] == sorted(data["energies_k"])
     # every orbit says where its free energy comes from (issue: the states readout names the source per orbit)
+    # and since every row takes states (issue: helium's layers, quantum all the way), the centre's too
     sources = {o["label"]: o["source"] for o in data["orbits"]}
-    assert sources["corner"] == "quantum states" and sources["centre"] == "classical"
+    assert sources["corner"] == "quantum states" and sources["centre"] == "quantum states"
+    assert data["states_wanted"]["margin_kt"] > 0 and data["energies_k"][-1] >= data["states_wanted"]["top_k"]
     text = run("states", "--pore", "hexagon", "--size", "15", "--wall", "8", "--adsorbate", "helium-4",
                "--temperature", "1.5")
-    assert "per orbit" in text.stdout and "classical cell integral" in text.stdout
+    assert "per orbit" in text.stdout and "kT above the centre's potential" in text.stdout
+    # a cap below what the rule wants leaves inner orbits to the classical or semiclassical integrals, said so
+    capped = run("states", "--pore", "hexagon", "--size", "15", "--wall", "8", "--adsorbate", "helium-4",
+                 "--temperature", "1.5", "--max-states", "30")
+    assert capped.returncode == 0 and "reached its cap (30)" in capped.stderr
+    assert "no computed state reaches it" in capped.stdout
 
 
 def test_isotherm_site_model_is_reported():

@@ -244,8 +244,8 @@ def _cmd_states(args) -> int:
         from porefill.physics.lattice_gas.stages import geometry_stage
         geo = geometry_stage(scenario)
         t = scenario.temperature_k
-        st = solve_states(geo.pore, geo.pair, geo.adsorbate.hbar2_over_mk, temperature_k=t,
-                          max_states=args.max_states)
+        cap = {} if args.max_states is None else {"max_states": args.max_states}
+        st = solve_states(geo.pore, geo.pair, geo.adsorbate.hbar2_over_mk, temperature_k=t, **cap)
     except ValueError as exc:
         raise UsageError(str(exc)) from None
     from porefill.physics.sites.quantum import states_numbers
@@ -262,6 +262,10 @@ def _cmd_states(args) -> int:
     else:
         print(f"{scenario.adsorbate} at {t:g} K: ground state {st.ground_state_k:.3f} K, potential minimum "
               f"{st.potential_minimum_k:.3f} K, zero-point energy {st.zero_point_energy_k:.3f} K")
+        wanted = result["states_wanted"]
+        print(f"states wanted up to {wanted['top_k']:.3f} K: the first layer's to {wanted['weight_fraction']:g} of the "
+              f"ground state's weight, every row's to {wanted['margin_kt']:g} kT above the centre's potential "
+              f"({wanted['centre_potential_k']:.3f} K)")
         print(f"{st.energies_k.size} states{' (capped)' if st.capped else ''} on a {st.spacing_angstrom:g} Å grid "
               f"({st.points.shape[0]} points, energies good to about {st.error_k:.2g} K); the states above them, "
               f"summed semiclassically, hold {result['boltzmann_tail_fraction']:.2g} of the Boltzmann sum")
@@ -280,7 +284,7 @@ def _cmd_states(args) -> int:
             print(f"  {o['label']:>8} ×{o['sites']:<3} {o['free_energy_k']:9.3f} K  ({how}; classical "
                   f"{o['classical_free_energy_k']:.3f} K)")
     if st.capped:
-        sys.stderr.write(f"porefill: note: the state count reached --max-states {args.max_states}; the states "
+        sys.stderr.write(f"porefill: note: the state count reached its cap ({st.energies_k.size}); the states "
                          f"above it are summed semiclassically ({result['boltzmann_tail_fraction']:.2g} of the "
                          "Boltzmann sum)\n")
     return 0
@@ -395,7 +399,8 @@ def build_parser(*, serve_only: bool = False) -> argparse.ArgumentParser:
     add_pore_options(p)
     p.add_argument("--temperature", type=float,
                    help="temperature, K (sets how many states; default: the scenario file's)")
-    p.add_argument("--max-states", type=int, default=240, help="at most this many states (default 240)")
+    p.add_argument("--max-states", type=int, default=None,
+                   help="at most this many states (default: the model's own cap)")
     p.add_argument("--json", action="store_true", help="print JSON")
     p.set_defaults(func=_cmd_states)
 

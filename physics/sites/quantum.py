@@ -322,6 +322,8 @@ def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_
     less than the estimate (those two pores at h = 0.125 Å: 2e-4 K; tests/test_quantum_convergence.py checks
     against an independent square-grid solver). ``error_k`` is the estimate, a bound for the returned levels.
     How many states the top needs is first estimated by Weyl's law on the coarse grid, then counted there.
+    Levels above those the coarser grid was solved for (only the first layer's, when the grid was halved)
+    keep the finer grid's values, without the extrapolation (their error is about the estimate's size).
     """
     h = float(spacing_angstrom)
     kt = float(temperature_k)
@@ -331,55 +333,66 @@ def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_
         return states_wanted_top_k(ground_k, centre, kt, weight_fraction=weight_fraction,
                                    inner_margin_kt=inner_margin_kt)
 
-    coarse = None                      # (ec, points of grid 2h) once solved
+    def first_top(ground_k: float) -> float:
+        return ground_k - kt * np.log(weight_fraction)
+
+    # every state below the top counted on the grid 2h (four times fewer points than h), from a first guess by
+    # Weyl's law at the lowest the ground state can be
+    ptc, vc, pc = _grid(pore, pair, 2.0 * h)
+    if vc.size < _FIRST_STATES + 2:
+        raise ValueError(f"the pore is too small for the adsorbate: only {vc.size} points of a {2.0 * h:g} Å "
+                         f"grid over its cross-section lie below {_WALL_CUT_K:g} K, too few for its states")
+    weyl = _weyl_count(vc, np.sqrt(3.0) / 2.0 * (2.0 * h) ** 2, top(float(vc.min())), hbar2_over_mk)
+    ec, k, asked, owners = None, int(min(max(_FIRST_STATES, 1.15 * weyl + 8), max_states)), None, []
+    while ec is None or not (ec[-1] >= top(ec[0]) or len(ec) >= max_states
+                             or len(ec) >= vc.size - 2 or (asked is not None and len(ec) < asked)):
+        if ec is not None:
+            k = min(2 * k, max_states)
+        asked = min(k, vc.size - 2)
+        # a grid split into symmetry blocks holds a few states fewer than its points: fewer than asked
+        # back means the grid has no more to give
+        ec, _ = grid_states(vc, pc, 2.0 * h, hbar2_over_mk, k=asked, shift=float(vc.min()) - 1.0, points=ptc,
+                            vectors=False, owners=owners)
+    k_all = int(min(max(np.searchsorted(ec, top(ec[0])) + 6, _FIRST_STATES), len(ec)))
+    # each block is asked first for its share of the states on this grid, so that none is solved twice
+    hint = list(np.bincount(np.asarray(owners[:k_all], int)))
+    # The grid is halved while the error estimate (grids h and 2h) exceeds the tolerance. Only the states that
+    # carry the Boltzmann sum (the first layer's rule) decide it, so grids that turn out too coarse are solved
+    # for those alone; a grid expected to pass (the last estimate over the 10-fold fall per halving measured
+    # here) is solved for every state at once.
+    expected = None
     while True:
         pts, v, pairs = _grid(pore, pair, h)
-        if coarse is None:
-            ptc, vc, pc = _grid(pore, pair, 2.0 * h)
-            if vc.size < _FIRST_STATES + 2:
-                raise ValueError(f"the pore is too small for the adsorbate: only {v.size} points of a {h:g} Å "
-                                 f"grid over its cross-section lie below {_WALL_CUT_K:g} K, too few for its states")
-            # a first guess from Weyl's law at the lowest the ground state can be
-            weyl = _weyl_count(vc, np.sqrt(3.0) / 2.0 * (2.0 * h) ** 2, top(float(vc.min())), hbar2_over_mk)
-            ec, k = None, int(min(max(_FIRST_STATES, 1.15 * weyl + 8), max_states))
-        else:
-            (ec, ptc, vc, pc), k = coarse, len(coarse[0])
-        # how many states are wanted, counted on the coarse grid (four times fewer points), then the fine
-        # grid solved once for that many and a few more
-        asked = None
-        while ec is None or not (ec[-1] >= top(ec[0]) or len(ec) >= max_states
-                                 or len(ec) >= vc.size - 2 or (asked is not None and len(ec) < asked)):
-            if ec is not None:
-                k = min(2 * k, max_states)
-            asked = min(k, vc.size - 2)
-            # a grid split into symmetry blocks holds a few states fewer than its points: fewer than asked
-            # back means the grid has no more to give
+        last = h / 2.0 < min_spacing_angstrom
+        every = last or (expected is not None and expected <= 0.5 * tol_kt * kt)
+        shift = float(ec[0]) - 2.0        # just below the ground state: (H − σ)⁻¹'s wanted eigenvalues well apart
+        if every:
             owners = []
-            ec, _ = grid_states(vc, pc, 2.0 * h, hbar2_over_mk, k=asked, shift=float(vc.min()) - 1.0, points=ptc,
-                                vectors=False, owners=owners)
-        k = int(min(max(np.searchsorted(ec, top(ec[0])) + 6, _FIRST_STATES), len(ec), v.size - 2))
-        # each block asked first for its share of the k states on the coarse grid (no block solved twice);
-        # shift just below the ground state: the wanted eigenvalues of (H − σ)⁻¹ are then well apart
-        hint = list(np.bincount(np.asarray(owners[:k], int))) if len(owners) >= k else None
-        owners = []
-        # the whole vectors of the states that carry the Boltzmann sum (the first layer's rule; the others'
-        # |ψ|² only as sums over blocks of four points, and ⟨n|V|n⟩)
-        n_whole = int(np.searchsorted(ec, ec[0] - kt * np.log(weight_fraction), side="right")) + 8
-        block_points, blocks = _home_blocks(pts, h)
-        summary = sparse.vstack([blocks, sparse.csr_matrix(v[None, :])]).tocsr()
-        e, vec, reduced = grid_states(v, pairs, h, hbar2_over_mk, k=k, shift=float(ec[0]) - 2.0, points=pts,
-                                      hint=hint, owners=owners, vectors=max(_FIRST_STATES, n_whole),
-                                      reduce=summary)
-        enough = bool(e[-1] >= top(e[0]))
+            # the whole vectors of the states that carry the Boltzmann sum; the others' |ψ|² only as sums
+            # over blocks of four points, and ⟨n|V|n⟩
+            n_whole = int(np.searchsorted(ec, first_top(ec[0]), side="right")) + 8
+            block_points, blocks = _home_blocks(pts, h)
+            summary = sparse.vstack([blocks, sparse.csr_matrix(v[None, :])]).tocsr()
+            e, vec, reduced = grid_states(v, pairs, h, hbar2_over_mk, k=min(k_all, v.size - 2), shift=shift,
+                                          points=pts, hint=hint, owners=owners,
+                                          vectors=max(_FIRST_STATES, n_whole), reduce=summary)
+        else:
+            k_first = int(min(max(np.searchsorted(ec, first_top(ec[0])) + 6, _FIRST_STATES), len(ec), v.size - 2))
+            e, _ = grid_states(v, pairs, h, hbar2_over_mk, k=k_first, shift=shift, points=pts, vectors=False)
         n = min(len(e), len(ec))
         # the error that reaches every result: that of the one-atom free energy −kT ln Σ e^{−E/kT}, i.e. the
         # Boltzmann-weighted mean error of the levels (states far up the spectrum carry little weight)
         w = np.exp(-(e[:n] - e[0]) / kt)
         err = float((w @ np.abs(e[:n] - ec[:n])) / w.sum() / _ERROR_DIVISOR)
-        if err <= tol_kt * kt or h / 2.0 < min_spacing_angstrom:
+        if every and (err <= tol_kt * kt or last):
             break
-        coarse = (e, pts, v, pairs)
+        if not every and err <= tol_kt * kt:
+            expected = 0.0                  # this grid passes: solve it again for every state
+            continue
+        expected = err / 10.0
+        ec = e
         h /= 2.0
+    enough = bool(e[-1] >= top(e[0]))
     e = e.copy()
     e[:n] += (e[:n] - ec[:n]) / 15.0          # Richardson, fourth order
     order = np.argsort(e, kind="stable")
@@ -620,6 +633,9 @@ def states_numbers(states, geometry, temperature_k: float) -> dict:
         "grid": {"spacing_angstrom": states.spacing_angstrom, "points": int(states.points.shape[0]),
                  "energy_error_estimate_k": states.error_k},
         "states_used": int(states.energies_k.size),
+        "states_wanted": {"top_k": states_wanted_top_k(float(states.energies_k[0]), states.centre_potential_k, t),
+                          "weight_fraction": _WEIGHT_FRACTION, "margin_kt": _INNER_MARGIN_KT,
+                          "centre_potential_k": states.centre_potential_k},
         "states_capped": bool(states.capped),
         "boltzmann_tail_fraction": states.tail_fraction(t),
         "orbits": orbit_sources(states, geometry, t),
