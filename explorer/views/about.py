@@ -76,12 +76,16 @@ states as the temperature needs. The grid is chosen for a stated accuracy of the
 reported. The one-atom partition function then gives the low-pressure (Henry) limit exactly.
 
 The lattice needs a free energy per site. Spreading the thermal one-atom density over the cells would
-count the tails of wall-bound states as binding in the next row, so porefill assigns whole bands of
-near-degenerate states to the symmetry orbit of sites that holds most of their probability. The sum over
-sites then equals the exact sum over states, stays below the classical value (the Golden–Thompson
-inequality), and no site is made more attractive than classically. **Limits:** sites that no computed
-state reaches (inner rings, high in the spectrum) keep their classical free energy, so their zero-point
-energy is left out; the fluid–fluid bond stays classical; states are those of one atom.
+count the tails of wall-bound states as binding in the next row, so porefill gives whole bands of
+near-degenerate states bound in the first layer to the orbit of wall sites that holds most of their
+probability, and shares each band above the first layer among the inner rows' orbits by its probability on
+each. The states are computed up to a few kT above the potential at the pore's centre, so every row takes
+its free energy from states. The sum over sites then equals the exact sum over states and stays below the
+classical value (the Golden–Thompson inequality); an inner site can come out below its own classical cell
+value, because the states above the first layer also dip into the wall's well. **Limits:** where the
+number of states is capped (very large pores, hydrogen and neon), the rows no computed state reaches keep
+their classical or semiclassical cell integral, and the readout says so; the fluid–fluid bond stays
+classical; states are those of one atom.
 
 The quantum model is the default for helium-4, hydrogen and neon; the classical one for argon and
 nitrogen (their states are many and their cell averages already good). The **Quantum states** tab computes,
