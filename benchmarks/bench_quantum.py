@@ -2,7 +2,8 @@
 15, 30 and 50 Å side, and hydrogen (20 K) and neon (25 K) at 15 Å. Prints JSON lines.
 
 Then the one-atom states alone at 15 and 30 Å side, solved in the mirrors' four blocks (C2v, before) and in
-C6v's six (now), side by side in one run, with the largest difference of their energies.
+C6v's six (now), side by side in one run, with the largest difference of their energies; and the states for
+the first layer only against those for every row (15, 21.5, 30 Å).
 
 Run: .venv/bin/python benchmarks/bench_quantum.py [--quick]   (--quick: leaves out 50 Å, hydrogen and neon)
 """
@@ -97,7 +98,33 @@ def blocks_side_by_side() -> None:
                                                                       - out["c6v_blocks"][1]).max())}), flush=True)
 
 
+def every_row_side_by_side(quick: bool) -> None:
+    """States at 15, 21.5 and 30 Å side (1.5 K, 8 Å walls, one BLAS thread): the first layer's only (the rule
+    before every row took states: no margin above the centre's potential) and every row's (the default),
+    side by side in one run, with the number of states and the orbits left without states."""
+    import numpy as np
+    from threadpoolctl import threadpool_limits
+
+    from porefill.physics.lattice_gas.stages import geometry_stage
+    from porefill.physics.sites import quantum, state_sites
+
+    with threadpool_limits(1):
+        for side in (15.0, 21.5) if quick else (15.0, 21.5, 30.0):
+            geo = geometry_stage(Scenario(size_angstrom=side, wall_angstrom=8.0, temperature_k=1.5))
+            row = {"benchmark": f"helium_states_hexagon_{side:g}A_first_layer_vs_every_row"}
+            for name, margin in (("first_layer", -np.inf), ("every_row", quantum._INNER_MARGIN_KT)):
+                t0 = time.perf_counter()
+                states = quantum.solve_states(geo.pore, geo.pair, geo.adsorbate.hbar2_over_mk, temperature_k=1.5,
+                                              inner_margin_kt=margin)
+                row[f"{name}_s"] = round(time.perf_counter() - t0, 3)
+                row[f"{name}_states"] = int(states.energies_k.size)
+                sources = [o["source"] for o in state_sites.orbit_sources(states, geo, 1.5)]
+                row[f"{name}_orbits_without_states"] = sum(s != "quantum states" for s in sources)
+            print(json.dumps(row), flush=True)
+
+
 if __name__ == "__main__":
     main()
     sizes_and_gases("--quick" in sys.argv)
     blocks_side_by_side()
+    every_row_side_by_side("--quick" in sys.argv)

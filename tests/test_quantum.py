@@ -144,7 +144,8 @@ def test_every_orbit_says_where_its_free_energy_comes_from():
     # orbit, the shares add to the whole Boltzmann sum, an orbit with states uses the quantum value and one
     # without keeps its classical cell integral, exactly what the quantum site model feeds the solver
     from porefill.physics.lattice_gas.stages import geometry_stage
-    from porefill.physics.sites.quantum import cached_states, orbit_sources, quantum_site_free_energy
+    from porefill.physics.sites.quantum import cached_states
+    from porefill.physics.sites.state_sites import orbit_sources, quantum_site_free_energy
 
     geo = geometry_stage(Scenario(shape="hexagon", size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5))
     states = cached_states(geo, 1.5)

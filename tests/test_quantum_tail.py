@@ -59,7 +59,7 @@ def test_each_site_takes_the_tail_of_its_own_cell():
     # took a piece of the face's well and sat 4.5 K below its classical value, adding a spurious step.
     # The states are the first layer's only (no margin above the centre's potential), so that orbits are left
     # to the tail as a capped state count leaves them.
-    from porefill.physics.sites.quantum import _site_free_energies
+    from porefill.physics.sites.state_sites import _site_free_energies
 
     t = 1.5
     geo = geometry_stage(Scenario(shape="hexagon", size_angstrom=24.0, wall_angstrom=8.0, temperature_k=t))
@@ -108,7 +108,8 @@ def test_every_row_of_the_demo_pore_takes_its_free_energy_from_states():
     # issue: "every site that fills below p0 has a quantum free energy". At 15 Å, 1.5 K every orbit is reached
     # by the states, and the inner rows sit far above the classical cell values that reach down the first
     # layer's well (classical ring 1: −23.1 and −16.0 K; quantum, converged by states: about −7 K)
-    from porefill.physics.sites.quantum import cached_states, orbit_sources
+    from porefill.physics.sites.quantum import cached_states
+    from porefill.physics.sites.state_sites import orbit_sources
 
     g = geometry_stage(Scenario(size_angstrom=15.0, wall_angstrom=8.0, adsorbate="helium-4", temperature_k=1.5))
     rows = orbit_sources(cached_states(g, 1.5), g, 1.5)

@@ -4,7 +4,7 @@ Per site i, at temperature T (K; energies as E/k_B):
 
 - classical site model: ⟨V⟩_i = ∫_cell V e^{−V/kT} dA / ∫_cell e^{−V/kT} dA on the cell's converged quadrature
   nodes (`porefill.physics.sites.cells`), and the kinetic energy of free classical motion, 3kT/2;
-- quantum site model: the states given to the site's orbit (`porefill.physics.sites.quantum.state_shares`), Boltzmann weights
+- quantum site model: the states given to the site's orbit (`porefill.physics.sites.state_sites.state_shares`), Boltzmann weights
   b_n: ⟨V⟩_i = Σ b_n ⟨n|V|n⟩ / Σ b_n and kinetic Σ b_n (E_n − ⟨n|V|n⟩) / Σ b_n + kT/2 (free motion along the
   axis). Sites no computed state reaches keep the classical values, as their free energies do.
 
@@ -46,7 +46,8 @@ def _classical(cells, temperature_k: float):
 
 
 def _quantum(geometry, temperature_k: float, potential: np.ndarray, kinetic: np.ndarray):
-    from porefill.physics.sites.quantum import cached_states, first_row_orbits, state_shares
+    from porefill.physics.sites.quantum import cached_states
+    from porefill.physics.sites.state_sites import first_row_orbits, state_shares
 
     kt = float(temperature_k)
     states = cached_states(geometry, kt)

@@ -38,7 +38,7 @@ def classical_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
 
 
 def _quantum(geometry, *, temperature_k: float) -> np.ndarray:
-    from porefill.physics.sites.quantum import quantum_site_free_energy      # sparse eigensolver: imported when asked for
+    from porefill.physics.sites.state_sites import quantum_site_free_energy      # sparse eigensolver: imported when asked for
     return quantum_site_free_energy(geometry, temperature_k=temperature_k)
 
 

@@ -1,7 +1,7 @@
 """Where the one-atom states live: bands of near-degenerate states, their sites, degeneracies and splittings.
 
 A band is a run of states closer than the clustering gap of `porefill.physics.sites.quantum` (0.02 kT, at least 0.02 K);
-it is named after the lattice orbit that holds most of its probability (`porefill.physics.sites.quantum.state_homes`) —
+it is named after the lattice orbit that holds most of its probability (`porefill.physics.sites.state_sites.state_homes`) —
 the same rule that gives the band's Boltzmann weight to those sites in the quantum site model.
 """
 from __future__ import annotations
@@ -10,7 +10,8 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 
-from porefill.physics.sites.quantum import _clusters, state_homes
+from porefill.physics.sites.quantum import _clusters
+from porefill.physics.sites.state_sites import state_homes
 
 __all__ = ["Band", "state_bands", "band_density", "site_labels"]
 
