@@ -11,6 +11,7 @@ A pore between two row counts is the mixture of the lattices either side (`poref
 ``--no-blend`` computes one rounded lattice instead, as porefill did before, for the comparison. Classical site
 model (``--site-model quantum`` for helium-4's default, much slower).
 Run: .venv/bin/python benchmarks/bench_size_scan.py [--site-model quantum] [--no-blend] [--only helium|nitrogen]
+     [--sides 12:22]
 """
 from __future__ import annotations
 
@@ -47,8 +48,8 @@ def largest_moves(scans) -> dict:
     return {k: round(v, 3) for k, v in sorted(moves.items(), key=lambda kv: -kv[1])}
 
 
-def helium(site_model: str, blend: bool) -> None:
-    sizes = np.arange(12.0, 40.001, 0.25)
+def helium(site_model: str, blend: bool, sides: tuple[float, float] = (12.0, 40.0)) -> None:
+    sizes = np.arange(sides[0], sides[1] + 0.001, 0.25)
     face, centre, scans = [], [], []
     t0 = time.perf_counter()
     print(f"{'side (Å)':>9} {'face step (Pa)':>15} {'centre step (Pa)':>17}  steps listed")
@@ -63,7 +64,7 @@ def helium(site_model: str, blend: bool) -> None:
         scans.append(steps_by_row(iso))
         print(f"{size:9.2f} {f:15.4g} {c:17.4g}  {len(iso.steps)}", flush=True)
     moves = largest_moves(scans)
-    print(json.dumps({"scan": f"helium-4 1.5 K hexagon, 8 Å walls, 12–40 Å / 0.25 Å, {site_model}, "
+    print(json.dumps({"scan": f"helium-4 1.5 K hexagon, 8 Å walls, {sides[0]:g}–{sides[1]:g} Å / 0.25 Å, {site_model}, "
                               f"{'row blend' if blend else 'one rounded lattice'}",
                       "sizes": int(sizes.size), "seconds": round(time.perf_counter() - t0, 1),
                       "largest_move_decades_per_0.25_angstrom": max(moves.values()) if moves else None,
@@ -102,9 +103,11 @@ def main() -> None:
     parser.add_argument("--site-model", default="classical", choices=("classical", "quantum"))
     parser.add_argument("--no-blend", action="store_true", help="one rounded lattice per pore (the old model)")
     parser.add_argument("--only", choices=("helium", "nitrogen"))
+    parser.add_argument("--sides", default="12:40", help="helium's side lengths, FROM:TO in Å (default 12:40)")
     args = parser.parse_args()
     if args.only != "nitrogen":
-        helium(args.site_model, not args.no_blend)
+        lo, hi = (float(x) for x in args.sides.split(":"))
+        helium(args.site_model, not args.no_blend, (lo, hi))
     if args.only != "helium":
         nitrogen(not args.no_blend)
 

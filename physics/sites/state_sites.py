@@ -15,8 +15,8 @@ from scipy.spatial import cKDTree
 
 from porefill.physics.sites.quantum import CrossSectionStates, _clusters, cached_states, thermal_wavelength_angstrom
 
-__all__ = ["state_homes", "state_shares", "assign_states", "first_row_orbits", "quantum_site_free_energy",
-           "orbit_sources"]
+__all__ = ["state_homes", "state_shares", "assign_states", "first_row_orbits", "orbit_floors",
+           "quantum_site_free_energy", "orbit_sources"]
 
 
 def _orbit_probability(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray) -> np.ndarray:
@@ -47,16 +47,18 @@ def state_homes(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, t
 
 
 def state_shares(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, first_row: np.ndarray,
-                 temperature_k: float) -> np.ndarray:
+                 temperature_k: float, floor_k: np.ndarray | None = None) -> np.ndarray:
     """(orbits, K) how each computed state's Boltzmann weight is split among the orbits (columns sum to 1).
 
     A band whose home (`state_homes`) is an orbit of the first row (``first_row``: (orbits,) bool, the
     sites in the wall's well) goes to it whole: the first layer's states reach into the next row only by
     their evanescent tails, and those carry far more weight there than the next row's own states, so a
     share by probability would bind the next row by the first layer's states. A band homed on an inner
-    row is shared among the inner orbits in proportion to its probability on each: above the first layer
-    the states spread over several rows, and a whole-band rule would give nothing to a small orbit (the
-    centre's single site) that every band overlaps but none is mostly on.
+    row is shared among the inner orbits in proportion to its probability on each, among those whose cell
+    the band can classically reach (``floor_k``: (orbits,) the lowest wall potential in each orbit's cells,
+    K; the band's mean energy must lie above it): above the first layer the states spread over several
+    rows, and a whole-band rule would give nothing to a small orbit (the centre's single site) that every
+    band overlaps but none is mostly on, while a tail under a barrier binds no site, in any row.
     """
     band = _clusters(states.energies_k, float(temperature_k))
     prob = _band_probability(_orbit_probability(states, site_x, site_y, orbit), band)   # (orbits, bands)
@@ -66,12 +68,30 @@ def state_shares(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, 
     outer = first[home]
     shares[home[outer], np.flatnonzero(outer)] = 1.0
     inner = prob[:, ~outer] * (~first)[:, None]
+    if floor_k is not None:
+        energy = np.bincount(band, weights=states.energies_k) / np.bincount(band)
+        reach = np.asarray(floor_k)[:, None] < energy[None, ~outer]
+        reach[home[~outer], np.arange(reach.shape[1])] = True          # the home orbit always takes its band
+        inner = inner * reach
     shares[:, ~outer] = inner / inner.sum(axis=0, keepdims=True)
     return shares[:, band]
 
 
+def orbit_floors(geometry) -> np.ndarray:
+    """(orbits,) the lowest wall potential (K) over each symmetry orbit's cells (`SiteCells`' nodes)."""
+    cells = geometry.cells
+    n_orbits = int(geometry.orbit.max()) + 1
+    floor = np.full(n_orbits, np.inf)
+    finite = np.isfinite(cells.potential_k)
+    # a cell group is one orbit's cells (`porefill.physics.sites.cells.site_cells`)
+    group_orbit = np.zeros(cells.area_angstrom2.size, int)
+    group_orbit[cells.site_group] = geometry.orbit
+    np.minimum.at(floor, group_orbit[cells.group[finite]], cells.potential_k[finite])
+    return floor
+
+
 def assign_states(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, temperature_k: float,
-                  first_row: np.ndarray | None = None):
+                  first_row: np.ndarray | None = None, floor_k: np.ndarray | None = None):
     """Σ_n exp(−E_n/kT) of the states given to each site (N,), and which sites got any.
 
     Each state's weight is split among the orbits by `state_shares` (``first_row`` None: every band goes
@@ -82,7 +102,7 @@ def assign_states(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray,
     n_orbits = int(orbit.max()) + 1
     if first_row is None:
         first_row = np.ones(n_orbits, bool)
-    shares = state_shares(states, site_x, site_y, orbit, first_row, kt)
+    shares = state_shares(states, site_x, site_y, orbit, first_row, kt, floor_k)
     boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)      # relative to the ground state
     per_orbit = shares @ boltz
     size = np.bincount(orbit, minlength=n_orbits).astype(float)
@@ -134,7 +154,8 @@ def _site_free_energies(states: CrossSectionStates, geometry, kt: float):
     not touch it); where its region dips below the cut, the part below is the computed states' (homed
     elsewhere) and only the floored integral T_i counts."""
     lat = geometry.candidates
-    z_rel, reached = assign_states(states, lat.x, lat.y, geometry.orbit, kt, first_row_orbits(geometry))
+    z_rel, reached = assign_states(states, lat.x, lat.y, geometry.orbit, kt, first_row_orbits(geometry),
+                                   orbit_floors(geometry))
     tail, floored = _site_tails(states, geometry, kt)
     lam = thermal_wavelength_angstrom(states.hbar2_over_mk, kt)
     f = geometry.cells.free_energies(kt, lat.cell_area_angstrom2)
@@ -153,7 +174,8 @@ def orbit_sources(states: CrossSectionStates, geometry, temperature_k: float) ->
     lat = geometry.candidates
     f, reached, f_classical, floored = _site_free_energies(states, geometry, kt)
     home = state_homes(states, lat.x, lat.y, geometry.orbit, kt)
-    shares = state_shares(states, lat.x, lat.y, geometry.orbit, first_row_orbits(geometry), kt)
+    shares = state_shares(states, lat.x, lat.y, geometry.orbit, first_row_orbits(geometry), kt,
+                          orbit_floors(geometry))
     boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)
     out = []
     for o in range(int(geometry.orbit.max()) + 1):
