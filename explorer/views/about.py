@@ -79,7 +79,7 @@ The lattice needs a free energy per site. Spreading the thermal one-atom density
 count the tails of wall-bound states as binding in the next row, so porefill gives whole bands of
 near-degenerate states bound in the first layer to the orbit of wall sites that holds most of their
 probability, and shares each band above the first layer among the inner rows' orbits by its probability on
-each. The states are computed up to a few kT above the potential at the pore's centre, so every row takes
+each, among those whose cells the band can classically reach. The states are computed up to a few kT above the potential at the pore's centre, so every row takes
 its free energy from states. The sum over sites then equals the exact sum over states and stays below the
 classical value (the Golden–Thompson inequality); an inner site can come out below its own classical cell
 value, because the states above the first layer also dip into the wall's well. **Limits:** where the
