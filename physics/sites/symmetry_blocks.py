@@ -179,10 +179,14 @@ def c6v_blocks(n: int, rotation: np.ndarray, mirror_y: np.ndarray) -> list[Block
             c, s = np.cos(mm * np.pi / 3.0), np.sin(mm * np.pi / 3.0)
 
             def partner(psi, c=c, s=s):
-                turned = psi[inv_rotation]                       # (Rψ)(R x) = ψ(x)
-                other = (turned - c * psi) / s                   # columns: one state each
-                other -= psi * ((psi * other).sum(axis=0) / (psi * psi).sum(axis=0))
-                return other / np.linalg.norm(other, axis=0)
+                other = psi[inv_rotation]                        # (Rψ)(R x) = ψ(x); columns: one state each
+                other -= c * psi
+                other *= 1.0 / s
+                # made exactly orthogonal to ψ and normalised (in place: a large pore's states fill memory)
+                overlap = np.einsum("ij,ij->j", psi, other) / np.einsum("ij,ij->j", psi, psi)
+                other -= psi * overlap
+                other *= 1.0 / np.sqrt(np.einsum("ij,ij->j", other, other))
+                return other
             blocks.append(Block(b, 2, partner))
     return blocks
 
