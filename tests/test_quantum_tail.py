@@ -118,7 +118,9 @@ def test_every_row_of_the_demo_pore_takes_its_free_energy_from_states():
     assert len(ring1) == 2
     for r in ring1:
         assert r["classical_free_energy_k"] < -15.0           # the classical cell value, deep in the well's edge
-        assert -9.0 < r["free_energy_k"] < -5.0                # the states' value
+        # the states' value: the issue's own full-state figures for ring 1 are −7.6 and −5.9 K (cut-off 1e-20);
+        # measured here −7.02 and −6.73 K; the bounds allow for how the bands are shared
+        assert -9.0 < r["free_energy_k"] < -5.0
     shares = sum(r["boltzmann_share"] for r in rows)
     assert shares == pytest.approx(1.0, rel=1e-12)           # every computed state's weight given out once
 
