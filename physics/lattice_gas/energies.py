@@ -47,13 +47,11 @@ def _classical(cells, temperature_k: float):
 
 def _quantum(geometry, temperature_k: float, potential: np.ndarray, kinetic: np.ndarray):
     from porefill.physics.sites.quantum import cached_states
-    from porefill.physics.sites.state_sites import first_row_orbits, orbit_floors, state_shares
+    from porefill.physics.sites.state_sites import geometry_shares
 
     kt = float(temperature_k)
     states = cached_states(geometry, kt)
-    lat = geometry.candidates
-    shares = state_shares(states, lat.x, lat.y, geometry.orbit, first_row_orbits(geometry), kt,
-                          orbit_floors(geometry))                   # (orbits, K)
+    shares = geometry_shares(states, geometry, kt)                   # (orbits, K)
     b = np.exp(-(states.energies_k - states.energies_k[0]) / kt)
     v_n = states.state_potential_k                                  # ⟨n|V|n⟩, K
     weight = shares @ b

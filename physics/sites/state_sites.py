@@ -15,7 +15,7 @@ from scipy.spatial import cKDTree
 
 from porefill.physics.sites.quantum import CrossSectionStates, _clusters, cached_states, thermal_wavelength_angstrom
 
-__all__ = ["state_homes", "state_shares", "assign_states", "first_row_orbits", "orbit_floors",
+__all__ = ["state_homes", "state_shares", "geometry_shares", "assign_states", "first_row_orbits", "orbit_floors",
            "quantum_site_free_energy", "orbit_sources"]
 
 
@@ -77,6 +77,13 @@ def state_shares(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, 
     return shares[:, band]
 
 
+def geometry_shares(states: CrossSectionStates, geometry, temperature_k: float) -> np.ndarray:
+    """`state_shares` on a geometry stage's candidate sites, with its first row and its cells' floors."""
+    lat = geometry.candidates
+    return state_shares(states, lat.x, lat.y, geometry.orbit, first_row_orbits(geometry), temperature_k,
+                        orbit_floors(geometry))
+
+
 def orbit_floors(geometry) -> np.ndarray:
     """(orbits,) the lowest wall potential (K) over each symmetry orbit's cells (`SiteCells`' nodes)."""
     cells = geometry.cells
@@ -90,22 +97,18 @@ def orbit_floors(geometry) -> np.ndarray:
     return floor
 
 
-def assign_states(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, temperature_k: float,
-                  first_row: np.ndarray | None = None, floor_k: np.ndarray | None = None):
-    """Σ_n exp(−E_n/kT) of the states given to each site (N,), and which sites got any.
+def assign_states(states: CrossSectionStates, geometry, temperature_k: float):
+    """Σ_n exp(−E_n/kT) of the states given to each candidate site of a geometry stage (N,), and which sites
+    got any.
 
-    Each state's weight is split among the orbits by `state_shares` (``first_row`` None: every band goes
-    whole to its home orbit), and an orbit's part shared evenly by its sites. Σ_sites equals the
-    Boltzmann sum of the computed states exactly.
+    Each state's weight is split among the orbits by `state_shares` (`geometry_shares`), and an orbit's part
+    shared evenly by its sites. Σ_sites equals the Boltzmann sum of the computed states exactly.
     """
     kt = float(temperature_k)
-    n_orbits = int(orbit.max()) + 1
-    if first_row is None:
-        first_row = np.ones(n_orbits, bool)
-    shares = state_shares(states, site_x, site_y, orbit, first_row, kt, floor_k)
+    orbit = geometry.orbit
     boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)      # relative to the ground state
-    per_orbit = shares @ boltz
-    size = np.bincount(orbit, minlength=n_orbits).astype(float)
+    per_orbit = geometry_shares(states, geometry, kt) @ boltz
+    size = np.bincount(orbit, minlength=int(orbit.max()) + 1).astype(float)
     z = per_orbit[orbit] / size[orbit]
     return z, z > 0
 
@@ -154,8 +157,7 @@ def _site_free_energies(states: CrossSectionStates, geometry, kt: float):
     not touch it); where its region dips below the cut, the part below is the computed states' (homed
     elsewhere) and only the floored integral T_i counts."""
     lat = geometry.candidates
-    z_rel, reached = assign_states(states, lat.x, lat.y, geometry.orbit, kt, first_row_orbits(geometry),
-                                   orbit_floors(geometry))
+    z_rel, reached = assign_states(states, geometry, kt)
     tail, floored = _site_tails(states, geometry, kt)
     lam = thermal_wavelength_angstrom(states.hbar2_over_mk, kt)
     f = geometry.cells.free_energies(kt, lat.cell_area_angstrom2)
@@ -174,8 +176,7 @@ def orbit_sources(states: CrossSectionStates, geometry, temperature_k: float) ->
     lat = geometry.candidates
     f, reached, f_classical, floored = _site_free_energies(states, geometry, kt)
     home = state_homes(states, lat.x, lat.y, geometry.orbit, kt)
-    shares = state_shares(states, lat.x, lat.y, geometry.orbit, first_row_orbits(geometry), kt,
-                          orbit_floors(geometry))
+    shares = geometry_shares(states, geometry, kt)
     boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)
     out = []
     for o in range(int(geometry.orbit.max()) + 1):
