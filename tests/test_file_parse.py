@@ -87,3 +87,39 @@ def test_the_parsers_own_keywords_reach_it():
         parse_in_worker(parse_document, "[scenario\n", name="bad.toml", file_name="bad.toml",
                         refusals=(ScenarioFileError,))
 
+
+
+def test_the_next_file_goes_to_the_reader_started_ahead_and_each_file_gets_a_fresh_one():
+    # common practice, no source: a standby process saves the next file Python's start-up and the readers'
+    # imports, but is used once (a file cannot see what an earlier one left); os.getpid run as the "parser"
+    # says which process read each file
+    import os
+
+    from porefill.explorer.jobs import file_parse
+
+    file_parse.keep_ready()
+    ready = file_parse._standby.process.pid          # noqa: SLF001 - which process is waiting
+    first = parse_in_worker(os.getpid, file_name="a.csv")
+    waiting = file_parse._standby.process.pid        # noqa: SLF001 - started while the first file was read
+    second = parse_in_worker(os.getpid, file_name="b.csv")
+    assert first == ready and second == waiting
+    assert len({first, second, os.getpid()}) == 3
+
+
+def test_the_reader_started_ahead_keeps_the_memory_limit():
+    # common practice, no source: RLIMIT_AS is set when the file arrives (4 GiB asked, the default 1 GiB allowed)
+    from porefill.explorer.jobs import file_parse
+
+    file_parse.keep_ready()
+    with pytest.raises(ParseRefused, match=r"^huge\.csv: reading it needed more than 1024 MB of memory; refused$"):
+        parse_in_worker(bytearray, 2**32, file_name="huge.csv")
+    assert _no_parse_workers_left()
+
+
+def test_an_unused_standby_ends_when_closed():
+    from porefill.explorer.jobs.background import Standby
+
+    standby = Standby(compiled=False)
+    standby.close()
+    standby.process.join(timeout=10)
+    assert not standby.process.is_alive() and not standby.fits(memory_limit_bytes=None, compiled=False)

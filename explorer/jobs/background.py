@@ -25,7 +25,7 @@ import time
 from concurrent.futures import Executor, Future
 from typing import Callable
 
-__all__ = ["start_worker", "limit_memory", "Cancelled", "Job", "PoolJob", "ProcessJob", "ThreadJob", "time_limit_text", "error_text"]
+__all__ = ["start_worker", "limit_memory", "Cancelled", "Job", "PoolJob", "ProcessJob", "Standby", "ThreadJob", "time_limit_text", "error_text"]
 
 log = logging.getLogger("porefill.explorer")
 FINAL = ("done", "cancelled", "error")
@@ -248,14 +248,73 @@ def _process_main(fn, args, messages, stop, memory_limit_bytes=None, compiled=Tr
     _report_to(messages.put, fn, args, stop.is_set)
 
 
+def _standby_main(tasks, messages, stop, memory_limit_bytes, compiled, preload) -> None:
+    import importlib
+
+    start_worker(compiled=compiled)
+    for module in preload:
+        try:
+            importlib.import_module(module)
+        except ImportError:           # the task imports what it needs itself (and says so if it cannot)
+            pass
+    task = tasks.get()                # (fn, args), or None: not needed after all
+    if task is None:
+        return
+    if memory_limit_bytes is not None:
+        limit_memory(memory_limit_bytes)     # from what it holds now: the modules above are not counted
+    _report_to(messages.put, task[0], task[1], stop.is_set)
+
+
+class Standby:
+    """A spawned process started before it is needed: it has done `start_worker` and imported ``preload``
+    and waits for one task, so a `ProcessJob` given it skips Python's start-up and those imports (about 1.5 s
+    for a file reader that imports pandas). Used once, like any job's process: a task cannot see what an
+    earlier one left. `close` ends an unused one."""
+
+    def __init__(self, *, memory_limit_bytes: int | None = None, compiled: bool = True, preload: tuple = ()):
+        ctx = multiprocessing.get_context("spawn")
+        self.memory_limit_bytes, self.compiled = memory_limit_bytes, bool(compiled)
+        self.messages, self.stop, self._tasks = ctx.Queue(), ctx.Event(), ctx.Queue()
+        self.process = ctx.Process(target=_standby_main,
+                                   args=(self._tasks, self.messages, self.stop, memory_limit_bytes, compiled,
+                                         tuple(preload)), daemon=True, name="porefill-standby")
+        self.process.start()
+        self.used = False
+
+    def fits(self, *, memory_limit_bytes: int | None, compiled: bool) -> bool:
+        """Whether this standby can take a job with these settings (unused, alive, set up the same way)."""
+        return (not self.used and self.process.is_alive() and memory_limit_bytes == self.memory_limit_bytes
+                and bool(compiled) == self.compiled)
+
+    def take(self, fn: Callable, args: tuple) -> None:
+        self.used = True
+        self._tasks.put((fn, args))
+
+    def close(self) -> None:
+        if not self.used:
+            self.used = True
+            self._tasks.put(None)
+            self.process.join(timeout=0.1)
+            if self.process.is_alive():
+                self.process.terminate()
+
+
 class ProcessJob(Job):
     """``fn(*args, progress=, should_stop=)`` in a spawned process of its own (spawn, not fork: the server
     has threads), talking through a queue; `kill` ends it at once. ``fn`` must be importable by name.
     ``memory_limit_bytes``: how much more address space the process may map once started (`limit_memory`);
-    ``compiled``: whether it loads the compiled physics kernels (`start_worker`)."""
+    ``compiled``: whether it loads the compiled physics kernels (`start_worker`); ``standby``: a `Standby`
+    started earlier with the same settings, which runs the job instead of a new process (ignored if it is
+    used, ended or set up otherwise)."""
 
     def __init__(self, fn: Callable, args: tuple = (), *, name: str, time_limit_s: float | None = None,
-                 memory_limit_bytes: int | None = None, compiled: bool = True):
+                 memory_limit_bytes: int | None = None, compiled: bool = True, standby: Standby | None = None):
+        if standby is not None and standby.fits(memory_limit_bytes=memory_limit_bytes, compiled=compiled):
+            self._messages, self._stop, self.process = standby.messages, standby.stop, standby.process
+            self.process.name = name          # what it does now (the name is the parent's label for it)
+            super().__init__(name=name, time_limit_s=time_limit_s)
+            standby.take(fn, args)
+            return
         ctx = multiprocessing.get_context("spawn")
         self._messages = ctx.Queue()
         self._stop = ctx.Event()

@@ -106,6 +106,7 @@ def start_server(scenario: Scenario | None, *, address: str, port: int, policy: 
 
     from porefill.explorer.views.dashboard import create_app
 
+    from porefill.explorer.jobs.file_parse import keep_ready
     from porefill.explorer.server.session_memory import session_closed, session_opened
 
     def page():
@@ -115,6 +116,10 @@ def start_server(scenario: Scenario | None, *, address: str, port: int, policy: 
             session_opened()
         except Exception:          # noqa: BLE001 - the page matters more than the memory bookkeeping
             logging.getLogger("porefill.explorer").exception("cannot watch this session's end")
+        try:
+            keep_ready()           # a file reader started ahead of the first file this page drops
+        except Exception:          # noqa: BLE001 - without it each file starts its own reader, as before
+            logging.getLogger("porefill.explorer").exception("cannot start a file reader ahead of need")
         return create_app(scenario)
 
     secret_key = _secret_key()
