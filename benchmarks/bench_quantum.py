@@ -98,28 +98,34 @@ def blocks_side_by_side() -> None:
                                                                       - out["c6v_blocks"][1]).max())}), flush=True)
 
 
-def every_row_side_by_side(quick: bool) -> None:
-    """States at 15, 21.5 and 30 Å side (1.5 K, 8 Å walls, one BLAS thread): the first layer's only (the rule
-    before every row took states: no margin above the centre's potential) and every row's (the default),
-    side by side in one run, with the number of states and the orbits left without states."""
-    import numpy as np
+def every_row_parts(quick: bool) -> None:
+    """States at 15, 21.5 and 30 Å side (1.5 K, 8 Å walls, one BLAS thread): the whole cross-section's (the
+    first layer's) and the region inside the first row's for each lattice of the row blend, timed apart,
+    with their state counts and the orbits left without states."""
     from threadpoolctl import threadpool_limits
 
     from porefill.physics.lattice_gas.stages import geometry_stage
-    from porefill.physics.sites import quantum, state_sites
+    from porefill.physics.sites import inner_states, quantum, state_sites
+    from porefill.physics.lattice_gas.row_blend import blend_weights
 
     with threadpool_limits(1):
         for side in (15.0, 21.5) if quick else (15.0, 21.5, 30.0):
-            geo = geometry_stage(Scenario(size_angstrom=side, wall_angstrom=8.0, temperature_k=1.5))
-            row = {"benchmark": f"helium_states_hexagon_{side:g}A_first_layer_vs_every_row"}
-            for name, margin in (("first_layer", -np.inf), ("every_row", quantum._INNER_MARGIN_KT)):
+            sc = Scenario(size_angstrom=side, wall_angstrom=8.0, temperature_k=1.5)
+            geo = geometry_stage(sc)
+            row = {"benchmark": f"helium_states_hexagon_{side:g}A_cross_section_and_inner_regions"}
+            for weight, rows in blend_weights(geo.row_fraction):
+                lattice = geometry_stage(sc, rows)
                 t0 = time.perf_counter()
-                states = quantum.solve_states(geo.pore, geo.pair, geo.adsorbate.hbar2_over_mk, temperature_k=1.5,
-                                              inner_margin_kt=margin)
-                row[f"{name}_s"] = round(time.perf_counter() - t0, 3)
-                row[f"{name}_states"] = int(states.energies_k.size)
-                sources = [o["source"] for o in state_sites.orbit_sources(states, geo, 1.5)]
-                row[f"{name}_orbits_without_states"] = sum(s != "quantum states" for s in sources)
+                # the first layer's states, and more while an orbit of this lattice's first row has none
+                states = quantum.model_states(lattice, 1.5)
+                row[f"cross_section_{rows}_rows_s"] = round(time.perf_counter() - t0, 3)
+                row[f"cross_section_{rows}_rows_states"] = int(states.energies_k.size)
+                t0 = time.perf_counter()
+                inner = inner_states.solve_inner_states(states, lattice, 1.5)
+                row[f"inner_{rows}_rows_s"] = round(time.perf_counter() - t0, 3)
+                row[f"inner_{rows}_rows_states"] = 0 if inner is None else int(inner.energies_k.size)
+                sources = [o["source"] for o in state_sites.orbit_sources(states, lattice, 1.5)]
+                row[f"lattice_{rows}_rows_orbits_without_states"] = sum(not s.startswith("quantum") for s in sources)
             print(json.dumps(row), flush=True)
 
 
@@ -127,4 +133,4 @@ if __name__ == "__main__":
     main()
     sizes_and_gases("--quick" in sys.argv)
     blocks_side_by_side()
-    every_row_side_by_side("--quick" in sys.argv)
+    every_row_parts("--quick" in sys.argv)

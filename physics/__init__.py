@@ -20,7 +20,7 @@ _FACE = {
     "SlitPore": "pore.geometry", "wall_potential": "pore.wall_potential", "potential_map": "pore.wall_potential",
     "deepest_minimum": "pore.wall_potential", "line_cuts": "pore.line_cuts",
     # sites and the lattice gas
-    "solve_states": "sites.quantum", "cached_states": "sites.quantum", "states_numbers": "sites.quantum",
+    "solve_states": "sites.quantum", "cached_states": "sites.quantum", "states_numbers": "sites.state_sites",
     "geometry_stage": "lattice_gas.stages", "thermal_stage": "lattice_gas.stages",
     "compute_isotherm": "lattice_gas.adsorption", "Isotherm": "lattice_gas.adsorption",
     "measured_branches": "lattice_gas.branches",

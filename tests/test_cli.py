@@ -198,17 +198,20 @@ def test_states_command_json():
     assert data["grid"]["spacing_angstrom"] > 0 and data["states_used"] == len(data["energies_k"])
     assert data["energies_k"] == sorted(data["energies_k"])
     # every orbit says where its free energy comes from (issue: the states readout names the source per orbit)
-    # and since every row takes states (issue: helium's layers, quantum all the way), the centre's too
+    # and since every row takes states (issue: helium's layers, quantum all the way), the centre's too: those of
+    # the region inside the first row
     sources = {o["label"]: o["source"] for o in data["orbits"]}
-    assert sources["corner"] == "quantum states" and sources["centre"] == "quantum states"
-    assert data["states_wanted"]["margin_kt"] > 0 and data["energies_k"][-1] >= data["states_wanted"]["top_k"]
+    assert sources["corner"] == "quantum states" and sources["centre"] == "quantum states inside the first row"
+    assert data["energies_k"][-1] >= data["states_wanted"]["top_k"]
+    inner = data["inner_states"]
+    assert inner["states_used"] > 0 and inner["margin_kt"] > 0 and not inner["capped"]
     text = run("states", "--pore", "hexagon", "--size", "15", "--wall", "8", "--adsorbate", "helium-4",
                "--temperature", "1.5")
-    assert "per orbit" in text.stdout and "kT above the centre's potential" in text.stdout
-    # a cap below what the rule wants leaves inner orbits to the classical or semiclassical integrals, said so
+    assert "per orbit" in text.stdout and "rows inside the first" in text.stdout
+    # a cap below what the first layer wants leaves a face orbit to the semiclassical integral, said so
     capped = run("states", "--pore", "hexagon", "--size", "15", "--wall", "8", "--adsorbate", "helium-4",
-                 "--temperature", "1.5", "--max-states", "30")
-    assert capped.returncode == 0 and "reached its cap (30)" in capped.stderr
+                 "--temperature", "1.5", "--max-states", "8")
+    assert capped.returncode == 0 and "reached its cap (8)" in capped.stderr
     assert "no computed state reaches it" in capped.stdout
 
 

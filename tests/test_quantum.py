@@ -140,28 +140,37 @@ def test_classical_limit_as_the_mass_grows():
 
 
 def test_every_orbit_says_where_its_free_energy_comes_from():
-    # sum rules of the assignment (common practice, no source): every computed state is homed on exactly one
-    # orbit, the shares add to the whole Boltzmann sum, an orbit with a share uses the quantum value and one
-    # without keeps its classical cell integral, exactly what the quantum site model feeds the solver
+    # sum rules of the assignment (common practice, no source): every computed state of the cross-section is
+    # homed on exactly one orbit and the first row's orbits count those homed on them; every state of the
+    # region inside the first row is shared among the inner orbits by its probability there (shares add to
+    # 1, so the orbits' sums add to the region's whole Boltzmann sum); the readout gives exactly what the
+    # quantum site model feeds the solver
     from porefill.physics.lattice_gas.stages import geometry_stage
+    from porefill.physics.sites.inner_states import cached_inner_states, inner_orbit_sums
     from porefill.physics.sites.quantum import cached_states
-    from porefill.physics.sites.state_sites import orbit_sources, quantum_site_free_energy
+    from porefill.physics.sites.state_sites import first_row_orbits, orbit_sources, quantum_site_free_energy, state_homes
 
     geo = geometry_stage(Scenario(shape="hexagon", size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5))
     states = cached_states(geo, 1.5)
+    inner = cached_inner_states(states, geo, 1.5)
     rows = orbit_sources(states, geo, 1.5)
-    assert sum(r["states"] for r in rows) == states.energies_k.size
+    first = first_row_orbits(geo)
+    home = state_homes(states, geo.candidates.x, geo.candidates.y, geo.orbit, 1.5)
+    assert sum(r["states"] for r in rows if first[r["orbit"]]) == int(first[home].sum()) > 0
+    assert sum(r["states"] for r in rows if not first[r["orbit"]]) == inner.energies_k.size
+    np.testing.assert_allclose(inner.orbit_probability.sum(axis=0), 1.0, rtol=1e-12)
+    assert np.all(inner.orbit_probability[first] == 0.0)
+    e0 = float(states.energies_k[0])
+    inside, _ = inner_orbit_sums(inner, e0, 1.5, first.size)
+    assert inside.sum() == pytest.approx(np.exp(-(inner.energies_k - e0) / 1.5).sum(), rel=1e-12)
     assert sum(r["boltzmann_share"] for r in rows) == pytest.approx(1.0, abs=1e-12)
     assert sum(r["sites"] for r in rows) == geo.candidates.x.size
     f = quantum_site_free_energy(geo, temperature_k=1.5)
     for r in rows:
         rep = int(np.flatnonzero(geo.orbit == r["orbit"])[0])
         assert r["free_energy_k"] == pytest.approx(f[rep], abs=1e-12)
-        # an inner orbit can take a share of bands homed on its neighbours (state_shares) without a band of its own
-        assert (r["source"] == "quantum states") == (r["boltzmann_share"] > 0)
-        if r["source"] == "classical":
-            assert r["free_energy_k"] == r["classical_free_energy_k"]
-    assert {r["label"] for r in rows if r["source"] == "quantum states"} >= {"corner", "face"}
+        assert r["source"] == ("quantum states" if first[r["orbit"]] else "quantum states inside the first row")
+    assert {r["label"] for r in rows if r["source"] == "quantum states"} == {"corner", "face"}
 
 
 def test_a_grid_with_fewer_states_than_the_temperature_asks_for_ends():

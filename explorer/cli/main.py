@@ -233,7 +233,7 @@ def _cmd_isotherm(args) -> int:
 
 
 def _cmd_states(args) -> int:
-    from porefill.physics.sites.quantum import solve_states
+    from porefill.physics.sites.quantum import model_states
 
     if base_scenario(args) is None and args.temperature is None:
         raise UsageError("give the temperature with --temperature K (or a scenario file that has one)")
@@ -245,10 +245,10 @@ def _cmd_states(args) -> int:
         geo = geometry_stage(scenario)
         t = scenario.temperature_k
         cap = {} if args.max_states is None else {"max_states": args.max_states}
-        st = solve_states(geo.pore, geo.pair, geo.adsorbate.hbar2_over_mk, temperature_k=t, **cap)
+        st = model_states(geo, t, **cap)
     except ValueError as exc:
         raise UsageError(str(exc)) from None
-    from porefill.physics.sites.quantum import states_numbers
+    from porefill.physics.sites.state_sites import states_numbers
 
     result = {"units": {"energy": "K", "length": "angstrom", "henry": "atoms per nm of pore per Pa"},
               "scenario": scenario.to_dict(), **states_numbers(st, geo, t)}
@@ -263,9 +263,8 @@ def _cmd_states(args) -> int:
         print(f"{scenario.adsorbate} at {t:g} K: ground state {st.ground_state_k:.3f} K, potential minimum "
               f"{st.potential_minimum_k:.3f} K, zero-point energy {st.zero_point_energy_k:.3f} K")
         wanted = result["states_wanted"]
-        print(f"states wanted up to {wanted['top_k']:.3f} K: the first layer's to {wanted['weight_fraction']:g} of the "
-              f"ground state's weight, every row's to {wanted['margin_kt']:g} kT above the centre's potential "
-              f"({wanted['centre_potential_k']:.3f} K)")
+        print(f"states wanted up to {wanted['top_k']:.3f} K: the first layer's, to {wanted['weight_fraction']:g} of "
+              "the ground state's weight")
         print(f"{st.energies_k.size} states{' (capped)' if st.capped else ''} on a {st.spacing_angstrom:g} Å grid "
               f"({st.points.shape[0]} points, energies good to about {st.error_k:.2g} K); the states above them, "
               f"summed semiclassically, hold {result['boltzmann_tail_fraction']:.2g} of the Boltzmann sum")
@@ -274,10 +273,18 @@ def _cmd_states(args) -> int:
         print("lowest excitations (K): " + ", ".join(f"{e:.3f}" for e in result["excitation_energies_k"][:12]))
         print("lowest bands: " + "; ".join(f"+{b['excitation_k']:.2f} K ×{b['degeneracy']} {b['where']}"
                                            for b in result["bands"][:6]))
+        inner = result["inner_states"]
+        if inner:
+            print(f"rows inside the first: {inner['states_used']} states{' (capped)' if inner['capped'] else ''} of the "
+                  f"region the filled first row leaves ({inner['points']} points, ψ = 0 on its edge), up to "
+                  f"{inner['top_k']:.3f} K: {inner['margin_kt']:g} kT above the higher of its ground state "
+                  f"({inner['ground_state_k']:.3f} K) and the centre's potential ({inner['centre_potential_k']:.3f} K)")
         print("site free energies of the quantum site model, per orbit:")
         for o in result["orbits"]:
-            how = (f"{o['states']} states, {o['boltzmann_share']:.3g} of the Boltzmann sum"
+            how = (f"{o['states']} states homed, {o['boltzmann_share']:.3g} of the Boltzmann sum"
                    if o["source"] == "quantum states" else
+                   f"states inside the first row, {o['states']} mostly here, {o['boltzmann_share']:.3g} of the sum"
+                   if o["source"] == "quantum states inside the first row" else
                    "no computed state reaches it: semiclassical integral above the states' cut"
                    if o["source"].startswith("semiclassical") else
                    "no computed state reaches it: classical cell integral")

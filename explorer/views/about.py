@@ -78,13 +78,14 @@ reported. The one-atom partition function then gives the low-pressure (Henry) li
 The lattice needs a free energy per site. Spreading the thermal one-atom density over the cells would
 count the tails of wall-bound states as binding in the next row, so porefill gives whole bands of
 near-degenerate states bound in the first layer to the orbit of wall sites that holds most of their
-probability, and shares each band above the first layer among the inner rows' orbits by its probability on
-each, among those whose cells the band can classically reach. The states are computed up to a few kT above the potential at the pore's centre, so every row takes
-its free energy from states. The sum over sites then equals the exact sum over states and stays below the
-classical value (the Golden–Thompson inequality); an inner site can come out below its own classical cell
-value, because the states above the first layer also dip into the wall's well. **Limits:** where the
-number of states is capped (very large pores, hydrogen and neon), the rows no computed state reaches keep
-their classical or semiclassical cell integral, and the readout says so; the fluid–fluid bond stays
+probability. The rows inside fill on a full first row, so their sites take the states of the region the first
+row's cells leave (the wavefunction vanishes outside it), each state shared among them by its probability on
+their cells: the thermal density matrix over each cell. Every row takes its free energy from states, the
+low-pressure limit is the exact quantum Henry constant, and as ħ → 0 each site's value becomes its classical
+cell integral. An inner site can come out below its own classical cell value, because states spread over
+several rows. **Limits:** where the number of states is capped (very large pores, hydrogen and neon), the
+sites no computed state reaches keep their semiclassical or classical cell integral, and the readout says so;
+the first row is taken as full when the inner rows' states are computed; the fluid–fluid bond stays
 classical; states are those of one atom.
 
 The quantum model is the default for helium-4, hydrogen and neon; the classical one for argon and

@@ -48,7 +48,8 @@ def comparison_job(scenario, n_points: int = DEFAULT_POINTS) -> ComparisonSummar
     from porefill.physics.lattice_gas.adsorption import compute_isotherm
     from porefill.physics.lattice_gas.energies import isotherm_energies
     from porefill.physics.lattice_gas.model_shift import step_shifts
-    from porefill.physics.sites.quantum import cached_states, states_numbers
+    from porefill.physics.sites.quantum import cached_states
+    from porefill.physics.sites.state_sites import states_numbers
     from porefill.physics.sites.state_bands import band_density, site_labels, state_bands
 
     sc = scenario.replace(title="", notes="")

@@ -225,6 +225,7 @@ class QuantumView(pn.viewable.Viewer):
     @staticmethod
     def _summary_html(s: ComparisonSummary) -> str:
         st = s.states
+        inner = _inner_html(st.get("inner_states"))
         capped = " (capped)" if st["states_capped"] else ""
         rows = "".join(
             f"<tr><td>{b.excitation_k:.3f}</td><td>{b.degeneracy}</td><td>{b.splitting_k:.2g}</td>"
@@ -237,12 +238,12 @@ class QuantumView(pn.viewable.Viewer):
             f"Henry constant: quantum {st['henry_quantum']:.3g}, classical {st['henry_classical']:.3g} per nm per Pa "
             f"(ratio {ratio:.3g}). Mean energies of one atom: kinetic {st['mean_kinetic_energy_k']:.2f} K, "
             f"potential {st['mean_potential_energy_k']:.2f} K.</p>"
-            f"<p>{st['states_used']} states{capped}, wanted up to {st['states_wanted']['top_k']:.2f} K (every row's: "
-            f"{st['states_wanted']['margin_kt']:g} kT above the potential at the pore's centre), on a "
-            f"{st['grid']['spacing_angstrom']:g} Å grid "
+            f"<p>{st['states_used']} states{capped} of the whole cross-section, wanted up to "
+            f"{st['states_wanted']['top_k']:.2f} K (the first layer's, to {st['states_wanted']['weight_fraction']:g} "
+            f"of the ground state's weight), on a {st['grid']['spacing_angstrom']:g} Å grid "
             f"({st['grid']['points']} points; free energy good to about {st['grid']['energy_error_estimate_k']:.2g} K); "
             f"the states above them, summed semiclassically, hold {st['boltzmann_tail_fraction']:.2g} of the "
-            "Boltzmann sum.</p>"
+            f"Boltzmann sum.</p>{inner}"
             "<table class='porefill-band-table'><caption style='text-align:left'><b>Lowest bands</b></caption>"
             "<tr><th>above ground (K)</th><th>states</th><th>splitting (K)</th><th>where</th><th>weight</th></tr>"
             f"{rows}</table>"
@@ -275,3 +276,14 @@ class QuantumView(pn.viewable.Viewer):
     def __panel__(self):
         return pn.Column(pn.pane.HTML("<h3>Quantum states and the two site models</h3>"), self.caption, self.button,
                          self._body, sizing_mode="stretch_width", css_classes=["porefill-quantum"])
+
+
+def _inner_html(inner: dict | None) -> str:
+    """The line on the states of the region inside the first row (the inner rows' free energies)."""
+    if not inner:
+        return ""
+    capped = " (capped: the rest summed semiclassically)" if inner["capped"] else ""
+    return (f"<p>Rows inside the first: {inner['states_used']} states{capped} of the region the filled first row "
+            f"leaves (ψ = 0 on its edge; {inner['points']} grid points), up to {inner['top_k']:.2f} K "
+            f"({inner['margin_kt']:g} kT above the higher of its ground state, {inner['ground_state_k']:.2f} K, and "
+            f"the potential at the pore's centre), each shared among the sites by its probability on their cells.</p>")

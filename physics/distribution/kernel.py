@@ -35,7 +35,7 @@ from porefill.physics.scenario import Scenario
 __all__ = ["KernelSpec", "Kernel", "kernel_column", "pore_part", "DEFAULT_PARTS", "pore_diameter_angstrom", "default_sizes", "KERNEL_VERSION",
            "DEFAULT_DIAMETERS_NM", "DEFAULT_KERNEL_SIZES", "DEFAULT_KERNEL_POINTS"]
 
-KERNEL_VERSION = 5            # bump when what a column holds changes: the disk cache keys on it (4: row blend; 5: quantum inner rows)
+KERNEL_VERSION = 6            # bump when what a column holds changes: the disk cache keys on it (4: row blend; 5: quantum inner rows; 6: their region's states)
 DEFAULT_DIAMETERS_NM = (2.0, 10.0)   # the mesopores ordered silicas are made with (IUPAC: 2–50 nm mesopores)
 DEFAULT_KERNEL_SIZES = 48
 DEFAULT_PARTS = 3                    # isotherms averaged per kernel size (module notes)

@@ -4,9 +4,11 @@ Per site i, at temperature T (K; energies as E/k_B):
 
 - classical site model: ⟨V⟩_i = ∫_cell V e^{−V/kT} dA / ∫_cell e^{−V/kT} dA on the cell's converged quadrature
   nodes (`porefill.physics.sites.cells`), and the kinetic energy of free classical motion, 3kT/2;
-- quantum site model: the states given to the site's orbit (`porefill.physics.sites.state_sites.state_shares`), Boltzmann weights
-  b_n: ⟨V⟩_i = Σ b_n ⟨n|V|n⟩ / Σ b_n and kinetic Σ b_n (E_n − ⟨n|V|n⟩) / Σ b_n + kT/2 (free motion along the
-  axis). Sites no computed state reaches keep the classical values, as their free energies do.
+- quantum site model: the states given to the site's orbit (`porefill.physics.sites.state_sites.state_shares` for
+  the first row; for the rows inside, the states of their region, each with its probability on the orbit's
+  cells, `porefill.physics.sites.inner_states`), Boltzmann weights b_n: ⟨V⟩_i = Σ b_n ⟨n|V|n⟩ / Σ b_n and kinetic
+  Σ b_n (E_n − ⟨n|V|n⟩) / Σ b_n + kT/2 (free motion along the axis), the sums weighted by the state's share.
+  Sites no computed state reaches keep the classical values, as their free energies do.
 
 Both obey the Gibbs–Helmholtz relation in the frame of `porefill.physics.sites.site_models` (free energy relative to a free
 ideal-gas atom, whose energy is 3kT/2): ⟨V⟩_i + ⟨K⟩_i − 3kT/2 = ∂(f_i/kT)/∂(1/kT); the tests check it.
@@ -45,19 +47,30 @@ def _classical(cells, temperature_k: float):
     return potential, np.full(potential.shape, 1.5 * float(temperature_k))
 
 
+def _weighted(shares, energies_k, potential_k, ground_k: float, kt: float):
+    """Per orbit: Σ_n s_on b_n, Σ_n s_on b_n ⟨n|V|n⟩ and Σ_n s_on b_n (E_n − ⟨n|V|n⟩), b_n = e^{−(E_n − E₀)/kT}."""
+    b = np.exp(-(energies_k - ground_k) / kt)
+    return shares @ b, shares @ (b * potential_k), shares @ (b * (energies_k - potential_k))
+
+
 def _quantum(geometry, temperature_k: float, potential: np.ndarray, kinetic: np.ndarray):
+    from porefill.physics.sites.inner_states import cached_inner_states
     from porefill.physics.sites.quantum import cached_states
-    from porefill.physics.sites.state_sites import geometry_shares
+    from porefill.physics.sites.state_sites import first_row_orbits, geometry_shares
 
     kt = float(temperature_k)
     states = cached_states(geometry, kt)
-    shares = geometry_shares(states, geometry, kt)                   # (orbits, K)
-    b = np.exp(-(states.energies_k - states.energies_k[0]) / kt)
-    v_n = states.state_potential_k                                  # ⟨n|V|n⟩, K
-    weight = shares @ b
+    weight, v_sum, k_sum = _weighted(geometry_shares(states, geometry, kt), states.energies_k,
+                                     states.state_potential_k, states.energies_k[0], kt)
+    inner = cached_inner_states(states, geometry, kt)
+    if inner is not None:                  # the rows inside the first: the states of their region
+        w_in, v_in, k_in = _weighted(inner.orbit_probability, inner.energies_k, inner.state_potential_k,
+                                     states.energies_k[0], kt)
+        inside = ~first_row_orbits(geometry)
+        weight, v_sum, k_sum = (np.where(inside, a, b) for a, b in ((w_in, weight), (v_in, v_sum), (k_in, k_sum)))
     with np.errstate(invalid="ignore", divide="ignore"):
-        v_orbit = shares @ (b * v_n) / weight
-        k_orbit = shares @ (b * (states.energies_k - v_n)) / weight + 0.5 * kt
+        v_orbit = v_sum / weight
+        k_orbit = k_sum / weight + 0.5 * kt
     reached = (weight > 0)[geometry.orbit]
     return (np.where(reached, v_orbit[geometry.orbit], potential),
             np.where(reached, k_orbit[geometry.orbit], kinetic))

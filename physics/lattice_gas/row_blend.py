@@ -131,6 +131,10 @@ def _merge(pair: list[tuple[float, Step]], scale) -> Step:
                    spread_pressure_pa=(float(pressures[0]), float(pressures[-1])), share=1.0)
 
 
+def _fills_centre(step: Step) -> bool:
+    return any(name == "centre" for name, _ in step.filling)
+
+
 def blend_steps(parts, scale, full_per_nm: float) -> tuple[Step, ...]:
     """The mixture's steps from ((weight, steps), ...) of its lattices, heavier first (module notes).
 
@@ -145,7 +149,9 @@ def blend_steps(parts, scale, full_per_nm: float) -> tuple[Step, ...]:
     (wa, a), (wb, b) = parts
     pairs: list[list[tuple[float, Step]]] = []
     ca, cb = condensation_step(a), condensation_step(b)
-    if ca is not None and cb is not None:
+    if ca is not None and cb is not None and _fills_centre(ca) == _fills_centre(cb):
+        # a condensation pairs with a condensation; where only one lattice's list has the step that fills the
+        # centre (the other's fell out of its step list), the largest step of the other is no partner for it
         pairs.append([(wa, ca), (wb, cb)])
         a = [s for s in a if s is not ca]
         b = [s for s in b if s is not cb]

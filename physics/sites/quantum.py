@@ -29,12 +29,11 @@ from porefill.physics.sites.lattice import _cell_offsets, _triangular_sites
 from porefill.physics.sites.symmetry_blocks import block_states, symmetry_blocks
 from porefill.physics.pore.wall_potential import wall_potential
 
-__all__ = ["states_numbers", "CrossSectionStates", "solve_states", "thermal_wavelength_angstrom", "classical_boltzmann_area",
-           "grid_states", "potential_grid", "states_wanted_top_k", "henry_constant", "cached_states"]
+__all__ = ["CrossSectionStates", "solve_states", "thermal_wavelength_angstrom", "classical_boltzmann_area",
+           "grid_states", "potential_grid", "states_wanted_top_k", "henry_constant", "cached_states", "model_states"]
 
 _WALL_CUT_K = 2000.0          # grid points with V above this are outside the problem (hard wall; 400 K moves E0 by 0.1 K)
 _WEIGHT_FRACTION = 1e-6       # the first layer's states: until the next carries less Boltzmann weight than this
-_INNER_MARGIN_KT = 4.0        # every row's states: up to this many kT above the potential at the pore's centre
 _FIRST_STATES = 24
 _MAX_STATES = 480
 _FINE_STEP_ANGSTROM = 0.04    # sample spacing of the classical integral where exp(−V/kT) matters
@@ -157,7 +156,8 @@ class CrossSectionStates:
     probability summed over blocks of four neighbouring grid points, centred at ``home_points`` (B, 2), in
     single precision — what `porefill.physics.sites.state_sites.state_homes` needs to give the inner rows their states, at a sixteenth of the
     memory of the vectors (a 25 Å pore holds some 450 states on 90 000 points). ``centre_potential_k`` the
-    wall potential at the pore's centre, which sets how many states are wanted (`states_wanted_top_k`).
+    wall potential at the pore's centre, which sets how many inner states are wanted
+    (`porefill.physics.sites.inner_states.inner_top_k`).
     """
 
     energies_k: np.ndarray
@@ -281,21 +281,11 @@ def classical_boltzmann_area(pore, pair, temperature_k: float, *, spacing_angstr
     return float(total * np.exp(-vmin / kt))
 
 
-def states_wanted_top_k(ground_k: float, centre_potential_k: float, temperature_k: float, *,
-                        weight_fraction: float = _WEIGHT_FRACTION, inner_margin_kt: float = _INNER_MARGIN_KT) -> float:
-    """The energy (K) up to which the states are wanted: the higher of
-
-    - E₀ − kT ln(``weight_fraction``): the states that carry the one-atom Boltzmann sum (the first layer), and
-    - min(V_centre, 0) + ``inner_margin_kt`` kT: every state of every row up to a few kT above the highest
-      point of the pore's potential basin (its centre), so that the inner rows' sites are given their own
-      states (`porefill.physics.sites.state_sites`) rather than a classical cell integral. A state homed on an inner site lies
-      above the potential there, so what is left out above this top weighs at most (A_cell/λ²) e^{−margin}
-      of that site's own sum (0.3 e^{−4} ≈ 5e-3 for helium's cells at 1.5 K; in the 15 Å demo pore every
-      site's free energy is within 0.003 kT of a 10 kT margin's; tests/test_quantum_tail.py checks that the
-      steps do not move when the margin and the weight fraction are tightened).
-    """
-    kt = float(temperature_k)
-    return float(max(ground_k - kt * np.log(weight_fraction), min(centre_potential_k, 0.0) + inner_margin_kt * kt))
+def states_wanted_top_k(ground_k: float, temperature_k: float, *, weight_fraction: float = _WEIGHT_FRACTION) -> float:
+    """The energy (K) up to which the cross-section's states are wanted: E₀ − kT ln(``weight_fraction``), the
+    states that carry the one-atom Boltzmann sum (the first layer's). The rows inside the first take their
+    states from the region the first row leaves (`porefill.physics.sites.inner_states`), not from these."""
+    return float(ground_k - float(temperature_k) * np.log(weight_fraction))
 
 
 def _weyl_count(v: np.ndarray, point_area: float, top_k: float, hbar2_over_mk: float) -> float:
@@ -304,12 +294,11 @@ def _weyl_count(v: np.ndarray, point_area: float, top_k: float, hbar2_over_mk: f
 
 
 def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_kt: float = TOLERANCE_KT,
-                 spacing_angstrom: float = 0.25, weight_fraction: float = _WEIGHT_FRACTION,
-                 inner_margin_kt: float = _INNER_MARGIN_KT, max_states: int = _MAX_STATES,
+                 spacing_angstrom: float = 0.25, weight_fraction: float = _WEIGHT_FRACTION, max_states: int = _MAX_STATES,
                  min_spacing_angstrom: float = 0.05) -> CrossSectionStates:
     """The lowest states, as many as the temperature needs — every state below `states_wanted_top_k` (the
-    first layer's states to ``weight_fraction`` of the ground state's weight, and every row's states to
-    ``inner_margin_kt`` above the pore centre's potential), or ``max_states``: then ``capped`` — on a grid
+    first layer's states to ``weight_fraction`` of the ground state's weight), or ``max_states``: then
+    ``capped`` — on a grid
     fine enough that the estimated error of the one-atom free energy −kT ln Σ_n e^{−E_n/kT} (the
     Boltzmann-weighted mean error of the levels) is below ``tol_kt`` × kT.
 
@@ -329,8 +318,7 @@ def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_
     centre = float(np.asarray(wall_potential(0.0, 0.0, pore=pore, pair=pair)))
 
     def top(ground_k: float) -> float:
-        return states_wanted_top_k(ground_k, centre, kt, weight_fraction=weight_fraction,
-                                   inner_margin_kt=inner_margin_kt)
+        return states_wanted_top_k(ground_k, kt, weight_fraction=weight_fraction)
 
     def first_top(ground_k: float) -> float:
         return ground_k - kt * np.log(weight_fraction)
@@ -447,49 +435,45 @@ def cached_states(geometry, temperature_k: float) -> CrossSectionStates:
     """The states of a geometry stage, computed once and reused for every temperature they cover: a lower
     temperature needs fewer states, and a somewhat higher one is covered while the highest state held lies
     no more than ``_REUSE_MARGIN_KT`` kT below the top that temperature wants (`states_wanted_top_k`: the
-    margin of every row's states shrinks from 4 to 2 kT at worst), so a temperature slider nudged upwards
-    does not solve again."""
+    first layer's states then reach 1e-6 e² of the ground state's weight at worst), so a temperature slider
+    nudged upwards does not solve again."""
     key = geometry.scenario_key          # the states do not depend on the lattice
     held = _STATES.get(key)
     if held is not None:
         e = held[1].energies_k
         kt = float(temperature_k)
-        wanted = states_wanted_top_k(float(e[0]), held[1].centre_potential_k, kt,
-                                     weight_fraction=_WEIGHT_FRACTION, inner_margin_kt=_INNER_MARGIN_KT)
+        wanted = states_wanted_top_k(float(e[0]), kt, weight_fraction=_WEIGHT_FRACTION)
         covered = held[0] >= temperature_k or e[-1] >= wanted - _REUSE_MARGIN_KT * kt
     if held is None or not covered:
-        states = solve_states(geometry.pore, geometry.pair, geometry.adsorbate.hbar2_over_mk,
-                              temperature_k=temperature_k, weight_fraction=_WEIGHT_FRACTION,
-                              inner_margin_kt=_INNER_MARGIN_KT)
-        held = (float(temperature_k), states)
+        held = (float(temperature_k), model_states(geometry, temperature_k))
+        _STATES.put(key, held)
+    elif not held[1].capped and _first_row_without_states(held[1], geometry, float(temperature_k)):
+        held = (held[0], model_states(geometry, temperature_k))     # another lattice's first row wants more
         _STATES.put(key, held)
     return held[1]
 
 
-def states_numbers(states, geometry, temperature_k: float) -> dict:
-    """The states readout: what `porefill states --json` prints and the Quantum states tab shows, for one set of
-    states (K, Å, atoms per nm per Pa)."""
-    from porefill.physics.sites.state_sites import orbit_sources
+_MORE_STATES = 1e-4           # each extra round asks for states 9.2 kT further up
 
-    t = float(temperature_k)
-    classical = classical_boltzmann_area(geometry.pore, geometry.pair, t)
-    return {
-        "energies_k": [float(e) for e in states.energies_k],
-        "ground_state_k": states.ground_state_k,
-        "potential_minimum_k": states.potential_minimum_k,
-        "zero_point_energy_k": states.zero_point_energy_k,
-        "excitation_energies_k": [float(e - states.energies_k[0]) for e in states.energies_k],
-        "henry_quantum": states.henry_per_nm_pa(t),
-        "henry_classical": henry_constant(classical, t),
-        "mean_kinetic_energy_k": states.mean_kinetic_k(t),
-        "mean_potential_energy_k": states.mean_potential_k(t),
-        "grid": {"spacing_angstrom": states.spacing_angstrom, "points": int(states.points.shape[0]),
-                 "energy_error_estimate_k": states.error_k},
-        "states_used": int(states.energies_k.size),
-        "states_wanted": {"top_k": states_wanted_top_k(float(states.energies_k[0]), states.centre_potential_k, t),
-                          "weight_fraction": _WEIGHT_FRACTION, "margin_kt": _INNER_MARGIN_KT,
-                          "centre_potential_k": states.centre_potential_k},
-        "states_capped": bool(states.capped),
-        "boltzmann_tail_fraction": states.tail_fraction(t),
-        "orbits": orbit_sources(states, geometry, t),
-    }
+
+def _first_row_without_states(states: CrossSectionStates, geometry, temperature_k: float) -> bool:
+    from porefill.physics.sites.state_sites import first_row_orbits, state_homes
+
+    lat = geometry.candidates
+    home = state_homes(states, lat.x, lat.y, geometry.orbit, temperature_k)
+    first = first_row_orbits(geometry)
+    return bool(np.any(first & (np.bincount(home, minlength=first.size) == 0)))
+
+
+def model_states(geometry, temperature_k: float, *, max_states: int = _MAX_STATES) -> CrossSectionStates:
+    """The states the quantum site model uses for a geometry stage: the first layer's (`solve_states`), and
+    more, 9.2 kT further up at a time, while an orbit of the lattice's first row has no band of its own (a
+    face orbit that appears with the pore's size lies above the corner's states by more than the weight
+    rule reaches: at 24 Å, 1e-14 of the ground state's weight), unless the count reaches ``max_states``."""
+    fraction = _WEIGHT_FRACTION
+    while True:
+        states = solve_states(geometry.pore, geometry.pair, geometry.adsorbate.hbar2_over_mk,
+                              temperature_k=temperature_k, weight_fraction=fraction, max_states=max_states)
+        if states.capped or fraction < 1e-40 or not _first_row_without_states(states, geometry, temperature_k):
+            return states
+        fraction *= _MORE_STATES

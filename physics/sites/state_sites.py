@@ -13,10 +13,13 @@ import numpy as np
 from scipy import sparse
 from scipy.spatial import cKDTree
 
-from porefill.physics.sites.quantum import CrossSectionStates, _clusters, cached_states, thermal_wavelength_angstrom
+from porefill.physics.sites.inner_states import cached_inner_states, inner_orbit_sums
+from porefill.physics.sites.quantum import (_WEIGHT_FRACTION, CrossSectionStates, _clusters, cached_states,
+                                            classical_boltzmann_area, henry_constant, states_wanted_top_k,
+                                            thermal_wavelength_angstrom)
 
-__all__ = ["state_homes", "state_shares", "geometry_shares", "assign_states", "first_row_orbits", "orbit_floors",
-           "quantum_site_free_energy", "orbit_sources"]
+__all__ = ["state_homes", "state_shares", "geometry_shares", "assign_states", "first_row_orbits",
+           "quantum_site_free_energy", "orbit_sources", "states_numbers"]
 
 
 def _orbit_probability(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray) -> np.ndarray:
@@ -47,18 +50,15 @@ def state_homes(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, t
 
 
 def state_shares(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, first_row: np.ndarray,
-                 temperature_k: float, floor_k: np.ndarray | None = None) -> np.ndarray:
-    """(orbits, K) how each computed state's Boltzmann weight is split among the orbits (columns sum to 1).
+                 temperature_k: float) -> np.ndarray:
+    """(orbits, K) how each computed state of the whole cross-section is given to the orbits.
 
-    A band whose home (`state_homes`) is an orbit of the first row (``first_row``: (orbits,) bool, the
-    sites in the wall's well) goes to it whole: the first layer's states reach into the next row only by
-    their evanescent tails, and those carry far more weight there than the next row's own states, so a
-    share by probability would bind the next row by the first layer's states. A band homed on an inner
-    row is shared among the inner orbits in proportion to its probability on each, among those whose cell
-    the band can classically reach (``floor_k``: (orbits,) the lowest wall potential in each orbit's cells,
-    K; the band's mean energy must lie above it): above the first layer the states spread over several
-    rows, and a whole-band rule would give nothing to a small orbit (the centre's single site) that every
-    band overlaps but none is mostly on, while a tail under a barrier binds no site, in any row.
+    A band whose home (`state_homes`) is an orbit of the first row (``first_row``: (orbits,) bool, the sites
+    in the wall's well) goes to it whole (column of one 1): the first layer's states reach into the next row
+    only by their evanescent tails, and those carry far more weight there than the next row's own states, so
+    a share by probability would bind the next row by the first layer's states. The other bands go to no
+    orbit here (column of zeros): the rows inside the first fill on a full first row, and take their states
+    from the region it leaves (`porefill.physics.sites.inner_states`).
     """
     band = _clusters(states.energies_k, float(temperature_k))
     prob = _band_probability(_orbit_probability(states, site_x, site_y, orbit), band)   # (orbits, bands)
@@ -67,47 +67,36 @@ def state_shares(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, 
     shares = np.zeros_like(prob)
     outer = first[home]
     shares[home[outer], np.flatnonzero(outer)] = 1.0
-    inner = prob[:, ~outer] * (~first)[:, None]
-    if floor_k is not None:
-        energy = np.bincount(band, weights=states.energies_k) / np.bincount(band)
-        reach = np.asarray(floor_k)[:, None] < energy[None, ~outer]
-        reach[home[~outer], np.arange(reach.shape[1])] = True          # the home orbit always takes its band
-        inner = inner * reach
-    shares[:, ~outer] = inner / inner.sum(axis=0, keepdims=True)
     return shares[:, band]
 
 
 def geometry_shares(states: CrossSectionStates, geometry, temperature_k: float) -> np.ndarray:
-    """`state_shares` on a geometry stage's candidate sites, with its first row and its cells' floors."""
+    """`state_shares` on a geometry stage's candidate sites, with its first row."""
     lat = geometry.candidates
-    return state_shares(states, lat.x, lat.y, geometry.orbit, first_row_orbits(geometry), temperature_k,
-                        orbit_floors(geometry))
+    return state_shares(states, lat.x, lat.y, geometry.orbit, first_row_orbits(geometry), temperature_k)
 
 
-def orbit_floors(geometry) -> np.ndarray:
-    """(orbits,) the lowest wall potential (K) over each symmetry orbit's cells (`SiteCells`' nodes)."""
-    cells = geometry.cells
+def _orbit_sums(states: CrossSectionStates, geometry, kt: float):
+    """Per orbit (orbits,), relative to e^{−E₀/kT}: the Boltzmann sum of the states it is given (the whole
+    cross-section's for the first row, `state_shares`; the inner region's for the rows inside,
+    `porefill.physics.sites.inner_states`), the inner rows' semiclassical sum above their states, and the
+    inner states (None where the lattice has no row inside the first)."""
     n_orbits = int(geometry.orbit.max()) + 1
-    floor = np.full(n_orbits, np.inf)
-    finite = np.isfinite(cells.potential_k)
-    # a cell group is one orbit's cells (`porefill.physics.sites.cells.site_cells`)
-    group_orbit = np.zeros(cells.area_angstrom2.size, int)
-    group_orbit[cells.site_group] = geometry.orbit
-    np.minimum.at(floor, group_orbit[cells.group[finite]], cells.potential_k[finite])
-    return floor
+    boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)      # relative to the ground state
+    per_orbit = geometry_shares(states, geometry, kt) @ boltz
+    inner_tail = np.zeros(n_orbits)
+    inner = cached_inner_states(states, geometry, kt)
+    if inner is not None:
+        inside, inner_tail = inner_orbit_sums(inner, float(states.energies_k[0]), kt, n_orbits)
+        per_orbit = np.where(first_row_orbits(geometry), per_orbit, inside)
+    return per_orbit, inner_tail, inner
 
 
 def assign_states(states: CrossSectionStates, geometry, temperature_k: float):
-    """Σ_n exp(−E_n/kT) of the states given to each candidate site of a geometry stage (N,), and which sites
-    got any.
-
-    Each state's weight is split among the orbits by `state_shares` (`geometry_shares`), and an orbit's part
-    shared evenly by its sites. Σ_sites equals the Boltzmann sum of the computed states exactly.
-    """
-    kt = float(temperature_k)
+    """Σ_n exp(−(E_n − E₀)/kT) of the states given to each candidate site of a geometry stage (N,), and which
+    sites got any: an orbit's sum (`_orbit_sums`) shared evenly by its sites."""
     orbit = geometry.orbit
-    boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)      # relative to the ground state
-    per_orbit = geometry_shares(states, geometry, kt) @ boltz
+    per_orbit = _orbit_sums(states, geometry, float(temperature_k))[0]
     size = np.bincount(orbit, minlength=int(orbit.max()) + 1).astype(float)
     z = per_orbit[orbit] / size[orbit]
     return z, z > 0
@@ -152,39 +141,89 @@ def _site_tails(states: CrossSectionStates, geometry, kt: float):
 
 def _site_free_energies(states: CrossSectionStates, geometry, kt: float):
     """Site free energies: f_i = E₀ − kT ln(λ²(S_i + T_i)/A_cell), S_i the Boltzmann sum of the states given to
-    site i (`assign_states`) and T_i its share of the semiclassical tail above them (`_site_tails`). A site no
-    state reaches whose region stays above the tail's cut keeps its classical cell integral (the floor does
-    not touch it); where its region dips below the cut, the part below is the computed states' (homed
-    elsewhere) and only the floored integral T_i counts."""
-    lat = geometry.candidates
-    z_rel, reached = assign_states(states, geometry, kt)
+    site i (`assign_states`) and T_i its share of the semiclassical sum above them: over its own cell for the
+    first row (`_site_tails`), over its cells' grid points inside the first row for the others
+    (`porefill.physics.sites.inner_states`). Where a lattice has rows inside the first but no inner states
+    (a region too small for a grid), a site no state reaches keeps its classical cell integral, or where its
+    cell dips below the tail's cut, the floored integral T_i alone.
+
+    Returns f (N,), whether each site got states of the whole cross-section or of the inner region (N,), the
+    classical f (N,), whether the floored integral alone was used (N,), and the inner states (or None)."""
+    lat, orbit = geometry.candidates, geometry.orbit
+    n_orbits = int(orbit.max()) + 1
+    size = np.bincount(orbit, minlength=n_orbits).astype(float)
+    per_orbit, inner_tail, inner = _orbit_sums(states, geometry, kt)
+    z_rel = per_orbit[orbit] / size[orbit]
     tail, floored = _site_tails(states, geometry, kt)
+    inside = np.zeros(orbit.size, bool) if inner is None else ~first_row_orbits(geometry)[orbit]
+    tail = np.where(inside, (inner_tail / size)[orbit], tail)
+    reached = (z_rel > 0) | inside
+    floored = floored & ~reached
     lam = thermal_wavelength_angstrom(states.hbar2_over_mk, kt)
     f = geometry.cells.free_energies(kt, lat.cell_area_angstrom2)
     with np.errstate(divide="ignore"):
         f_q = states.energies_k[0] - kt * np.log(lam * lam * (z_rel + tail) / lat.cell_area_angstrom2)
-    return np.where(reached | floored, f_q, f), reached, f, floored
+    return np.where(reached | floored, f_q, f), reached, f, floored, inner
 
 
 def orbit_sources(states: CrossSectionStates, geometry, temperature_k: float) -> list[dict]:
     """Where each symmetry orbit's free energy comes from, for the readout: per orbit its label, site count,
-    the computed states homed on it (`state_homes`), its share of the Boltzmann sum (`state_shares`), the free energy the
-    quantum site model uses (K) and the orbit's classical value beside it. An orbit no computed state reaches
-    keeps its classical cell integral (source "classical"), or where its region dips below the states' cut the
-    semiclassical integral above it ("semiclassical above the states"); the others are "quantum states"."""
+    its source, the states counted as its own (the whole cross-section's bands homed on it, `state_homes`,
+    for the first row; the inner region's states with most of their probability on it for the rows inside),
+    its share of the orbits' Boltzmann sums, the free energy the quantum site model uses (K) and the orbit's
+    classical value beside it. Sources: "quantum states" (the first row), "quantum states inside the first
+    row" (`porefill.physics.sites.inner_states`), and where no state reaches an orbit "semiclassical above the
+    states" or "classical"."""
     kt = float(temperature_k)
     lat = geometry.candidates
-    f, reached, f_classical, floored = _site_free_energies(states, geometry, kt)
+    f, reached, f_classical, floored, inner = _site_free_energies(states, geometry, kt)
     home = state_homes(states, lat.x, lat.y, geometry.orbit, kt)
-    shares = geometry_shares(states, geometry, kt)
-    boltz = np.exp(-(states.energies_k - states.energies_k[0]) / kt)
+    first = first_row_orbits(geometry)
+    per_orbit = _orbit_sums(states, geometry, kt)[0]
+    inner_home = (np.argmax(inner.orbit_probability, axis=0) if inner is not None else np.empty(0, int))
     out = []
     for o in range(int(geometry.orbit.max()) + 1):
         members = np.flatnonzero(geometry.orbit == o)
         rep = int(members[0])
+        inside = inner is not None and not first[o]
         out.append({"orbit": o, "label": lat.label(rep), "sites": int(members.size),
-                    "source": ("quantum states" if reached[rep] else
+                    "source": ("quantum states inside the first row" if inside else
+                               "quantum states" if reached[rep] else
                                "semiclassical above the states" if floored[rep] else "classical"),
-                    "states": int((home == o).sum()), "boltzmann_share": float(shares[o] @ boltz / boltz.sum()),
+                    "states": int((inner_home == o).sum() if inside else (home == o).sum() if first[o] else 0),
+                    "boltzmann_share": float(per_orbit[o] / per_orbit.sum()),
                     "free_energy_k": float(f[rep]), "classical_free_energy_k": float(f_classical[rep])})
     return out
+
+
+def states_numbers(states, geometry, temperature_k: float) -> dict:
+    """The states readout: what `porefill states --json` prints and the Quantum states tab shows, for one set of
+    states (K, Å, atoms per nm per Pa)."""
+    from porefill.physics.sites.inner_states import INNER_MARGIN_KT
+
+    t = float(temperature_k)
+    classical = classical_boltzmann_area(geometry.pore, geometry.pair, t)
+    inner = cached_inner_states(states, geometry, t)
+    return {
+        "energies_k": [float(e) for e in states.energies_k],
+        "ground_state_k": states.ground_state_k,
+        "potential_minimum_k": states.potential_minimum_k,
+        "zero_point_energy_k": states.zero_point_energy_k,
+        "excitation_energies_k": [float(e - states.energies_k[0]) for e in states.energies_k],
+        "henry_quantum": states.henry_per_nm_pa(t),
+        "henry_classical": henry_constant(classical, t),
+        "mean_kinetic_energy_k": states.mean_kinetic_k(t),
+        "mean_potential_energy_k": states.mean_potential_k(t),
+        "grid": {"spacing_angstrom": states.spacing_angstrom, "points": int(states.points.shape[0]),
+                 "energy_error_estimate_k": states.error_k},
+        "states_used": int(states.energies_k.size),
+        "states_wanted": {"top_k": states_wanted_top_k(float(states.energies_k[0]), t),
+                          "weight_fraction": _WEIGHT_FRACTION},
+        "inner_states": None if inner is None else {
+            "states_used": int(inner.energies_k.size), "top_k": inner.top_k, "margin_kt": INNER_MARGIN_KT,
+            "centre_potential_k": states.centre_potential_k, "capped": inner.capped,
+            "ground_state_k": float(inner.energies_k[0]), "points": int(inner.point_orbit.size)},
+        "states_capped": bool(states.capped),
+        "boltzmann_tail_fraction": states.tail_fraction(t),
+        "orbits": orbit_sources(states, geometry, t),
+    }

@@ -1,0 +1,129 @@
+"""The rows inside the first take the states of the region the first row leaves (physics/sites/inner_states.py).
+
+Sources: the lowest Dirichlet eigenvalue of a regular hexagon of side a, λ₁a² ≈ 7.1553 (value from memory),
+bracketed by two theorems: Faber–Krahn (the disk of equal area has the least λ₁: λ₁ ≥ j₀₁²/R², πR² = (3√3/2)a²)
+and domain monotonicity (the inscribed disk, radius a√3/2, has a larger λ₁), with j₀₁ = 2.404826 (Abramowitz &
+Stegun Table 9.5; scipy.special). The classical limit: as the mass grows the quantum partition function over a
+region tends to the classical one (Wigner–Kirkwood; Landau & Lifshitz, Statistical Physics §33; value from memory).
+"""
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy.special import jn_zeros
+
+from porefill.physics.lattice_gas.stages import geometry_stage
+from porefill.physics.scenario import Scenario
+from porefill.physics.sites.inner_states import _region_pairs, inner_orbit_sums, inner_region, solve_inner_states
+from porefill.physics.sites.lattice import _triangular_sites
+from porefill.physics.pore.wall_potential import wall_potential
+from porefill.physics.sites.quantum import grid_states, solve_states, thermal_wavelength_angstrom
+
+
+def _hexagon_ground(a: float, h: float) -> float:
+    """λ₁ (Å⁻²) of −∇² on a regular hexagon of side a (faces along the grid's rows), ψ = 0 outside, on the
+    triangular grid and operator the inner region is solved with."""
+    pts = _triangular_sites(a + 2 * h, h)
+    normals = 2 * np.pi * (np.arange(6) + 0.5) / 6
+    depth = (a * np.sqrt(3) / 2 - (pts[:, 0, None] * np.cos(normals) + pts[:, 1, None] * np.sin(normals))).min(axis=1)
+    p = pts[depth > 1e-9]
+    e, _ = grid_states(np.zeros(p.shape[0]), _region_pairs(p, h), h, 2.0, k=3, shift=-1.0, points=p, vectors=False)
+    return float(e[0])            # ħ²/mk = 2 makes H = −∇²
+
+
+def test_the_region_s_edge_is_a_dirichlet_wall():
+    a = 6.0
+    j01 = jn_zeros(0, 1)[0]
+    faber_krahn = j01**2 / (3 * np.sqrt(3) / (2 * np.pi))          # λ₁a² of the disk of the same area
+    inscribed = j01**2 / (np.sqrt(3) / 2) ** 2                      # λ₁a² of the inscribed disk
+    coarse, fine = _hexagon_ground(a, 0.25) * a * a, _hexagon_ground(a, 0.125) * a * a
+    assert faber_krahn < fine < coarse < inscribed
+    # the grid's edge is first order (the fourth-order operator's far neighbour beyond it is a node):
+    # measured 7.2013 and 7.1784 against 7.1553; within 0.5 % at the grid helium's pores use
+    assert fine == pytest.approx(7.1553, rel=5e-3)
+    assert (coarse - 7.1553) / (fine - 7.1553) == pytest.approx(2.0, rel=0.2)
+
+
+def _inner_free_energies(scenario: Scenario, hbar2_over_mk: float, spacing_angstrom: float = 0.125):
+    """The inner orbits' free energies (K) from the region's states alone, and their classical cell values."""
+    from types import SimpleNamespace
+
+    t = scenario.temperature_k
+    g = geometry_stage(scenario)
+    centre = float(np.asarray(wall_potential(0.0, 0.0, pore=g.pore, pair=g.pair)))
+    # what solve_inner_states takes from the cross-section's states: the grid spacing, the centre's potential
+    # and ħ²/mk (energies are then measured from 0 K)
+    held = SimpleNamespace(spacing_angstrom=spacing_angstrom, centre_potential_k=centre, hbar2_over_mk=hbar2_over_mk)
+    inner = solve_inner_states(held, g, t)
+    n_orbits = int(g.orbit.max()) + 1
+    z, tail = inner_orbit_sums(inner, 0.0, t, n_orbits)
+    size = np.bincount(g.orbit, minlength=n_orbits)
+    lam = thermal_wavelength_angstrom(hbar2_over_mk, t)
+    inside = z > 0
+    f = -t * np.log(lam * lam * (z + tail)[inside] / size[inside] / g.candidates.cell_area_angstrom2)
+    rep = np.array([np.flatnonzero(g.orbit == o)[0] for o in range(n_orbits)])
+    classical = g.cells.free_energies(t, g.candidates.cell_area_angstrom2)[rep]
+    return f, classical[inside]
+
+
+def test_inner_sites_tend_to_their_classical_cells_as_the_mass_grows():
+    # the region is the classical inner cells' union and each point goes to its row's nearest site, as the
+    # cells are cut: a heavier atom's inner free energies close in on the classical cell values (helium's
+    # ħ²/mk divided by 1, 16 and 256, the last on a grid twice as fine, λ being 1.1 Å). The gap falls as
+    # λ ∝ 1/√m, as the Dirichlet edge's term of Weyl's law says (Tr e^{−βH} ≈ A/λ² − L/(4λ): Kac, Am. Math.
+    # Monthly 73, 1 (1966); value from memory). Measured at 4 K, ring 1: 9.5, 3.4 and 0.95 K; the centre's
+    # and ring 2's few hundredths are the grid's points standing in for the cells' exact edges
+    sc = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=4.0)
+    hb = geometry_stage(sc).adsorbate.hbar2_over_mk
+    gaps = []
+    for factor, spacing in ((1.0, 0.125), (16.0, 0.125), (256.0, 0.0625)):
+        f, classical = _inner_free_energies(sc, hb / factor, spacing)
+        gaps.append(np.abs(f - classical).max())
+    assert gaps[0] > gaps[1] > gaps[2]
+    assert 2.5 < gaps[1] / gaps[2] < 6.0            # λ falls 4-fold
+    assert gaps[2] < 0.3 * 4.0
+
+
+def test_inner_rows_move_smoothly_with_the_pore_s_size():
+    # issue: steps smooth in size (≤ 0.15 decades per 0.25 Å of side: 0.17 kT of μ per 0.125 Å). Within one
+    # lattice the inner region grows continuously with the pore, so do its sites' free energies: per 0.125 Å
+    # no inner orbit moves by more than 0.17 kT (measured at most 0.20 K, a steady drift). The cross-section's
+    # bands homed on a majority orbit once moved the centre by 1.08 K (0.7 kT) between 15.625 and 15.75 Å,
+    # where a band's home flipped between the first row and an inner one; on a fixed grid the region's edge
+    # stepped a grid row at a time and ring 1 by 0.64 K.
+    t = 1.5
+    runs = []
+    for side in (15.5, 15.625, 15.75, 15.875, 16.0):
+        sc = Scenario(size_angstrom=side, wall_angstrom=8.0, temperature_k=t)
+        g = geometry_stage(sc, 3)
+        states = solve_states(g.pore, g.pair, g.adsorbate.hbar2_over_mk, temperature_k=t)
+        inner = solve_inner_states(states, g, t)
+        n_orbits = int(g.orbit.max()) + 1
+        z, tail = inner_orbit_sums(inner, float(states.energies_k[0]), t, n_orbits)
+        size = np.bincount(g.orbit, minlength=n_orbits)
+        lam = thermal_wavelength_angstrom(g.adsorbate.hbar2_over_mk, t)
+        inside = z > 0
+        runs.append(states.energies_k[0] - t * np.log(lam * lam * (z + tail)[inside] / size[inside]
+                                                      / g.candidates.cell_area_angstrom2))
+    assert all(r.shape == runs[0].shape for r in runs)
+    assert np.abs(np.diff(np.array(runs), axis=0)).max() < 0.17 * t
+
+
+def test_the_region_is_the_inner_rows_cells():
+    # every point of the region lies deeper than half a row step inside the first row, its orbit is an inner
+    # row's, and the region keeps the pore's symmetry (as many points in each of the six sectors)
+    sc = Scenario(size_angstrom=15.0, wall_angstrom=8.0, temperature_k=1.5)
+    g = geometry_stage(sc)
+    pts = _triangular_sites(16.0, 0.125)
+    pts = pts[g.pore.depth_inside(pts[:, 0], pts[:, 1]) > 0]
+    mask, orbit = inner_region(pts, g)
+    first = set(g.orbit[g.candidates.ring == 0])
+    assert mask.any() and not (set(orbit) & first)
+    depth = g.pore.depth_inside(pts[:, 0], pts[:, 1])
+    row_depth = sorted({round(float(d), 6) for d in g.pore.depth_inside(g.candidates.x, g.candidates.y)})
+    half = 0.5 * (row_depth[1] - row_depth[0])
+    assert depth[mask].min() >= row_depth[0] + half - 0.125
+    assert depth[~mask].max() <= row_depth[0] + half + 1e-9
+    angle = np.mod(np.arctan2(pts[mask, 1], pts[mask, 0]) + 1e-9, 2 * np.pi)
+    counts = np.bincount((angle // (np.pi / 3)).astype(int), minlength=6)
+    assert counts.max() - counts.min() <= 1
