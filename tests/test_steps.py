@@ -84,6 +84,27 @@ def test_known_loop_from_arrays():
     assert s.desorption_jump_mu_k == 2.0 and s.adsorption_jump_mu_k == 7.0
 
 
+def test_two_transitions_inside_one_loop_are_both_listed():
+    # two rows filling in turn while both branches are still jumping (a 12.5 Å helium pore's ring 1, then
+    # ring 2 with the centre): the branches differ from point 2 to 8; the equilibrium passes from the
+    # adsorption branch to the desorption branch twice (roots at 2.5 and 6.25), and goes back to the
+    # adsorption branch in between only because that branch has caught up (point 4: des has jumped on to full)
+    mu = np.arange(11.0)
+    ads = np.zeros((11, 2))
+    ads[4:, 0] = 1.0                            # adsorption fills the first row at 4, the second at 9
+    ads[9:, 1] = 1.0
+    des = ads.copy()
+    des[2:4, 0] = 1.0                           # desorption holds the first row down to 2, both rows down to 4
+    des[4:9, 1] = 1.0
+    om_a = np.zeros(11)
+    om_d = np.zeros(11)
+    om_d[2:4] = [1.0, -1.0]                     # first crossing between 2 and 3, root at 2.5
+    om_d[4:9] = [4.0, 3.0, 1.0, -3.0, -4.0]     # second between 6 and 7, root at 6.25
+    steps = find_steps(mu, ads, des, om_a, om_d, weights=np.array([6.0, 4.0]), labels=["ring 1", "ring 2"],
+                       order=np.array([-5.0, -1.0]), pressure_pa=np.exp, saturation_pressure_pa=1.0, per_site=1.0)
+    assert [(s.filling, round(s.mu_k, 12)) for s in steps] == [((("ring 1", 6.0),), 2.5), ((("ring 2", 4.0),), 6.25)]
+
+
 def test_branches_that_part_without_omega_crossing_inside_the_range_give_no_step():
     # a loop that runs off the grid's top has its transition outside the range: no step is invented
     mu = np.arange(6.0)

@@ -147,26 +147,29 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
                                        up=float(mu[hi_k]), down=float(mu[lo_k])), np.asarray(rise)))
             jumps[lo_k:hi_k] = True
             continue
-        cross = [k for k in range(lo_k, hi_k) if not use_des[k] and use_des[k + 1]]
-        if cross:
-            k0, k1 = cross[0], cross[0] + 1
-        elif d_omega[i0:i1 + 1].max() <= 0:
-            k0, k1 = i1, hi_k          # adsorption lower all through: Ω crosses just before its jump
-        else:
-            k0, k1 = lo_k, i0          # desorption lower all through: just after its jump down
-        if refine is not None:
-            mu_eq, added, rise = refine(k0, k1)
-        else:
-            a, b = d_omega[k0], d_omega[k1]
-            t = float(np.clip(-a / (b - a), 0.0, 1.0)) if b != a else 0.5
-            mu_eq = float(mu[k0] + t * (mu[k1] - mu[k0]))
-            added = float(max(gap[k0], gap[k1]))
-            rise = occupancy_des[k1] - occupancy_ads[k0]
-        if added <= min_add:
-            continue                   # the branches part without a jump of the equilibrium
-        jumps[lo_k:hi_k] = True
-        found.append((dict(kind="first-order", mu_k=float(mu_eq), added=float(added), up=float(mu[hi_k]),
-                           down=float(mu[lo_k])), np.asarray(rise)))
+        # every place where the equilibrium passes from the adsorption branch to the desorption branch is a
+        # transition: one run can hold several (two rows filling in turn while both branches are still
+        # jumping: the equilibrium goes back to the adsorption branch in between only because that branch
+        # has caught up, not by a transition)
+        cross = [(k, k + 1) for k in range(lo_k, hi_k) if not use_des[k] and use_des[k + 1]]
+        if not cross:
+            # adsorption lower all through: Ω crosses just before its jump; desorption lower all through:
+            # just after its jump down
+            cross = [(i1, hi_k)] if d_omega[i0:i1 + 1].max() <= 0 else [(lo_k, i0)]
+        for k0, k1 in cross:
+            if refine is not None:
+                mu_eq, added, rise = refine(k0, k1)
+            else:
+                a, b = d_omega[k0], d_omega[k1]
+                t = float(np.clip(-a / (b - a), 0.0, 1.0)) if b != a else 0.5
+                mu_eq = float(mu[k0] + t * (mu[k1] - mu[k0]))
+                added = float(max(gap[k0], gap[k1]))
+                rise = occupancy_des[k1] - occupancy_ads[k0]
+            if added <= min_add:
+                continue               # the branches part without a jump of the equilibrium
+            jumps[lo_k:hi_k] = True
+            found.append((dict(kind="first-order", mu_k=float(mu_eq), added=float(added), up=float(mu[hi_k]),
+                               down=float(mu[lo_k])), np.asarray(rise)))
 
     slope = np.diff(n_eq) / np.diff(mu)
     slope[jumps] = 0.0                                 # the jumps are reported above
