@@ -447,9 +447,6 @@ def cached_states(geometry, temperature_k: float) -> CrossSectionStates:
     if held is None or not covered:
         held = (float(temperature_k), model_states(geometry, temperature_k))
         _STATES.put(key, held)
-    elif not held[1].capped and _first_row_without_states(held[1], geometry, float(temperature_k)):
-        held = (held[0], model_states(geometry, temperature_k))     # another lattice's first row wants more
-        _STATES.put(key, held)
     return held[1]
 
 
@@ -465,15 +462,32 @@ def _first_row_without_states(states: CrossSectionStates, geometry, temperature_
     return bool(np.any(first & (np.bincount(home, minlength=first.size) == 0)))
 
 
+def _blend_lattices(geometry) -> list:
+    """The geometry stages of every lattice the pore's row blend mixes (the same whichever of them is given),
+    or the stage alone where it was not built from a scenario."""
+    from porefill.physics.lattice_gas.row_blend import blend_weights
+    from porefill.physics.lattice_gas.stages import geometry_stage
+    from porefill.physics.scenario import Scenario
+
+    try:
+        scenario = Scenario(**dict(geometry.scenario_key))
+        return [geometry_stage(scenario, rows) for _, rows in blend_weights(geometry.row_fraction)]
+    except (TypeError, ValueError):
+        return [geometry]
+
+
 def model_states(geometry, temperature_k: float, *, max_states: int = _MAX_STATES) -> CrossSectionStates:
-    """The states the quantum site model uses for a geometry stage: the first layer's (`solve_states`), and
-    more, 9.2 kT further up at a time, while an orbit of the lattice's first row has no band of its own (a
-    face orbit that appears with the pore's size lies above the corner's states by more than the weight
-    rule reaches: at 24 Å, 1e-14 of the ground state's weight), unless the count reaches ``max_states``."""
+    """The states the quantum site model uses for a pore: the first layer's (`solve_states`), and more, 9.2 kT
+    further up at a time, while an orbit of the first row of either lattice of the pore's row blend has no
+    band of its own (a face orbit that appears with the pore's size lies above the corner's states by more
+    than the weight rule reaches: at 24 Å, 1e-14 of the ground state's weight), unless the count reaches
+    ``max_states``. Both lattices are asked, so the states do not depend on which one was computed first."""
     fraction = _WEIGHT_FRACTION
+    lattices = _blend_lattices(geometry)
     while True:
         states = solve_states(geometry.pore, geometry.pair, geometry.adsorbate.hbar2_over_mk,
                               temperature_k=temperature_k, weight_fraction=fraction, max_states=max_states)
-        if states.capped or fraction < 1e-40 or not _first_row_without_states(states, geometry, temperature_k):
+        if states.capped or fraction < 1e-40 or not any(_first_row_without_states(states, g, temperature_k)
+                                                         for g in lattices):
             return states
         fraction *= _MORE_STATES
