@@ -49,24 +49,42 @@ def state_homes(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, t
     return np.argmax(_band_probability(_orbit_probability(states, site_x, site_y, orbit), band), axis=0)[band]
 
 
+_SHARE_REACH_KT = 2.0    # a first-row band is shared with the first-row orbits whose own floor is this close
+
+
 def state_shares(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, first_row: np.ndarray,
                  temperature_k: float) -> np.ndarray:
     """(orbits, K) how each computed state of the whole cross-section is given to the orbits.
 
     A band whose home (`state_homes`) is an orbit of the first row (``first_row``: (orbits,) bool, the sites
-    in the wall's well) goes to it whole (column of one 1): the first layer's states reach into the next row
-    only by their evanescent tails, and those carry far more weight there than the next row's own states, so
-    a share by probability would bind the next row by the first layer's states. The other bands go to no
+    in the wall's well) goes to the first row: the first layer's states reach into the next row only by their
+    evanescent tails, and those carry far more weight there than the next row's own states, so a share by
+    probability would bind the next row by the first layer's states. Within the first row it is shared by its
+    probability among the orbits whose own lowest band (a third or more of it there) lies no more than
+    ``_SHARE_REACH_KT`` kT above it (a
+    band between a corner and the face sites beside it goes to both, so no majority flips it whole from one
+    to the other as the pore grows; the corner's ground band lies far below every face's own band and stays
+    the corner's, whose tails would otherwise bind the faces). The other bands go to no
     orbit here (column of zeros): the rows inside the first fill on a full first row, and take their states
     from the region it leaves (`porefill.physics.sites.inner_states`).
     """
-    band = _clusters(states.energies_k, float(temperature_k))
+    kt = float(temperature_k)
+    band = _clusters(states.energies_k, kt)
     prob = _band_probability(_orbit_probability(states, site_x, site_y, orbit), band)   # (orbits, bands)
     home = np.argmax(prob, axis=0)
     first = np.asarray(first_row, bool)
-    shares = np.zeros_like(prob)
     outer = first[home]
-    shares[home[outer], np.flatnonzero(outer)] = 1.0
+    energy = np.bincount(band, weights=states.energies_k) / np.bincount(band)           # (bands,)
+    # each orbit's own floor: the lowest band with a third of its probability or more there (a band that
+    # moves from one orbit to its neighbour as the pore grows is both's floor meanwhile); a band is shared
+    # among the first-row orbits whose floor lies at most _SHARE_REACH_KT kT above it, by its probability on
+    # each (its home always among them)
+    own = prob >= prob.sum(axis=0, keepdims=True) / 3.0
+    floor = np.where(own, energy[None, :], np.inf).min(axis=1)
+    reach = first[:, None] & (floor[:, None] <= energy[None, :] + _SHARE_REACH_KT * kt)
+    reach[home, np.arange(home.size)] = True
+    part = prob * reach * outer[None, :]
+    shares = part / np.where(outer, part.sum(axis=0), 1.0)[None, :]
     return shares[:, band]
 
 
