@@ -23,14 +23,23 @@ __all__ = ["state_homes", "state_shares", "geometry_shares", "assign_states", "f
 
 
 def _orbit_probability(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray) -> np.ndarray:
-    """(orbits, K) each state's probability on each orbit's sites: its blocks of grid points summed by the
-    site nearest them."""
-    sites = np.column_stack([site_x, site_y])
-    nearest = cKDTree(sites).query(states.home_points)[1]                   # (B,) site of each block of points
-    n_orbits, n_blocks = int(orbit.max()) + 1, states.home_points.shape[0]
-    by_orbit = sparse.csr_matrix((np.ones(n_blocks), (orbit[nearest], np.arange(n_blocks))),
-                                 shape=(n_orbits, n_blocks))
-    return np.asarray(by_orbit @ states.home_density, dtype=float)
+    """(orbits, K) each state's probability on each orbit's sites: its grid points summed by the site nearest
+    them, point by point for the states whose whole vectors are kept (the first layer's), by blocks of four
+    points for the others."""
+    tree = cKDTree(np.column_stack([site_x, site_y]))
+    n_orbits = int(orbit.max()) + 1
+
+    def summed(points, values):
+        where = orbit[tree.query(points)[1]]
+        by_orbit = sparse.csr_matrix((np.ones(where.size), (where, np.arange(where.size))),
+                                     shape=(n_orbits, where.size))
+        return np.asarray(by_orbit @ values, dtype=float)
+
+    out = summed(states.home_points, states.home_density)
+    n_whole = states.vectors.shape[1]
+    if n_whole:
+        out[:, :n_whole] = summed(states.points, states.vectors ** 2)
+    return out
 
 
 def _band_probability(per_orbit: np.ndarray, band: np.ndarray) -> np.ndarray:
@@ -49,7 +58,8 @@ def state_homes(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, t
     return np.argmax(_band_probability(_orbit_probability(states, site_x, site_y, orbit), band), axis=0)[band]
 
 
-_SHARE_REACH_KT = 2.0    # a first-row band is shared with the first-row orbits whose own floor is this close
+_TAIL_FRACTION = 0.1     # a first-row band's share of an orbit counts nothing below this fraction of it there,
+_OWN_FRACTION = 0.4      # and in full from this one (a ramp between: no threshold flips a band whole)
 
 
 def state_shares(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, first_row: np.ndarray,
@@ -60,32 +70,30 @@ def state_shares(states: CrossSectionStates, site_x, site_y, orbit: np.ndarray, 
     in the wall's well) goes to the first row: the first layer's states reach into the next row only by their
     evanescent tails, and those carry far more weight there than the next row's own states, so a share by
     probability would bind the next row by the first layer's states. Within the first row it is shared by its
-    probability among the orbits whose own lowest band (a third or more of it there) lies no more than
-    ``_SHARE_REACH_KT`` kT above it (a
-    band between a corner and the face sites beside it goes to both, so no majority flips it whole from one
-    to the other as the pore grows; the corner's ground band lies far below every face's own band and stays
-    the corner's, whose tails would otherwise bind the faces). The other bands go to no
+    probability on each orbit, weighed by a ramp in the fraction of the band the orbit holds (nothing below
+    ``_TAIL_FRACTION``, in full from ``_OWN_FRACTION``): a band between a corner and the face sites beside it
+    goes to both, so no majority flips it whole from one to the other as the pore grows, while the corner's
+    ground band, about 1 % of which lies on the faces beside it as an evanescent tail, stays the corner's (its
+    tail carries far more weight than the faces' own states). The other bands go to no
     orbit here (column of zeros): the rows inside the first fill on a full first row, and take their states
     from the region it leaves (`porefill.physics.sites.inner_states`).
     """
     kt = float(temperature_k)
     band = _clusters(states.energies_k, kt)
-    prob = _band_probability(_orbit_probability(states, site_x, site_y, orbit), band)   # (orbits, bands)
-    home = np.argmax(prob, axis=0)
+    per_state = _orbit_probability(states, site_x, site_y, orbit)                     # (orbits, K)
+    home = np.argmax(_band_probability(per_state, band), axis=0)[band]                # (K,) its band's home
     first = np.asarray(first_row, bool)
     outer = first[home]
-    energy = np.bincount(band, weights=states.energies_k) / np.bincount(band)           # (bands,)
-    # each orbit's own floor: the lowest band with a third of its probability or more there (a band that
-    # moves from one orbit to its neighbour as the pore grows is both's floor meanwhile); a band is shared
-    # among the first-row orbits whose floor lies at most _SHARE_REACH_KT kT above it, by its probability on
-    # each (its home always among them)
-    own = prob >= prob.sum(axis=0, keepdims=True) / 3.0
-    floor = np.where(own, energy[None, :], np.inf).min(axis=1)
-    reach = first[:, None] & (floor[:, None] <= energy[None, :] + _SHARE_REACH_KT * kt)
-    reach[home, np.arange(home.size)] = True
-    part = prob * reach * outer[None, :]
-    shares = part / np.where(outer, part.sum(axis=0), 1.0)[None, :]
-    return shares[:, band]
+    # within the first row: by probability, each orbit's part weighed by a ramp in the fraction of the state it
+    # holds (none below _TAIL_FRACTION, whole from _OWN_FRACTION): a state's evanescent tail on an orbit (the
+    # corner's ground states hold about 1 % on the faces beside them) binds no site there. State by state, so
+    # that how near-degenerate states are grouped into bands does not matter
+    fraction = per_state / per_state.sum(axis=0, keepdims=True)
+    ramp = np.clip((fraction - _TAIL_FRACTION) / (_OWN_FRACTION - _TAIL_FRACTION), 0.0, 1.0)
+    part = per_state * ramp * (first[:, None] & outer[None, :])
+    lone = outer & (part.sum(axis=0) <= 0.0)
+    part[home[lone], np.flatnonzero(lone)] = 1.0                   # spread too thin for the ramp: its home's
+    return part / np.where(outer, part.sum(axis=0), 1.0)[None, :]
 
 
 def geometry_shares(states: CrossSectionStates, geometry, temperature_k: float) -> np.ndarray:
