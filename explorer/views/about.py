@@ -76,9 +76,10 @@ states as the temperature needs. The grid is chosen for a stated accuracy of the
 reported. The one-atom partition function then gives the low-pressure (Henry) limit exactly.
 
 The lattice needs a free energy per site. Spreading the thermal one-atom density over the cells would
-count the tails of wall-bound states as binding in the next row, so porefill gives whole bands of
-near-degenerate states bound in the first layer to the orbit of wall sites that holds most of their
-probability. The rows inside fill on a full first row, so their sites take the states of the region the first
+count the tails of wall-bound states as binding in the next row, so porefill gives the states bound in the
+first layer to the wall sites only, each shared among them by its probability on their cells (a tail holding
+under a tenth of a state counts nothing, so the corners' deep states do not bind the faces beside them). The
+rows inside fill on a full first row, so their sites take the states of the region the first
 row's cells leave (the wavefunction vanishes outside it), each state shared among them by its probability on
 their cells: the thermal density matrix over each cell. Every row takes its free energy from states, the
 low-pressure limit is the exact quantum Henry constant, and as ħ → 0 each site's value becomes its classical

@@ -8,8 +8,10 @@ N/L → (p/kT) Σ_i A_cell e^{−f_i/kT} at low pressure whatever the model.
 
 - ``classical``: Z_i = (ℓ/λ³)∫_cell e^{−V/kT} dA, so f_i = −kT ln[(1/A_cell)∫_cell e^{−V/kT} dA], the integral
   over the site's own cell (`porefill.physics.sites.cells`, converged), A_cell the lattice's nominal cell area.
-- ``quantum``: the exact one-atom states of the cross-section (`porefill.physics.sites.quantum`), whole bands of them given
-  to the site orbit that holds them: Z_i = (ℓ/λ) Σ_{n at i} e^{−E_n/kT}, so f_i = −kT ln(λ² Σ e^{−E_n/kT}/A_cell).
+- ``quantum``: the exact one-atom states of the cross-section (`porefill.physics.sites.quantum`) for the first
+  row's sites, and those of the region inside it for the others (`porefill.physics.sites.inner_states`), each
+  state shared among the sites by its probability there (`porefill.physics.sites.state_sites`):
+  Z_i = (ℓ/λ) Σ_n s_{n,i} e^{−E_n/kT}, so f_i = −kT ln(λ² Σ_n s_{n,i} e^{−E_n/kT}/A_cell).
 
 A model is a function ``model(geometry, *, temperature_k) -> (N,) K`` over the geometry stage's candidate
 sites (+inf for a site that cannot hold an atom); it gets the adsorbate (mass, ħ²/mk) from

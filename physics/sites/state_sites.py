@@ -1,11 +1,11 @@
 """The one-atom states given to the lattice's sites: the quantum site model's free energies.
 
 The states of `porefill.physics.sites.quantum` belong to the whole cross-section; the lattice gas needs a free
-energy per site. Each band of near-degenerate states is given to the symmetry orbits of sites: whole to the
-wall orbit that holds most of it when it is bound in the first layer, shared by probability among the inner
-orbits when it lies above (`state_shares`); each site's share of the semiclassical tail above the computed
-states is taken over its own cell (`_site_tails`); `orbit_sources` says, per orbit, where its free energy came
-from.
+energy per site. The states bound in the first layer (their band homed on the first row) go to the first row's
+orbits, each shared by its probability there, tails excepted (`state_shares`); each first-row site's share of
+the semiclassical tail above them is taken over its own cell (`_site_tails`). The rows inside the first take
+the states of the region the first row leaves (`porefill.physics.sites.inner_states`). `orbit_sources` says,
+per orbit, where its free energy came from; `states_numbers` is the whole readout.
 """
 from __future__ import annotations
 
