@@ -127,10 +127,10 @@ def _cost(scenario: Scenario) -> float:
 
 # seconds for a 15 Å helium hexagon (300 points) on this project's 2-core development machine, and how the
 # time grows with the number of sites (benchmarks/bench_isotherm.py, bench_quantum.py: classical 15/50/100 Å
-# 0.12/0.78/2.45 s with the row blend's two lattices; quantum, new geometry, every row from states, 15/21.5/30 Å
-# 1.22/6.06/25.1 s, the one-atom states shared by both lattices)
-_SECONDS_15A = {"classical": 0.12, "quantum": 1.22}
-_GROWTH = {"classical": 0.8, "quantum": 2.2}
+# 0.12/0.78/2.45 s with the row blend's two lattices; quantum, new geometry, the cross-section's states shared by
+# both lattices and each lattice's inner region solved for itself, 15/21.5/30 Å 1.7/8.9/48 s)
+_SECONDS_15A = {"classical": 0.12, "quantum": 1.73}
+_GROWTH = {"classical": 0.8, "quantum": 2.35}
 
 
 def estimate_seconds(spec: SweepSpec, workers: int | None = None, cache: ResultCache | None = None) -> float:
