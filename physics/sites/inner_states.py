@@ -5,7 +5,7 @@ the whole cross-section (`porefill.physics.sites.state_sites`). Every later row 
 row, so an atom there cannot use the first row's cells: the states that matter to it are those of the region
 deeper than the first row's cells, with ψ = 0 outside it. The region is exactly where the classical model's
 inner cells lie (`porefill.physics.sites.cells`: a row's cells are the band within half a row step of it),
-so as ħ → 0 each inner site's sum below becomes its classical cell integral.
+so as ħ → 0 each inner site's sum below tends to its classical cell integral (tests/test_inner_states.py).
 
 Each state's Boltzmann weight is shared among the inner orbits by its probability on each orbit's cells
 (p_{n,o}, Σ_o p_{n,o} = 1): Z_o = Σ_n e^{−E_n/kT} p_{n,o} = Tr[P_o e^{−H/kT}], the thermal density matrix
@@ -179,7 +179,7 @@ def solve_inner_states(states: CrossSectionStates, geometry, temperature_k: floa
                        bool(e[-1] < top))
 
 
-_INNER = BoundedCache(32)     # (scenario key, rows, spacing, E₀) -> (temperature solved for, InnerStates | None)
+_INNER = BoundedCache(32)     # (scenario key, rows, the states' grid and E₀) -> (temperature solved for, InnerStates | None)
 
 
 def cached_inner_states(states: CrossSectionStates, geometry, temperature_k: float) -> InnerStates | None:

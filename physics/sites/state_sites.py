@@ -138,10 +138,11 @@ def first_row_orbits(geometry) -> np.ndarray:
 def quantum_site_free_energy(geometry, *, temperature_k: float) -> np.ndarray:
     """Site free energies (K) from the exact one-atom states, in the frame of `porefill.physics.sites.site_models`.
 
-    A site holding states of total Boltzmann sum S_i has Z_i = (ℓ/λ) S_i per slice, so
-    f_i = −kT ln(λ² S_i / A_cell). Sites that no computed state reaches (high in the spectrum) keep their
-    classical value. Σ_i exp(−f_i/kT) A_cell is then λ² Σ_n exp(−E_n/kT) plus those sites' classical share:
-    the low-pressure limit is the quantum Henry constant. `orbit_sources` says which sites got which.
+    A site holding states of total Boltzmann sum S_i (its shares of them) has Z_i = (ℓ/λ) S_i per slice, so
+    f_i = −kT ln(λ² S_i / A_cell). The first row's sites share the cross-section's states bound in the first
+    layer, which carry the one-atom Boltzmann sum, so Σ_i exp(−f_i/kT) A_cell is λ² Σ_n exp(−E_n/kT) up to
+    the inner rows' part (below 1e-15 of it for helium at 1.5 K in the demo pore): the low-pressure limit is
+    the quantum Henry constant. `orbit_sources` says which sites got which.
     """
     kt = float(temperature_k)
     return _site_free_energies(cached_states(geometry, kt), geometry, kt)[0]
