@@ -267,8 +267,8 @@ def _standby_main(tasks, messages, stop, memory_limit_bytes, compiled, preload) 
 
 class Standby:
     """A spawned process started before it is needed: it has done `start_worker` and imported ``preload``
-    and waits for one task, so a `ProcessJob` given it skips Python's start-up and those imports (about 1.5 s
-    for a file reader that imports pandas). Used once, like any job's process: a task cannot see what an
+    and waits for one task, so a `ProcessJob` given it skips Python's start-up and those imports (a file
+    reader that imports pandas: about 0.3 s on a quiet machine, `porefill.explorer.jobs.file_parse`). Used once, like any job's process: a task cannot see what an
     earlier one left. `close` ends an unused one."""
 
     def __init__(self, *, memory_limit_bytes: int | None = None, compiled: bool = True, preload: tuple = ()):

@@ -320,9 +320,6 @@ def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_
     def top(ground_k: float) -> float:
         return states_wanted_top_k(ground_k, kt, weight_fraction=weight_fraction)
 
-    def first_top(ground_k: float) -> float:
-        return ground_k - kt * np.log(weight_fraction)
-
     # every state below the top counted on the grid 2h (four times fewer points than h), from a first guess by
     # Weyl's law at the lowest the ground state can be
     ptc, vc, pc = _grid(pore, pair, 2.0 * h)
@@ -357,14 +354,14 @@ def solve_states(pore, pair, hbar2_over_mk: float, *, temperature_k: float, tol_
             owners = []
             # the whole vectors of the states that carry the Boltzmann sum; the others' |ψ|² only as sums
             # over blocks of four points, and ⟨n|V|n⟩
-            n_whole = int(np.searchsorted(ec, first_top(ec[0]), side="right")) + 8
+            n_whole = int(np.searchsorted(ec, top(ec[0]), side="right")) + 8
             block_points, blocks = _home_blocks(pts, h)
             summary = sparse.vstack([blocks, sparse.csr_matrix(v[None, :])]).tocsr()
             e, vec, reduced = grid_states(v, pairs, h, hbar2_over_mk, k=min(k_all, v.size - 2), shift=shift,
                                           points=pts, hint=hint, owners=owners,
                                           vectors=max(_FIRST_STATES, n_whole), reduce=summary)
         else:
-            k_first = int(min(max(np.searchsorted(ec, first_top(ec[0])) + 6, _FIRST_STATES), len(ec), v.size - 2))
+            k_first = int(min(max(np.searchsorted(ec, top(ec[0])) + 6, _FIRST_STATES), len(ec), v.size - 2))
             e, _ = grid_states(v, pairs, h, hbar2_over_mk, k=k_first, shift=shift, points=pts, vectors=False)
         n = min(len(e), len(ec))
         # the error that reaches every result: that of the one-atom free energy −kT ln Σ e^{−E/kT}, i.e. the
