@@ -201,6 +201,23 @@ def equilibrium_transition(problem, mu_low: float, x_low: np.ndarray, mu_high: f
     return mid, float(w @ rise), rise
 
 
+def hidden_transition(problem, mu: np.ndarray, logits: np.ndarray, k0: int, k1: int, *, quick: bool = False):
+    """A first-order transition of a branch's states (``logits`` (M, O) on ``mu``) between grid points k0 < k1
+    that the grid does not show: (μ_eq, sites added, (O,) rise); nothing added when there is none.
+
+    `equilibrium_transition`'s bisection keeps the two end states apart only where two states coexist. With
+    ``quick``, it is run only when the state of either end, continued to the other, is still a state of its
+    own there (a branch that jumped between the two points onto a state that coexists with the one it
+    left): two solves instead of some forty, for the many intervals inside a hysteresis loop."""
+    if quick:
+        occ = problem.occupancy
+        apart = any(np.max(np.abs(occ(solve_state(logits[a], mu[b], problem)[0]) - occ(logits[b]))) > 1e-3
+                    for a, b in ((k1, k0), (k0, k1)))
+        if not apart:
+            return 0.5 * float(mu[k0] + mu[k1]), 0.0, np.zeros(problem.weights.size)
+    return equilibrium_transition(problem, mu[k0], logits[k0], mu[k1], logits[k1])
+
+
 def compressibility(problem, x: np.ndarray, solve) -> float:
     """dN/dμ (sites per K) of a solved state: n_i(1−n_i) (J⁻¹·1)_i summed with the orbit weights, J the
     Jacobian of the mean-field equations at the state (``solve`` applies J⁻¹, from `solve_state`)."""
@@ -217,15 +234,20 @@ def compressibility_peak(problem, mu: np.ndarray, logits: np.ndarray, k0: int, k
     """
     from scipy.optimize import minimize_scalar
 
-    def minus_slope(m):
-        k = int(np.clip(np.searchsorted(mu, m), k0, k1))
-        k = k if k == k0 or abs(mu[k] - m) <= abs(mu[k - 1] - m) else k - 1
-        x, ok, solve, _ = solve_state(logits[k], m, problem)
-        return -compressibility(problem, x, solve)
-
-    res = minimize_scalar(minus_slope, bounds=(float(mu[k0]), float(mu[k1])), method="bounded",
-                          options={"xatol": tol_k})
+    res = minimize_scalar(lambda m: -compressibility_at(problem, mu, logits, m, k0, k1),
+                          bounds=(float(mu[k0]), float(mu[k1])), method="bounded", options={"xatol": tol_k})
     return float(res.x)
+
+
+def compressibility_at(problem, mu: np.ndarray, logits: np.ndarray, m: float, k0: int = 0,
+                       k1: int | None = None) -> float:
+    """dN/dμ (sites per K) at μ = ``m`` on a branch (``logits`` (M, O) on ``mu``), its state re-solved from
+    the branch's nearest grid point among k0…k1 (`compressibility`)."""
+    k1 = mu.size - 1 if k1 is None else k1
+    k = int(np.clip(np.searchsorted(mu, m), k0, k1))
+    k = k if k == k0 or abs(mu[k] - m) <= abs(mu[k - 1] - m) else k - 1
+    x, ok, solve, _ = solve_state(logits[k], m, problem)
+    return compressibility(problem, x, solve)
 
 
 def _atoms_per_angstrom_per_site(stage: ThermalStage) -> float:
@@ -312,6 +334,8 @@ def _isotherm_on_grid(stage: ThermalStage, mu: np.ndarray) -> Isotherm:
                        per_site=per_site, refine=lambda k0, k1: equilibrium_transition(
                            p, mu[k0], ads.logits[k0], mu[k1], des.logits[k1]),
                        refine_peak=lambda k0, k1: compressibility_peak(p, mu, eq.logits, k0, k1),
+                       slope_at=lambda m, k0=0, k1=None: compressibility_at(p, mu, eq.logits, m, k0, k1),
+                       refine_hidden=lambda k0, k1, quick=False: hidden_transition(p, mu, eq.logits, k0, k1, quick=quick),
                        occupancy_eq=p.occupancy(eq.logits) if eq.found_below_both else None,
                        transitions=lambda i0, i1: eq.transitions(i0, i1, ads, des, lambda m0, x0, m1, x1:
                                                                  equilibrium_transition(p, m0, x0, m1, x1)))

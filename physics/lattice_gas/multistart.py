@@ -68,13 +68,17 @@ class EquilibriumStates:
 
     def transitions(self, i0: int, i1: int, ads: Branch, des: Branch, refine) -> list[tuple[float, float, np.ndarray]] | None:
         """The first-order transitions of the equilibrium over the grid points i0 − 1 … i1 + 1 (one run where
-        the branches differ), each as ``refine``'s (μ_eq, sites added, (O,) rise); None where the equilibrium
+        the branches differ; further out while a state of neither branch is the equilibrium there), each as ``refine``'s (μ_eq, sites added, (O,) rise); None where the equilibrium
         there is only ever the two branches (the two-branch rule of `porefill.physics.lattice_gas.steps` applies).
 
         ``refine(mu_lo, x_lo, mu_hi, x_hi)``: the equilibrium transition between a low state (logits x_lo,
         stable at mu_lo) and a high one (`porefill.physics.lattice_gas.adsorption.equilibrium_transition`).
         """
         lo, hi = max(i0 - 1, 0), min(i1 + 1, self.source.size - 1)
+        while lo > 0 and self.source[lo] >= 2:            # a state continued out of the run (`_follow_out`)
+            lo -= 1
+        while hi < self.source.size - 1 and self.source[hi] >= 2:
+            hi += 1
         src = self.source[lo:hi + 1]
         found = bool(self.paths.shape[0]) and bool(np.any(np.isfinite(self.path_omega[:, lo:hi + 1])))
         if not np.any(src >= 2) and not found:
@@ -162,6 +166,35 @@ def _follow(mu: np.ndarray, run: tuple[int, int], k0: int, x0: np.ndarray, p: Me
     omegas.append(omega)
 
 
+def _follow_out(mu: np.ndarray, k_edge: int, x0: np.ndarray, step: int, p: MeanFieldProblem, ads: Branch,
+                des: Branch, paths: list[np.ndarray], omegas: list[np.ndarray]) -> None:
+    """Continue a state of a run's edge out of the run: the adsorption branch's state at the run's first
+    point down (``step`` = −1), the desorption branch's at its last point up (+1). Outside the run both
+    branches hold one state, but where both jumped in the same grid interval, passing over a layer (the
+    adsorption branch up to a thick film, the desorption branch down past it), the state they passed over
+    can still exist beyond the edge and lie lower than theirs. It is followed while it stays apart from the
+    branches and, as in `_follow`, one point past where it can no longer be the lowest; kept as a path when
+    it exists at one point at least."""
+    logits = np.full((mu.size, x0.size), np.nan)
+    omega = np.full(mu.size, np.nan)
+    x, solve, prev = x0, None, k_edge
+    k = k_edge + step
+    while 0 <= k < mu.size:
+        x = x + (solve(np.full(x.size, mu[k] - mu[prev])) if solve is not None else 0.0)
+        x, ok, solve, om = solve_state(x, mu[k], p)
+        if not ok or _same(p, x, ads.logits[k]) or _same(p, x, des.logits[k]):
+            break
+        if any(np.all(np.isfinite(q[k])) and _same(p, x, q[k]) for q in paths):
+            return
+        logits[k], omega[k], prev = x, om, k
+        if om > min(ads.grand_potential[k], des.grand_potential[k]):
+            break                        # above the branches' state, and losing further on: it is done
+        k += step
+    if np.isfinite(omega).any():
+        paths.append(logits)
+        omegas.append(omega)
+
+
 def _search_rows(mu, run, k: int, row, low: int, high: int, p: MeanFieldProblem, ads: Branch, des: Branch,
                  paths: list, omegas: list) -> None:
     """Layered starts at grid point k with r rows full, low < r < high (``low``: rows full on the adsorption
@@ -211,6 +244,10 @@ def equilibrium_states(mu: np.ndarray, problem: MeanFieldProblem, ads: Branch, d
         for k in seeds:
             _search_rows(mu, (i0, i1), int(k), row, rows_full(ads.occupancy[k]), rows_full(des.occupancy[k]),
                          p, ads, des, paths, omegas)
+        if i0 > 0:
+            _follow_out(mu, int(i0), ads.logits[i0], -1, p, ads, des, paths, omegas)
+        if i1 < mu.size - 1:
+            _follow_out(mu, int(i1), des.logits[i1], +1, p, ads, des, paths, omegas)
     n_paths = len(paths)
     path_logits = np.array(paths) if n_paths else np.zeros((0, mu.size, w.size))
     path_omega = np.array(omegas) if n_paths else np.zeros((0, mu.size))

@@ -29,6 +29,7 @@ __all__ = ["Step", "find_steps", "condensation_step", "row_key", "steps_by_row"]
 _DIFFER_FRACTION = 1e-6      # branches differing by more than this fraction of all sites form a loop
 _MIN_STEP_FRACTION = 1e-3    # a step adds at least this fraction of all sites
 _PEAK_CONTRAST = 3.0         # a continuous step's dN/dμ peak stands this many times above its flanks
+_GRID_CONTRAST_FLOOR = 1.2   # below this on the grid a peak is not looked at again (``slope_at``)
 _FILL_MIN = 0.2              # an orbit "fills" in a step when its occupancy rises by at least this much
 
 
@@ -89,7 +90,7 @@ def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
 
 def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weights, labels, order,
                pressure_pa, saturation_pressure_pa: float, per_site: float, refine=None,
-               refine_peak=None, occupancy_eq=None, transitions=None) -> tuple[Step, ...]:
+               refine_peak=None, occupancy_eq=None, transitions=None, refine_hidden=None, slope_at=None) -> tuple[Step, ...]:
     """Layer steps from the two branches on a common ascending μ grid.
 
     Parameters
@@ -109,6 +110,15 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
     occupancy_eq : (M, O), optional
         the equilibrium's occupancy when it is not simply the lower of the two branches (states found from
         other starts, `porefill.physics.lattice_gas.multistart`)
+    slope_at : callable, optional
+        ``slope_at(μ) -> dN/dμ`` of the equilibrium, exact: a peak that stands less than ``_PEAK_CONTRAST``
+        above its flanks on the grid (but at least ``_GRID_CONTRAST_FLOOR``) is measured again with it
+    refine_hidden : callable, optional
+        ``refine_hidden(k0, k0 + 1, quick=False) -> (μ_eq, sites added, (O,) rise)``: `refine` from the
+        equilibrium's own states at both grid points (`porefill.physics.lattice_gas.adsorption.hidden_transition`),
+        asked where the equilibrium's slope peaks (a first-order step whose loop is narrower than the grid,
+        its loop ends the two points) and, ``quick``, at every rise of the equilibrium inside a hysteresis
+        loop (a branch that jumps onto a state that is the equilibrium on both sides)
     transitions : callable, optional
         ``transitions(i0, i1)``: the equilibrium's first-order transitions, each (μ_eq, sites added, (O,)
         rise), over the run i0…i1 where the branches differ, or None where the equilibrium there is one of
@@ -135,16 +145,20 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
 
     found: list[tuple[dict, np.ndarray]] = []          # (step fields, orbit occupancy rise)
     jumps = np.zeros(mu.size - 1, bool)
+    runs_seen: list[tuple[int, int]] = []
     for i0, i1 in _runs(differ):
         lo_k, hi_k = max(i0 - 1, 0), min(i1 + 1, mu.size - 1)
         if lo_k == i0 or hi_k == i1:
             continue                   # the loop runs off the grid: its transition is outside the range
+        runs_seen.append((lo_k, hi_k))
         several = transitions(i0, i1) if transitions is not None else None
         if several is not None:        # the equilibrium passes through states of neither branch here
             for mu_eq, added, rise in several:
                 if added > min_add:
                     found.append((dict(kind="first-order", mu_k=float(mu_eq), added=float(added),
                                        up=float(mu[hi_k]), down=float(mu[lo_k])), np.asarray(rise)))
+                    # a transition out of the run (a state continued beyond it) is a jump of the equilibrium
+                    jumps[int(np.clip(np.searchsorted(mu, mu_eq) - 1, 0, mu.size - 2))] = True
             jumps[lo_k:hi_k] = True
             continue
         # every place where the equilibrium passes from the adsorption branch to the desorption branch is a
@@ -171,25 +185,70 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
             found.append((dict(kind="first-order", mu_k=float(mu_eq), added=float(added), up=float(mu[hi_k]),
                                down=float(mu[lo_k])), np.asarray(rise)))
 
+    if refine_hidden is not None:
+        # inside a run, a branch can jump between two grid points onto a state that is the equilibrium on
+        # both sides of the jump (the adsorption branch past its spinodal onto a thicker film, while the
+        # desorption branch still holds more): the equilibrium changes state with no change of branch
+        placed = [f["mu_k"] for f, _ in found if f["kind"] == "first-order"]
+        for lo_k, hi_k in runs_seen:
+            for k in range(lo_k, hi_k):
+                if n_eq[k + 1] - n_eq[k] <= min_add or any(mu[k] <= m <= mu[k + 1] for m in placed):
+                    continue
+                mu_eq, jump, rise = refine_hidden(k, k + 1, quick=True)
+                if jump > min_add:
+                    found.append((dict(kind="first-order", mu_k=float(mu_eq), added=float(jump),
+                                       up=float(mu[hi_k]), down=float(mu[lo_k])), np.asarray(rise)))
+
     slope = np.diff(n_eq) / np.diff(mu)
     slope[jumps] = 0.0                                 # the jumps are reported above
     padded = np.concatenate([[0.0], slope, [0.0]])
     minima = np.concatenate([[0], find_peaks(-padded)[0], [padded.size - 1]])
-    near_jump = np.convolve(jumps.astype(float), np.ones(5), mode="same") > 0
+    in_jump = np.concatenate([[False], jumps, [False]])        # padded index j ↔ interval j−1
     for pk in find_peaks(padded)[0]:
         left, right = minima[minima < pk].max(), minima[minima > pk].min()
         lo_i, hi_i = max(left - 1, 0), min(right - 1, mu.size - 1)   # padded index j ↔ interval j−1
-        if near_jump[pk - 1]:
-            continue                   # the rounded shoulder of a first-order jump, not a step of its own
-        if padded[pk] < _PEAK_CONTRAST * max(padded[left], padded[right]):
+        # each flank: the lowest slope between the peak and its minimum, up to a first-order jump's masked
+        # intervals (then the jump's grid point: the step's own rise stops there)
+        flanks, jump_at = [], [None, None]
+        for s, side in enumerate((range(pk - 1, left - 1, -1), range(pk + 1, right + 1))):
+            seen = []
+            for j in side:
+                if in_jump[j]:
+                    jump_at[s] = j
+                    lo_i, hi_i = (max(lo_i, j), hi_i) if s == 0 else (lo_i, min(hi_i, j - 1))
+                    break
+                seen.append(j)
+            flanks.append(min(seen, key=lambda j: padded[j]) if seen else None)
+        shoulder = any(j is not None and f is None for j, f in zip(jump_at, flanks))
+        # a side that runs into a jump is measured exactly (`_exact_peak`): its grid values stop short of its
+        # minimum
+        contrast = padded[pk] / max([padded[f] for f, j in zip(flanks, jump_at) if f is not None and j is None]
+                                    + [1e-300])
+        if contrast < (_PEAK_CONTRAST if slope_at is None else _GRID_CONTRAST_FLOOR):
             continue
         added = float(n_eq[hi_i] - n_eq[lo_i] - np.sum(np.diff(n_eq)[lo_i:hi_i][jumps[lo_i:hi_i]]))
         if added <= min_add:
             continue
-        if refine_peak is not None:    # the slope's peak interval and one on either side hold the maximum
-            mu_s = float(refine_peak(max(pk - 2, 0), min(pk + 1, mu.size - 1)))
+        if contrast >= _PEAK_CONTRAST and refine_hidden is not None and n_eq[pk] - n_eq[pk - 1] > min_add:
+            # a loop narrower than the grid's spacing: the equilibrium jumps inside the peak's interval, but
+            # both branches jump there too and agree at every grid point. The bisection keeps two states
+            # apart only where two coexist; a continuous rise leaves one (nothing added)
+            mu_eq, jump, rise = refine_hidden(pk - 1, pk)
+            if jump > min_add:
+                found.append((dict(kind="first-order", mu_k=float(mu_eq), added=float(jump), up=float(mu[pk]),
+                                   down=float(mu[pk - 1])), np.asarray(rise)))
+                continue
+        if slope_at is None:
+            if shoulder:
+                continue               # the rounded shoulder of a first-order jump, not a step of its own
+            mu_s = float(refine_peak(max(pk - 2, 0), min(pk + 1, mu.size - 1))) if refine_peak is not None \
+                else float(0.5 * (mu[pk - 1] + mu[pk]))
         else:
-            mu_s = float(0.5 * (mu[pk - 1] + mu[pk]))
+            transitions_mu = [f["mu_k"] for f, _ in found if f["kind"] == "first-order"]
+            mu_s = _exact_peak(mu, pk, flanks, jump_at, transitions_mu, slope_at, refine_peak,
+                               check=contrast < _PEAK_CONTRAST or any(j is not None for j in jump_at))
+            if mu_s is None:
+                continue
         found.append((dict(kind="continuous", mu_k=mu_s, added=added, up=None, down=None),
                       occ_eq[hi_i] - occ_eq[lo_i]))
 
@@ -220,6 +279,54 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
         seen[base] += 1
         named.append(replace(s, identity=base if seen[base] == 1 else f"{base} #{seen[base]}"))
     return tuple(named)
+
+
+def _exact_peak(mu, pk: int, flanks, jump_at, transitions_mu, slope_at, refine_peak, *, check: bool):
+    """μ of a continuous step's dN/dμ maximum near the grid's peak interval ``pk`` (padded index), or None
+    where the exact dN/dμ does not stand ``_PEAK_CONTRAST`` times above both flanks (asked when ``check``).
+
+    The grid's differences flatten a peak narrower than its spacing, and beside a first-order jump the
+    grid cannot tell a step of its own from the jump's rounded shoulder. So the contrast is taken from
+    dN/dμ itself: at the peak, at the grid points that bound a flank's lowest interval, and on a side that
+    runs into a jump, at the lowest dN/dμ of the equilibrium's own state between the peak and the jump's
+    transition (a shoulder rises all the way to it; a step of its own dips first). Whether a step is
+    listed then does not depend on the grid."""
+    from scipy.optimize import minimize_scalar
+
+    lo_k, hi_k = 0, mu.size - 1                # the grid points whose states are the peak's own
+    ends = [None, None]
+    if jump_at[0] is not None:                 # a jump on the left: the state above its last transition
+        g = jump_at[0]
+        below = [m for m in transitions_mu if m <= mu[g]]
+        ends[0] = max(below) if below else float(mu[g - 1])
+        lo_k = int(np.searchsorted(mu, ends[0], side="right"))
+    if jump_at[1] is not None:                 # a jump on the right: the state below its first transition
+        g = jump_at[1] - 1
+        above = [m for m in transitions_mu if m >= mu[g]]
+        ends[1] = min(above) if above else float(mu[min(g + 1, mu.size - 1)])
+        hi_k = int(np.searchsorted(mu, ends[1], side="left")) - 1
+    if hi_k <= lo_k:
+        return None
+    k0, k1 = max(pk - 2, lo_k), min(pk + 1, hi_k)
+    mu_s = float(refine_peak(k0, k1)) if refine_peak is not None and k1 > k0 else float(0.5 * (mu[pk - 1] + mu[pk]))
+    if not check:
+        return mu_s
+
+    def slope(m):
+        return slope_at(m, lo_k, hi_k)
+
+    flank = 0.0
+    for s in (0, 1):
+        if ends[s] is not None:
+            a, b = (ends[s], mu_s) if s == 0 else (mu_s, ends[s])
+            if b - a <= 0.0:
+                return None
+            res = minimize_scalar(slope, bounds=(a + 1e-9 * (b - a), b - 1e-9 * (b - a)), method="bounded",
+                                  options={"xatol": 1e-3 * (b - a)})   # a flank value to a few %
+            flank = max(flank, float(res.fun))
+        elif flanks[s] is not None and 1 <= flanks[s] <= mu.size - 1:
+            flank = max(flank, min(slope(mu[flanks[s] - 1]), slope(mu[flanks[s]])))
+    return mu_s if slope(mu_s) >= _PEAK_CONTRAST * flank else None
 
 
 def condensation_step(steps) -> Step | None:
