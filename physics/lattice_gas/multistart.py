@@ -12,7 +12,10 @@ full than the adsorption branch and fewer than the desorption branch at that poi
 state (`porefill.physics.lattice_gas.meanfield.solve_state`) at up to eight grid points spread over the interval (at most twelve
 values of r at a point, spread evenly, in pores with more rows), and a
 state apart from both branches is continued up and down the interval for as long as it stays apart (a state
-that falls onto a branch is that branch). The equilibrium at each
+that falls onto a branch is that branch). The adsorption branch's state at a run's first point is also
+continued down out of the run, and the desorption branch's at its last point up: where both branches jumped
+in one grid interval, passing over a layer, that layer can be the lowest state at the grid points beside the
+run, where the two branches agree. The equilibrium at each
 grid point is the lowest Ω among the two branches and these paths (the adsorption branch, then the
 desorption branch, win ties). Each change of the equilibrium state between neighbouring grid points is a
 first-order transition, placed exactly by `porefill.physics.lattice_gas.adsorption.equilibrium_transition`; at

@@ -9,7 +9,13 @@ state of neither branch lies lower, the lowest of all states found: `porefill.ph
   the branches differ but Ω never crosses is a metastable excursion, not a step of the equilibrium.
 - a **continuous step** is a peak of the equilibrium compressibility dN/dμ between two minima, with the
   first-order jumps taken out; the grid finds it, and (with ``refine_peak``) the maximum of dN/dμ of the
-  re-solved states locates it, independent of the grid.
+  re-solved states locates it, independent of the grid. Whether a peak stands out (``_PEAK_CONTRAST`` times
+  its flanks) is decided on the exact dN/dμ (``slope_at``) wherever the grid cannot tell: a peak narrower
+  than the grid's spacing, and one beside a first-order jump, where a step of its own dips before the jump
+  and the jump's rounded shoulder does not.
+- a **hidden first-order step** is one the grid does not show: a loop narrower than the grid's spacing
+  (both branches jump in one interval) or, inside a loop, a branch that jumps onto a state that is the
+  equilibrium on both sides of the jump (``refine_hidden``: two states coexist in the interval).
 
 Thresholds are fractions of the pore's own number of sites, so they scale with the pore. Every reported
 step adds a positive amount; each symmetry orbit of sites is named in the one step where it fills most,
