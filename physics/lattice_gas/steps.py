@@ -57,6 +57,7 @@ class Step:
     identity: str = ""                 # kind and the sites it fills (no counts), numbered when repeated
     spread_pressure_pa: tuple | None = None   # a pore between two row counts: the two lattices' pressures
     share: float = 1.0                 # the part of the pore it happens in (a step of one lattice of a blend)
+    lead: str = ""                     # where most of the sites it adds sit, named or not (`row_key`)
 
     @property
     def where(self) -> str:
@@ -270,11 +271,12 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
             counts[labels[o]] += w[o]
             first[labels[o]] = min(first.get(labels[o], np.inf), order[o])
         filling = tuple((name, float(counts[name])) for name in sorted(counts, key=first.get))
+        lead = str(labels[int(np.argmax(rise * w))]) if rise.size else ""
         up, down = fields["up"], fields["down"]
         steps.append(Step(
             fields["kind"], fields["mu_k"], p(fields["mu_k"]), p(fields["mu_k"]) / saturation_pressure_pa,
             fields["added"] * per_site, fields["added"], filling, up, down,
-            None if up is None else p(up), None if down is None else p(down)))
+            None if up is None else p(up), None if down is None else p(down), lead=lead))
     steps.sort(key=lambda s: s.mu_k)
     # identity: what fills, without counts, so a step can be followed across sizes and temperatures; a
     # second step filling sites of the same names (another orbit of ring 1, say) is numbered
@@ -346,8 +348,11 @@ def condensation_step(steps) -> Step | None:
 
 
 def row_key(step: Step) -> str:
-    """The row a step fills first (its deepest sites' label: 'corner', 'face', 'ring 1', ...; 'spread')."""
-    return step.filling[0][0] if step.filling else "spread"
+    """The row a step fills first (its deepest sites' label: 'corner', 'face', 'ring 1', ...). A step that
+    names no sites of its own (each orbit is named in the step where it rises most) takes the row where most
+    of the sites it adds sit, so a step does not change its key when a row's rise is shared out differently
+    between two of its steps ('spread' where it says neither)."""
+    return step.filling[0][0] if step.filling else (step.lead or "spread")
 
 
 def steps_by_row(steps) -> dict:
