@@ -243,11 +243,19 @@ def compressibility_at(problem, mu: np.ndarray, logits: np.ndarray, m: float, k0
                        k1: int | None = None) -> float:
     """dN/dμ (sites per K) at μ = ``m`` on a branch (``logits`` (M, O) on ``mu``), its state re-solved from
     the branch's nearest grid point among k0…k1 (`compressibility`)."""
+    x, ok, solve, _ = _resolved(problem, mu, logits, m, k0, k1, whole=True)
+    return compressibility(problem, x, solve)
+
+
+def _resolved(problem, mu: np.ndarray, logits: np.ndarray, m: float, k0: int = 0, k1: int | None = None, *,
+              whole: bool = False):
+    """The state at μ = ``m`` re-solved from the branch's nearest grid point among k0…k1 (its logits; with
+    ``whole``, `solve_state`'s whole answer)."""
     k1 = mu.size - 1 if k1 is None else k1
     k = int(np.clip(np.searchsorted(mu, m), k0, k1))
     k = k if k == k0 or abs(mu[k] - m) <= abs(mu[k - 1] - m) else k - 1
-    x, ok, solve, _ = solve_state(logits[k], m, problem)
-    return compressibility(problem, x, solve)
+    out = solve_state(logits[k], m, problem)
+    return out if whole else out[0]
 
 
 def _atoms_per_angstrom_per_site(stage: ThermalStage) -> float:
@@ -335,6 +343,7 @@ def _isotherm_on_grid(stage: ThermalStage, mu: np.ndarray) -> Isotherm:
                            p, mu[k0], ads.logits[k0], mu[k1], des.logits[k1]),
                        refine_peak=lambda k0, k1: compressibility_peak(p, mu, eq.logits, k0, k1),
                        slope_at=lambda m, k0=0, k1=None: compressibility_at(p, mu, eq.logits, m, k0, k1),
+                       state_at=lambda m, k0=0, k1=None: p.occupancy(_resolved(p, mu, eq.logits, m, k0, k1)),
                        refine_hidden=lambda k0, k1, quick=False: hidden_transition(p, mu, eq.logits, k0, k1, quick=quick),
                        occupancy_eq=p.occupancy(eq.logits) if eq.found_below_both else None,
                        transitions=lambda i0, i1: eq.transitions(i0, i1, ads, des, lambda m0, x0, m1, x1:

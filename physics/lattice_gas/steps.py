@@ -97,7 +97,8 @@ def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
 
 def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weights, labels, order,
                pressure_pa, saturation_pressure_pa: float, per_site: float, refine=None,
-               refine_peak=None, occupancy_eq=None, transitions=None, refine_hidden=None, slope_at=None) -> tuple[Step, ...]:
+               refine_peak=None, occupancy_eq=None, transitions=None, refine_hidden=None, slope_at=None,
+               state_at=None) -> tuple[Step, ...]:
     """Layer steps from the two branches on a common ascending μ grid.
 
     Parameters
@@ -120,6 +121,9 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
     slope_at : callable, optional
         ``slope_at(μ) -> dN/dμ`` of the equilibrium, exact: a peak that stands less than ``_PEAK_CONTRAST``
         above its flanks on the grid (but at least ``_GRID_CONTRAST_FLOOR``) is measured again with it
+    state_at : callable, optional
+        ``state_at(μ, k0, k1) -> (O,) occupancy`` of the equilibrium re-solved at μ from its grid states
+        k0…k1: where the exact dN/dμ shows two peaks inside one of the grid's, each is a step of its own
     refine_hidden : callable, optional
         ``refine_hidden(k0, k0 + 1, quick=False) -> (μ_eq, sites added, (O,) rise)``: `refine` from the
         equilibrium's own states at both grid points (`porefill.physics.lattice_gas.adsorption.hidden_transition`),
@@ -256,6 +260,15 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
                                check=contrast < _PEAK_CONTRAST or any(j is not None for j in jump_at))
             if mu_s is None:
                 continue
+            if state_at is not None:
+                parts = _merged_peaks(mu, pk, lo_i, hi_i, padded, in_jump, slope_at, state_at)
+                if parts is not None:  # two steps closer than the grid shows: each its own
+                    bounds = [occ_eq[lo_i]] + [occ for _, occ in parts[:-1]] + [occ_eq[hi_i]]
+                    for (m, _), lo_occ, hi_occ in zip(parts, bounds, bounds[1:]):
+                        if float(w @ (hi_occ - lo_occ)) > min_add:
+                            found.append((dict(kind="continuous", mu_k=m, added=float(w @ (hi_occ - lo_occ)),
+                                               up=None, down=None), hi_occ - lo_occ))
+                    continue
         found.append((dict(kind="continuous", mu_k=mu_s, added=added, up=None, down=None),
                       occ_eq[hi_i] - occ_eq[lo_i]))
 
@@ -335,6 +348,51 @@ def _exact_peak(mu, pk: int, flanks, jump_at, transitions_mu, slope_at, refine_p
         elif flanks[s] is not None and 1 <= flanks[s] <= mu.size - 1:
             flank = max(flank, min(slope(mu[flanks[s] - 1]), slope(mu[flanks[s]])))
     return mu_s if slope(mu_s) >= _PEAK_CONTRAST * flank else None
+
+
+def _merged_peaks(mu, pk: int, lo_i: int, hi_i: int, padded, in_jump, slope_at, state_at):
+    """Two or more continuous steps that the grid shows as one peak: the exact dN/dμ sampled at an eighth of
+    the grid's spacing over the intervals around the peak where the grid's slope stays above a sixth of the
+    peak's; its maxima and the dips between them are refined (bounded Brent), and those maxima that stand
+    ``_PEAK_CONTRAST`` times above the dips either side are steps. Returns [(μ of each maximum, occupancy at
+    the dip above it), ...] (None for the last: the step's own end), or None where one maximum stands out
+    (the step as found)."""
+    from scipy.optimize import minimize_scalar
+
+    floor = padded[pk] / (2.0 * _PEAK_CONTRAST)
+    a = b = pk                                   # padded indices of the region's intervals
+    while a - 1 >= lo_i + 1 and not in_jump[a - 1] and padded[a - 1] >= floor:
+        a -= 1
+    while b + 1 <= hi_i and not in_jump[b + 1] and padded[b + 1] >= floor:
+        b += 1
+    k0, k1 = a - 1, b                            # the grid points bounding the region
+    m = np.unique(np.concatenate([np.linspace(mu[i], mu[i + 1], 9) for i in range(k0, k1)]))
+    s = np.array([slope_at(x, k0, k1) for x in m])
+    top = find_peaks(np.concatenate([[0.0], s, [0.0]]))[0] - 1
+    if top.size < 2:
+        return None
+
+    def extreme(lo, hi, sign):
+        res = minimize_scalar(lambda x: sign * slope_at(x, k0, k1), bounds=(m[max(lo, 0)], m[min(hi, m.size - 1)]),
+                              method="bounded", options={"xatol": 1e-7})
+        return float(res.x), sign * float(res.fun)
+
+    peaks = [extreme(p - 1, p + 1, -1.0) for p in top]
+    dips = [extreme(int(np.argmin(s[p:q + 1])) + p - 1, int(np.argmin(s[p:q + 1])) + p + 1, 1.0)
+            for p, q in zip(top, top[1:])]
+    ends = (float(s[:top[0] + 1].min()), float(s[top[-1]:].min()))
+    lows = [ends[0]] + [d[1] for d in dips] + [ends[1]]
+    keep = [i for i, (_, v) in enumerate(peaks) if v >= _PEAK_CONTRAST * max(lows[i], lows[i + 1])]
+    if len(keep) < 2:
+        return None
+    out = []
+    for n, i in enumerate(keep):
+        if n + 1 < len(keep):                    # the lowest dip between this step and the next
+            dip = min(dips[i:keep[n + 1]], key=lambda d: d[1])[0]
+            out.append((peaks[i][0], state_at(dip, k0, k1)))
+        else:
+            out.append((peaks[i][0], None))
+    return out
 
 
 def condensation_step(steps) -> Step | None:
