@@ -12,6 +12,7 @@ import pytest
 from porefill.physics.lattice_gas.adsorption import compute_isotherm
 from porefill.physics.lattice_gas.meanfield import solve_state
 from porefill.physics.scenario import Scenario
+from step_lists import steps_at_point_counts
 
 
 def _helium(size: float) -> Scenario:
@@ -104,12 +105,8 @@ def test_a_layer_both_branches_jump_over_is_found_beside_their_loop():
     # continuous step 0.19 decades lower, at a rise of its own film (the rule: `test_no_layered_state_...`)
     sc = Scenario(adsorbate="helium-4", temperature_k=1.5, shape="hexagon", size_angstrom=18.75,
                   wall_angstrom=8.0, site_model="quantum")
-    found = {}
-    for n in (150, 200, 300):
-        part = next(iso for _, iso in compute_isotherm(sc, n_points=n).parts if iso.stage.geometry.rows == 4)
-        found[n] = [(s.kind, np.log10(s.pressure_pa)) for s in part.steps
-                    if s.filling and s.filling[0][0] == "ring 1"]
-    assert [k for k, _ in found[150]] == [k for k, _ in found[200]] == [k for k, _ in found[300]]
-    assert "first-order" in [k for k, _ in found[200]]
+    found = steps_at_point_counts(sc, (150, 200, 300), "ring 1", rows=4)
+    assert [k for k, *_ in found[150]] == [k for k, *_ in found[200]] == [k for k, *_ in found[300]]
+    assert "first-order" in [k for k, *_ in found[200]]
     for n in (150, 300):
-        np.testing.assert_allclose([p for _, p in found[n]], [p for _, p in found[200]], atol=5e-3)
+        np.testing.assert_allclose([p for *_, p in found[n]], [p for *_, p in found[200]], atol=5e-3)

@@ -9,6 +9,7 @@ import pytest
 from porefill.physics.lattice_gas.adsorption import compute_isotherm
 from porefill.physics.scenario import Scenario
 from porefill.physics.lattice_gas.steps import find_steps
+from step_lists import steps_at_point_counts
 
 
 @pytest.fixture(scope="module", params=[
@@ -180,14 +181,10 @@ def test_a_continuous_step_beside_a_loop_is_listed_at_every_point_count():
     # listed only from 600 points on (common practice, no source: a grid must not decide the physics)
     sc = Scenario(adsorbate="helium-4", temperature_k=1.5, shape="hexagon", size_angstrom=18.75,
                   wall_angstrom=8.0, site_model="quantum")
-    found = {}
+    found = steps_at_point_counts(sc, (150, 200, 300, 600), "ring 1", row_blend=False)
     for n in (150, 200, 300, 600):
-        iso = compute_isotherm(sc, n_points=n, row_blend=False)
-        found[n] = [(s.kind, np.log10(s.pressure_pa)) for s in iso.steps if s.filling and s.filling[0][0] == "ring 1"]
-    assert [k for k, _ in found[600]] == ["continuous", "first-order"]
-    for n in (150, 200, 300):
-        assert [k for k, _ in found[n]] == ["continuous", "first-order"]
-        np.testing.assert_allclose([p for _, p in found[n]], [p for _, p in found[600]], atol=5e-3)
+        assert [k for k, *_ in found[n]] == ["continuous", "first-order"]
+        np.testing.assert_allclose([p for *_, p in found[n]], [p for *_, p in found[600]], atol=5e-3)
 
 
 def test_two_continuous_steps_closer_than_the_grid_are_both_listed():
@@ -197,12 +194,7 @@ def test_two_continuous_steps_closer_than_the_grid_are_both_listed():
     # (common practice, no source: a grid must not decide the physics)
     sc = Scenario(adsorbate="helium-4", temperature_k=1.5, shape="hexagon", size_angstrom=20.0,
                   wall_angstrom=8.0, site_model="classical")
-    found = {}
+    found = steps_at_point_counts(sc, (150, 300, 600), "face", rows=4)
     for n in (150, 300, 600):
-        part = next(iso for _, iso in compute_isotherm(sc, n_points=n).parts if iso.stage.geometry.rows == 4)
-        found[n] = [(s.kind, s.filling, np.log10(s.pressure_pa)) for s in part.steps
-                    if s.filling and s.filling[0][0] == "face"]
-    assert [(k, f) for k, f, _ in found[600]] == [("continuous", (("face", 12.0),)), ("continuous", (("face", 6.0),))]
-    for n in (150, 300):
-        assert [(k, f) for k, f, _ in found[n]] == [(k, f) for k, f, _ in found[600]]
+        assert [(k, f) for k, f, _ in found[n]] == [("continuous", (("face", 12.0),)), ("continuous", (("face", 6.0),))]
         np.testing.assert_allclose([p for *_, p in found[n]], [p for *_, p in found[600]], atol=5e-3)
