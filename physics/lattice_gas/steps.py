@@ -375,7 +375,7 @@ def _exact_peak(mu, pk: int, flanks, jump_at, transitions_mu, slope_at, refine_p
 
 
 def _merged_peaks(mu, pk: int, lo_i: int, hi_i: int, padded, in_jump, slope_at, state_at):
-    """Two or more continuous steps that the grid shows as one peak: the exact dN/dμ sampled at an eighth of
+    """Two or more continuous steps that the grid shows as one peak: the exact dN/dμ sampled at a quarter of
     the grid's spacing over the intervals around the peak where the grid's slope stays above a sixth of the
     peak's; its maxima and the dips between them are refined (bounded Brent), and those maxima that stand
     ``_PEAK_CONTRAST`` times above the dips either side are steps. Returns [(μ of each maximum, occupancy at
@@ -390,7 +390,7 @@ def _merged_peaks(mu, pk: int, lo_i: int, hi_i: int, padded, in_jump, slope_at, 
     while b + 1 <= hi_i and not in_jump[b + 1] and padded[b + 1] >= floor:
         b += 1
     k0, k1 = a - 1, b                            # the grid points bounding the region
-    m = np.unique(np.concatenate([np.linspace(mu[i], mu[i + 1], 9) for i in range(k0, k1)]))
+    m = np.unique(np.concatenate([np.linspace(mu[i], mu[i + 1], 5) for i in range(k0, k1)]))
     s = np.array([slope_at(x, k0, k1) for x in m])
     top = find_peaks(np.concatenate([[0.0], s, [0.0]]))[0] - 1
     if top.size < 2:
