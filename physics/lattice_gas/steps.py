@@ -157,11 +157,6 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
     found: list[tuple[dict, np.ndarray]] = []          # (step fields, orbit occupancy rise)
     jumps = np.zeros(mu.size - 1, bool)
     runs_seen: list[tuple[int, int]] = []
-
-    def interval(m: float) -> int:
-        """The grid interval holding μ = m."""
-        return int(np.clip(np.searchsorted(mu, m) - 1, 0, mu.size - 2))
-
     for i0, i1 in _runs(differ):
         lo_k, hi_k = max(i0 - 1, 0), min(i1 + 1, mu.size - 1)
         if lo_k == i0 or hi_k == i1:
@@ -173,7 +168,9 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
                 if added > min_add:
                     found.append((dict(kind="first-order", mu_k=float(mu_eq), added=float(added),
                                        up=float(mu[hi_k]), down=float(mu[lo_k])), np.asarray(rise)))
-                    jumps[interval(mu_eq)] = True
+                    # a transition out of the run (a state continued beyond it) is a jump of the equilibrium
+                    jumps[int(np.clip(np.searchsorted(mu, mu_eq) - 1, 0, mu.size - 2))] = True
+            jumps[lo_k:hi_k] = True
             continue
         # every place where the equilibrium passes from the adsorption branch to the desorption branch is a
         # transition: one run can hold several (two rows filling in turn while both branches are still
@@ -195,7 +192,7 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
                 rise = occupancy_des[k1] - occupancy_ads[k0]
             if added <= min_add:
                 continue               # the branches part without a jump of the equilibrium
-            jumps[interval(mu_eq)] = True
+            jumps[lo_k:hi_k] = True
             found.append((dict(kind="first-order", mu_k=float(mu_eq), added=float(added), up=float(mu[hi_k]),
                                down=float(mu[lo_k])), np.asarray(rise)))
 
@@ -210,7 +207,6 @@ def find_steps(mu, occupancy_ads, occupancy_des, omega_ads, omega_des, *, weight
                     continue
                 mu_eq, jump, rise = refine_hidden(k, k + 1, quick=True)
                 if jump > min_add:
-                    jumps[k] = True
                     found.append((dict(kind="first-order", mu_k=float(mu_eq), added=float(jump),
                                        up=float(mu[hi_k]), down=float(mu[lo_k])), np.asarray(rise)))
 
@@ -338,10 +334,7 @@ def _exact_peak(mu, pk: int, flanks, jump_at, transitions_mu, slope_at, refine_p
         return slope_at(m, lo_k, hi_k)
 
     if ends[0] is None and ends[1] is None:
-        if refine_peak is None or k1 <= k0:
-            mu_s = float(0.5 * (mu[pk - 1] + mu[pk]))
-        else:
-            mu_s = float(refine_peak(k0, k1))
+        mu_s = float(refine_peak(k0, k1)) if refine_peak is not None and k1 > k0 else float(0.5 * (mu[pk - 1] + mu[pk]))
     else:
         # beside a jump the peak can lie past the last grid point before the jump's transition (both in one
         # interval): the state is followed up to the transition, sampled, and its highest inner maximum refined
