@@ -329,29 +329,12 @@ def _exact_peak(mu, pk: int, flanks, jump_at, transitions_mu, slope_at, refine_p
     if hi_k <= lo_k:
         return None
     k0, k1 = max(pk - 2, lo_k), min(pk + 1, hi_k)
+    mu_s = float(refine_peak(k0, k1)) if refine_peak is not None and k1 > k0 else float(0.5 * (mu[pk - 1] + mu[pk]))
+    if not check:
+        return mu_s
 
     def slope(m):
         return slope_at(m, lo_k, hi_k)
-
-    if ends[0] is None and ends[1] is None:
-        mu_s = float(refine_peak(k0, k1)) if refine_peak is not None and k1 > k0 else float(0.5 * (mu[pk - 1] + mu[pk]))
-    else:
-        # beside a jump the peak can lie past the last grid point before the jump's transition (both in one
-        # interval): the state is followed up to the transition, sampled, and its highest inner maximum refined
-        a = ends[0] if ends[0] is not None else float(mu[k0])
-        b = ends[1] if ends[1] is not None else float(mu[k1])
-        if b <= a:
-            return None
-        m = np.linspace(a, b, 17)[1:-1]
-        s = np.array([slope(x) for x in m])
-        inner = [i for i in range(1, m.size - 1) if s[i] >= s[i - 1] and s[i] >= s[i + 1]]
-        if not inner:
-            return None                # dN/dμ only rises to the jump, or falls from it: its rounded shoulder
-        i = max(inner, key=lambda i: s[i])
-        mu_s = float(minimize_scalar(lambda x: -slope(x), bounds=(m[i - 1], m[i + 1]), method="bounded",
-                                     options={"xatol": 1e-7}).x)
-    if not check:
-        return mu_s
 
     flank = 0.0
     for s in (0, 1):
