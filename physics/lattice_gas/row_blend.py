@@ -155,18 +155,15 @@ def blend_steps(parts, scale, full_per_nm: float) -> tuple[Step, ...]:
         pairs.append([(wa, ca), (wb, cb)])
         a = [s for s in a if s is not ca]
         b = [s for s in b if s is not cb]
-    # steps that name the sites they fill pair first; a step that names none (its row is where most of
-    # its sites sit, `porefill.physics.lattice_gas.steps.row_key`) pairs only with what is left, so a
-    # small unnamed step one lattice lists does not take a named step's partner
-    rest_a, rest_b = list(a), list(b)
-    for named in (True, False):
-        for s in [s for s in rest_a if bool(s.filling) or not named]:
-            match = next((t for t in rest_b if (bool(t.filling) or not named) and row_key(t) == row_key(s)), None)
-            if match is not None:
-                rest_a.remove(s)
-                rest_b.remove(match)
-                pairs.append([(wa, s), (wb, match)])
-    pairs += [[(wa, s)] for s in rest_a] + [[(wb, t)] for t in rest_b]
+    rest_b = list(b)
+    for s in a:
+        match = next((t for t in rest_b if row_key(t) == row_key(s)), None)
+        if match is not None:
+            rest_b.remove(match)
+            pairs.append([(wa, s), (wb, match)])
+        else:
+            pairs.append([(wa, s)])
+    pairs += [[(wb, t)] for t in rest_b]
     merged = [_merge(p, scale) for p in pairs]
     kept = [s for s in merged if s.share == 1.0 or s.added_per_nm >= _MIN_SHARE * full_per_nm]
     return tuple(sorted(kept, key=lambda s: s.mu_k))
