@@ -71,8 +71,9 @@ class EquilibriumStates:
 
     def transitions(self, i0: int, i1: int, ads: Branch, des: Branch, refine) -> list[tuple[float, float, np.ndarray]] | None:
         """The first-order transitions of the equilibrium over the grid points i0 − 1 … i1 + 1 (one run where
-        the branches differ; further out while a state of neither branch is the equilibrium there), each as ``refine``'s (μ_eq, sites added, (O,) rise); None where the equilibrium
-        there is only ever the two branches (the two-branch rule of `porefill.physics.lattice_gas.steps` applies).
+        the branches differ; further out while a state of neither branch is the equilibrium there), each as
+        ``refine``'s (μ_eq, sites added, (O,) rise); None where the equilibrium there is only ever the two
+        branches (the two-branch rule of `porefill.physics.lattice_gas.steps` applies).
 
         ``refine(mu_lo, x_lo, mu_hi, x_hi)``: the equilibrium transition between a low state (logits x_lo,
         stable at mu_lo) and a high one (`porefill.physics.lattice_gas.adsorption.equilibrium_transition`).
