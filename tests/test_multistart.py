@@ -109,4 +109,5 @@ def test_a_layer_both_branches_jump_over_is_found_beside_their_loop():
     assert [k for k, *_ in found[150]] == [k for k, *_ in found[200]] == [k for k, *_ in found[300]]
     assert "first-order" in [k for k, *_ in found[200]]
     for n in (150, 300):
+        # 5e-3 decades: the tolerance `bench_step_grid.py` allows is 0.01; measured, the steps agree to 1e-3
         np.testing.assert_allclose([p for *_, p in found[n]], [p for *_, p in found[200]], atol=5e-3)
