@@ -109,6 +109,33 @@ def main() -> None:
         print(f"{'reader started ahead' if ahead else 'process started for the file'}, a 10 kB read in it: "
               f"{(time.perf_counter() - start) * 1e3:.0f} ms")
     file_parse._take_standby = take
+    back_to_back(data)
+
+
+def back_to_back(data: bytes, files: int = 5) -> None:
+    """Files read one right after another (several dropped at once): each gets a fresh process, and the one
+    started ahead is used up by the first. Spawned (each pays Python's start-up and the imports), then forked
+    from the fork server that imported the readers once (`porefill.explorer.jobs.background._context`)."""
+    import multiprocessing
+
+    from porefill.explorer.jobs import background, file_parse
+
+    forked = background._context
+    for how in ("spawned", "forked from the fork server"):
+        background._context = forked if how.startswith("forked") else (
+            lambda preload=(): multiprocessing.get_context("spawn"))
+        file_parse.keep_ready()
+        time.sleep(5.0)
+        times = []
+        for i in range(files):
+            start = time.perf_counter()
+            file_parse.parse_in_worker(read_measured, f"r{i}.csv", data, file_name=f"r{i}.csv",
+                                       refusals=(MeasuredFileError,))
+            times.append(time.perf_counter() - start)
+        print(f"{files} files back to back, {how}: " + ", ".join(f"{t * 1e3:.0f}" for t in times)
+              + f" ms (total {sum(times):.2f} s)")
+    background._context = forked
+
 
 if __name__ == "__main__":
     main()

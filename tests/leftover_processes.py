@@ -36,11 +36,21 @@ def carrying(marker: str) -> list[tuple[int, str]]:
             continue                        # ended meanwhile, or not ours to read
         if state == "Z":                    # a zombie has ended; only its parent's reaping is pending
             continue
-        if _parent(name) == me and ("multiprocessing.resource_tracker" in cmd or "multiprocessing.spawn" in cmd):
-            continue                        # this process's own tracker and pool workers: they watch this
-                                            # process and end with it (explorer/jobs/background.py:start_worker)
+        if _own_helper(name, cmd, me):
+            continue                        # this process's own tracker, pool workers and fork server (and
+                                            # what the fork server forked): they watch this process and end
+                                            # with it (explorer/jobs/background.py: start_worker, _context)
         found.append((int(name), cmd.strip()[:160]))
     return found
+
+
+def _own_helper(pid: str, cmd: str, me: int) -> bool:
+    helpers = ("multiprocessing.resource_tracker", "multiprocessing.spawn", "multiprocessing.forkserver")
+    parent = _parent(pid)
+    if parent == me and any(h in cmd for h in helpers):
+        return True
+    # forked by this process's fork server: its command line is the server's
+    return "multiprocessing.forkserver" in cmd and _parent(str(parent)) == me
 
 
 def _parent(pid: str) -> int:

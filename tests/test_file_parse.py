@@ -123,3 +123,16 @@ def test_an_unused_standby_ends_when_closed():
     standby.close()
     standby.process.join(timeout=10)
     assert not standby.process.is_alive() and not standby.fits(memory_limit_bytes=None, compiled=False)
+
+
+def test_files_dropped_while_the_reader_started_ahead_is_still_starting_are_read():
+    # common practice, no source: a file may arrive the moment a page opens or right after another, while
+    # the reader started ahead has not yet unpickled its queues; before the job held the standby, its queues'
+    # semaphores were removed under it and the file came back "could not be read"
+    from porefill.explorer.jobs import file_parse
+
+    file_parse.keep_ready()
+    for name in ("first.csv", "second.csv", "third.csv"):
+        run = parse_in_worker(read_measured, name, CSV, file_name=name, refusals=(MeasuredFileError,))
+        np.testing.assert_array_equal(run.runs[0].amount, [0.5, 0.9])
+    assert _no_parse_workers_left()
