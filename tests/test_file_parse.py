@@ -136,3 +136,58 @@ def test_files_dropped_while_the_reader_started_ahead_is_still_starting_are_read
         run = parse_in_worker(read_measured, name, CSV, file_name=name, refusals=(MeasuredFileError,))
         np.testing.assert_array_equal(run.runs[0].amount, [0.5, 0.9])
     assert _no_parse_workers_left()
+
+
+_SERVER_LIKE = """
+import sys, time
+from porefill.explorer.jobs import file_parse
+if __name__ == "__main__":
+    file_parse.keep_ready()                       # as a page opening does: the fork server and a reader wait
+    time.sleep(2.0)
+    print("ready", flush=True)
+    time.sleep(120)
+"""
+
+
+def _descendants(pid: int) -> set[int]:
+    from pathlib import Path
+
+    parents = {}
+    for entry in Path("/proc").iterdir():
+        if entry.name.isdigit():
+            try:
+                parents[int(entry.name)] = int((entry / "stat").read_text().rsplit(")", 1)[1].split()[1])
+            except (OSError, IndexError, ValueError):
+                pass
+    found, frontier = set(), {pid}
+    while frontier:
+        frontier = {child for child, parent in parents.items() if parent in frontier} - found
+        found |= frontier
+    return found
+
+
+@pytest.mark.skipif(not __import__("os").path.isdir("/proc"), reason="reads /proc")
+def test_the_readers_end_when_the_server_that_started_them_is_ended(tmp_path):
+    # common practice, no source: a server ended with SIGTERM (as a service manager stops it) leaves no file
+    # reader behind (the reader forked by the fork server once watched the fork server, its parent, while the
+    # fork server waited for it: both outlived the server)
+    import os
+    import subprocess
+    import sys
+
+    script = tmp_path / "server_like.py"
+    script.write_text(_SERVER_LIKE, encoding="utf-8")
+    server = subprocess.Popen([sys.executable, str(script)], stdout=subprocess.PIPE, text=True)
+    try:
+        assert server.stdout.readline().strip() == "ready"
+        started = _descendants(server.pid)
+        assert len(started) >= 2                  # at least the fork server and the reader it forked
+    finally:
+        server.terminate()
+        server.wait(timeout=20)
+    deadline = time.monotonic() + 15.0
+    while time.monotonic() < deadline and any(os.path.exists(f"/proc/{pid}") for pid in started):
+        time.sleep(0.25)
+    alive = [pid for pid in started if os.path.exists(f"/proc/{pid}")
+             and "Z" not in open(f"/proc/{pid}/stat").read().rsplit(")", 1)[1].split()[0]]
+    assert alive == []

@@ -82,7 +82,15 @@ def limit_memory(extra_bytes: int) -> None:
 
 def _exit_with_parent(parent: int) -> None:
     import os
+    from multiprocessing import parent_process
 
+    asked = parent_process()
+    if asked is not None and asked.pid != parent:
+        # forked by a fork server (`_context`): the process that asked for this one is not its parent, and
+        # the fork server lives while its children do, so watch the one that asked (its sentinel closes when
+        # it ends or lets this process go)
+        asked.join()
+        os._exit(0)
     while os.getppid() == parent:
         time.sleep(1.0)
     os._exit(0)
