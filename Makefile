@@ -27,8 +27,9 @@ chromium:
 	  fi; \
 	fi
 
+# the test files spread over up to four processes (pytest-xdist); a file's tests stay together, in order
 test: $(STAMP) chromium
-	$(BIN)/python -m pytest
+	$(BIN)/python -m pytest -n auto --maxprocesses=4 --dist loadfile
 
 benchmark: $(STAMP) chromium
 	$(BIN)/python -m pip install --quiet -e '.[test,bench]'

@@ -128,16 +128,27 @@ def pytest_collection_modifyitems(config, items):
             item.add_marker(skip)
 
 
+def _is_xdist_worker(config) -> bool:
+    return hasattr(config, "workerinput")
+
+
 def pytest_configure(config):
     """Kernels the tests build go to a folder of this run (removed at the end), never the user's cache; the
-    served dashboard inherits it. Every process the run starts carries a marker (`leftover_processes`)."""
+    served dashboard inherits it. Every process the run starts carries a marker (`leftover_processes`).
+
+    Under pytest-xdist (`make test` runs the files on several worker processes) each worker has a cache folder
+    of its own, but keeps the controller's marker: the controller looks for leftovers once every worker has
+    ended, so a process a worker left behind is found there and fails the run."""
     import tempfile
 
-    from leftover_processes import mark_run
+    from leftover_processes import VARIABLE, mark_run
 
     config._porefill_cache = tempfile.mkdtemp(prefix="porefill-test-cache-")
     os.environ["POREFILL_CACHE_DIR"] = config._porefill_cache
-    config._porefill_run = mark_run()
+    if _is_xdist_worker(config) and os.environ.get(VARIABLE):
+        config._porefill_run = None                 # the controller's marker, inherited; it checks
+    else:
+        config._porefill_run = mark_run()
 
 
 def _retire_own_pools() -> None:
@@ -152,13 +163,17 @@ def _retire_own_pools() -> None:
         sizing.close_runners()
 
 
+@pytest.hookimpl(trylast=True)
 def pytest_sessionfinish(session, exitstatus):
     """The run fails if it leaves a process behind (a served dashboard, a worker, a browser): each one still
-    alive 15 s after the last test is named, then killed."""
+    alive 15 s after the last test is named, then killed. Last of the hooks: under pytest-xdist the workers
+    have ended by then (their own pools retired as they finished)."""
     import signal
 
     from leftover_processes import left_behind
 
+    if _is_xdist_worker(session.config):
+        _retire_own_pools()
     marker = getattr(session.config, "_porefill_run", None)
     if marker is None or session.config.option.collectonly:
         return
