@@ -13,6 +13,25 @@ EXE = str(Path(sys.executable).with_name("porefill"))
 
 
 def run(*args):
+    """``porefill ARGS`` in this process (its ``main``, outputs captured): what a separate process would add is
+    checked by the tests that start one (`run_process`: the installed command, its exit status, Ctrl-C)."""
+    import contextlib
+    import io
+    from types import SimpleNamespace
+
+    from porefill.explorer.cli.main import main
+
+    out, err = io.StringIO(), io.StringIO()
+    with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
+        try:
+            code = main([str(a) for a in args])
+        except SystemExit as stop:             # argparse's usage errors
+            code = stop.code if isinstance(stop.code, int) else 1
+    return SimpleNamespace(returncode=code, stdout=out.getvalue(), stderr=err.getvalue())
+
+
+def run_process(*args):
+    """``porefill ARGS`` as the installed command, in a process of its own."""
     return subprocess.run([EXE, *args], capture_output=True, text=True, timeout=120)
 
 
@@ -111,14 +130,14 @@ def test_point_in_solid_is_null():
     (["--pore", "prism", "--at", "0,0"], "prism"),
 ])
 def test_bad_input_exits_2_with_one_line(args, word):
-    out = run("potential", *args)
+    out = run_process("potential", *args)           # the installed command's exit status
     assert out.returncode == 2
     lines = out.stderr.strip().splitlines()
     assert len(lines) == 1 and word in lines[0] and "Traceback" not in out.stderr
 
 
 def test_serve_rejects_missing_scenario_file(tmp_path):
-    out = run("serve", "--scenario", str(tmp_path / "none.toml"))
+    out = run_process("serve", "--scenario", str(tmp_path / "none.toml"))
     assert out.returncode == 2 and "none.toml" in out.stderr
 
 
