@@ -66,7 +66,11 @@ def _press(settle_s: float, gaps=PERSON_GAPS_S):
         await asyncio.sleep(settle_s + 0.5)         # anything still waiting has run by now
         return runner.started
 
-    started = asyncio.run(main())
+    from run_apart import in_a_thread
+
+    # a thread of its own: a browser test run earlier in this process (pytest-xdist's order) leaves
+    # Playwright's event loop running in the main thread
+    started = in_a_thread(lambda: asyncio.run(main()))
     assert started == len(computed)
     return asked, computed, applied
 
