@@ -221,13 +221,16 @@ def block_states(hamiltonian: sparse.spmatrix, blocks, *, k: int, shift: float,
     blocks = [b if isinstance(b, Block) else Block(b) for b in blocks]
     mats = [(b.basis.T @ hamiltonian @ b.basis).tocsc() for b in blocks]
     sizes = [m.shape[0] for m in mats]
-    total = sum(b.degeneracy for b in blocks)
     if hint is not None and len(hint) <= len(blocks):
         hint = list(hint) + [0] * (len(blocks) - len(hint))
         per_solve = [-(-int(c) // b.degeneracy) for c, b in zip(hint, blocks)]    # a partner comes with its state
         want = [min(max(c + 4 + c // 10, 6), s - 2) for c, s in zip(per_solve, sizes)]
     else:
-        want = [min(max(k * b.degeneracy // total // b.degeneracy + 4, 6), s - 2) for b, s in zip(blocks, sizes)]
+        # each block's share in proportion to its dimension (Weyl: a block's count of states below an energy
+        # grows with its share of the grid; a degenerate block's solve brings its partners too), a few more
+        full = sum(s * b.degeneracy for b, s in zip(blocks, sizes))
+        share = [-(-k * s // full) for s in sizes]
+        want = [min(max(c + 4 + c // 10, 6), s - 2) for c, s in zip(share, sizes)]
     found: list = [None] * len(blocks)
     while True:
         for i, m in enumerate(mats):
