@@ -278,8 +278,8 @@ def _context(preload: tuple = ()):
     Jobs that name modules to ``preload`` (the file readers, `porefill.explorer.jobs.file_parse`): forked from
     a fork server, a single-threaded process started once (by spawn) that imported those modules first. Each
     job still gets a fresh process holding nothing of an earlier job's, but skips Python's start-up and the
-    imports: about 1.5 s less per process on a loaded 2-core machine, which is what a user dropping file
-    after file waited for. The fork server imports the first ``preload`` asked for and ends with this process;
+    imports (five files read back to back on a loaded 2-core machine: 0.53 s against 2.05 s spawned,
+    benchmarks/bench_parsers.py), which is what a user dropping several files waited for. The fork server imports the first ``preload`` asked for and ends with this process;
     where there is none (Windows), spawn."""
     if not preload or "forkserver" not in multiprocessing.get_all_start_methods():
         return multiprocessing.get_context("spawn")
@@ -289,9 +289,10 @@ def _context(preload: tuple = ()):
 
 
 class Standby:
-    """A spawned process started before it is needed: it has done `start_worker` and imported ``preload``
-    and waits for one task, so a `ProcessJob` given it skips Python's start-up and those imports (a file
-    reader that imports pandas: about 0.3 s on a quiet machine, `porefill.explorer.jobs.file_parse`). Used once, like any job's process: a task cannot see what an
+    """A process started before it is needed (spawned, or forked from the fork server, `_context`): it has
+    done `start_worker` and imported ``preload`` and waits for one task, so a `ProcessJob` given it skips
+    Python's start-up and those imports (a file reader that imports pandas: about 0.3 s on a quiet machine,
+    `porefill.explorer.jobs.file_parse`). Used once, like any job's process: a task cannot see what an
     earlier one left. `close` ends an unused one."""
 
     def __init__(self, *, memory_limit_bytes: int | None = None, compiled: bool = True, preload: tuple = ()):
