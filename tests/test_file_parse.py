@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import asyncio
 import multiprocessing
+import os
 import time
 
 import numpy as np
@@ -93,8 +94,6 @@ def test_the_next_file_goes_to_the_reader_started_ahead_and_each_file_gets_a_fre
     # common practice, no source: a standby process saves the next file Python's start-up and the readers'
     # imports, but is used once (a file cannot see what an earlier one left); os.getpid run as the "parser"
     # says which process read each file
-    import os
-
     from porefill.explorer.jobs import file_parse
 
     file_parse.keep_ready()
@@ -166,12 +165,11 @@ def _descendants(pid: int) -> set[int]:
     return found
 
 
-@pytest.mark.skipif(not __import__("os").path.isdir("/proc"), reason="reads /proc")
+@pytest.mark.skipif(not os.path.isdir("/proc"), reason="reads /proc")
 def test_the_readers_end_when_the_server_that_started_them_is_ended(tmp_path):
     # common practice, no source: a server ended with SIGTERM (as a service manager stops it) leaves no file
     # reader behind (the reader forked by the fork server once watched the fork server, its parent, while the
     # fork server waited for it: both outlived the server)
-    import os
     import subprocess
     import sys
 
