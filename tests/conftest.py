@@ -172,12 +172,10 @@ def pytest_sessionfinish(session, exitstatus):
 
     from leftover_processes import left_behind
 
-    if _is_xdist_worker(session.config):
-        _retire_own_pools()
+    _retire_own_pools()
     marker = getattr(session.config, "_porefill_run", None)
     if marker is None or session.config.option.collectonly:
-        return
-    _retire_own_pools()
+        return                                      # an xdist worker: the controller checks
     alive = left_behind(marker)
     if not alive:
         return

@@ -13,21 +13,11 @@ EXE = str(Path(sys.executable).with_name("porefill"))
 
 
 def run(*args):
-    """``porefill ARGS`` in this process (its ``main``, outputs captured): what a separate process would add is
-    checked by the tests that start one (`run_process`: the installed command, its exit status, Ctrl-C)."""
-    import contextlib
-    import io
-    from types import SimpleNamespace
+    """``porefill ARGS`` in this process (`cli_runs.in_process`): what a separate process would add is checked
+    by the tests that start one (`run_process`: the installed command, its exit status, Ctrl-C)."""
+    from cli_runs import in_process
 
-    from porefill.explorer.cli.main import main
-
-    out, err = io.StringIO(), io.StringIO()
-    with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
-        try:
-            code = main([str(a) for a in args])
-        except SystemExit as stop:             # argparse's usage errors
-            code = stop.code if isinstance(stop.code, int) else 1
-    return SimpleNamespace(returncode=code, stdout=out.getvalue(), stderr=err.getvalue())
+    return in_process(*args)
 
 
 def run_process(*args):

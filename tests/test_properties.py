@@ -63,19 +63,11 @@ def test_scenario_accepts_or_names_the_field(field, value):
 @settings(max_examples=60, deadline=None)
 @given(size=st.floats(allow_nan=True, allow_infinity=True), grid=st.integers(-5, 5000))
 def test_potential_command_exits_0_or_2_with_one_line(size, grid):
-    import contextlib
-    import io
+    from cli_runs import in_process
 
-    from porefill.explorer.cli.main import main
-
-    out, err = io.StringIO(), io.StringIO()
-    with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
-        try:
-            code = main(["potential", "--isolated", "--size", repr(size), "--grid", str(min(grid, 60))])
-        except SystemExit as exc:          # argparse's own refusals exit through sys.exit(2)
-            code = exc.code
-    if code == 2:
-        lines = err.getvalue().strip().splitlines()
-        assert len(lines) == 1 and lines[0].startswith("porefill: error:") and "Traceback" not in err.getvalue()
+    run = in_process("potential", "--isolated", "--size", repr(size), "--grid", str(min(grid, 60)))
+    if run.returncode == 2:
+        lines = run.stderr.strip().splitlines()
+        assert len(lines) == 1 and lines[0].startswith("porefill: error:") and "Traceback" not in run.stderr
     else:
-        assert code == 0 and "deepest minimum" in out.getvalue()
+        assert run.returncode == 0 and "deepest minimum" in run.stdout
