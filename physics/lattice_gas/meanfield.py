@@ -18,6 +18,7 @@ dx/dμ = J⁻¹·1 seed the next μ (continuation); at a spinodal the descent ca
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 from scipy import sparse
@@ -306,9 +307,17 @@ class Branch:
     converged: np.ndarray
     problem: MeanFieldProblem | None = None     # how logits become occupancies (None: expit)
 
-    @property
+    def __post_init__(self) -> None:
+        # the occupancies are computed once (`occupancy`), so the states must not change under them
+        for a in (self.mu, self.logits, self.grand_potential, self.converged):
+            a.flags.writeable = False
+
+    @cached_property
     def occupancy(self) -> np.ndarray:
-        return expit(self.logits) if self.problem is None else self.problem.occupancy(self.logits)
+        """(M, N) mean occupancies, computed once: the step finder reads single rows of them many times."""
+        n = expit(self.logits) if self.problem is None else self.problem.occupancy(self.logits)
+        n.flags.writeable = False
+        return n
 
     @property
     def total(self) -> np.ndarray:
