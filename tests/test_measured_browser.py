@@ -1,66 +1,17 @@
 """The measured-data tab in a real browser: upload, overlay, fit, and bad files that leave the page alive."""
 from __future__ import annotations
 
-import re
 from pathlib import Path
 
 import pytest
 
 from porefill.explorer.server.testing import text_of
+from upload_page import open_tab, upload, wait_for_text
 
 pytestmark = pytest.mark.browser
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "scenarios" / "invented-nitrogen-77K.csv"
-
-
-def _open_tab(page):
-    page.locator(".porefill-steps table").first.wait_for(timeout=60_000)
-    page.get_by_text("Measured data", exact=True).first.click()
-    page.locator(".porefill-dropper input[type=file]").first.wait_for(state="attached", timeout=10_000)
-
-
-def _wait_for_text(page, selector, words, timeout_s=20.0):
-    import time
-    deadline = time.time() + timeout_s
-    while True:
-        text = text_of(page, selector)
-        if words in text or time.time() > deadline:
-            return text
-        page.wait_for_timeout(200)
-
-
-def _refused_by_widget(widget_text: str) -> bool:
-    return "invalid" in widget_text.lower() or "large" in widget_text.lower()
-
-
-def _answer_to_upload(page, name: str, timeout_s: float = 60.0) -> tuple[str, str]:
-    """(the file problems' text, the upload widget's own status) once either names the file's fate: the
-    page's message naming ``name``, or the widget's refusal of a file it will not send (which would otherwise
-    be waited out for the whole timeout)."""
-    import time
-    deadline = time.time() + timeout_s
-    polls, widget = 0, ""
-    while True:
-        shown = text_of(page, ".porefill-file-problems p")
-        if polls % 5 == 4:                  # the widget's list is slower to read: once a second
-            widget = _widget_status_of(page, name)
-        if name in shown or _refused_by_widget(widget) or time.time() > deadline:
-            return shown, widget
-        polls += 1
-        page.wait_for_timeout(200)
-
-
-def _widget_status_of(page, name: str) -> str:
-    """The upload widget's status line for the file ``name`` ("" if not listed): its list keeps every file it
-    was given, so an earlier file's refusal must not stand for this one's."""
-    info = page.locator(".filepond--file-info-main", has_text=re.compile(rf"^\s*{re.escape(name)}\s*$"))
-    item = page.locator(".porefill-dropper .filepond--item").filter(has=info)
-    return " ".join(item.locator(".filepond--file-status-main").all_inner_texts())
-
-
-def _upload(page, path):
-    page.locator(".porefill-dropper input[type=file]").first.set_input_files(str(path))
 
 
 @pytest.fixture(scope="module")
@@ -90,10 +41,10 @@ def nitrogen_page(browser, tmp_path_factory):
 
 def test_demo_file_overlay_and_fit(nitrogen_page):
     page = nitrogen_page
-    _open_tab(page)
-    _upload(page, DEMO)
+    open_tab(page)
+    upload(page, DEMO)
     # amounts per gram without a pore volume: drawn at once with one estimated from the data, said once
-    _wait_for_text(page, ".porefill-overlay-caption p.porefill-overlay-note", "estimated from the data")
+    wait_for_text(page, ".porefill-overlay-caption p.porefill-overlay-note", "estimated from the data")
     caption = "\n".join(page.locator(".porefill-overlay-caption p").all_inner_texts())
     assert "No pore volume given" in caption and "The fit frees it" in caption, caption
     assert caption.count("No pore volume given") == 1 and "need the sample" not in caption, caption
@@ -103,7 +54,7 @@ def test_demo_file_overlay_and_fit(nitrogen_page):
     pore_volume = page.get_by_label("Pore volume (cm³/g)").first
     pore_volume.fill("0.5")
     pore_volume.press("Enter")
-    _wait_for_text(page, ".porefill-overlay-caption p", DEMO.name)
+    wait_for_text(page, ".porefill-overlay-caption p", DEMO.name)
     page.locator(".porefill-overlay canvas").first.wait_for(state="attached", timeout=30_000)
     caption = text_of(page, ".porefill-overlay-caption p")
     assert DEMO.name in caption and "Model for" in caption
@@ -126,7 +77,7 @@ def test_demo_file_overlay_and_fit(nitrogen_page):
         value, err = values[name]
         assert abs(value - truth) <= max(4 * err, 0.03 * truth), (name, value, err)
     # the moment the fit is done the plot and residuals are the fitted model's, without "Use the fitted pore"
-    caption = _wait_for_text(page, ".porefill-overlay-caption p", "Fitted model")
+    caption = wait_for_text(page, ".porefill-overlay-caption p", "Fitted model")
     assert "Fitted model" in caption and "Use the fitted pore and sample" in caption, caption
     assert "show the fitted model" in text_of(page, ".porefill-fit-status p")
     page.wait_for_timeout(500)
@@ -134,7 +85,7 @@ def test_demo_file_overlay_and_fit(nitrogen_page):
     page.locator(".porefill-fit").first.screenshot(path="/tmp/porefill-measured-fit-table.png")
     # taking the fitted pore makes it the page's scenario: the overlay is then the Pore tab's model again
     page.get_by_role("button", name="Use the fitted pore and sample").first.click()
-    caption = _wait_for_text(page, ".porefill-overlay-caption p", "Model for")
+    caption = wait_for_text(page, ".porefill-overlay-caption p", "Model for")
     assert caption.startswith("Model for"), caption
     assert page.console_errors == []
 
@@ -149,7 +100,7 @@ def test_scatter_far_above_the_assumed_noise_is_warned_on_the_page(nitrogen_page
 
     page = nitrogen_page
     page.goto(page.url)                                        # a fresh session: nothing dropped or typed yet
-    _open_tab(page)
+    open_tab(page)
     rng = np.random.default_rng(21)
     lines = []
     for line in DEMO.read_text(encoding="utf-8").splitlines():
@@ -159,8 +110,8 @@ def test_scatter_far_above_the_assumed_noise_is_warned_on_the_page(nitrogen_page
         lines.append(",".join(cells))
     path = tmp_path / "scattered-nitrogen.csv"
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
-    _upload(page, path)
-    _wait_for_text(page, ".porefill-overlay-caption p", path.name)
+    upload(page, path)
+    wait_for_text(page, ".porefill-overlay-caption p", path.name)
     for name in ("wall-strength", "size"):
         page.get_by_label(name, exact=True).first.uncheck()
     page.get_by_role("button", name="Fit", exact=True).first.click()
@@ -182,12 +133,12 @@ BAD_FILES = {
 
 
 def test_bad_files_get_their_own_message_and_the_page_stays_alive(page, tmp_path):
-    _open_tab(page)
+    open_tab(page)
     for name, (content, words) in BAD_FILES.items():
         path = tmp_path / name
         path.write_bytes(content)
-        _upload(page, path)
-        problems = _wait_for_text(page, ".porefill-file-problems p", name)
+        upload(page, path)
+        problems = wait_for_text(page, ".porefill-file-problems p", name)
         assert words in problems and "Traceback" not in problems
     # the page still answers: the quantum tab opens and the pore tab's steps table is still there
     page.get_by_text("Pore", exact=True).first.click()
@@ -200,54 +151,16 @@ def test_a_50_mb_file_arrives_in_chunks_and_is_read(nitrogen_page, tmp_path):
     dropper sends 4 MB chunks, so a 50 MB file (the demo's data behind 50 MB of comment lines) arrives and is
     read, and the page answers afterwards (common practice, no source: a lab export with a long log header)."""
     page = nitrogen_page
-    _open_tab(page)
+    open_tab(page)
     path = tmp_path / "big-export.csv"
     line = "# instrument log: " + "x" * 100 + "\n"
     with path.open("w", encoding="utf-8") as f:
         f.write(line * (50 * 2**20 // len(line)))
         f.write(DEMO.read_text(encoding="utf-8"))
     assert path.stat().st_size > 50 * 2**20
-    _upload(page, path)
-    read = _wait_for_text(page, ".porefill-file-problems p", f"{path.name}: 2 run(s)", timeout_s=120.0)
+    upload(page, path)
+    read = wait_for_text(page, ".porefill-file-problems p", f"{path.name}: 2 run(s)", timeout_s=120.0)
     assert f"{path.name}: 2 run(s)" in read and "Traceback" not in read
-    page.get_by_text("Pore", exact=True).first.click()
-    page.locator(".porefill-steps table").first.wait_for(state="visible", timeout=30_000)
-    assert page.console_errors == []
-
-
-def test_the_whole_bad_file_gallery_through_the_upload(page, tmp_path):
-    """Every file of the reader's gallery (tests/test_measured_files.py: empty, binary, huge, wrong encodings,
-    formula cells, NaN, a million rows, ...) dropped on the page one after another: each gets a message naming
-    it and no traceback, and the page still answers afterwards. Skipped: files the upload widget itself refuses
-    (0 bytes, extensions it does not take) and entries that need reader arguments the page sets elsewhere."""
-    from test_measured_files import GALLERY
-
-    _open_tab(page)
-    sent = 0
-    on_page = 0
-    for i, (label, name, data, kwargs, _) in enumerate(GALLERY):
-        data = data() if callable(data) else data
-        suffix = Path(name).suffix.lower()
-        if kwargs or not data or suffix not in (".csv", ".txt", ".tsv", ".dat", ".xlsx"):
-            continue
-        if on_page == 20:
-            # a fresh page every 20 files: the upload widget keeps every file it was given (tens of MB here),
-            # which slows the browser itself, not the server; the server must answer all of them
-            page.reload()
-            _open_tab(page)
-            on_page = 0
-        path = tmp_path / f"g{i:03d}{suffix}"
-        path.write_bytes(data)
-        _upload(page, path)
-        on_page += 1
-        shown, widget = _answer_to_upload(page, path.name)
-        if path.name not in shown:
-            # the upload widget refused it itself (e.g. a binary's sniffed type): it says so in its own list
-            assert _refused_by_widget(widget), (label, shown, widget)
-            continue
-        assert "Traceback" not in shown, (label, shown)
-        sent += 1
-    assert sent >= 50
     page.get_by_text("Pore", exact=True).first.click()
     page.locator(".porefill-steps table").first.wait_for(state="visible", timeout=30_000)
     assert page.console_errors == []
