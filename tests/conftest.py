@@ -117,22 +117,9 @@ def smooth_wall(monkeypatch):
     clear_caches()
 
 
-# The test files that take longest (seconds in a 4-process run on 2 cores, measured 2026-12-05), longest first.
-# Under pytest-xdist (`--dist loadfile`) files go to workers in collection order, so these are collected first
-# and no long file starts last and runs alone at the end. Order within a file is unchanged; a file not listed
-# keeps its place after them. Only the wall time depends on this list.
-LONG_FILES = ("test_fitting.py", "test_dashboard_browser.py", "test_upload_gallery_browser.py",
-              "test_report_browser.py", "test_round_trip_browser.py", "test_page_browser.py",
-              "test_measured_browser.py", "test_quantum_convergence.py", "test_server.py", "test_distribution.py",
-              "test_inner_states.py", "test_quantum_tail.py", "test_distribution_browser.py")
-
-
 def pytest_collection_modifyitems(config, items):
-    """Long files first (`LONG_FILES`). Tests marked slow (minutes of reference computation, e.g. the
-    independent quantum solver at its larger pores) run when POREFILL_SLOW=1; otherwise they are skipped with
-    that reason shown."""
-    rank = {name: i for i, name in enumerate(LONG_FILES)}
-    items.sort(key=lambda item: rank.get(item.path.name, len(LONG_FILES)))       # stable: keeps each file's order
+    """Tests marked slow (minutes of reference computation, e.g. the independent quantum solver at its larger
+    pores) run when POREFILL_SLOW=1; otherwise they are skipped with that reason shown."""
     if os.environ.get("POREFILL_SLOW") == "1":
         return
     skip = pytest.mark.skip(reason="slow reference check: run with POREFILL_SLOW=1")
