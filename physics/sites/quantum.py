@@ -71,15 +71,24 @@ def _hamiltonian(v: np.ndarray, pairs, h: float, hbar2_over_mk: float) -> sparse
     L_h f = (2/(3h²)) Σ_{6 at h} (f_j − f_0) = ∇²f + (h²/16)∇⁴f + O(h⁴), and the same over the 6 collinear
     points at 2h has four times the h² term, so L = (4 L_h − L_2h)/3 = ∇²f + O(h⁴) (Richardson on the
     operator; the 1-D analogue is the five-point second derivative). A missing neighbour is a node, ψ = 0.
-    """
-    near, far = pairs
+
+    ``pairs`` may hold a third entry, (i, m, kind): i's neighbour at h (kind 1) or 2h (kind 2) lies beyond a
+    straight edge where ψ = 0, its mirror image being m. ψ is odd there, so that coupling moves to (i, m) with
+    its sign turned; without it the stencil's reach across a hard edge makes the energies first order in h
+    (`porefill.physics.sites.inner_states.edge_mirrors`)."""
+    near, far = pairs[0], pairs[1]
     t1 = hbar2_over_mk / 2.0 * (4.0 / 3.0) * 2.0 / (3.0 * h * h)
     t2 = -hbar2_over_mk / 2.0 * (1.0 / 3.0) * 2.0 / (3.0 * 4.0 * h * h)
     n = v.size
-    rows = np.concatenate([near[:, 0], near[:, 1], far[:, 0], far[:, 1], np.arange(n)])
-    cols = np.concatenate([near[:, 1], near[:, 0], far[:, 1], far[:, 0], np.arange(n)])
-    vals = np.concatenate([np.full(2 * len(near), -t1), np.full(2 * len(far), -t2), v + 6.0 * (t1 + t2)])
-    return sparse.csr_matrix((vals, (rows, cols)), shape=(n, n))
+    rows = [near[:, 0], near[:, 1], far[:, 0], far[:, 1], np.arange(n)]
+    cols = [near[:, 1], near[:, 0], far[:, 1], far[:, 0], np.arange(n)]
+    vals = [np.full(2 * len(near), -t1), np.full(2 * len(far), -t2), v + 6.0 * (t1 + t2)]
+    if len(pairs) > 2:
+        i, m, kind = pairs[2]
+        rows.append(i)
+        cols.append(m)
+        vals.append(np.where(kind == 1, t1, t2))
+    return sparse.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))), shape=(n, n))
 
 
 def grid_states(v: np.ndarray, pairs, h: float, hbar2_over_mk: float, *, k: int,
