@@ -140,7 +140,7 @@ def _box_errors(f: np.ndarray, dim: int) -> np.ndarray:
     null-rule estimates of Berntsen & Espelid, ACM Trans. Math. Softw. 17, 233 (1991); the critical ratio ½
     is common practice, no source). The lines' estimates are summed with the other direction's weights.
     Measured against cells 1000× tighter: every site's kT ln Z within 2e-6 K where 1.5e-4 K (helium) to
-    2e-3 K (nitrogen) is allowed (`benchmarks/bench_cells.py`, tests/test_cells.py). Returns (dim, T, K).
+    2e-3 K (nitrogen) is allowed (tests/test_cells.py). Returns (dim, T, K).
     """
     lower, upper = _legendre_rows()
     rows = np.vstack([lower, upper])                 # (4, n): degrees n−4 … n−1
