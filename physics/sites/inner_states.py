@@ -28,6 +28,7 @@ from scipy import sparse
 from scipy.spatial import cKDTree
 
 from porefill.physics.caching import BoundedCache
+from porefill.physics.sites.lattice import boundary_shares
 from porefill.physics.sites.quantum import CrossSectionStates, grid_states, thermal_wavelength_angstrom
 
 __all__ = ["INNER_MARGIN_KT", "InnerStates", "inner_region", "region_shares", "edge_mirrors", "region_grid",
@@ -45,8 +46,9 @@ class InnerStates:
     ``energies_k`` (K,) ascending; ``state_potential_k`` (K,) ⟨n|V|n⟩; ``orbit_probability`` (orbits, K) each
     state's probability on each orbit's cells (rows of first-row orbits are zero; columns sum to 1);
     ``point_orbit`` (P,) and ``point_potential_k`` (P,) the region's grid points' orbit and potential, and
-    ``point_share`` (orbits, P) each point's share of each orbit's cells (`region_shares`; the semiclassical tail); ``top_k`` the energy the states were wanted up to; ``capped`` when the count cap
-    stopped them short of it.
+    ``point_share`` (orbits, P) each point's share of each orbit's cells (`region_shares`; the semiclassical
+    tail); ``top_k`` the energy the states were wanted up to; ``capped`` when the count cap stopped them short
+    of it.
     """
 
     energies_k: np.ndarray
@@ -142,18 +144,8 @@ def region_shares(points: np.ndarray, geometry, h: float) -> sparse.csr_matrix:
     for r_of_point, weight in parts:
         for r in np.unique(r_of_point[weight > 0]):
             sel = np.flatnonzero((r_of_point == r) & (weight > 0))
-            sites = np.flatnonzero(ring == r)
-            k = min(2, sites.size)
-            d, near = cKDTree(np.column_stack([lat.x[sites], lat.y[sites]])).query(points[sel], k=k)
-            d, near = d.reshape(sel.size, k), near.reshape(sel.size, k)
-            o1 = geometry.orbit[sites[near[:, 0]]]
-            o2, other = o1, np.zeros(sel.size)
-            if k == 2:
-                a, b = sites[near[:, 0]], sites[near[:, 1]]
-                gap = np.hypot(lat.x[b] - lat.x[a], lat.y[b] - lat.y[a])
-                s = (d[:, 1] ** 2 - d[:, 0] ** 2) / (2.0 * gap)    # distance to the two sites' bisector
-                o2 = geometry.orbit[b]
-                other = np.where((o2 != o1) & (s < 0.5 * width), 0.5 - s / width, 0.0)
+            sites = ring == r
+            o1, o2, other = boundary_shares(points[sel], lat.x[sites], lat.y[sites], geometry.orbit[sites], width)
             rows += [o1, o2]
             cols += [sel, sel]
             vals += [weight[sel] * (1.0 - other), weight[sel] * other]
@@ -299,6 +291,4 @@ def inner_orbit_sums(inner: InnerStates, ground_k: float, temperature_k: float, 
     lam = thermal_wavelength_angstrom(inner.hbar2_over_mk, kt)
     point = inner.point_area_angstrom2 / (lam * lam) * np.exp(
         -(np.maximum(inner.point_potential_k, inner.tail_cut_k) - ground_k) / kt)
-    tail = inner.point_share @ point
-    tail = np.concatenate([tail, np.zeros(max(0, n_orbits - tail.size))])[:n_orbits]
-    return states_part[:n_orbits], tail
+    return states_part[:n_orbits], (inner.point_share @ point)[:n_orbits]

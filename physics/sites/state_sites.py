@@ -11,9 +11,9 @@ from __future__ import annotations
 
 import numpy as np
 from scipy import sparse
-from scipy.spatial import cKDTree
 
 from porefill.physics.sites.inner_states import cached_inner_states, inner_orbit_sums
+from porefill.physics.sites.lattice import boundary_shares
 from porefill.physics.sites.quantum import (_WEIGHT_FRACTION, CrossSectionStates, _clusters, cached_states,
                                             classical_boltzmann_area, henry_constant, states_wanted_top_k,
                                             thermal_wavelength_angstrom)
@@ -28,22 +28,11 @@ def _orbit_probability(states: CrossSectionStates, site_x, site_y, orbit: np.nda
     points for the others. A point by the boundary of two orbits' cells is shared between them: given whole
     to the nearest, a first-row site's free energy moved 0.032 kT between h and h/2 (15 Å, 1.5 K), 0.0055 kT
     shared (tests/test_quantum_tail.py)."""
-    tree = cKDTree(np.column_stack([site_x, site_y]))
     n_orbits = int(orbit.max()) + 1
     width = states.spacing_angstrom * np.sqrt(3.0) / 2.0
 
     def summed(points, values, strip):
-        # a point within half its strip of the bisector between its two nearest sites, of different orbits,
-        # is shared between them (½ − s/w at a distance s), as the inner region's points are
-        if len(site_x) < 2:
-            d, near = np.zeros((points.shape[0], 2)), np.zeros((points.shape[0], 2), int)
-        else:
-            d, near = tree.query(points, k=2)
-        o1, o2 = orbit[near[:, 0]], orbit[near[:, 1]]
-        gap = np.hypot(site_x[near[:, 1]] - site_x[near[:, 0]], site_y[near[:, 1]] - site_y[near[:, 0]])
-        with np.errstate(divide="ignore", invalid="ignore"):
-            s = (d[:, 1] ** 2 - d[:, 0] ** 2) / (2.0 * gap)
-        other = np.where((o1 != o2) & (s < 0.5 * strip), 0.5 - s / strip, 0.0)
+        o1, o2, other = boundary_shares(points, site_x, site_y, orbit, strip)
         n = points.shape[0]
         by_orbit = sparse.csr_matrix((np.concatenate([1.0 - other, other]),
                                       (np.concatenate([o1, o2]), np.concatenate([np.arange(n), np.arange(n)]))),
